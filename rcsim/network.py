@@ -1,0 +1,617 @@
+"""The network model: nodes, boundaries, links, sources, limits; assembly to sparse matrices.
+
+A *node* has a heat capacity C [J/K] (0 for a massless junction) and an initial temperature.
+A *boundary* has an imposed temperature profile. A *link* joins two points (node or boundary) through
+parts in series; several links between the same two points act in parallel. A *source* injects a
+power profile into a node. Heat flows are positive from a link's first point to its second.
+
+Assembly turns this into::
+
+    C dT/dt = -K T + B u(t) + P s(t)
+
+with K (nodes x nodes) the conductance matrix including the conductances to boundaries, B (nodes x
+boundaries) the boundary coupling, P (nodes x sources) the source map. Massive conduction layers
+become ladders of internal nodes named ``"<link>.<i>"`` (numbered from the first point).
+
+Solvers live in :mod:`rcsim.steady`, :mod:`rcsim.modes` and :mod:`rcsim.transient`; the methods
+:meth:`Network.steady`, :meth:`Network.time_constants` and :meth:`Network.simulate` hand off to them.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+import warnings
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.sparse.csgraph import connected_components
+
+from . import elements
+from .errors import InputError, LumpedWarning, NetworkError
+from .materials import get_material, suggest
+from .parts import Part, make_part
+from .profiles import Profile, as_profile
+from .units import to_si
+
+__all__ = ["Network", "Node", "Boundary", "Link", "Source", "Limit", "Assembled"]
+
+_NAME_OK = re.compile(r'^[^.\[\]"\x00-\x1f]{1,100}$')
+
+
+def _check_name(name, what: str) -> str:
+    if not isinstance(name, str) or not _NAME_OK.match(name) or name.strip() != name:
+        raise NetworkError(f"invalid {what} name {name!r}", None,
+                           "use 1 to 100 characters without '.', '[', ']', quotes or "
+                           "leading/trailing spaces")
+    return name
+
+
+@dataclass
+class Node:
+    name: str
+    capacity: float
+    initial: float | None = None
+    where: str = ""
+    phase_change: object | None = None  # a rcsim.phase.PhaseChange, when the node melts/freezes
+    mass: float | None = None
+
+
+@dataclass
+class Boundary:
+    name: str
+    profile: Profile
+    where: str = ""
+
+
+@dataclass
+class Link:
+    name: str
+    a: str
+    b: str
+    parts: list[Part]
+    area: float | None = None
+    where: str = ""
+
+    @property
+    def resistance(self) -> float:
+        """Total series resistance [K/W] (massive layers counted with their full resistance)."""
+        return float(sum(p.resistance for p in self.parts))
+
+    @property
+    def u_value(self) -> float | None:
+        """U = 1/(R A) [W/(m^2*K)] when the link has an area, else None."""
+        area = self.area
+        if area is None:
+            areas = {p.area for p in self.parts if p.area is not None}
+            if len(areas) == 1 and all(p.area is not None for p in self.parts):
+                area = areas.pop()
+        return None if area is None else 1.0 / (self.resistance * area)
+
+    @property
+    def capacity(self) -> float:
+        return float(sum(p.capacity for p in self.parts))
+
+
+@dataclass
+class Source:
+    name: str
+    node: str
+    profile: Profile
+    where: str = ""
+
+
+@dataclass
+class Limit:
+    node: str
+    min: float | None = None
+    max: float | None = None
+    where: str = ""
+
+
+@dataclass
+class Assembled:
+    """The network as arrays. Points are nodes ``0..N-1`` then boundaries ``N..N+M-1``."""
+
+    node_names: list[str]
+    capacity: np.ndarray
+    initial: np.ndarray
+    boundary_names: list[str]
+    boundary_profiles: list[Profile]
+    source_names: list[str]
+    source_nodes: np.ndarray
+    source_profiles: list[Profile]
+    seg_a: np.ndarray
+    seg_b: np.ndarray
+    seg_g: np.ndarray
+    link_names: list[str]
+    link_first_seg: np.ndarray
+    link_last_seg: np.ndarray
+    K: sp.csr_matrix
+    B: sp.csr_matrix
+    P: sp.csr_matrix
+    internal_of: dict = field(default_factory=dict)  # internal node name -> link name
+    phase_change: dict = field(default_factory=dict)  # node index -> PhaseChange
+    nonlinear_links: list = field(default_factory=list)  # filled by nonlinear link kinds
+
+    @property
+    def n_nodes(self) -> int:
+        return len(self.node_names)
+
+    @property
+    def n_boundaries(self) -> int:
+        return len(self.boundary_names)
+
+    @property
+    def is_linear(self) -> bool:
+        return not self.phase_change and not self.nonlinear_links
+
+    def node_index(self, name: str) -> int:
+        try:
+            return self.node_names.index(name)
+        except ValueError:
+            raise NetworkError(f"unknown node {name!r}", None,
+                               suggest(name, self.node_names)) from None
+
+    def boundary_values(self, t) -> np.ndarray:
+        """Boundary temperatures at time(s) t: shape (M,) or (len(t), M)."""
+        if np.ndim(t) == 0:
+            return np.array([p.value(float(t)) for p in self.boundary_profiles])
+        return np.column_stack([p.value(t) for p in self.boundary_profiles]) if \
+            self.boundary_profiles else np.zeros((len(t), 0))
+
+    def source_values(self, t) -> np.ndarray:
+        if np.ndim(t) == 0:
+            return np.array([p.value(float(t)) for p in self.source_profiles])
+        return np.column_stack([p.value(t) for p in self.source_profiles]) if \
+            self.source_profiles else np.zeros((len(t), 0))
+
+    def floating_groups(self) -> list[list[int]]:
+        """Groups of nodes with no path to any boundary (their steady state is undefined)."""
+        n = self.n_nodes
+        mask = (self.seg_a < n) & (self.seg_b < n)
+        adj = sp.coo_matrix((np.ones(mask.sum()), (self.seg_a[mask], self.seg_b[mask])),
+                            shape=(n, n))
+        ncomp, labels = connected_components(adj, directed=False)
+        grounded = np.zeros(ncomp, dtype=bool)
+        bmask = (self.seg_a < n) & (self.seg_b >= n)
+        grounded[labels[self.seg_a[bmask]]] = True
+        bmask = (self.seg_b < n) & (self.seg_a >= n)
+        grounded[labels[self.seg_b[bmask]]] = True
+        groups = []
+        for c in np.flatnonzero(~grounded):
+            groups.append(np.flatnonzero(labels == c).tolist())
+        return groups
+
+    def segment_flows(self, node_t: np.ndarray, boundary_t: np.ndarray) -> np.ndarray:
+        """Heat flow through every segment [W], positive from seg_a to seg_b.
+
+        ``node_t`` has shape (..., N) and ``boundary_t`` (..., M).
+        """
+        points = np.concatenate([node_t, boundary_t], axis=-1)
+        return self.seg_g * (points[..., self.seg_a] - points[..., self.seg_b])
+
+    def link_flows(self, node_t: np.ndarray, boundary_t: np.ndarray) -> np.ndarray:
+        """Heat flow at the first end of every link [W]."""
+        points = np.concatenate([node_t, boundary_t], axis=-1)
+        s = self.link_first_seg
+        return self.seg_g[s] * (points[..., self.seg_a[s]] - points[..., self.seg_b[s]])
+
+
+class Network:
+    """A thermal RC network built from physical descriptions.
+
+    Examples
+    --------
+    >>> import rcsim
+    >>> net = rcsim.Network()
+    >>> _ = net.add_node("payload", capacity=8400.0, initial=5.0)
+    >>> _ = net.add_boundary("outdoor", temperature=25.0)
+    >>> _ = net.add_link("payload", "outdoor", resistance=2.5, name="wall")
+    >>> float(net.steady().temperatures["payload"])
+    25.0
+    """
+
+    def __init__(self, title: str | None = None):
+        self.title = title
+        self.nodes: dict[str, Node] = {}
+        self.boundaries: dict[str, Boundary] = {}
+        self.links: dict[str, Link] = {}
+        self.sources: dict[str, Source] = {}
+        self.limits: dict[str, Limit] = {}
+        self._assembled: Assembled | None = None
+        self.source_text: str | None = None  # scenario text, when built from a file
+
+    # -- building -----------------------------------------------------------------------------
+    def _changed(self):
+        self._assembled = None
+
+    def _point_exists(self, name) -> bool:
+        return name in self.nodes or name in self.boundaries
+
+    def add_node(self, name: str, capacity=None, initial=None, *, mass=None, specific_heat=None,
+                 material=None, volume=None, density=None, phase_change=None,
+                 where: str | None = None) -> str:
+        """Add a node.
+
+        Parameters
+        ----------
+        name : str
+            Unique among nodes and boundaries.
+        capacity : float or str, optional
+            Heat capacity [J/K] (e.g. ``"8.4 kJ/K"``); 0 for a massless junction.
+        initial : float or str, optional
+            Initial temperature [degC]; may be left out when the run starts from the steady or
+            periodic state.
+        mass, specific_heat, material, volume, density : optional
+            Instead of ``capacity``: mass x specific heat; a named material with a mass or a
+            volume; or volume x density x specific heat. Explicit values override the material's.
+        phase_change : dict or rcsim.phase.PhaseChange, optional
+            Latent heat and melting range; the node then carries an enthalpy state
+            (needs ``mass``).
+
+        Returns
+        -------
+        str
+            The name.
+        """
+        where = where or f"nodes.{name}"
+        _check_name(name, "node")
+        if self._point_exists(name):
+            raise NetworkError(f"duplicate name {name!r} (nodes and boundaries share names)", where)
+        w = lambda k: f"{where}.{k}"  # noqa: E731
+        mat = get_material(material, w("material")) if material is not None else None
+        m = _nonneg(mass, "mass", w("mass")) if mass is not None else None
+        given = [k for k, v in (("capacity", capacity), ("mass", mass), ("volume", volume))
+                 if v is not None]
+        if len(given) > 1:
+            raise NetworkError(f"give only one of capacity, mass or volume (got {', '.join(given)})",
+                               where)
+        pc = None
+        if phase_change is not None:
+            from .phase import make_phase_change  # phase.py is a pure-physics module below us
+            pc = make_phase_change(phase_change, w("phase_change"), material=mat)
+            if m is None:
+                raise NetworkError("a phase-change node needs its mass", where,
+                                   "add mass = '...'")
+        cp = None
+        if specific_heat is not None:
+            cp = _nonneg(specific_heat, "specific_heat", w("specific_heat"), positive=True)
+        elif mat is not None:
+            cp = mat.specific_heat
+        rho = None
+        if density is not None:
+            rho = _nonneg(density, "density", w("density"), positive=True)
+        elif mat is not None:
+            rho = mat.density
+        if capacity is not None:
+            if mat is not None or specific_heat is not None or density is not None:
+                raise NetworkError("capacity is given, so material, specific_heat and density "
+                                   "are not used; remove them", where)
+            c = _nonneg(capacity, "capacity", w("capacity"))
+        elif m is not None:
+            if pc is not None:
+                c = m * pc.specific_heat_liquid  # nominal; the enthalpy curve is what counts
+            else:
+                if cp is None:
+                    raise NetworkError("mass is given but no specific_heat or material", where)
+                c = elements.capacity_from_mass(m, cp)
+        elif volume is not None:
+            v = _nonneg(volume, "volume", w("volume"))
+            if rho is None or cp is None:
+                raise NetworkError("volume is given but no material (or density and "
+                                   "specific_heat)", where)
+            c = elements.capacity_from_volume(v, rho, cp)
+            m = v * rho
+        else:
+            if mat is not None or specific_heat is not None or density is not None:
+                raise NetworkError("give a mass or a volume with the material or specific heat",
+                                   where)
+            c = 0.0
+        t0 = None if initial is None else to_si(initial, "temperature", w("initial"))
+        if t0 is not None and t0 <= -273.15:
+            raise NetworkError(f"initial temperature {t0:g} degC is below absolute zero",
+                               w("initial"))
+        self.nodes[name] = Node(name, c, t0, where, pc, m)
+        self._changed()
+        return name
+
+    def add_boundary(self, name: str, temperature, where: str | None = None) -> str:
+        """Add a boundary with an imposed temperature: a number, a string or a profile."""
+        where = where or f"boundaries.{name}"
+        _check_name(name, "boundary")
+        if self._point_exists(name):
+            raise NetworkError(f"duplicate name {name!r} (nodes and boundaries share names)", where)
+        prof = as_profile(temperature, "temperature", f"{where}.temperature")
+        self.boundaries[name] = Boundary(name, prof, where)
+        self._changed()
+        return name
+
+    def add_link(self, a: str, b: str, resistance=None, *, conductance=None, parts=None,
+                 name: str | None = None, area=None, where: str | None = None) -> str:
+        """Join points ``a`` and ``b``.
+
+        Give exactly one of ``resistance`` [K/W], ``conductance`` [W/K] or ``parts`` (a list of
+        part mappings in series, from ``a`` to ``b``; see :mod:`rcsim.parts`). ``area`` [m^2]
+        sets the area used for the U-value. The name defaults to ``"a-b"``.
+        """
+        name = name if name is not None else f"{a}-{b}"
+        where = where or f"links.{name}"
+        _check_name(name, "link")
+        if name in self.links:
+            raise NetworkError(f"duplicate link name {name!r}", where,
+                               "give parallel links distinct names")
+        for end, key in ((a, "between[0]"), (b, "between[1]")):
+            if not self._point_exists(end):
+                raise NetworkError(f"unknown node or boundary {end!r}", f"{where}.{key}",
+                                   suggest(end, list(self.nodes) + list(self.boundaries)))
+        if a == b:
+            raise NetworkError(f"a link from {a!r} to itself", where)
+        if a in self.boundaries and b in self.boundaries:
+            raise NetworkError(f"a link between two boundaries ({a!r}, {b!r}) changes no node",
+                               where, "link at least one node")
+        given = [k for k, v in (("resistance", resistance), ("conductance", conductance),
+                                ("parts", parts)) if v is not None]
+        if len(given) != 1:
+            raise NetworkError("give exactly one of resistance, conductance or parts"
+                               + (f" (got {', '.join(given)})" if given else ""), where)
+        if resistance is not None:
+            part_list = [make_part({"resistance": resistance}, f"{where}.resistance")]
+            part_list[0].where = f"{where}.resistance"
+        elif conductance is not None:
+            part_list = [make_part({"conductance": conductance}, f"{where}.conductance")]
+            part_list[0].where = f"{where}.conductance"
+        else:
+            if not isinstance(parts, (list, tuple)) or not parts:
+                raise NetworkError("parts must be a non-empty list of parts in series",
+                                   f"{where}.parts")
+            part_list = [make_part(p, f"{where}.parts[{i}]") for i, p in enumerate(parts)]
+        link_area = None
+        if area is not None:
+            link_area = _nonneg(area, "area", f"{where}.area", positive=True)
+        self.links[name] = Link(name, a, b, part_list, link_area, where)
+        self._changed()
+        return name
+
+    def add_source(self, node: str, power, name: str | None = None,
+                   where: str | None = None) -> str:
+        """Inject ``power`` [W] (number, string or profile) into ``node``."""
+        name = name if name is not None else node
+        where = where or f"sources.{name}"
+        _check_name(name, "source")
+        if name in self.sources:
+            raise NetworkError(f"duplicate source name {name!r}", where)
+        if node not in self.nodes:
+            hint = ("sources heat nodes; a boundary's temperature is imposed"
+                    if node in self.boundaries else suggest(node, list(self.nodes)))
+            raise NetworkError(f"unknown node {node!r}", f"{where}.node", hint)
+        prof = as_profile(power, "power", f"{where}.power")
+        self.sources[name] = Source(name, node, prof, where)
+        self._changed()
+        return name
+
+    def add_limit(self, node: str, min=None, max=None, where: str | None = None) -> str:  # noqa: A002
+        """A temperature band for ``node``: min and/or max [degC]."""
+        where = where or f"limits.{node}"
+        if node not in self.nodes and not self._is_internal_name(node):
+            raise NetworkError(f"unknown node {node!r}", where, suggest(node, list(self.nodes)))
+        lo = None if min is None else to_si(min, "temperature", f"{where}.min")
+        hi = None if max is None else to_si(max, "temperature", f"{where}.max")
+        if lo is None and hi is None:
+            raise NetworkError("a limit needs min, max or both", where)
+        if lo is not None and hi is not None and lo >= hi:
+            raise NetworkError(f"min ({lo:g} degC) must be below max ({hi:g} degC)", where)
+        self.limits[node] = Limit(node, lo, hi, where)
+        return node
+
+    def _is_internal_name(self, name: str) -> bool:
+        link, _, idx = name.rpartition(".")
+        return link in self.links and idx.isdigit()
+
+    # -- assembly -----------------------------------------------------------------------------
+    def assemble(self) -> Assembled:
+        """Assemble (and cache) the sparse matrices. Warns on doubtful lumped layers."""
+        if self._assembled is not None:
+            return self._assembled
+        if not self.nodes:
+            raise NetworkError("the network has no nodes", None, "add at least one node")
+        node_names = list(self.nodes)
+        capacity = [self.nodes[n].capacity for n in node_names]
+        initial = [np.nan if self.nodes[n].initial is None else self.nodes[n].initial
+                   for n in node_names]
+        boundary_names = list(self.boundaries)
+        n_user = len(node_names)
+        internal_of: dict[str, str] = {}
+
+        # first pass: internal nodes of massive layers
+        chains = []  # per link: list of (kind, value) with kind 'R' resistance or 'N' node index
+        for link in self.links.values():
+            chain = []
+            k = 0
+            for part in link.parts:
+                if not part.is_massive:
+                    chain.append(("R", part.resistance))
+                    continue
+                self._check_biot(link, part)
+                n = part.slices
+                r_slice = part.resistance / n
+                c_slice = part.capacity / n
+                for _ in range(n):
+                    k += 1
+                    nm = f"{link.name}.{k}"
+                    internal_of[nm] = link.name
+                    node_names.append(nm)
+                    capacity.append(c_slice)
+                    initial.append(np.nan)
+                    chain.append(("R", 0.5 * r_slice))
+                    chain.append(("N", len(node_names) - 1))
+                    chain.append(("R", 0.5 * r_slice))
+            chains.append(chain)
+
+        n_nodes = len(node_names)
+        point_index = {nm: i for i, nm in enumerate(node_names[:n_user])}
+        for j, nm in enumerate(boundary_names):
+            point_index[nm] = n_nodes + j
+
+        seg_a, seg_b, seg_r, first, last = [], [], [], [], []
+        for link, chain in zip(self.links.values(), chains):
+            start = point_index[link.a]
+            acc = 0.0
+            first_seg = len(seg_a)
+            for kind, val in chain:
+                if kind == "R":
+                    acc += val
+                else:
+                    seg_a.append(start)
+                    seg_b.append(val)
+                    seg_r.append(acc)
+                    start, acc = val, 0.0
+            seg_a.append(start)
+            seg_b.append(point_index[link.b])
+            seg_r.append(acc)
+            first.append(first_seg)
+            last.append(len(seg_a) - 1)
+        seg_a = np.asarray(seg_a, dtype=np.int64)
+        seg_b = np.asarray(seg_b, dtype=np.int64)
+        seg_g = 1.0 / np.asarray(seg_r, dtype=float)
+
+        K, B = _conductance_matrices(seg_a, seg_b, seg_g, n_nodes, len(boundary_names))
+        source_names = list(self.sources)
+        src_nodes = np.asarray([point_index[s.node] for s in self.sources.values()], dtype=np.int64)
+        P = sp.csr_matrix((np.ones(len(src_nodes)), (src_nodes, np.arange(len(src_nodes)))),
+                          shape=(n_nodes, len(src_nodes)))
+        phase = {point_index[n.name]: n.phase_change for n in self.nodes.values()
+                 if n.phase_change is not None}
+        asm = Assembled(
+            node_names=node_names,
+            capacity=np.asarray(capacity, dtype=float),
+            initial=np.asarray(initial, dtype=float),
+            boundary_names=boundary_names,
+            boundary_profiles=[b.profile for b in self.boundaries.values()],
+            source_names=source_names,
+            source_nodes=src_nodes,
+            source_profiles=[s.profile for s in self.sources.values()],
+            seg_a=seg_a, seg_b=seg_b, seg_g=seg_g,
+            link_names=list(self.links),
+            link_first_seg=np.asarray(first, dtype=np.int64),
+            link_last_seg=np.asarray(last, dtype=np.int64),
+            K=K, B=B, P=P,
+            internal_of=internal_of,
+            phase_change=phase,
+        )
+        self._assembled = asm
+        return asm
+
+    def _check_biot(self, link: Link, part: Part) -> None:
+        """Warn when a massive layer kept as one node has Bi = h L / k > 0.1."""
+        if part.slices != 1:
+            return
+        i = link.parts.index(part)
+        area = part.area
+
+        def side_resistance(parts):
+            return sum(p.resistance for p in parts) * area
+
+        r_before = side_resistance(link.parts[:i])
+        r_after = side_resistance(link.parts[i + 1:])
+        r_ext = min(r_before, r_after)
+        thickness = part.params["thickness"]
+        k = part.params["k"]
+        bi = math.inf if r_ext == 0 else elements.biot_number(1.0 / r_ext, thickness, k)
+        if bi > 0.1:
+            warnings.warn(f"{part.where}: a massive layer kept as one node has Biot number "
+                          f"hL/k = {bi:.3g} > 0.1, so the lumped assumption is doubtful; "
+                          f"set slices = {max(3, min(50, math.ceil(bi * 10)))} or more",
+                          LumpedWarning, stacklevel=3)
+
+    # -- analysis (hand-offs to the solver modules) --------------------------------------------
+    def steady(self, at: float = 0.0):
+        """Steady state with boundaries and sources at their values at time ``at`` (default 0)."""
+        from .steady import solve_steady  # solver layer above the model; thin hand-off
+
+        return solve_steady(self, at=at)
+
+    def equivalent_resistance(self, a: str, b: str) -> float:
+        """Equivalent resistance [K/W] between two points (see :func:`rcsim.steady.equivalent_resistance`)."""
+        from .steady import equivalent_resistance
+
+        return equivalent_resistance(self, a, b)
+
+    def time_constants(self) -> np.ndarray:
+        """Time constants of the network's modes [s], longest first (inf for floating groups)."""
+        from .modes import time_constants
+
+        return time_constants(self)
+
+    def modes(self):
+        """Modes with time constants and the nodes taking part most (see :func:`rcsim.modes.modes_table`)."""
+        from .modes import modes_table
+
+        return modes_table(self)
+
+    def simulate(self, duration, step, *, initial=None, solver: str = "auto", record=None,
+                 output=None, rtol: float = 1e-6, atol: float = 1e-6, progress=None,
+                 start_time=None, scenario_text=None):
+        """Integrate the network over time and return a :class:`rcsim.Result`.
+
+        Parameters
+        ----------
+        duration, step : float or str
+            Simulated span and output interval (``"72 h"``, ``"5 min"``).
+        initial : None, 'given', 'steady', 'periodic' or dict
+            Initial state: the nodes' own initial temperatures (default), the steady state at
+            t = 0, the periodic regime of periodic inputs, or a {node: temperature} mapping.
+        solver : 'auto', 'exact' or 'stiff'
+            'exact' (modal, closed form) for linear networks; 'stiff' (solve_ivp with an analytic
+            sparse Jacobian) for any network; 'auto' picks 'exact' where it applies.
+        record : list of str, optional
+            Nodes whose histories are kept (default all).
+        output : str or path, optional
+            Stream the histories to this HDF5 file in chunks (bounded memory).
+        rtol, atol : float
+            Tolerances of the stiff path.
+        progress : callable, optional
+            Called with the fraction done (0..1).
+        """
+        from .transient import simulate  # thin hand-off to the solver layer
+
+        return simulate(self, duration, step, initial=initial, solver=solver, record=record,
+                        output=output, rtol=rtol, atol=atol, progress=progress,
+                        start_time=start_time, scenario_text=scenario_text)
+
+    def summary(self) -> str:
+        """A plain-text summary of the network (used by ``rcsim check``)."""
+        from .steady import network_summary
+
+        return network_summary(self)
+
+
+def _nonneg(value, kind, where, positive=False) -> float:
+    x = to_si(value, kind, where)
+    if x < 0 or (positive and x == 0):
+        raise InputError(f"must be {'positive' if positive else 'non-negative'}, got {value!r}",
+                         where)
+    return x
+
+
+def _conductance_matrices(seg_a, seg_b, seg_g, n_nodes, n_bound):
+    """K (N x N) and B (N x M) from segments, vectorised."""
+    aa_node = seg_a < n_nodes
+    bb_node = seg_b < n_nodes
+    both = aa_node & bb_node
+    rows = np.concatenate([seg_a[both], seg_b[both], seg_a[both], seg_b[both],
+                           seg_a[aa_node & ~bb_node], seg_b[bb_node & ~aa_node]])
+    cols = np.concatenate([seg_a[both], seg_b[both], seg_b[both], seg_a[both],
+                           seg_a[aa_node & ~bb_node], seg_b[bb_node & ~aa_node]])
+    g = seg_g
+    vals = np.concatenate([g[both], g[both], -g[both], -g[both],
+                           g[aa_node & ~bb_node], g[bb_node & ~aa_node]])
+    K = sp.csr_matrix((vals, (rows, cols)), shape=(n_nodes, n_nodes))
+    m1 = aa_node & ~bb_node
+    m2 = bb_node & ~aa_node
+    brow = np.concatenate([seg_a[m1], seg_b[m2]])
+    bcol = np.concatenate([seg_b[m1] - n_nodes, seg_a[m2] - n_nodes])
+    bval = np.concatenate([g[m1], g[m2]])
+    B = sp.csr_matrix((bval, (brow, bcol)), shape=(n_nodes, n_bound))
+    return K, B

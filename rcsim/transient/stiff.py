@@ -1,0 +1,419 @@
+"""Integration of any network with scipy's stiff BDF method and an analytic sparse Jacobian.
+
+The state is the stored energy of each massive node, H [J] (C*T for a sensible node, the enthalpy
+for a phase-change node), followed by the cumulative energy that entered through each boundary link
+and from each source. Because the right-hand side is conservative (every flow leaves one node and
+enters another), the multistep method keeps ``sum(H) - energy in`` constant to rounding and Newton
+tolerance, and the energy balance measures exactly that.
+
+The integration restarts at every jump of an input (a step), and at every switching event
+(thermostats), so no step straddles a discontinuity. Outputs are read from the solver's dense
+output at the requested times, chunk by chunk.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.integrate import BDF
+from scipy.optimize import brentq
+
+from ..errors import SolverError
+from ..results import Chunk
+from ..statespace import state_space
+
+__all__ = ["StiffModel", "run_stiff", "jump_times"]
+
+
+def jump_times(profiles, t0: float, t1: float) -> np.ndarray:
+    """Times in (t0, t1) where some input jumps (left and right values differ)."""
+    out = []
+    for p in profiles:
+        k = p.knots(t0, t1)
+        if k.size:
+            jumps = k[np.abs(p.value(k) - p.value_left(k)) > 0]
+            out.append(jumps)
+    if not out:
+        return np.empty(0)
+    return np.unique(np.concatenate(out))
+
+
+class StiffModel:
+    """Right-hand side and Jacobian of the reduced network in energy form.
+
+    Nonlinear physics plugs in through ``terms``: objects with ``flows(Tm, w) -> q`` (W into each
+    state) and ``jacobian(Tm, w) -> sparse (n x n)`` (d q / d Tm), plus optional ``link_energy``
+    contributions. Phase-change nodes plug in through ``phase`` (state index -> PhaseChange).
+    """
+
+    def __init__(self, asm, terms=(), phase=None, controllers=()):
+        self.asm = asm
+        ss = state_space(asm)
+        self.ss = ss
+        self.n = ss.n
+        self.C = ss.C
+        self.K = ss.K.tocsr()
+        self.E = ss.E.tocsr()
+        self.profiles = list(asm.boundary_profiles) + list(asm.source_profiles)
+        self.M = asm.n_boundaries
+        self.S = len(asm.source_profiles)
+        self.terms = list(terms)
+        self.phase = dict(phase or {})           # state index -> PhaseChange
+        self.controllers = list(controllers)
+        self._phase_idx = np.asarray(sorted(self.phase), dtype=np.int64)
+        self.boundary_links = [li for li, nm in enumerate(asm.link_names)
+                               if self._boundary_seg(li) is not None]
+        self._setup_link_energy()
+        self.nb = len(self.boundary_links)
+        self.ny = self.n + self.nb + self.S
+        self._static_jac = None
+        self.stats = {"nfev": 0, "njev": 0}
+
+    # -- structure ---------------------------------------------------------------------------
+    def _boundary_seg(self, li):
+        asm = self.asm
+        n = asm.n_nodes
+        s0, s1 = int(asm.link_first_seg[li]), int(asm.link_last_seg[li])
+        if asm.seg_a[s0] >= n:
+            return s0
+        if asm.seg_b[s1] >= n:
+            return s1
+        return None
+
+    def _setup_link_energy(self):
+        """Maps giving, per boundary link, g*(u_b - T_node) with T_node from states and inputs."""
+        asm, ss = self.asm, self.ss
+        n_all = asm.n_nodes
+        pos_m = {int(i): p for p, i in enumerate(ss.massive)}
+        pos_z = {int(i): q for q, i in enumerate(ss.massless)}
+        rows_a, cols_a, vals_a = [], [], []
+        D_end = np.zeros((len(self.boundary_links), len(self.profiles)))
+        g_end = np.zeros(len(self.boundary_links))
+        bcol = np.zeros(len(self.boundary_links), dtype=np.int64)
+        for r, li in enumerate(self.boundary_links):
+            s = self._boundary_seg(li)
+            a, b = int(asm.seg_a[s]), int(asm.seg_b[s])
+            node, bnd = (b, a - n_all) if a >= n_all else (a, b - n_all)
+            g_end[r] = asm.seg_g[s]
+            bcol[r] = bnd
+            if node in pos_m:
+                rows_a.append(r)
+                cols_a.append(pos_m[node])
+                vals_a.append(1.0)
+            else:
+                q = pos_z[node]
+                Rq = ss.R[q]
+                nz = np.flatnonzero(Rq)
+                rows_a.extend([r] * nz.size)
+                cols_a.extend(nz.tolist())
+                vals_a.extend(Rq[nz].tolist())
+                D_end[r] = ss.D[q]
+        self.A_end = sp.csr_matrix((vals_a, (rows_a, cols_a)),
+                                   shape=(len(self.boundary_links), self.n))
+        self.D_end = D_end
+        self.g_end = g_end
+        self.bcol = bcol
+
+    # -- state <-> temperature ---------------------------------------------------------------
+    def temperatures(self, H: np.ndarray):
+        """Temperatures of the states and dT/dH."""
+        T = H / self.C
+        dTdH = 1.0 / self.C
+        if self.phase:
+            T = T.copy()
+            dTdH = dTdH.copy()
+            for i in self._phase_idx:
+                T[i], dTdH[i] = self.phase[i].temperature(H[i])
+        return T, dTdH
+
+    def energy_of(self, Tm: np.ndarray) -> np.ndarray:
+        H = self.C * Tm
+        for i in self._phase_idx:
+            H[i] = self.phase[i].enthalpy(Tm[i])
+        return H
+
+    def inputs(self, t: float) -> np.ndarray:
+        return np.array([p.value(t) for p in self.profiles]) if self.profiles else np.zeros(0)
+
+    def y0(self, Tm0: np.ndarray) -> np.ndarray:
+        return np.concatenate([self.energy_of(Tm0), np.zeros(self.nb + self.S)])
+
+    # -- dynamics ----------------------------------------------------------------------------
+    def rhs(self, t, y):
+        self.stats["nfev"] += 1
+        n = self.n
+        H = y[:n]
+        Tm, _ = self.temperatures(H)
+        w = self.inputs(t)
+        dH = -(self.K @ Tm) + self.E @ w
+        link_extra = np.zeros(self.nb)
+        for term in self.terms:
+            q, e_links = term.flows(Tm, w)
+            dH += q
+            if e_links is not None:
+                link_extra += e_links
+        for ctl in self.controllers:
+            dH += ctl.power_vector(t, Tm)
+        out = np.empty(self.ny)
+        out[:n] = dH
+        if self.nb:
+            u = w[:self.M]
+            t_end = self.A_end @ Tm + self.D_end @ w
+            out[n:n + self.nb] = self.g_end * (u[self.bcol] - t_end) + link_extra
+        out[n + self.nb:] = w[self.M:]
+        return out
+
+    def jac(self, t, y):
+        self.stats["njev"] += 1
+        if not self.terms and not self.phase and self._static_jac is not None:
+            return self._static_jac
+        n = self.n
+        Tm, dTdH = self.temperatures(y[:n])
+        w = self.inputs(t)
+        dq = -self.K
+        e_rows = None
+        for term in self.terms:
+            jq, je = term.jacobian(Tm, w)
+            dq = dq + jq
+            if je is not None:
+                e_rows = je if e_rows is None else e_rows + je
+        scale = sp.diags(dTdH)
+        J_hh = (dq @ scale).tocsr()
+        e_block = -sp.diags(self.g_end) @ self.A_end
+        if e_rows is not None:
+            e_block = e_block + e_rows
+        J_eh = (e_block @ scale).tocsr() if self.nb else sp.csr_matrix((0, n))
+        zeros_right = sp.csr_matrix((self.ny, self.nb + self.S))
+        left = sp.vstack([J_hh, J_eh, sp.csr_matrix((self.S, n))], format="csr")
+        J = sp.hstack([left, zeros_right], format="csc")
+        if not self.terms and not self.phase:
+            self._static_jac = J
+        return J
+
+
+def run_stiff(model: StiffModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol: float,
+              atol: float, progress=None, record_every: int | None = None) -> dict:
+    """Integrate from ``Tm0`` over ``t_out`` and hand chunks of samples to ``emit``.
+
+    ``emit(t, Y)`` receives consecutive samples (rows of full solver states). Returns solver
+    statistics.
+    """
+    T_end = float(t_out[-1])
+    if record_every is None:  # keep the buffer of full states near 40 MB at most
+        record_every = int(max(1, min(2000, 5_000_000 // max(1, model.ny))))
+    y = model.y0(Tm0)
+    atol_vec = np.concatenate([atol * model.C,
+                               np.full(model.nb + model.S, atol * float(model.C.sum()))])
+    stops = np.union1d(jump_times(model.profiles, 0.0, T_end), [T_end])
+    buf_t, buf_y = [float(t_out[0])], [y.copy()]
+    k_next = 1
+    t = float(t_out[0])
+    stats = {"steps": 0, "restarts": 0, "events": 0, "nlu": 0}
+
+    def flush():
+        nonlocal buf_t, buf_y
+        if buf_t:
+            emit(np.asarray(buf_t), np.vstack(buf_y))
+        buf_t, buf_y = [], []
+
+    for stop in stops:
+        while t < stop:
+            try:
+                solver = BDF(model.rhs, t, y, float(stop), rtol=rtol, atol=atol_vec,
+                             jac=model.jac if (model.terms or model.phase) else model.jac(t, y))
+            except (ValueError, np.linalg.LinAlgError) as exc:  # pragma: no cover - defensive
+                raise SolverError(f"the stiff solver could not start: {exc}", time=t) from None
+            stats["restarts"] += 1
+            restarted = False
+            g_old = [c.event_value(t, model.temperatures(y[:model.n])[0]) for c in model.controllers]
+            while solver.status == "running":
+                message = solver.step()
+                if solver.status == "failed":
+                    node = _worst_node(model, solver)
+                    raise SolverError(f"the stiff solver gave up ({message})", time=solver.t,
+                                      node=node, hint="try a looser rtol/atol, check for tiny "
+                                      "capacities or huge conductances")
+                stats["steps"] += 1
+                t_old, t_new = solver.t_old, solver.t
+                dense = solver.dense_output()
+                # switching events of controllers (thermostats)
+                t_hit = None
+                if model.controllers:
+                    Tn = model.temperatures(solver.y[:model.n])[0]
+                    g_new = [c.event_value(t_new, Tn) for c in model.controllers]
+                    for ci, (ga, gb) in enumerate(zip(g_old, g_new)):
+                        if ga is None or gb is None or np.sign(ga) == np.sign(gb) or gb == 0.0 and ga == 0.0:
+                            continue
+                        ctl = model.controllers[ci]
+
+                        def f(tt, ctl=ctl):
+                            return ctl.event_value(tt, model.temperatures(dense(tt)[:model.n])[0])
+
+                        root = brentq(f, t_old, t_new, xtol=1e-9 * max(1.0, abs(t_new)))
+                        if t_hit is None or root < t_hit[0]:
+                            t_hit = (root, ci)
+                    g_old = g_new
+                t_limit = t_hit[0] if t_hit is not None else t_new
+                k2 = k_next
+                while k2 < t_out.size and t_out[k2] <= t_limit:
+                    k2 += 1
+                if k2 > k_next:
+                    tt = t_out[k_next:k2]
+                    Y = dense(tt).T
+                    buf_t.extend(tt.tolist())
+                    buf_y.extend(list(Y))
+                    k_next = k2
+                    if len(buf_t) >= record_every:
+                        flush()
+                if t_hit is not None:
+                    t = float(t_hit[0])
+                    y = dense(t)
+                    model.controllers[t_hit[1]].switch(t, model.temperatures(y[:model.n])[0])
+                    stats["events"] += 1
+                    restarted = True
+                    break
+                if progress is not None:
+                    progress(t_new / T_end)
+            stats["nlu"] += getattr(solver, "nlu", 0)
+            if not restarted:
+                t = float(solver.t)
+                y = solver.y.copy()
+    flush()
+    return stats
+
+
+def _worst_node(model, solver):
+    try:
+        f = model.rhs(solver.t, solver.y)[:model.n] / model.C
+        i = int(np.argmax(np.abs(f)))
+        return model.asm.node_names[int(model.ss.massive[i])]
+    except Exception:  # pragma: no cover - best effort only
+        return None
+
+
+class OutputMap:
+    """Temperatures of chosen nodes from solver states, without forming every node."""
+
+    def __init__(self, model: StiffModel, out_nodes: np.ndarray):
+        ss = model.ss
+        pos_m = {int(i): p for p, i in enumerate(ss.massive)}
+        pos_z = {int(i): q for q, i in enumerate(ss.massless)}
+        self.out_nodes = np.asarray(out_nodes, dtype=np.int64)
+        is_m = np.asarray([int(i) in pos_m for i in self.out_nodes], dtype=bool)
+        self.cols_m = np.flatnonzero(is_m)
+        self.state_m = np.asarray([pos_m[int(i)] for i in self.out_nodes[is_m]], dtype=np.int64)
+        self.cols_z = np.flatnonzero(~is_m)
+        rows_z = np.asarray([pos_z[int(i)] for i in self.out_nodes[~is_m]], dtype=np.int64)
+        self.R = ss.R[rows_z] if rows_z.size else np.zeros((0, ss.n))
+        self.D = ss.D[rows_z] if rows_z.size else np.zeros((0, ss.n_inputs))
+
+    def temperatures(self, Tm: np.ndarray, w: np.ndarray) -> np.ndarray:
+        out = np.empty((Tm.shape[0], self.out_nodes.size))
+        out[:, self.cols_m] = Tm[:, self.state_m]
+        if self.cols_z.size:
+            out[:, self.cols_z] = Tm @ self.R.T + w @ self.D.T
+        return out
+
+
+def chunk_from_states(model: StiffModel, t: np.ndarray, Y: np.ndarray, H0_sum: float,
+                      out_map: OutputMap, extras_fn=None) -> Chunk:
+    """Build a recorder chunk from solver states (rows of Y) at times t."""
+    n = model.n
+    H = Y[:, :n]
+    Tm = H / model.C[None, :]
+    for i in model._phase_idx:
+        Tm[:, i] = model.phase[i].temperature_array(H[:, i])
+    if model.profiles:
+        w = np.column_stack([p.value(t) for p in model.profiles])
+    else:
+        w = np.zeros((t.size, 0))
+    extras = extras_fn(t, Tm, Y) if extras_fn is not None else {}
+    return Chunk(t=t, T=out_map.temperatures(Tm, w), u=w[:, :model.M], s=w[:, model.M:],
+                 e_links=Y[:, n:n + model.nb], e_sources=Y[:, n + model.nb:],
+                 e_stored=H.sum(axis=1) - H0_sum, extras=extras)
+
+
+def run_stiff_network(network, asm, t_out, T0, mode, recorder, out_nodes, boundary_links, rtol,
+                      atol, progress, thermostats=()) -> dict:
+    """Build the stiff model of ``network`` (nonlinear terms included) and run it."""
+    from ..nonlinear import build_terms  # nonlinear physics registers its terms there
+
+    terms, phase, controllers = build_terms(network, asm, thermostats)
+    model = StiffModel(asm, terms, phase, controllers)
+    if [asm.link_names[i] for i in model.boundary_links] != \
+            [asm.link_names[i] for i in boundary_links]:  # pragma: no cover - same rule twice
+        raise RuntimeError("boundary link lists disagree")
+    ss = model.ss
+    if mode == "periodic":
+        Tm0 = periodic_start(network, model, asm, rtol, atol)
+    else:
+        Tm0 = T0[ss.massive]
+    H0_sum = float(model.energy_of(Tm0).sum())
+    out_map = OutputMap(model, np.asarray(out_nodes))
+
+    def extras_fn(t, Tm, Y):
+        ex = {}
+        if model.phase:
+            ex["liquid_fraction"] = np.column_stack(
+                [model.phase[i].liquid_fraction_array(Y[:, i]) for i in model._phase_idx])
+        if model.controllers:
+            ex["thermostat_power"] = np.column_stack(
+                [c.power_history(t, Tm) for c in model.controllers])
+        return ex
+
+    for c in model.controllers:
+        c.reset(0.0, Tm0)
+
+    def emit(t, Y):
+        recorder.add(chunk_from_states(model, t, Y, H0_sum, out_map, extras_fn))
+
+    stats = run_stiff(model, t_out, Tm0, emit, rtol, atol, progress)
+    stats.update(model.stats)
+    return stats
+
+
+def periodic_start(network, model: StiffModel, asm, rtol, atol, max_periods: int = 200,
+                   tol: float = 1e-6) -> np.ndarray:
+    """State at t = 0 of the periodic regime, by repeating one period until it repeats itself.
+
+    A linear network uses the exact modal solution instead.
+    """
+    from ..modes import DENSE_LIMIT
+    from ..profiles import common_period
+    from .exact import ExactPropagator
+
+    period = common_period(model.profiles, "simulation.initial")
+    ss = model.ss
+    if not model.terms and not model.phase and not model.controllers and ss.n <= DENSE_LIMIT:
+        prop = ExactPropagator(asm)
+        z0, _ = prop.periodic_state(period if period > 0 else 1.0, None)
+        return prop.V @ z0
+    if period == 0.0:
+        from ..nonlinear import steady_newton
+
+        return steady_newton(asm, asm.boundary_values(0.0), asm.source_values(0.0))[ss.massive]
+    # start from the steady state of the period-mean inputs when it exists
+    try:
+        from ..steady import steady_temperatures
+
+        Tm = steady_temperatures(asm, asm.boundary_values(0.0), asm.source_values(0.0))[ss.massive]
+    except Exception:
+        Tm = np.nan_to_num(asm.initial[ss.massive], nan=20.0)
+    t = np.array([0.0, period])
+    for k in range(max_periods):
+        last = {}
+
+        def emit(tt, Y, last=last):
+            last["y"] = Y[-1]
+
+        for c in model.controllers:
+            c.reset(0.0, Tm)
+        run_stiff(model, t, Tm, emit, rtol * 0.1, atol * 0.1)
+        Tn, _ = model.temperatures(last["y"][:model.n])
+        change = float(np.max(np.abs(Tn - Tm)))
+        Tm = Tn
+        if change < max(tol, 10 * atol):
+            return Tm
+    raise SolverError(f"no periodic regime after {max_periods} periods (last change "
+                      f"{change:.3g} K per period)", time=period * max_periods,
+                      hint="start from given temperatures and simulate longer")

@@ -1,0 +1,193 @@
+"""Quantity parsing at the edge: strings with units (or plain numbers) to SI floats.
+
+rcsim holds one pint registry, here. Everything else in the package works in SI floats with
+temperatures in degC (absolute) or K (differences); solvers never see a unit object.
+
+A *kind* names what a value must be (``"length"``, ``"temperature"``, ``"power"``...). A plain number
+is taken to be in the kind's SI unit (degC for an absolute temperature). Absolute temperatures and
+temperature differences are kept apart: an absolute temperature accepts degC, degF, K and degR; a
+temperature difference accepts K, delta_degC and delta_degF but refuses "7 degC".
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from numbers import Real
+
+import pint
+
+from .errors import UnitError
+
+__all__ = ["ureg", "KINDS", "to_si", "to_si_array", "format_quantity"]
+
+ureg = pint.UnitRegistry()
+ureg.formatter.default_format = "~P"
+
+# kind -> (SI unit string, description used in messages "expected a length")
+KINDS: dict[str, tuple[str, str]] = {
+    "dimensionless": ("", "a plain number"),
+    "length": ("m", "a length"),
+    "area": ("m**2", "an area"),
+    "volume": ("m**3", "a volume"),
+    "mass": ("kg", "a mass"),
+    "time": ("s", "a time"),
+    "temperature": ("degC", "a temperature"),
+    "temperature_difference": ("K", "a temperature difference"),
+    "power": ("W", "a power"),
+    "energy": ("J", "an energy"),
+    "capacity": ("J/K", "a heat capacity"),
+    "resistance": ("K/W", "a thermal resistance"),
+    "conductance": ("W/K", "a thermal conductance"),
+    "area_resistance": ("m**2*K/W", "an area thermal resistance (e.g. m^2*K/W)"),
+    "heat_transfer_coefficient": ("W/(m**2*K)", "a heat transfer coefficient (e.g. W/(m^2*K))"),
+    "conductivity": ("W/(m*K)", "a thermal conductivity (e.g. W/(m*K))"),
+    "density": ("kg/m**3", "a density"),
+    "specific_heat": ("J/(kg*K)", "a specific heat (e.g. J/(kg*K))"),
+    "specific_energy": ("J/kg", "a specific energy (e.g. kJ/kg)"),
+    "velocity": ("m/s", "a velocity"),
+    "pressure": ("Pa", "a pressure"),
+    "heat_flux": ("W/m**2", "a heat flux"),
+    "rate": ("K/s", "a rate of temperature change"),
+}
+
+_SI_UNITS = {kind: ureg.parse_units(unit) for kind, (unit, _) in KINDS.items()}
+_DIMS = {kind: ureg.Quantity(1.0, u).dimensionality for kind, u in _SI_UNITS.items()}
+
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?inf|nan)\s*(.*?)\s*$",
+                     re.IGNORECASE)
+_OFFSET_UNITS = {"degree_Celsius", "degree_Fahrenheit", "degree_Reaumur"}
+
+
+def _describe_dims(dims) -> str:
+    for kind, d in _DIMS.items():
+        if d == dims and kind not in ("temperature_difference",):
+            return KINDS[kind][1]
+    text = str(dims)
+    return text if text else "a plain number"
+
+
+def _parse_string(text: str, where: str | None):
+    match = _NUMBER.match(text)
+    if not match:
+        raise UnitError(f"cannot read {text!r} as a number with a unit", where,
+                        "write e.g. '50 mm' or '3 kJ/K'")
+    number_text, unit_text = match.group(1), match.group(2)
+    number = float(number_text)
+    if not unit_text:
+        return number, None
+    if len(unit_text) > 200:
+        raise UnitError(f"unit text too long ({len(unit_text)} characters)", where)
+    try:
+        units = ureg.parse_units(unit_text.replace("°C", "degC").replace("°F", "degF"))
+    except (pint.errors.PintError, AttributeError, TypeError, ValueError, SyntaxError,
+            KeyError, IndexError, RecursionError, OverflowError, ZeroDivisionError):
+        raise UnitError(f"unknown unit {unit_text!r} in {text!r}", where,
+                        "units follow pint's names, e.g. mm, m^2, kJ/K, W/(m^2*K), degC") from None
+    return number, units
+
+
+def to_si(value, kind: str, where: str | None = None, *, finite: bool = True) -> float:
+    """Convert ``value`` to a float in the SI unit of ``kind``.
+
+    Parameters
+    ----------
+    value : float, int or str
+        A number (already SI; degC for absolute temperatures) or a string such as ``"50 mm"``.
+    kind : str
+        One of :data:`KINDS`.
+    where : str, optional
+        Key path used in error messages.
+    finite : bool
+        Refuse NaN and infinity (default).
+
+    Returns
+    -------
+    float
+
+    Raises
+    ------
+    UnitError
+        Wrong dimension, unknown unit, not a number, or not finite.
+
+    Examples
+    --------
+    >>> to_si("50 mm", "length")
+    0.05
+    >>> round(to_si("68 degF", "temperature"), 9)
+    20.0
+    >>> to_si("7 delta_degC", "temperature_difference")
+    7.0
+    """
+    if kind not in KINDS:  # programming error, not user input
+        raise KeyError(f"unknown quantity kind {kind!r}")
+    if isinstance(value, bool):
+        raise UnitError(f"expected {KINDS[kind][1]}, got a true/false value ({value!r})", where)
+    if isinstance(value, Real):
+        number = float(value)
+        units = None
+    elif isinstance(value, str):
+        number, units = _parse_string(value, where)
+    elif isinstance(value, pint.Quantity):
+        number, units = float(value.magnitude), value.units
+    else:
+        raise UnitError(f"expected {KINDS[kind][1]}, got {type(value).__name__} {_short(value)}",
+                        where)
+
+    if units is None:
+        result = number
+    else:
+        result = _convert(number, units, kind, value, where)
+    if finite and not math.isfinite(result):
+        raise UnitError(f"expected a finite number, got {_short(value)}", where)
+    return result
+
+
+def _convert(number: float, units, kind: str, original, where) -> float:
+    q = ureg.Quantity(number, units)
+    dims = q.dimensionality
+    is_offset = not q._is_multiplicative
+    if kind == "temperature":
+        if dims != _DIMS["temperature"]:
+            raise UnitError(f"expected a temperature, got {_short(original)} "
+                            f"({_describe_dims(dims)})", where)
+        if str(units).startswith("delta_"):
+            raise UnitError(f"expected an absolute temperature, got a temperature difference "
+                            f"{_short(original)}", where, "write e.g. '25 degC' or '298.15 K'")
+        return float(q.to(ureg.degC).magnitude)
+    if kind == "temperature_difference":
+        if dims != _DIMS["temperature"]:
+            raise UnitError(f"expected a temperature difference, got {_short(original)} "
+                            f"({_describe_dims(dims)})", where)
+        if is_offset:
+            raise UnitError(f"expected a temperature difference, got the absolute temperature "
+                            f"{_short(original)}", where, "write e.g. '7 K' or '7 delta_degC'")
+        return float(q.to(ureg.kelvin).magnitude)
+    target = _SI_UNITS[kind]
+    if dims != _DIMS[kind]:
+        raise UnitError(f"expected {KINDS[kind][1]}, got {_short(original)} "
+                        f"({_describe_dims(dims)})", where)
+    return float(q.to(target).magnitude)
+
+
+def to_si_array(values, kind: str, where: str | None = None):
+    """Convert a sequence of values (numbers or strings) to a float numpy array in SI."""
+    import numpy as np
+
+    if isinstance(values, (str, bytes)) or not hasattr(values, "__iter__"):
+        raise UnitError(f"expected a list of values ({KINDS[kind][1]}), got {_short(values)}",
+                        where)
+    out = [to_si(v, kind, f"{where}[{i}]" if where else f"[{i}]") for i, v in enumerate(values)]
+    return np.asarray(out, dtype=float)
+
+
+def format_quantity(value: float, kind: str, digits: int = 4) -> str:
+    """Format an SI float for display with its unit, e.g. ``"2.5 K/W"``."""
+    unit = {"temperature": "degC", "temperature_difference": "K"}.get(kind, KINDS[kind][0])
+    unit = unit.replace("**", "^")
+    return f"{value:.{digits}g} {unit}".strip()
+
+
+def _short(value) -> str:
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."

@@ -39,6 +39,11 @@ __all__ = [
 STEFAN_BOLTZMANN = Stefan_Boltzmann
 
 
+def _plain(value):
+    """A Python float for a scalar result, the array otherwise."""
+    return float(value) if np.ndim(value) == 0 else value
+
+
 def resistance_plane_layer(thickness, conductivity, area):
     r"""Conduction resistance of a plane layer [K/W].
 
@@ -94,7 +99,7 @@ def resistance_cylinder_shell(inner_radius, outer_radius, conductivity, length):
     >>> round(resistance_cylinder_shell(0.03, 0.05, 0.04, 1.0), 6)
     2.032511
     """
-    return np.log(outer_radius / inner_radius) / (2.0 * np.pi * conductivity * length)
+    return _plain(np.log(outer_radius / inner_radius) / (2.0 * np.pi * conductivity * length))
 
 
 def resistance_sphere_shell(inner_radius, outer_radius, conductivity):
@@ -111,7 +116,7 @@ def resistance_sphere_shell(inner_radius, outer_radius, conductivity):
     >>> round(resistance_sphere_shell(0.1, 0.15, 0.05), 6)
     5.305165
     """
-    return (1.0 / inner_radius - 1.0 / outer_radius) / (4.0 * np.pi * conductivity)
+    return _plain((1.0 / inner_radius - 1.0 / outer_radius) / (4.0 * np.pi * conductivity))
 
 
 def resistance_convection(heat_transfer_coefficient, area):
@@ -161,8 +166,7 @@ def radiation_coefficient_linearised(emissivity, surface_temperature, surroundin
     """
     ts = np.asarray(surface_temperature, dtype=float) + zero_Celsius
     tinf = np.asarray(surroundings_temperature, dtype=float) + zero_Celsius
-    h = emissivity * STEFAN_BOLTZMANN * (ts * ts + tinf * tinf) * (ts + tinf)
-    return float(h) if np.ndim(h) == 0 else h
+    return _plain(emissivity * STEFAN_BOLTZMANN * (ts * ts + tinf * tinf) * (ts + tinf))
 
 
 def resistance_radiation_linearised(emissivity, area, surface_temperature,

@@ -184,6 +184,25 @@ class Assembled:
             groups.append(np.flatnonzero(labels == c).tolist())
         return groups
 
+    def boundary_segments(self):
+        """Segments touching a boundary, for energy accounting.
+
+        Returns (links, seg_link_col, node, boundary, g): ``links`` is the list of link indices
+        that touch a boundary (in link order); for each boundary segment, the column of its link
+        in ``links``, its node index, its boundary column and its conductance.
+        """
+        n = self.n_nodes
+        is_b = (self.seg_a >= n) | (self.seg_b >= n)
+        segs = np.flatnonzero(is_b)
+        seg_link = np.searchsorted(self.link_last_seg, segs)  # segments are stored link by link
+        links = sorted(set(seg_link.tolist()))
+        col = {li: c for c, li in enumerate(links)}
+        a, b = self.seg_a[segs], self.seg_b[segs]
+        node = np.where(a >= n, b, a)
+        bnd = np.where(a >= n, a, b) - n
+        return (links, np.asarray([col[li] for li in seg_link], dtype=np.int64), node, bnd,
+                self.seg_g[segs])
+
     def segment_flows(self, node_t: np.ndarray, boundary_t: np.ndarray) -> np.ndarray:
         """Heat flow through every segment [W], positive from seg_a to seg_b.
 
@@ -348,9 +367,6 @@ class Network:
                                    suggest(end, list(self.nodes) + list(self.boundaries)))
         if a == b:
             raise NetworkError(f"a link from {a!r} to itself", where)
-        if a in self.boundaries and b in self.boundaries:
-            raise NetworkError(f"a link between two boundaries ({a!r}, {b!r}) changes no node",
-                               where, "link at least one node")
         given = [k for k, v in (("resistance", resistance), ("conductance", conductance),
                                 ("parts", parts)) if v is not None]
         if len(given) != 1:
@@ -367,6 +383,11 @@ class Network:
                 raise NetworkError("parts must be a non-empty list of parts in series",
                                    f"{where}.parts")
             part_list = [make_part(p, f"{where}.parts[{i}]") for i, p in enumerate(parts)]
+        if a in self.boundaries and b in self.boundaries and not any(p.is_massive
+                                                                        for p in part_list):
+            raise NetworkError(f"a link between two boundaries ({a!r}, {b!r}) changes no node",
+                               where, "link at least one node, or give the link a massive "
+                               "layer with slices")
         link_area = None
         if area is not None:
             link_area = _nonneg(area, "area", f"{where}.area", positive=True)
@@ -414,8 +435,6 @@ class Network:
         """Assemble (and cache) the sparse matrices. Warns on doubtful lumped layers."""
         if self._assembled is not None:
             return self._assembled
-        if not self.nodes:
-            raise NetworkError("the network has no nodes", None, "add at least one node")
         node_names = list(self.nodes)
         capacity = [self.nodes[n].capacity for n in node_names]
         initial = [np.nan if self.nodes[n].initial is None else self.nodes[n].initial
@@ -450,6 +469,8 @@ class Network:
             chains.append(chain)
 
         n_nodes = len(node_names)
+        if n_nodes == 0:
+            raise NetworkError("the network has no nodes", None, "add at least one node")
         point_index = {nm: i for i, nm in enumerate(node_names[:n_user])}
         for j, nm in enumerate(boundary_names):
             point_index[nm] = n_nodes + j

@@ -76,6 +76,10 @@ class Profile:
     def describe(self) -> str:  # pragma: no cover - overridden
         return type(self).__name__
 
+    def _ready(self) -> bool:
+        """True when the numeric fields are set (plain numbers given, or bound)."""
+        return False
+
     # -- shared ------------------------------------------------------------------------------
     def bind(self, kind: str, where: str | None = None) -> "Profile":
         """Return a copy with every value converted to SI for ``kind`` ('temperature' or 'power')."""
@@ -184,6 +188,9 @@ class Constant(Profile):
     def is_constant(self) -> bool:
         return True
 
+    def _ready(self) -> bool:
+        return self.level is not None
+
     def describe(self) -> str:
         return f"constant {self.level:g}"
 
@@ -231,6 +238,9 @@ class Sine(Profile):
 
     def sines(self):
         return [(self.amplitude, self.omega, self.phase)] if self.amplitude != 0.0 else []
+
+    def _ready(self) -> bool:
+        return hasattr(self, "omega")
 
     def describe(self) -> str:
         peak = "" if self.peak is None else f", peak at {self.peak / 3600:g} h"
@@ -300,6 +310,9 @@ class Steps(Profile):
 
     def span(self):
         return (-math.inf if self.outside == "hold" else float(self.times[0]), math.inf)
+
+    def _ready(self) -> bool:
+        return hasattr(self, "times")
 
     def describe(self) -> str:
         return f"steps ({self.times.size} values from {self.values.min():g} to {self.values.max():g})"
@@ -372,6 +385,9 @@ class Table(Profile):
         if self.outside == "hold":
             return (-math.inf, math.inf)
         return (float(self.times[0]), float(self.times[-1]))
+
+    def _ready(self) -> bool:
+        return hasattr(self, "times")
 
     def describe(self) -> str:
         origin = f" from {self.source}" if self.source else ""
@@ -446,7 +462,7 @@ class Repeat(Profile):
             raise ProfileError(f"repeat needs a profile, got {type(inner).__name__}")
         self.inner = inner
         self.raw_period = period
-        if isinstance(period, (int, float)) and inner.bound_kind is not None:
+        if isinstance(period, (int, float)) and inner._ready():
             self._set(float(period), None)
 
     def _set(self, period, where):
@@ -503,6 +519,9 @@ class Repeat(Profile):
 
     def sines(self):
         return self.inner.sines()
+
+    def _ready(self) -> bool:
+        return isinstance(self.__dict__.get("period"), float)
 
     def describe(self) -> str:
         return f"{self.inner.describe()}, repeated every {self.period / 3600:g} h"
@@ -624,7 +643,7 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit="s", m
     out = {}
     for c in columns:
         text = df[c].str.strip()
-        values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
+        values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float, copy=True)
         bad = ~np.isfinite(values)
         if bad.any() and missing != "interpolate":
             i = int(np.argmax(bad))
@@ -648,7 +667,7 @@ def _parse_times(col, name, label, start, time_unit) -> _TimeParse:
     if np.isfinite(numeric).all():
         factor = to_si(f"1 {time_unit}", "time", "time_unit")
         return _TimeParse(numeric * factor, False)
-    if np.isfinite(numeric).sum() > 0.5 * numeric.size:
+    if np.isfinite(numeric[0]):  # the first row decides: seconds, or timestamps
         i = int(np.argmax(~np.isfinite(numeric)))
         raise DataError(f"time column {name!r} line {i + 2} is not a number ({text.iloc[i]!r})",
                         label)

@@ -94,10 +94,14 @@ class H5Sink:
         os.close(fd)
         self.file = h5py.File(self.tmp, "w")
         self.names: dict[str, list[str]] = {}
+        self._empty: list[str] = []
         self._open = True
 
     def declare(self, key: str, names: list[str]) -> None:
         self.names[key] = list(names)
+        if key not in ("time", "energy/stored") and not names:
+            self._empty.append(key)  # zero-width: written at the end, unchunked
+            return
         shape = (0,) if key in ("time", "energy/stored") else (0, len(names))
         maxshape = (None,) if len(shape) == 1 else (None, len(names))
         chunks = (4096,) if len(shape) == 1 else (max(1, min(4096, 2_000_000 // max(1, len(names)))),
@@ -109,6 +113,8 @@ class H5Sink:
                 np.zeros(0, dtype="S1")
 
     def append(self, key: str, array: np.ndarray) -> None:
+        if key in self._empty:
+            return
         ds = self.file[key]
         n0 = ds.shape[0]
         ds.resize(n0 + array.shape[0], axis=0)
@@ -118,6 +124,10 @@ class H5Sink:
         _write_frame(self.file, group, frame)
 
     def finish(self, attrs: dict) -> None:
+        n_rows = self.file["time"].shape[0] if "time" in self.file else 0
+        for key in self._empty:
+            ds = self.file.create_dataset(key, data=np.empty((n_rows, 0)))
+            ds.attrs["names"] = np.zeros(0, dtype="S1")
         for k, v in attrs.items():
             self.file.attrs[k] = v
         self.file.close()

@@ -151,7 +151,7 @@ def _convert(number: float, units, kind: str, original, where) -> float:
         if dims != _DIMS["temperature"]:
             raise UnitError(f"expected a temperature, got {_short(original)} "
                             f"({_describe_dims(dims)})", where)
-        if str(units).startswith("delta_"):
+        if any(str(name).startswith("delta_") for name in q._units):
             raise UnitError(f"expected an absolute temperature, got a temperature difference "
                             f"{_short(original)}", where, "write e.g. '25 degC' or '298.15 K'")
         return float(q.to(ureg.degC).magnitude)

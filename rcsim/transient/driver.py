@@ -107,9 +107,7 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
                         if p < asm.n_nodes})
     tracker = ExcursionTracker([names[i] for i in lim_nodes], lim_kinds, lim_vals) \
         if lim_nodes else None
-    boundary_links = [li for li in range(len(asm.link_names))
-                      if asm.seg_a[asm.link_first_seg[li]] >= asm.n_nodes
-                      or asm.seg_b[asm.link_last_seg[li]] >= asm.n_nodes]
+    boundary_links = asm.boundary_segments()[0]
 
     mode, overrides = resolve_initial_option(initial)
     u0 = asm.boundary_values(0.0)
@@ -205,20 +203,12 @@ def _run_exact(asm, t_out, T0, mode, overrides, recorder, out_nodes, boundary_li
     else:
         z0 = prop.z_from_temperatures(T0[ss.massive])
     A_out, D_out = prop.output_maps(np.asarray(out_nodes))
-    # energy through boundary links: g * (int u_b - int T_node)
-    n_all = asm.n_nodes
-    e_nodes, e_g, e_b = [], [], []
-    for li in boundary_links:
-        s0, s1 = int(asm.link_first_seg[li]), int(asm.link_last_seg[li])
-        s = s0 if asm.seg_a[s0] >= n_all else s1
-        a, b = int(asm.seg_a[s]), int(asm.seg_b[s])
-        node, bnd = (b, a - n_all) if a >= n_all else (a, b - n_all)
-        e_nodes.append(node)
-        e_g.append(asm.seg_g[s])
-        e_b.append(bnd)
-    A_e, D_e = prop.output_maps(np.asarray(e_nodes, dtype=np.int64))
-    e_g = np.asarray(e_g)
-    e_b = np.asarray(e_b, dtype=np.int64)
+    # energy through boundary links: sum over their boundary segments of g * (int u_b - int T)
+    _, seg_col, e_nodes, e_b, e_g = asm.boundary_segments()
+    A_e, D_e = prop.output_maps(e_nodes)
+    nb = len(boundary_links)
+    to_links = np.zeros((seg_col.size, nb))
+    to_links[np.arange(seg_col.size), seg_col] = 1.0
     q_store = prop.V.T @ ss.C                    # stored energy = q . z  (massive nodes)
     n_modes = prop.lam.size
     n_in = prop.n_inputs
@@ -226,7 +216,6 @@ def _run_exact(asm, t_out, T0, mode, overrides, recorder, out_nodes, boundary_li
 
     w0 = prop.inputs_at(t_out[:1])
     T_first = z0[None, :] @ A_out.T + w0 @ D_out.T
-    nb = len(boundary_links)
     recorder.add(Chunk(t_out[:1], T_first, w0[:, :M], w0[:, M:], np.zeros((1, nb)),
                        np.zeros((1, S)), np.zeros(1)))
     chunk = max(256, int(4_000_000 // max(1, n_modes + n_in)))
@@ -244,7 +233,7 @@ def _run_exact(asm, t_out, T0, mode, overrides, recorder, out_nodes, boundary_li
         T = Z @ A_out.T + w @ D_out.T
         if nb:
             int_T = Zint @ A_e.T + U @ D_e.T
-            inc = e_g[None, :] * (U[:, e_b] - int_T)
+            inc = (e_g[None, :] * (U[:, e_b] - int_T)) @ to_links
             cum_links = e_links[None, :] + np.cumsum(inc, axis=0)
             e_links = cum_links[-1].copy()
         else:

@@ -61,8 +61,7 @@ class StiffModel:
         self.phase = dict(phase or {})           # state index -> PhaseChange
         self.controllers = list(controllers)
         self._phase_idx = np.asarray(sorted(self.phase), dtype=np.int64)
-        self.boundary_links = [li for li, nm in enumerate(asm.link_names)
-                               if self._boundary_seg(li) is not None]
+        self.boundary_links = asm.boundary_segments()[0]
         self._setup_link_energy()
         self.nb = len(self.boundary_links)
         self.ny = self.n + self.nb + self.S
@@ -70,49 +69,33 @@ class StiffModel:
         self.stats = {"nfev": 0, "njev": 0}
 
     # -- structure ---------------------------------------------------------------------------
-    def _boundary_seg(self, li):
-        asm = self.asm
-        n = asm.n_nodes
-        s0, s1 = int(asm.link_first_seg[li]), int(asm.link_last_seg[li])
-        if asm.seg_a[s0] >= n:
-            return s0
-        if asm.seg_b[s1] >= n:
-            return s1
-        return None
-
     def _setup_link_energy(self):
-        """Maps giving, per boundary link, g*(u_b - T_node) with T_node from states and inputs."""
+        """Maps giving, per boundary segment, g*(u_b - T_node), summed into its link."""
         asm, ss = self.asm, self.ss
-        n_all = asm.n_nodes
+        _, seg_col, nodes, bnd, g = asm.boundary_segments()
         pos_m = {int(i): p for p, i in enumerate(ss.massive)}
         pos_z = {int(i): q for q, i in enumerate(ss.massless)}
-        rows_a, cols_a, vals_a = [], [], []
-        D_end = np.zeros((len(self.boundary_links), len(self.profiles)))
-        g_end = np.zeros(len(self.boundary_links))
-        bcol = np.zeros(len(self.boundary_links), dtype=np.int64)
-        for r, li in enumerate(self.boundary_links):
-            s = self._boundary_seg(li)
-            a, b = int(asm.seg_a[s]), int(asm.seg_b[s])
-            node, bnd = (b, a - n_all) if a >= n_all else (a, b - n_all)
-            g_end[r] = asm.seg_g[s]
-            bcol[r] = bnd
+        n_seg = seg_col.size
+        rows, cols, vals = [], [], []
+        D_end = np.zeros((n_seg, len(self.profiles)))
+        for r, node in enumerate(nodes.tolist()):
             if node in pos_m:
-                rows_a.append(r)
-                cols_a.append(pos_m[node])
-                vals_a.append(1.0)
+                rows.append(r)
+                cols.append(pos_m[node])
+                vals.append(1.0)
             else:
-                q = pos_z[node]
-                Rq = ss.R[q]
+                Rq = ss.R[pos_z[node]]
                 nz = np.flatnonzero(Rq)
-                rows_a.extend([r] * nz.size)
-                cols_a.extend(nz.tolist())
-                vals_a.extend(Rq[nz].tolist())
-                D_end[r] = ss.D[q]
-        self.A_end = sp.csr_matrix((vals_a, (rows_a, cols_a)),
-                                   shape=(len(self.boundary_links), self.n))
+                rows.extend([r] * nz.size)
+                cols.extend(nz.tolist())
+                vals.extend(Rq[nz].tolist())
+                D_end[r] = ss.D[pos_z[node]]
+        self.A_end = sp.csr_matrix((vals, (rows, cols)), shape=(n_seg, self.n))
         self.D_end = D_end
-        self.g_end = g_end
-        self.bcol = bcol
+        self.g_end = g
+        self.bcol = bnd
+        self.to_links = sp.csr_matrix((np.ones(n_seg), (seg_col, np.arange(n_seg))),
+                                      shape=(len(self.boundary_links), n_seg))
 
     # -- state <-> temperature ---------------------------------------------------------------
     def temperatures(self, H: np.ndarray):
@@ -159,7 +142,7 @@ class StiffModel:
         if self.nb:
             u = w[:self.M]
             t_end = self.A_end @ Tm + self.D_end @ w
-            out[n:n + self.nb] = self.g_end * (u[self.bcol] - t_end) + link_extra
+            out[n:n + self.nb] = self.to_links @ (self.g_end * (u[self.bcol] - t_end)) + link_extra
         out[n + self.nb:] = w[self.M:]
         return out
 
@@ -179,7 +162,7 @@ class StiffModel:
                 e_rows = je if e_rows is None else e_rows + je
         scale = sp.diags(dTdH)
         J_hh = (dq @ scale).tocsr()
-        e_block = -sp.diags(self.g_end) @ self.A_end
+        e_block = -(self.to_links @ sp.diags(self.g_end) @ self.A_end)
         if e_rows is not None:
             e_block = e_block + e_rows
         J_eh = (e_block @ scale).tocsr() if self.nb else sp.csr_matrix((0, n))
@@ -340,9 +323,6 @@ def run_stiff_network(network, asm, t_out, T0, mode, recorder, out_nodes, bounda
 
     terms, phase, controllers = build_terms(network, asm, thermostats)
     model = StiffModel(asm, terms, phase, controllers)
-    if [asm.link_names[i] for i in model.boundary_links] != \
-            [asm.link_names[i] for i in boundary_links]:  # pragma: no cover - same rule twice
-        raise RuntimeError("boundary link lists disagree")
     ss = model.ss
     if mode == "periodic":
         Tm0 = periodic_start(network, model, asm, rtol, atol)

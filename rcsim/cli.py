@@ -1,0 +1,368 @@
+"""The ``rcsim`` command: parse, call the library, format. Nothing else lives here.
+
+Exit status: 0 success; 2 bad input (one line on stderr, no traceback, no partial file);
+3 the numerics failed on valid input; 130 interrupted.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+import os
+import sys
+import time
+import warnings
+
+import click
+
+from . import __version__
+from .errors import InputError, RcsimError, SolverError
+
+CAUTION = ("caution: a simulation supports, and never replaces, qualification testing, local "
+           "codes and licensed professional judgement.")
+
+
+def _fail(message: str, code: int) -> None:
+    click.echo(f"error: {message}", err=True)
+    sys.exit(code)
+
+
+def _guard(func):
+    """Turn library errors into one line and an exit status; relay warnings as lines."""
+
+    @functools.wraps(func)
+    def wrapper(*args, **kwargs):
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            try:
+                result = func(*args, **kwargs)
+            except InputError as err:
+                _relay(caught)
+                _fail(str(err), 2)
+            except SolverError as err:
+                _relay(caught)
+                _fail(str(err), 3)
+            except RcsimError as err:  # pragma: no cover - every error is one of the above
+                _relay(caught)
+                _fail(str(err), 2)
+            except KeyboardInterrupt:
+                _relay(caught)
+                click.echo("interrupted: no result file was written", err=True)
+                sys.exit(130)
+            _relay(caught)
+            return result
+
+    return wrapper
+
+
+def _relay(caught) -> None:
+    seen = set()
+    for w in caught:
+        text = str(w.message)
+        if text in seen:
+            continue
+        seen.add(text)
+        if issubclass(w.category, (DeprecationWarning, PendingDeprecationWarning)):
+            continue
+        click.echo(f"warning: {text}", err=True)
+
+
+def _check_output(path, suffixes, option) -> None:
+    if path is None:
+        return
+    folder = os.path.dirname(os.path.abspath(path))
+    if not os.path.isdir(folder):
+        raise InputError(f"folder {os.path.dirname(path)!r} does not exist", option,
+                         "create it first")
+    if os.path.isdir(path):
+        raise InputError(f"{path!r} is a directory", option, "give a file name")
+    if suffixes and not str(path).lower().endswith(tuple(suffixes)):
+        raise InputError(f"{path!r} should end with {' or '.join(suffixes)}", option)
+
+
+def _fmt_time(seconds: float) -> str:
+    if seconds is None or not math.isfinite(seconds):
+        return "-"
+    if seconds < 120:
+        return f"{seconds:.3g} s"
+    if seconds < 7200:
+        return f"{seconds / 60:.4g} min"
+    if seconds < 4 * 86400:
+        return f"{seconds / 3600:.4g} h"
+    return f"{seconds / 86400:.4g} d"
+
+
+def _fmt_energy(joules: float) -> str:
+    a = abs(joules)
+    for scale, unit in ((1e9, "GJ"), (1e6, "MJ"), (1e3, "kJ")):
+        if a >= scale:
+            return f"{joules / scale:.4g} {unit}"
+    return f"{joules:.4g} J"
+
+
+def _load(path, allow_absolute_paths=False):
+    from .scenario import load
+
+    return load(path, allow_absolute_paths=allow_absolute_paths)
+
+
+class _Progress:
+    """A progress bar on stderr that appears only when a run lasts more than ~2 s."""
+
+    def __init__(self, enabled: bool, label: str = "running"):
+        self.enabled = enabled
+        self.t0 = time.perf_counter()
+        self.label = label
+        self.shown = False
+
+    def __call__(self, fraction: float) -> None:
+        if not self.enabled:
+            return
+        elapsed = time.perf_counter() - self.t0
+        if elapsed < 2.0 and not self.shown:
+            return
+        self.shown = True
+        fraction = min(max(fraction, 0.0), 1.0)
+        left = elapsed / fraction - elapsed if fraction > 0 else float("nan")
+        bar = "#" * int(30 * fraction)
+        click.echo(f"\r{self.label} [{bar:<30}] {100 * fraction:5.1f}%  "
+                   f"{_fmt_time(left)} left ", nl=False, err=True)
+
+    def close(self) -> None:
+        if self.shown:
+            click.echo("", err=True)
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="rcsim")
+def main():
+    """rcsim: transient heat flow through thermal RC networks.
+
+    Build a network from a scenario file (layers, films, masses, profiles), integrate it
+    through time, and report temperatures, limit excursions, hold times and energy balance.
+    """
+
+
+# -- check ---------------------------------------------------------------------------------
+@main.command()
+@click.argument("scenario", type=click.Path(dir_okay=True))
+@click.option("--allow-absolute-paths", is_flag=True, help="Let the scenario read CSV files by "
+              "absolute path.")
+@_guard
+def check(scenario, allow_absolute_paths):
+    """Validate SCENARIO and summarise its network."""
+    sc = _load(scenario, allow_absolute_paths)
+    click.echo(sc.network.summary())
+    st = sc.settings
+    if st.duration is not None and st.step is not None:
+        click.echo("")
+        click.echo(f"run: {_fmt_time(st.duration)} at {_fmt_time(st.step)} output steps, "
+                   f"start {st.initial}, solver {st.solver}")
+    click.echo("")
+    click.echo(f"{sc.name}: ok")
+
+
+# -- steady --------------------------------------------------------------------------------
+@main.command()
+@click.argument("scenario", type=click.Path(dir_okay=True))
+@click.option("--between", nargs=2, metavar="A B", help="Also print the equivalent resistance "
+              "between two nodes or boundaries.")
+@click.option("--at", "at", default="0 s", show_default=True,
+              help="Time at which boundaries and sources are taken, e.g. '15 h'.")
+@_guard
+def steady(scenario, between, at):
+    """Steady-state temperatures and heat flows of SCENARIO."""
+    from .units import to_si
+
+    sc = _load(scenario)
+    net = sc.network
+    res = net.steady(at=to_si(at, "time", "--at"))
+    r_between = net.equivalent_resistance(*between) if between else None
+    width = max([len(n) for n in list(res.temperatures.index) + list(res.heat_flows.index)] + [8])
+    click.echo(f"{sc.name}: steady state ({res.solver}), boundaries and sources at t = "
+               f"{_fmt_time(to_si(at, 'time', '--at'))}")
+    click.echo("")
+    click.echo(f"  {'node':<{width}}  temperature [degC]")
+    for name, t in res.temperatures.items():
+        click.echo(f"  {name:<{width}}  {t:12.4f}")
+    for name, t in res.boundary_temperatures.items():
+        click.echo(f"  {name:<{width}}  {t:12.4f}   (boundary)")
+    click.echo("")
+    click.echo(f"  {'link':<{width}}  heat flow [W]   R [K/W]      U [W/(m^2*K)]")
+    for name, q in res.heat_flows.items():
+        link = net.links[name]
+        u = link.u_value
+        u_text = f"{u:12.4g}" if u is not None else "           -"
+        click.echo(f"  {name:<{width}}  {q:12.4f}  {link.resistance:10.5g}  {u_text}"
+                   f"   ({link.a} -> {link.b})")
+    if between:
+        click.echo("")
+        click.echo(f"  equivalent resistance {between[0]} - {between[1]}: {r_between:.6g} K/W")
+
+
+# -- modes ---------------------------------------------------------------------------------
+@main.command()
+@click.argument("scenario", type=click.Path(dir_okay=True))
+@click.option("--top", default=3, show_default=True, type=click.IntRange(1, 20),
+              help="How many nodes to name per mode.")
+@click.option("--limit", "max_rows", default=30, show_default=True, type=click.IntRange(1),
+              help="How many modes to print (longest first).")
+@_guard
+def modes(scenario, top, max_rows):
+    """Time constants of SCENARIO's network, longest first, with the nodes taking part most."""
+    sc = _load(scenario)
+    from .modes import modes_table
+
+    table = modes_table(sc.network, top=top)
+    click.echo(f"{sc.name}: {len(table)} mode(s)")
+    click.echo("")
+    click.echo(f"  {'mode':>4}  {'time constant':>14}  nodes taking part (share of the mode's energy)")
+    for k, row in table.head(max_rows).iterrows():
+        click.echo(f"  {k:>4}  {_fmt_time(row['time_constant [s]']):>14}  {row['nodes']}")
+    if len(table) > max_rows:
+        click.echo(f"  ... {len(table) - max_rows} faster mode(s) not shown (--limit)")
+
+
+# -- materials -----------------------------------------------------------------------------
+@main.command()
+@click.option("--category", help="Only this category (masonry, insulation, metal, ...).")
+@click.option("--sources", is_flag=True, help="Also print where each value comes from.")
+@_guard
+def materials(category, sources):
+    """List the bundled materials with conductivity, density and specific heat."""
+    from .materials import materials_table
+
+    table = materials_table()
+    if category:
+        cats = sorted(set(table["category"]))
+        if category not in cats:
+            from .materials import suggest
+
+            raise InputError(f"unknown category {category!r}", "--category",
+                             suggest(category, cats))
+        table = table[table["category"] == category]
+    click.echo(f"  {'name':<20} {'category':<13} {'k [W/(m*K)]':>12} {'rho [kg/m^3]':>13} "
+               f"{'cp [J/(kg*K)]':>14}  {'latent [kJ/kg]':>14}")
+    for name, row in table.iterrows():
+        latent = "" if row["latent_heat"] is None or (isinstance(row["latent_heat"], float)
+                                                      and math.isnan(row["latent_heat"])) \
+            else f"{row['latent_heat'] / 1000:.5g}"
+        click.echo(f"  {name:<20} {row['category']:<13} {row['conductivity']:>12.4g} "
+                   f"{row['density']:>13.5g} {row['specific_heat']:>14.5g}  {latent:>14}")
+        if sources:
+            click.echo(f"      source: {row['source']}")
+
+
+# -- run -----------------------------------------------------------------------------------
+@main.command()
+@click.argument("scenario", type=click.Path(dir_okay=True))
+@click.option("-o", "--output", type=click.Path(), help="Write the result to this HDF5 file.")
+@click.option("--csv", "csv_path", type=click.Path(), help="Also write the histories as CSV.")
+@click.option("--plots", "plots_dir", type=click.Path(), help="Write the standard figures "
+              "into this folder.")
+@click.option("--solver", type=click.Choice(["auto", "exact", "stiff"]), default=None,
+              help="Override the scenario's solver.")
+@click.option("--record", multiple=True, help="Keep the history of this node only "
+              "(repeatable).")
+@click.option("--allow-absolute-paths", is_flag=True, help="Let the scenario read CSV files by "
+              "absolute path.")
+@click.option("--quiet", is_flag=True, help="Print nothing but errors and warnings.")
+@_guard
+def run(scenario, output, csv_path, plots_dir, solver, record, allow_absolute_paths, quiet):
+    """Simulate SCENARIO and print a summary."""
+    _check_output(output, (".h5", ".hdf5"), "--output")
+    _check_output(csv_path, (".csv",), "--csv")
+    if plots_dir is not None and os.path.exists(plots_dir) and not os.path.isdir(plots_dir):
+        raise InputError(f"{plots_dir!r} exists and is not a folder", "--plots")
+    sc = _load(scenario, allow_absolute_paths)
+    progress = _Progress(sys.stderr.isatty() and not quiet)
+    try:
+        res = sc.run(output=output, progress=progress, solver=solver,
+                     record=list(record) if record else None)
+    finally:
+        progress.close()
+    if csv_path:
+        res.to_csv(csv_path)
+    written = [p for p in (output, csv_path) if p]
+    if plots_dir:
+        from .plotting import standard_figures
+
+        os.makedirs(plots_dir, exist_ok=True)
+        written += standard_figures(res, plots_dir, stem=os.path.splitext(sc.name)[0])
+    if not quiet:
+        click.echo(format_run_summary(sc, res))
+        for p in written:
+            click.echo(f"wrote {p}")
+
+
+def format_run_summary(sc, res) -> str:
+    """The text printed by ``rcsim run``."""
+    lines = []
+    title = f' "{sc.title}"' if sc.title else ""
+    st = res.stats
+    lines.append(f"{sc.name}{title}")
+    lines.append(f"  {_fmt_time(res.meta.get('duration'))} at {_fmt_time(res.meta.get('step'))} "
+                 f"steps, {len(res.time)} samples, start {res.meta.get('initial')}, "
+                 f"solver {res.solver}, {st.get('wall_time [s]', float('nan')):.3g} s")
+    lines.append("")
+    nodes = res.nodes
+    width = max([len(str(n)) for n in nodes["node"]] + [4]) if len(nodes) else 4
+    lines.append(f"  {'node':<{width}}  {'min [degC]':>10}  {'max [degC]':>10}  {'final [degC]':>12}")
+    for _, row in nodes.iterrows():
+        lines.append(f"  {row['node']:<{width}}  {row['min [degC]']:10.3f}  "
+                     f"{row['max [degC]']:10.3f}  {row['final [degC]']:12.3f}")
+    if len(res.limits):
+        lines.append("")
+        lines.append("  limits")
+        for _, row in res.limits.iterrows():
+            label = f"{row['node']} {row['kind']} {row['limit [degC]']:g} degC"
+            hold = row["hold_time [s]"]
+            if isinstance(hold, float) and math.isnan(hold):
+                lines.append(f"    {label}: stays within, closest {row['margin [K]']:.3g} K "
+                             f"from the limit")
+            else:
+                lines.append(f"    {label}: leaves the band at {_fmt_time(hold)} (hold time); "
+                             f"{_fmt_time(row['time_out [s]'])} out in all, worst "
+                             f"{row['worst [K]']:.3g} K beyond, "
+                             f"{row['degree_hours [K*h]']:.3g} K*h")
+    lf = res.liquid_fraction
+    if lf.shape[1]:
+        lines.append("")
+        lines.append("  phase change (liquid fraction)")
+        for c in lf.columns:
+            col = lf[c].to_numpy()
+            lines.append(f"    {c}: start {col[0]:.3f}, end {col[-1]:.3f}, max {col.max():.3f}")
+    tp = res.thermostat_power
+    if tp.shape[1]:
+        lines.append("")
+        lines.append("  thermostats")
+        t = res.time
+        for c in tp.columns:
+            p = tp[c].to_numpy()
+            import numpy as np
+
+            energy = float(np.trapezoid(p, t)) if t.size > 1 else 0.0
+            on = p != 0
+            duty = float(np.trapezoid(on.astype(float), t) / (t[-1] - t[0])) if t.size > 1 else 0.0
+            lines.append(f"    {c}: duty cycle {100 * duty:.1f} %, energy {_fmt_energy(energy)}")
+    terms = res.meta.get("energy_terms", {})
+    if isinstance(terms, str):
+        import json
+
+        terms = json.loads(terms)
+    lines.append("")
+    lines.append(f"  energy: stored change {_fmt_energy(terms.get('stored [J]', 0.0))}, in "
+                 f"through boundary links {_fmt_energy(terms.get('in through links [J]', 0.0))}, "
+                 f"from sources {_fmt_energy(terms.get('from sources [J]', 0.0))}; balance error "
+                 f"{res.energy_balance:.1e}")
+    lines.append("")
+    lines.append(CAUTION)
+    return "\n".join(lines)
+
+
+def entry():  # pragma: no cover - console script alias
+    main()
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

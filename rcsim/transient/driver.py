@@ -24,6 +24,8 @@ __all__ = ["simulate", "EXACT_LIMIT", "MAX_SAMPLES"]
 
 #: 'auto' uses the exact path up to this many states, the stiff path above.
 EXACT_LIMIT = 2000
+#: Samples x (modes + inputs) per chunk of the exact path: bounds memory, keeps arrays in cache.
+CHUNK_ELEMENTS = 200_000
 #: Largest number of output samples of one run.
 MAX_SAMPLES = 50_000_000
 
@@ -218,7 +220,7 @@ def _run_exact(asm, t_out, T0, mode, overrides, recorder, out_nodes, boundary_li
     T_first = z0[None, :] @ A_out.T + w0 @ D_out.T
     recorder.add(Chunk(t_out[:1], T_first, w0[:, :M], w0[:, M:], np.zeros((1, nb)),
                        np.zeros((1, S)), np.zeros(1)))
-    chunk = max(256, int(4_000_000 // max(1, n_modes + n_in)))
+    chunk = max(256, CHUNK_ELEMENTS // max(1, n_modes + n_in))
     chunk -= chunk % 32
     z = z0.copy()
     e_links = np.zeros(nb)

@@ -32,7 +32,7 @@ __all__ = ["phi_functions", "linear_recurrence", "ExactPropagator"]
 
 _SERIES_TERMS = 24
 _SERIES_BELOW = 1.0
-_BLOCK = 32
+_BLOCK = 16
 
 
 def phi_functions(x):
@@ -153,58 +153,119 @@ class ExactPropagator:
 
         G (N, n): state increment from zero start; H (N, n): integral of the state from zero
         start; U (N, I): integral of each input.
+
+        Intervals of the common length h0 that no knot splits are the bulk: their per-mode
+        factors fold into small matrices, so G and H are each one matrix product of
+        ``[w_right | w_left - w_right | sin | cos]`` with those factors. Split intervals and a
+        shorter last interval take the general formula row by row.
         """
         lam, W = self.lam, self.W
-        t0, t1 = float(t_out[0]), float(t_out[-1])
+        n, I = lam.size, self.n_inputs
         N = t_out.size - 1
-        n = lam.size
+        hk = np.diff(t_out)
+        h0 = float(hk[0])
+        t0, t1 = float(t_out[0]), float(t_out[-1])
         knots = [p.knots(t0, t1) for p in self.profiles]
         allk = np.concatenate(knots) if knots else np.empty(0)
         tau = np.union1d(t_out, allk) if allk.size else t_out
         J = tau.size - 1
-        k_of = np.searchsorted(t_out, tau[:-1], side="right") - 1
         h = np.diff(tau)
         if self.profiles:
             right = np.column_stack([p._pl(tau[:-1], "right") for p in self.profiles])
             left = np.column_stack([p._pl(tau[1:], "left") for p in self.profiles])
         else:
             right = left = np.zeros((J, 0))
+        if J == N:
+            k_of = np.arange(N)
+            r = np.zeros(N)
+        else:
+            k_of = np.searchsorted(t_out, tau[:-1], side="right") - 1
+            r = t_out[k_of + 1] - tau[1:]
+        special = (h != h0) | (r > 0)
+        _, e1, e2, e3 = phi_functions(h0 * lam)
+        Wt = W.T                                                   # (I, n)
+        mg = [Wt * (h0 * e1), Wt * (h0 * e2)]
+        mh = [Wt * (h0 * h0 * e2), Wt * (h0 * h0 * e3)]
+        cols = [right, left - right]
+        std_out = hk == h0
+        sine_cols, sg, sh = self._sine_factors(t_out, h0)
+        if not special.any() and std_out.all():
+            X = np.hstack(cols + sine_cols)
+            G = X @ np.vstack(mg + sg)
+            H = X @ np.vstack(mh + sh)
+        else:
+            G = np.zeros((N, n))
+            H = np.zeros((N, n))
+            reg = ~special
+            X = np.hstack([c[reg] for c in cols])
+            G[k_of[reg]] = X @ np.vstack(mg)
+            H[k_of[reg]] = X @ np.vstack(mh)
+            if special.any():
+                self._special_rows(h[special], r[special], k_of[special], right[special],
+                                   left[special], G, H)
+            if sine_cols:
+                Xs = np.hstack(sine_cols)
+                G[std_out] += Xs[std_out] @ np.vstack(sg)
+                H[std_out] += Xs[std_out] @ np.vstack(sh)
+                if not std_out.all():
+                    odd = np.flatnonzero(~std_out)
+                    for k in odd:  # only the last, shorter interval of a run
+                        cols_k, gk, hk_ = self._sine_factors(t_out[k:k + 2], float(hk[k]))
+                        xk = np.hstack(cols_k)
+                        G[k] += (xk @ np.vstack(gk))[0]
+                        H[k] += (xk @ np.vstack(hk_))[0]
+        # integrals of the inputs: trapezoid is exact on the piecewise-linear part
+        trap = (0.5 * h)[:, None] * (right + left)
+        if J == N:
+            U = trap
+        else:
+            U = np.zeros((N, I))
+            np.add.at(U, k_of, trap)
+        for i, (amp, om, ph) in self._sines:
+            U[:, i] += amp / om * (np.cos(om * t_out[:-1] + ph) - np.cos(om * t_out[1:] + ph))
+        return G, H, U
+
+    def _sine_factors(self, t_out, h0):
+        """Columns sin(w t_k + phi), cos(w t_k + phi) per sine and their per-mode factors.
+
+        Over [t_k, t_k + h] the response to sin(w t + phi) is Im(exp(i(w t_k + phi)) c) with
+        c = (exp(i w h) - exp(-lam h)) / (lam + i w), and its integral Im(exp(i(w t_k + phi)) c2)
+        with c2 = ((exp(i w h) - 1)/(i w) - h E1(lam h)) / (lam + i w).
+        """
+        if not self._sines:
+            return [], [], []
+        lam, W = self.lam, self.W
+        tk = t_out[:-1]
+        decay = np.exp(-h0 * lam)
+        _, e1, _, _ = phi_functions(h0 * lam)
+        cols, sg, sh = [], [], []
+        for i, (amp, om, ph) in self._sines:
+            den = lam + 1j * om
+            eh = np.exp(1j * om * h0)
+            c = amp * W[:, i] * (eh - decay) / den
+            c2 = amp * W[:, i] * ((eh - 1.0) / (1j * om) - h0 * e1) / den
+            cols.append(np.column_stack([np.sin(om * tk + ph), np.cos(om * tk + ph)]))
+            sg.append(np.vstack([c.real, c.imag]))
+            sh.append(np.vstack([c2.real, c2.imag]))
+        return cols, sg, sh
+
+    def _special_rows(self, h, r, k_of, right, left, G, H) -> None:
+        """General formula for sub-intervals that are split or of another length."""
+        lam, W = self.lam, self.W
+        x = h[:, None] * lam[None, :]
+        _, e1, e2, e3 = phi_functions(x)
         FR = right @ W.T
         dF = (left - right) @ W.T
-        # phi functions depend on h only through lambda*h: evaluate once per distinct h
-        hu, inv = np.unique(h, return_inverse=True)
-        _, e1, e2, e3 = phi_functions(hu[:, None] * lam[None, :])
-        g = h[:, None] * (e1[inv] * FR + e2[inv] * dF)
-        Hs = (h * h)[:, None] * (e2[inv] * FR + e3[inv] * dF)
-        U = (0.5 * h)[:, None] * (right + left)
-        if J != N:
-            r = t_out[k_of + 1] - tau[1:]
-            inner = r > 0
-            if inner.any():
-                e0r, e1r, _, _ = phi_functions(r[inner, None] * lam[None, :])
-                gi = g[inner]
-                Hs[inner] += r[inner, None] * e1r * gi
-                g[inner] = e0r * gi
-            starts = np.flatnonzero(np.r_[True, k_of[1:] != k_of[:-1]])
-            g = np.add.reduceat(g, starts, axis=0)
-            Hs = np.add.reduceat(Hs, starts, axis=0)
-            U = np.add.reduceat(U, starts, axis=0)
-        if self._sines:
-            hk = np.diff(t_out)
-            tk = t_out[:-1]
-            _, e1k, _, _ = phi_functions(hk[:, None] * lam[None, :])
-            decay = np.exp(-hk[:, None] * lam[None, :])
-            for i, (amp, om, ph) in self._sines:
-                rot = np.exp(1j * (om * tk + ph))[:, None]          # (N, 1)
-                den = lam[None, :] + 1j * om                        # (1, n)
-                eh = np.exp(1j * om * hk)[:, None]
-                gs = (rot * (eh - decay) / den).imag
-                hs = (rot / den * ((eh - 1.0) / (1j * om) - hk[:, None] * e1k)).imag
-                g += amp * gs * W[:, i][None, :]
-                Hs += amp * hs * W[:, i][None, :]
-                U[:, i] += amp / om * (np.cos(om * tk + ph) - np.cos(om * t_out[1:] + ph))
-        del n
-        return g, Hs, U
+        g = h[:, None] * (e1 * FR + e2 * dF)
+        hs = (h * h)[:, None] * (e2 * FR + e3 * dF)
+        inner = r > 0
+        if inner.any():
+            e0r, e1r, _, _ = phi_functions(r[inner, None] * lam[None, :])
+            gi = g[inner]
+            hs[inner] += r[inner, None] * e1r * gi
+            g[inner] = e0r * gi
+        np.add.at(G, k_of, g)
+        np.add.at(H, k_of, hs)
 
     def step_factors(self, h: float) -> tuple[np.ndarray, np.ndarray]:
         """(exp(-lambda h), h E1(lambda h)) for an interval of length h."""
@@ -225,10 +286,11 @@ class ExactPropagator:
         uniform = N if N == 1 or abs(h[-1] - h[0]) <= 1e-12 * h[0] else N - 1
         a, h_e1 = self.step_factors(float(h[0]))
         Z = np.empty_like(G)
-        Zint = np.empty_like(H)
         Z[:uniform] = linear_recurrence(a, G[:uniform], z0)
-        starts = np.vstack([z0[None, :], Z[:uniform - 1]])
-        Zint[:uniform] = starts * h_e1[None, :] + H[:uniform]
+        Zint = H  # H is ours: add the decay of the start state of each interval in place
+        Zint[0] += z0 * h_e1
+        if uniform > 1:
+            Zint[1:uniform] += Z[:uniform - 1] * h_e1[None, :]
         if uniform < N:
             a2, h_e1b = self.step_factors(float(h[-1]))
             zlast = Z[uniform - 1] if uniform else z0

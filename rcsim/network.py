@@ -573,7 +573,7 @@ class Network:
 
     def simulate(self, duration, step, *, initial=None, solver: str = "auto", record=None,
                  output=None, rtol: float = 1e-6, atol: float = 1e-6, progress=None,
-                 start_time=None, scenario_text=None):
+                 start_time=None, scenario_text=None, times=None):
         """Integrate the network over time and return a :class:`rcsim.Result`.
 
         Parameters
@@ -594,12 +594,15 @@ class Network:
             Tolerances of the stiff path.
         progress : callable, optional
             Called with the fraction done (0..1).
+        times : array, optional
+            Output at these times [s] (any spacing) instead of every ``step``; t = 0 and the
+            end are always included.
         """
         from .transient import simulate  # thin hand-off to the solver layer
 
         return simulate(self, duration, step, initial=initial, solver=solver, record=record,
                         output=output, rtol=rtol, atol=atol, progress=progress,
-                        start_time=start_time, scenario_text=scenario_text)
+                        start_time=start_time, scenario_text=scenario_text, times=times)
 
     def summary(self) -> str:
         """A plain-text summary of the network (used by ``rcsim check``)."""

@@ -333,6 +333,14 @@ class Result:
         return json.loads(raw) if isinstance(raw, str) else dict(raw)
 
     @property
+    def time_constants(self) -> np.ndarray:
+        """Time constants [s] of the network's linear part, longest first (empty if unknown)."""
+        raw = self.meta.get("time_constants", [])
+        if isinstance(raw, str):
+            raw = json.loads(raw) if raw else []
+        return np.asarray(raw, dtype=float)
+
+    @property
     def scenario(self) -> str:
         return str(self.meta.get("scenario", ""))
 
@@ -492,7 +500,7 @@ def _h5_attrs(meta: dict) -> dict:
 
     out = {}
     for k, v in meta.items():
-        if isinstance(v, dict):
+        if isinstance(v, (dict, list)):
             v = json.dumps(v)
         if v is None:
             v = ""

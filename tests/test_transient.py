@@ -297,3 +297,46 @@ def test_record_subset_and_duration_not_a_multiple_of_step():
     assert list(res.heat_flows.columns) == ["n3-n4"]
     full = net.simulate(1000.0, 300.0)
     np.testing.assert_allclose(res.temperatures["n3"], full.temperatures["n3"], atol=1e-12)
+
+
+@pytest.mark.parametrize("solver", PATHS)
+def test_output_at_irregular_times(solver):
+    # irregular sampling (as in a logger file) against the closed forms used above
+    rng = np.random.default_rng(7)
+    times = np.sort(rng.uniform(0, 86400, 300))
+    C, R, P = 20000.0, 3.0, 86400.0
+    w = 2 * math.pi / P
+    net = rcsim.Network()
+    net.add_node("x", capacity=C, initial=20.0)
+    net.add_boundary("amb", temperature=rcsim.Sine(mean=20, amplitude=6, period=P, peak=0.0))
+    net.add_link("x", "amb", resistance=R)
+    net.add_source("x", power=rcsim.Repeat(rcsim.Steps([0, 30000.5], [0.0, 0.0]), P))  # a knot
+    res = net.simulate(P, 600, times=times, initial="periodic", solver=solver)
+    assert res.time.size == times.size + 2
+    t = res.time
+    tau = R * C
+    expected = 20 + 6 / math.sqrt(1 + (w * tau) ** 2) * np.cos(w * t - math.atan(w * tau))
+    np.testing.assert_allclose(res.temperatures["x"], expected, atol=10 * TOL[solver])
+    assert res.energy_balance < (1e-9 if solver == "exact" else 1e-6)
+
+
+def test_irregular_grid_with_steps_matches_regular_grid():
+    net = _random_network()
+    regular = net.simulate("6 h", "1 min")
+    rng = np.random.default_rng(11)
+    times = np.unique(np.concatenate([rng.uniform(0, 21600, 500), regular.time[::7]]))
+    irregular = net.simulate("6 h", "1 min", times=times)
+    common = np.intersect1d(regular.time, irregular.time)
+    a = regular.temperatures.loc[common].to_numpy()
+    b = irregular.temperatures.loc[common].to_numpy()
+    assert np.abs(a - b).max() < 1e-9
+    assert irregular.energy_balance < 1e-9
+
+
+def test_time_constants_travel_with_the_result(tmp_path):
+    net = single_node(8400.0, 2.5)
+    res = net.simulate("1 h", "1 min")
+    # tau = RC (lumped node)
+    assert res.time_constants[0] == pytest.approx(21000.0)
+    res.save(tmp_path / "r.h5")
+    assert rcsim.Result.load(tmp_path / "r.h5").time_constants[0] == pytest.approx(21000.0)

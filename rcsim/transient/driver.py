@@ -40,8 +40,25 @@ def _output_times(duration: float, step: float) -> np.ndarray:
     return t
 
 
+def _given_times(times, duration: float) -> np.ndarray:
+    """Output times 0, the given times and the end, checked."""
+    try:
+        t = np.asarray(times, dtype=float).ravel()
+    except (TypeError, ValueError):
+        raise InputError("times must be a list of numbers [s]", "times") from None
+    if t.size == 0 or not np.all(np.isfinite(t)):
+        raise InputError("times must be finite numbers [s]", "times")
+    if np.any(np.diff(t) <= 0):
+        i = int(np.argmax(np.diff(t) <= 0)) + 1
+        raise InputError(f"times must increase (times[{i}] = {t[i]:g} s)", "times")
+    if t[0] < 0 or t[-1] > duration * (1 + 1e-12):
+        raise InputError(f"times must lie within 0 and the duration ({duration:g} s)", "times")
+    return np.unique(np.concatenate([[0.0], t, [duration]]))
+
+
 def simulate(network, duration, step, *, initial=None, solver="auto", record=None, output=None,
-             rtol=1e-6, atol=1e-6, progress=None, start_time=None, scenario_text=None) -> Result:
+             rtol=1e-6, atol=1e-6, progress=None, start_time=None, scenario_text=None,
+             times=None) -> Result:
     """Integrate ``network`` over [0, duration]; see :meth:`rcsim.Network.simulate`."""
     wall0 = _time.perf_counter()
     asm = network.assemble()
@@ -61,7 +78,10 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
     for tol, nm in ((rtol, "rtol"), (atol, "atol")):
         if not (0 < tol < 1):
             raise InputError(f"{nm} must be between 0 and 1, got {tol!r}", nm)
-    t_out = _output_times(duration, step)
+    if times is None:
+        t_out = _output_times(duration, step)
+    else:
+        t_out = _given_times(times, duration)
     for p in list(asm.boundary_profiles) + list(asm.source_profiles):
         p.check_span(0.0, duration)
 
@@ -149,6 +169,7 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
                                       boundary_links, rtol, atol, progress, thermostats)
             solver_name = "stiff (BDF, sparse Jacobian)"
         balance, terms = recorder.energy_balance()
+        tau = _time_constants_or_none(asm)
         wall = _time.perf_counter() - wall0
         stats["wall_time [s]"] = wall
         stats["states"] = int(ss.n)
@@ -163,6 +184,7 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
             "step": float(step),
             "title": network.title or "",
             "initial": mode,
+            "time_constants": [] if tau is None else [float(x) for x in tau],
             "created": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
         }
         limits = recorder.limits_table()
@@ -181,6 +203,15 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
     except BaseException:
         sink.abort()
         raise
+
+
+def _time_constants_or_none(asm):
+    """Time constants of the linear part of the network (None when too large to compute)."""
+    from ..modes import modal_decomposition
+
+    if state_space(asm).n > DENSE_LIMIT:
+        return None
+    return modal_decomposition(asm).time_constants
 
 
 def _run_exact(asm, t_out, T0, mode, overrides, recorder, out_nodes, boundary_links, progress,

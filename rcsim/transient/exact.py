@@ -100,6 +100,46 @@ def linear_recurrence(a: np.ndarray, G: np.ndarray, z0: np.ndarray) -> np.ndarra
     return Z.reshape(nb * L, n)[:N]
 
 
+def linear_recurrence_times(lam: np.ndarray, t: np.ndarray, G: np.ndarray,
+                            z0: np.ndarray) -> np.ndarray:
+    """Solve ``z[k+1] = exp(-lam (t[k+1] - t[k])) z[k] + G[k]`` on any increasing grid ``t``.
+
+    The product of the decays from step j+1 to k is exp(-lam (t[k+1] - t[j+1])), so each block
+    is a lower-triangular matrix of such exponentials (never overflowing: the exponents are <= 0).
+
+    >>> t = np.array([0.0, 1.0, 3.0])
+    >>> z = linear_recurrence_times(np.array([np.log(2.0)]), t, np.ones((2, 1)), np.array([0.0]))
+    >>> z.ravel().tolist()
+    [1.0, 1.25]
+    """
+    N, n = G.shape
+    if N == 0:
+        return np.empty((0, n))
+    L = _BLOCK if N > _BLOCK else N
+    nb = -(-N // L)
+    tn = t[1:]
+    if nb * L != N:
+        G = np.vstack([G, np.zeros((nb * L - N, n))])
+        tn = np.concatenate([tn, np.full(nb * L - N, tn[-1])])
+    T = tn.reshape(nb, L)                                        # end time of each step
+    dt = T[:, :, None] - T[:, None, :]                           # (nb, L, L): T_m - T_j
+    lower = np.tril(np.ones((L, L), dtype=bool))
+    with np.errstate(over="ignore"):
+        M = np.exp(-lam[:, None, None, None] * np.where(lower, dt, 0.0)[None]) * lower
+    Gb = G.reshape(nb, L, n).transpose(2, 0, 1)[..., None]       # (n, nb, L, 1)
+    Y = np.matmul(M, Gb)[..., 0]                                 # (n, nb, L) from zero start
+    block_start = np.concatenate([[t[0]], T[:-1, -1]])           # state time before each block
+    if nb == 1:
+        starts = z0[None, :]
+    else:
+        ends = linear_recurrence_times(lam, np.concatenate([[t[0]], T[:, -1]]),
+                                       Y[:, :, -1].T, z0)
+        starts = np.vstack([z0[None, :], ends[:-1]])             # (nb, n)
+    decay = np.exp(-lam[None, None, :] * (T - block_start[:, None])[:, :, None])  # (nb, L, n)
+    Z = Y.transpose(1, 2, 0) + decay * starts[:, None, :]
+    return Z.reshape(nb * L, n)[:N]
+
+
 class ExactPropagator:
     """Advance the modal state of a linear network over output intervals, exactly.
 
@@ -181,13 +221,13 @@ class ExactPropagator:
         else:
             k_of = np.searchsorted(t_out, tau[:-1], side="right") - 1
             r = t_out[k_of + 1] - tau[1:]
-        special = (h != h0) | (r > 0)
+        special = (np.abs(h - h0) > 1e-12 * h0) | (r > 0)
         _, e1, e2, e3 = phi_functions(h0 * lam)
         Wt = W.T                                                   # (I, n)
         mg = [Wt * (h0 * e1), Wt * (h0 * e2)]
         mh = [Wt * (h0 * h0 * e2), Wt * (h0 * h0 * e3)]
         cols = [right, left - right]
-        std_out = hk == h0
+        std_out = np.abs(hk - h0) <= 1e-12 * h0
         sine_cols, sg, sh = self._sine_factors(t_out, h0)
         if not special.any() and std_out.all():
             X = np.hstack(cols + sine_cols)
@@ -208,12 +248,7 @@ class ExactPropagator:
                 G[std_out] += Xs[std_out] @ np.vstack(sg)
                 H[std_out] += Xs[std_out] @ np.vstack(sh)
                 if not std_out.all():
-                    odd = np.flatnonzero(~std_out)
-                    for k in odd:  # only the last, shorter interval of a run
-                        cols_k, gk, hk_ = self._sine_factors(t_out[k:k + 2], float(hk[k]))
-                        xk = np.hstack(cols_k)
-                        G[k] += (xk @ np.vstack(gk))[0]
-                        H[k] += (xk @ np.vstack(hk_))[0]
+                    self._sine_rows(t_out, np.flatnonzero(~std_out), G, H)
         # integrals of the inputs: trapezoid is exact on the piecewise-linear part
         trap = (0.5 * h)[:, None] * (right + left)
         if J == N:
@@ -249,6 +284,23 @@ class ExactPropagator:
             sh.append(np.vstack([c2.real, c2.imag]))
         return cols, sg, sh
 
+    def _sine_rows(self, t_out, rows, G, H) -> None:
+        """Sine contributions of output intervals of other lengths, one factor row each."""
+        lam, W = self.lam, self.W
+        tk = t_out[rows]
+        hr = t_out[rows + 1] - tk
+        decay = np.exp(-hr[:, None] * lam[None, :])
+        _, e1, _, _ = phi_functions(hr[:, None] * lam[None, :])
+        for i, (amp, om, ph) in self._sines:
+            den = lam[None, :] + 1j * om
+            eh = np.exp(1j * om * hr)[:, None]
+            c = amp * W[:, i][None, :] * (eh - decay) / den
+            c2 = amp * W[:, i][None, :] * ((eh - 1.0) / (1j * om) - hr[:, None] * e1) / den
+            sn = np.sin(om * tk + ph)[:, None]
+            cs = np.cos(om * tk + ph)[:, None]
+            G[rows] += sn * c.real + cs * c.imag
+            H[rows] += sn * c2.real + cs * c2.imag
+
     def _special_rows(self, h, r, k_of, right, left, G, H) -> None:
         """General formula for sub-intervals that are split or of another length."""
         lam, W = self.lam, self.W
@@ -275,27 +327,33 @@ class ExactPropagator:
     def propagate(self, t_out: np.ndarray, z0: np.ndarray):
         """States at t_out[1:] and the state integrals over each interval.
 
-        ``t_out`` must have uniform spacing except possibly the last interval.
-        Returns (Z (N, n), Zint (N, n), U (N, I)).
+        Any increasing grid works; a uniform one (the last interval may be shorter) takes the
+        faster Toeplitz scan. Returns (Z (N, n), Zint (N, n), U (N, I)).
         """
         G, H, U = self.forcing(t_out)
         h = np.diff(t_out)
         N = h.size
         if N == 0:
             return np.empty((0, self.lam.size)), np.empty((0, self.lam.size)), U
-        uniform = N if N == 1 or abs(h[-1] - h[0]) <= 1e-12 * h[0] else N - 1
-        a, h_e1 = self.step_factors(float(h[0]))
-        Z = np.empty_like(G)
-        Z[:uniform] = linear_recurrence(a, G[:uniform], z0)
-        Zint = H  # H is ours: add the decay of the start state of each interval in place
-        Zint[0] += z0 * h_e1
-        if uniform > 1:
-            Zint[1:uniform] += Z[:uniform - 1] * h_e1[None, :]
-        if uniform < N:
-            a2, h_e1b = self.step_factors(float(h[-1]))
-            zlast = Z[uniform - 1] if uniform else z0
-            Z[-1] = a2 * zlast + G[-1]
-            Zint[-1] = zlast * h_e1b + H[-1]
+        body = h[:-1] if N > 1 else h
+        if np.all(np.abs(body - h[0]) <= 1e-12 * h[0]):
+            uniform = N if abs(h[-1] - h[0]) <= 1e-12 * h[0] else N - 1
+            a, _ = self.step_factors(float(h[0]))
+            Z = np.empty_like(G)
+            Z[:uniform] = linear_recurrence(a, G[:uniform], z0)
+            if uniform < N:
+                a2, _ = self.step_factors(float(h[-1]))
+                Z[-1] = a2 * (Z[uniform - 1] if uniform else z0) + G[-1]
+        else:
+            Z = linear_recurrence_times(self.lam, t_out, G, z0)
+        # state integral: H plus the decay of each interval's start state, h E1(lam h) z_start
+        hu, inv = np.unique(h, return_inverse=True)
+        _, e1, _, _ = phi_functions(hu[:, None] * self.lam[None, :])
+        he1 = hu[:, None] * e1
+        Zint = H
+        Zint[0] += z0 * he1[inv[0]]
+        if N > 1:
+            Zint[1:] += Z[:-1] * (he1[0] if hu.size == 1 else he1[inv[1:]])
         return Z, Zint, U
 
     def periodic_state(self, period: float, z_given: np.ndarray | None):

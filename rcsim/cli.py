@@ -332,19 +332,14 @@ def format_run_summary(sc, res) -> str:
         for c in lf.columns:
             col = lf[c].to_numpy()
             lines.append(f"    {c}: start {col[0]:.3f}, end {col[-1]:.3f}, max {col.max():.3f}")
-    tp = res.thermostat_power
-    if tp.shape[1]:
+    if len(res.thermostats):
         lines.append("")
         lines.append("  thermostats")
-        t = res.time
-        for c in tp.columns:
-            p = tp[c].to_numpy()
-            import numpy as np
-
-            energy = float(np.trapezoid(p, t)) if t.size > 1 else 0.0
-            on = p != 0
-            duty = float(np.trapezoid(on.astype(float), t) / (t[-1] - t[0])) if t.size > 1 else 0.0
-            lines.append(f"    {c}: duty cycle {100 * duty:.1f} %, energy {_fmt_energy(energy)}")
+        for _, row in res.thermostats.iterrows():
+            lines.append(f"    {row['thermostat']} ({row['mode']}, {row['control']}, on "
+                         f"{row['node']}): duty {100 * row['duty']:.1f} %, "
+                         f"{int(row['switches'])} switches, energy "
+                         f"{_fmt_energy(row['energy [J]'])}")
     terms = res.meta.get("energy_terms", {})
     if isinstance(terms, str):
         import json

@@ -75,13 +75,22 @@ class Link:
     where: str = ""
 
     @property
+    def is_nonlinear(self) -> bool:
+        return any(p.is_nonlinear for p in self.parts)
+
+    @property
     def resistance(self) -> float:
-        """Total series resistance [K/W] (massive layers counted with their full resistance)."""
+        """Total series resistance [K/W] (massive layers counted with their full resistance).
+
+        NaN when a part is nonlinear (its resistance depends on the temperatures).
+        """
         return float(sum(p.resistance for p in self.parts))
 
     @property
     def u_value(self) -> float | None:
-        """U = 1/(R A) [W/(m^2*K)] when the link has an area, else None."""
+        """U = 1/(R A) [W/(m^2*K)] when the link has an area and is linear, else None."""
+        if self.is_nonlinear:
+            return None
         area = self.area
         if area is None:
             areas = {p.area for p in self.parts if p.area is not None}
@@ -133,7 +142,7 @@ class Assembled:
     P: sp.csr_matrix
     internal_of: dict = field(default_factory=dict)  # internal node name -> link name
     phase_change: dict = field(default_factory=dict)  # node index -> PhaseChange
-    nonlinear_links: list = field(default_factory=list)  # filled by nonlinear link kinds
+    nl: object | None = None  # rcsim.laws.SegmentLaws of the nonlinear segments, if any
 
     @property
     def n_nodes(self) -> int:
@@ -145,7 +154,7 @@ class Assembled:
 
     @property
     def is_linear(self) -> bool:
-        return not self.phase_change and not self.nonlinear_links
+        return not self.phase_change and self.nl is None
 
     def node_index(self, name: str) -> int:
         try:
@@ -209,13 +218,15 @@ class Assembled:
         ``node_t`` has shape (..., N) and ``boundary_t`` (..., M).
         """
         points = np.concatenate([node_t, boundary_t], axis=-1)
-        return self.seg_g * (points[..., self.seg_a] - points[..., self.seg_b])
+        q = self.seg_g * (points[..., self.seg_a] - points[..., self.seg_b])
+        if self.nl is not None:
+            s = self.nl.seg
+            q[..., s] = self.nl.solve(points[..., self.seg_a[s]], points[..., self.seg_b[s]])[0]
+        return q
 
     def link_flows(self, node_t: np.ndarray, boundary_t: np.ndarray) -> np.ndarray:
         """Heat flow at the first end of every link [W]."""
-        points = np.concatenate([node_t, boundary_t], axis=-1)
-        s = self.link_first_seg
-        return self.seg_g[s] * (points[..., self.seg_a[s]] - points[..., self.seg_b[s]])
+        return self.segment_flows(node_t, boundary_t)[..., self.link_first_seg]
 
 
 class Network:
@@ -239,6 +250,7 @@ class Network:
         self.links: dict[str, Link] = {}
         self.sources: dict[str, Source] = {}
         self.limits: dict[str, Limit] = {}
+        self.thermostats: dict = {}
         self._assembled: Assembled | None = None
         self.source_text: str | None = None  # scenario text, when built from a file
 
@@ -288,12 +300,19 @@ class Network:
             raise NetworkError(f"give only one of capacity, mass or volume (got {', '.join(given)})",
                                where)
         pc = None
-        if phase_change is not None:
+        if phase_change is None and mat is not None and mat.is_phase_change:
+            phase_change = {}  # a phase-change material melts unless told otherwise
+        if phase_change is not None and phase_change is not False:
             from .phase import make_phase_change  # phase.py is a pure-physics module below us
+
             pc = make_phase_change(phase_change, w("phase_change"), material=mat)
             if m is None:
                 raise NetworkError("a phase-change node needs its mass", where,
                                    "add mass = '...'")
+            if capacity is not None or volume is not None:
+                raise NetworkError("a phase-change node takes its mass, not capacity or volume",
+                                   where)
+            pc.mass = m
         cp = None
         if specific_heat is not None:
             cp = _nonneg(specific_heat, "specific_heat", w("specific_heat"), positive=True)
@@ -426,6 +445,32 @@ class Network:
         self.limits[node] = Limit(node, lo, hi, where)
         return node
 
+    def add_thermostat(self, name: str, node: str, setpoint, band, power, *, sensor=None,
+                       mode: str = "heat", control: str = "on-off", initially=None,
+                       where: str | None = None) -> str:
+        """A heater (``mode='heat'``) or cooler (``'cool'``) of ``power`` [W] on ``node``.
+
+        It senses ``sensor`` (default ``node``). ``control='on-off'`` switches with a dead band
+        ``band`` [K] centred on ``setpoint``; ``'proportional'`` varies the power linearly across
+        the band. See :class:`rcsim.nonlinear.Thermostat`.
+        """
+        from .nonlinear import make_thermostat  # solver layer; thin hand-off
+
+        where = where or f"thermostats.{name}"
+        _check_name(name, "thermostat")
+        if name in self.thermostats or name in self.sources:
+            raise NetworkError(f"duplicate name {name!r} (sources and thermostats share names)",
+                               where)
+        spec = {"node": node, "setpoint": setpoint, "band": band, "power": power, "mode": mode,
+                "control": control}
+        if sensor is not None:
+            spec["sensor"] = sensor
+        if initially is not None:
+            spec["initially"] = initially
+        self.thermostats[name] = make_thermostat(name, spec, where, self.nodes)
+        self._changed()
+        return name
+
     def _is_internal_name(self, name: str) -> bool:
         link, _, idx = name.rpartition(".")
         return link in self.links and idx.isdigit()
@@ -449,6 +494,9 @@ class Network:
             chain = []
             k = 0
             for part in link.parts:
+                if part.is_nonlinear:
+                    chain.append(("X", part))
+                    continue
                 if not part.is_massive:
                     chain.append(("R", part.resistance))
                     continue
@@ -476,21 +524,38 @@ class Network:
             point_index[nm] = n_nodes + j
 
         seg_a, seg_b, seg_r, first, last = [], [], [], [], []
+        nl_segments = []  # (segment index, law, R before, R after)
         for link, chain in zip(self.links.values(), chains):
             start = point_index[link.a]
             acc = 0.0
+            law = None
             first_seg = len(seg_a)
+
+            def close(end, start_=None):
+                nonlocal acc, law
+                seg_a.append(start_)
+                seg_b.append(end)
+                if law is None:
+                    seg_r.append(acc)
+                else:
+                    seg_r.append(np.inf)  # excluded from the linear conductance matrix
+                    nl_segments.append((len(seg_a) - 1, law[0], law[1], acc))
+                acc, law = 0.0, None
+
             for kind, val in chain:
                 if kind == "R":
                     acc += val
+                elif kind == "X":
+                    if law is not None:
+                        raise NetworkError("two nonlinear parts in series with no node between "
+                                           "them", link.where, "split the link at a node (a "
+                                           "surface node with a small capacity)")
+                    law = (val.law, acc)
+                    acc = 0.0
                 else:
-                    seg_a.append(start)
-                    seg_b.append(val)
-                    seg_r.append(acc)
-                    start, acc = val, 0.0
-            seg_a.append(start)
-            seg_b.append(point_index[link.b])
-            seg_r.append(acc)
+                    close(val, start)
+                    start = val
+            close(point_index[link.b], start)
             first.append(first_seg)
             last.append(len(seg_a) - 1)
         seg_a = np.asarray(seg_a, dtype=np.int64)
@@ -521,6 +586,10 @@ class Network:
             internal_of=internal_of,
             phase_change=phase,
         )
+        if nl_segments:
+            from .laws import SegmentLaws
+
+            asm.nl = SegmentLaws(nl_segments)
         self._assembled = asm
         return asm
 
@@ -531,8 +600,8 @@ class Network:
         i = link.parts.index(part)
         area = part.area
 
-        def side_resistance(parts):
-            return sum(p.resistance for p in parts) * area
+        def side_resistance(parts):  # nonlinear parts count as unknown (left out)
+            return float(np.nansum([p.resistance for p in parts])) * area
 
         r_before = side_resistance(link.parts[:i])
         r_after = side_resistance(link.parts[i + 1:])

@@ -58,15 +58,23 @@ class Part:
     slices: int = 0
     params: dict = field(default_factory=dict)
     where: str = ""
+    law: object | None = None  # a rcsim.laws law when the part is nonlinear
 
     @property
     def is_massive(self) -> bool:
         return self.slices > 0
 
+    @property
+    def is_nonlinear(self) -> bool:
+        return self.law is not None
+
     def describe(self) -> str:
         keys = ", ".join(f"{k}={v:.4g}" for k, v in self.params.items() if isinstance(v, float))
+        names = ", ".join(f"{k}={v}" for k, v in self.params.items() if isinstance(v, str))
+        keys = ", ".join(x for x in (names, keys) if x)
         extra = f", {self.slices} slice(s), C={self.capacity:.4g} J/K" if self.slices else ""
-        return f"{self.kind}({keys}) R={self.resistance:.4g} K/W{extra}"
+        r = "nonlinear" if self.is_nonlinear else f"R={self.resistance:.4g} K/W"
+        return f"{self.kind}({keys}) {r}{extra}"
 
 
 def check_keys(spec: dict, allowed, required, where: str) -> None:
@@ -173,34 +181,101 @@ def _k_or_material(spec, where) -> float:
 
 
 def _convection(spec: dict, where: str) -> Part:
-    check_keys(spec, {"h", "area"}, ["h", "area"], where)
+    if isinstance(spec, dict) and "correlation" in spec:
+        return _convection_correlation(spec, where)
+    check_keys(spec, {"h", "area", "correlation"}, ["h", "area"], where)
     h = _positive(spec["h"], "heat_transfer_coefficient", _w(where, "h"))
     area = _positive(spec["area"], "area", _w(where, "area"))
     return Part("convection", elements.resistance_convection(h, area), area, 0.0, 0,
                 {"h": h, "area": area}, where)
 
 
-def _radiation_linear(spec: dict, where: str) -> Part:
-    check_keys(spec, {"emissivity", "area", "temperatures"}, ["emissivity", "area", "temperatures"],
-               where)
-    eps = to_si(spec["emissivity"], "dimensionless", _w(where, "emissivity"))
-    if not (0.0 < eps <= 1.0):
-        raise InputError(f"emissivity must be in (0, 1], got {spec['emissivity']!r}",
-                         _w(where, "emissivity"))
+def _convection_correlation(spec: dict, where: str) -> Part:
+    from .correlations import get_correlation
+    from .laws import FilmLaw
+
+    name = spec["correlation"]
+    corr = get_correlation(name, _w(where, "correlation"))
+    allowed = {"correlation", "area", corr.length_key, "surface", *corr.extra_keys}
+    check_keys(spec, allowed, ["correlation", "area", corr.length_key], where)
+    if "h" in spec:  # pragma: no cover - check_keys refuses it first
+        raise InputError("give h or correlation, not both", where)
     area = _positive(spec["area"], "area", _w(where, "area"))
+    dims = {corr.length_key: _positive(spec[corr.length_key], "length",
+                                       _w(where, corr.length_key))}
+    if "velocity" in corr.extra_keys:
+        if "velocity" not in spec:
+            raise InputError("missing key 'velocity'", where)
+        dims["velocity"] = _positive(spec["velocity"], "velocity", _w(where, "velocity"))
+        regime = spec.get("regime", "auto")
+        if regime not in ("auto", "laminar", "turbulent", "mixed"):
+            raise InputError(f"regime must be auto, laminar, turbulent or mixed, got {regime!r}",
+                             _w(where, "regime"))
+        dims["regime"] = regime
+    surface = spec.get("surface", "first")
+    if surface not in ("first", "second"):
+        raise InputError(f"surface must be 'first' or 'second', got {surface!r}",
+                         _w(where, "surface"), "the side of the link's first or second point")
+    law = FilmLaw(corr, area, dims, surface_first=(surface == "first"))
+    params = {"correlation": name, "area": area, **{k: v for k, v in dims.items()}}
+    return Part("convection", float("nan"), area, 0.0, 0, params, where, law=law)
+
+
+def _radiation(spec: dict, where: str) -> Part:
+    """Grey-body radiation: small body in large surroundings, or two surfaces with a view factor.
+
+    Without ``temperatures`` the exchange is sigma (T1^4 - T2^4) / R_s (nonlinear); with
+    ``temperatures = [T1, T2]`` it is linearised there: h_r A = sigma (T1^2 + T2^2)(T1 + T2) / R_s.
+    """
+    check_keys(spec, {"emissivity", "area", "emissivity_2", "area_2", "view_factor",
+                      "temperatures"}, ["emissivity", "area"], where)
+    eps1 = _emissivity(spec["emissivity"], _w(where, "emissivity"))
+    a1 = _positive(spec["area"], "area", _w(where, "area"))
+    two = ("emissivity_2" in spec) or ("area_2" in spec)
+    if two and not ("emissivity_2" in spec and "area_2" in spec):
+        raise InputError("a two-surface exchange needs both emissivity_2 and area_2", where)
+    f12 = 1.0
+    if "view_factor" in spec:
+        f12 = to_si(spec["view_factor"], "dimensionless", _w(where, "view_factor"))
+        if not (0.0 < f12 <= 1.0):
+            raise InputError(f"view_factor must be in (0, 1], got {spec['view_factor']!r}",
+                             _w(where, "view_factor"))
+    if two:
+        eps2 = _emissivity(spec["emissivity_2"], _w(where, "emissivity_2"))
+        a2 = _positive(spec["area_2"], "area", _w(where, "area_2"))
+        if a1 * f12 > a2 * (1 + 1e-9):
+            raise InputError(f"view factor {f12:g} from {a1:g} m^2 onto {a2:g} m^2 breaks "
+                             "reciprocity (A1 F12 = A2 F21 needs F21 <= 1)", where)
+        r_s = (1 - eps1) / (eps1 * a1) + 1 / (a1 * f12) + (1 - eps2) / (eps2 * a2)
+    else:
+        r_s = (1 - eps1) / (eps1 * a1) + 1 / (a1 * f12)
+    params = {"emissivity": eps1, "area": a1, "surface_factor": 1.0 / r_s}
+    if "temperatures" not in spec:
+        from .laws import RadiationLaw
+
+        return Part("radiation", float("nan"), a1, 0.0, 0, params, where,
+                    law=RadiationLaw(1.0 / r_s))
     temps = spec["temperatures"]
     if not isinstance(temps, (list, tuple)) or len(temps) != 2:
-        raise InputError("temperatures must be a list of two temperatures (surface, surroundings) "
-                         "at which the radiation is linearised", _w(where, "temperatures"))
+        raise InputError("temperatures must be a list of two temperatures (first and second "
+                         "surface) at which the radiation is linearised", _w(where, "temperatures"))
     t1 = to_si(temps[0], "temperature", _w(where, "temperatures[0]"))
     t2 = to_si(temps[1], "temperature", _w(where, "temperatures[1]"))
     for t, i in ((t1, 0), (t2, 1)):
         if t <= -273.15:
             raise InputError("temperature at or below absolute zero",
                              _w(where, f"temperatures[{i}]"))
-    h_r = elements.radiation_coefficient_linearised(eps, t1, t2)
-    return Part("radiation", 1.0 / (h_r * area), area, 0.0, 0,
-                {"emissivity": eps, "area": area, "h_r": h_r}, where)
+    # h_r A with the grey-body factor: sigma (T1^2+T2^2)(T1+T2) / R_s (eq. 1.9 generalised)
+    h_r_area = elements.radiation_coefficient_linearised(1.0, t1, t2) / r_s
+    params["h_r_area"] = h_r_area
+    return Part("radiation", 1.0 / h_r_area, a1, 0.0, 0, params, where)
+
+
+def _emissivity(value, where) -> float:
+    eps = to_si(value, "dimensionless", where)
+    if not (0.0 < eps <= 1.0):
+        raise InputError(f"emissivity must be in (0, 1], got {value!r}", where)
+    return eps
 
 
 def _contact(spec: dict, where: str) -> Part:
@@ -234,7 +309,7 @@ PART_KINDS: dict[str, Callable[[Any, str], Part]] = {
     "cylinder": _cylinder,
     "sphere": _sphere,
     "convection": _convection,
-    "radiation": _radiation_linear,
+    "radiation": _radiation,
     "contact": _contact,
     "resistance": _resistance,
     "conductance": _conductance,
@@ -258,6 +333,8 @@ def make_part(spec, where: str = "") -> Part:
     if kind not in PART_KINDS:
         raise InputError(f"unknown part kind {kind!r}", where, suggest(kind, PART_KINDS))
     part = PART_KINDS[kind](body, _w(where, kind))
+    if part.is_nonlinear:
+        return part
     if not (math.isfinite(part.resistance) and part.resistance > 0):
         raise InputError(f"resistance of this part is not a positive finite number "
                          f"({part.resistance!r} K/W)", where)

@@ -187,7 +187,7 @@ class Recorder:
     """
 
     def __init__(self, asm, out_nodes, record, links, boundary_links, tracker, limit_nodes, sink,
-                 extra_names=None):
+                 extra_names=None, extra_sources=()):
         self.asm = asm
         self.out_nodes = np.asarray(out_nodes, dtype=np.int64)
         pos = {int(i): p for p, i in enumerate(self.out_nodes)}
@@ -205,6 +205,18 @@ class Recorder:
                                  dtype=np.int64)
         self._b_col = np.asarray([pos[int(p)] if p < n else m + int(p - n) for p in self._flow_b],
                                  dtype=np.int64)
+        # links whose first segment is nonlinear: their flows come from the segment laws
+        self._nl_links = np.empty(0, dtype=np.int64)
+        if asm.nl is not None and self.links.size:
+            nl_pos = {int(sg): k for k, sg in enumerate(asm.nl.seg)}
+            which = [(j, nl_pos[int(sg)]) for j, sg in enumerate(seg) if int(sg) in nl_pos]
+            if which:
+                self._nl_links = np.asarray([j for j, _ in which], dtype=np.int64)
+                self._nl_cols = np.asarray([k for _, k in which], dtype=np.int64)
+                self._nl_a = np.asarray([pos[int(p)] if p < n else m + int(p - n)
+                                         for p in asm.seg_a[asm.nl.seg]], dtype=np.int64)
+                self._nl_b = np.asarray([pos[int(p)] if p < n else m + int(p - n)
+                                         for p in asm.seg_b[asm.nl.seg]], dtype=np.int64)
         self.tracker = tracker
         self.limit_cols = np.asarray([pos[int(i)] for i in limit_nodes], dtype=np.int64)
         self.sink = sink
@@ -215,6 +227,7 @@ class Recorder:
         self.tlast = np.full(self.out_nodes.size, np.nan)
         self.last_energy = None
         self.n_samples = 0
+        self.tables: dict = {}
         sink.declare("time", [])
         sink.declare("temperature", self.rec_names)
         sink.declare("heat_flow", [asm.link_names[i] for i in self.links])
@@ -222,7 +235,7 @@ class Recorder:
         sink.declare("source_power", asm.source_names)
         sink.declare("energy/stored", [])
         sink.declare("energy/links", [asm.link_names[i] for i in self.boundary_links])
-        sink.declare("energy/sources", asm.source_names)
+        sink.declare("energy/sources", list(asm.source_names) + list(extra_sources))
         for key, names in self.extra_names.items():
             sink.declare(key, names)
 
@@ -235,8 +248,12 @@ class Recorder:
         self.sink.append("temperature", T[:, self.rec_cols])
         if self.links.size:
             points = np.hstack([T, c.u])
-            self.sink.append("heat_flow", self._flow_g[None, :] *
-                             (points[:, self._a_col] - points[:, self._b_col]))
+            with np.errstate(invalid="ignore"):
+                flows = self._flow_g[None, :] * (points[:, self._a_col] - points[:, self._b_col])
+            if self._nl_links.size:
+                q = self.asm.nl.solve(points[:, self._nl_a], points[:, self._nl_b])[0]
+                flows[:, self._nl_links] = q[:, self._nl_cols]
+            self.sink.append("heat_flow", flows)
         else:
             self.sink.append("heat_flow", np.zeros((c.t.size, 0)))
         self.sink.append("boundary_temperature", c.u)
@@ -303,6 +320,11 @@ class Result:
         One row per limit: hold time, time out, worst excursion, degree-hours, margin.
     nodes : DataFrame
         min, max and final temperature of every tracked node.
+    thermostats : DataFrame
+        per thermostat: duty (fraction of the time on; mean power over full power for
+        proportional control), on_time [s], switches, energy [J].
+    liquid_fraction, thermostat_power : DataFrame
+        histories of phase-change nodes [-] and thermostat powers [W, into the node].
     solver : str
     stats : dict
         Solver statistics (steps, function and Jacobian evaluations, wall time [s], ...).
@@ -310,12 +332,13 @@ class Result:
 
     def __init__(self, arrays: dict | None = None, names: dict | None = None, meta: dict | None = None,
                  limits: pd.DataFrame | None = None, nodes: pd.DataFrame | None = None,
-                 path: str | None = None):
+                 path: str | None = None, thermostats: pd.DataFrame | None = None):
         self._arrays = arrays if arrays is not None else {}
         self._names = names or {}
         self.meta = dict(meta or {})
         self.limits = limits if limits is not None else pd.DataFrame()
         self.nodes = nodes if nodes is not None else pd.DataFrame()
+        self.thermostats = thermostats if thermostats is not None else pd.DataFrame()
         self.path = path
 
     # -- metadata ----------------------------------------------------------------------------
@@ -421,6 +444,8 @@ class Result:
                     sink.append(key, arr)
             sink.write_table("limits", self.limits)
             sink.write_table("nodes", self.nodes)
+            if len(self.thermostats):
+                sink.write_table("thermostats", self.thermostats)
             sink.finish(_h5_attrs(self.meta))
         except BaseException:
             sink.abort()
@@ -455,9 +480,10 @@ class Result:
                         for k, v in meta.items()}
                 limits = _read_frame(h5, "limits")
                 nodes = _read_frame(h5, "nodes")
+                thermostats = _read_frame(h5, "thermostats")
         except OSError as exc:
             raise DataError(f"cannot be read as HDF5 ({exc})", label) from None
-        return cls({}, names, meta, limits, nodes, path=path)
+        return cls({}, names, meta, limits, nodes, path=path, thermostats=thermostats)
 
     def to_csv(self, path) -> None:
         """Write temperatures, boundary temperatures, source powers and heat flows to one CSV.

@@ -75,12 +75,13 @@ def solve_steady(network, at: float = 0.0) -> SteadyResult:
     u = asm.boundary_values(float(at))
     s = asm.source_values(float(at))
     solver = "linear"
-    if asm.is_linear:
+    thermostats = list(getattr(network, "thermostats", {}).values())
+    if asm.nl is None and not thermostats:
         temps = steady_temperatures(asm, u, s)
     else:
-        from .nonlinear import steady_newton  # noqa: PLC0415 - optional nonlinear layer
+        from .nonlinear import steady_newton  # noqa: PLC0415 - nonlinear layer, same level
 
-        temps = steady_newton(asm, u, s)
+        temps = steady_newton(asm, u, s, thermostats)
         solver = "newton"
     flows = asm.link_flows(temps, u)
     return SteadyResult(

@@ -86,7 +86,8 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
         p.check_span(0.0, duration)
 
     ss = state_space(asm)
-    nonlinear = not asm.is_linear or bool(getattr(network, "thermostats", None))
+    thermostats = list(network.thermostats.values())
+    nonlinear = not asm.is_linear or bool(thermostats)
     if solver == "exact" and nonlinear:
         raise InputError("the exact solver needs a linear network (this one has radiation, "
                          "film correlations, phase change or thermostats)", "solver",
@@ -126,7 +127,10 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
     out_nodes = sorted(set(rec_idx) | set(lim_nodes) |
                        {int(p) for li in links for p in
                         (asm.seg_a[asm.link_first_seg[li]], asm.seg_b[asm.link_first_seg[li]])
-                        if p < asm.n_nodes})
+                        if p < asm.n_nodes} |
+                       ({int(p) for p in np.concatenate([asm.seg_a[asm.nl.seg],
+                                                         asm.seg_b[asm.nl.seg]])
+                         if p < asm.n_nodes} if asm.nl is not None and links else set()))
     tracker = ExcursionTracker([names[i] for i in lim_nodes], lim_kinds, lim_vals) \
         if lim_nodes else None
     boundary_links = asm.boundary_segments()[0]
@@ -137,26 +141,24 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
     if mode == "given":
         T0 = given_temperatures(network, asm, overrides, u0)
     elif mode == "steady":
-        if asm.is_linear:
+        if asm.nl is None and not thermostats:
             T0 = steady_temperatures(asm, u0, s0)
         else:
             from ..nonlinear import steady_newton  # noqa: PLC0415
 
-            T0 = steady_newton(asm, u0, s0)
+            T0 = steady_newton(asm, u0, s0, thermostats)
     else:
         T0 = None
 
     extra_names = {}
     if asm.phase_change:
         extra_names["liquid_fraction"] = [names[i] for i in sorted(asm.phase_change)]
-    thermostats = list(getattr(network, "thermostats", {}).values()) if \
-        getattr(network, "thermostats", None) else []
     if thermostats:
         extra_names["thermostat_power"] = [t.name for t in thermostats]
 
     sink = H5Sink(output) if output is not None else MemorySink()
     recorder = Recorder(asm, out_nodes, rec_idx, links, boundary_links, tracker, lim_nodes, sink,
-                        extra_names)
+                        extra_names, extra_sources=[t.name for t in thermostats])
     try:
         if use_exact:
             stats = _run_exact(asm, t_out, T0, mode, overrides, recorder, out_nodes,
@@ -195,10 +197,14 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
 
             sink.write_table("limits", limits)
             sink.write_table("nodes", nodes)
+            for key, table in recorder.tables.items():
+                sink.write_table(key, table)
             sink.finish(_h5_attrs({**meta, "rcsim_version": __version__}))
-            res = Result({}, dict(sink.names), meta, limits, nodes, path=str(output))
+            res = Result({}, dict(sink.names), meta, limits, nodes, path=str(output),
+                         thermostats=recorder.tables.get("thermostats"))
         else:
-            res = Result(sink.arrays(), dict(sink.names), meta, limits, nodes)
+            res = Result(sink.arrays(), dict(sink.names), meta, limits, nodes,
+                         thermostats=recorder.tables.get("thermostats"))
         return res
     except BaseException:
         sink.abort()

@@ -64,7 +64,8 @@ class StiffModel:
         self.boundary_links = asm.boundary_segments()[0]
         self._setup_link_energy()
         self.nb = len(self.boundary_links)
-        self.ny = self.n + self.nb + self.S
+        self.nc = len(self.controllers)
+        self.ny = self.n + self.nb + self.S + self.nc
         self._static_jac = None
         self.stats = {"nfev": 0, "njev": 0}
 
@@ -119,7 +120,7 @@ class StiffModel:
         return np.array([p.value(t) for p in self.profiles]) if self.profiles else np.zeros(0)
 
     def y0(self, Tm0: np.ndarray) -> np.ndarray:
-        return np.concatenate([self.energy_of(Tm0), np.zeros(self.nb + self.S)])
+        return np.concatenate([self.energy_of(Tm0), np.zeros(self.nb + self.S + self.nc)])
 
     # -- dynamics ----------------------------------------------------------------------------
     def rhs(self, t, y):
@@ -135,20 +136,27 @@ class StiffModel:
             dH += q
             if e_links is not None:
                 link_extra += e_links
-        for ctl in self.controllers:
-            dH += ctl.power_vector(t, Tm)
         out = np.empty(self.ny)
+        for k, ctl in enumerate(self.controllers):
+            p = ctl.sign * ctl.power_now(Tm)
+            dH[ctl._node_idx] += p
+            out[n + self.nb + self.S + k] = p
         out[:n] = dH
         if self.nb:
             u = w[:self.M]
             t_end = self.A_end @ Tm + self.D_end @ w
             out[n:n + self.nb] = self.to_links @ (self.g_end * (u[self.bcol] - t_end)) + link_extra
-        out[n + self.nb:] = w[self.M:]
+        out[n + self.nb:n + self.nb + self.S] = w[self.M:]
         return out
+
+    @property
+    def _is_static(self) -> bool:
+        return not self.terms and not self.phase and not any(
+            c.control == "proportional" for c in self.controllers)
 
     def jac(self, t, y):
         self.stats["njev"] += 1
-        if not self.terms and not self.phase and self._static_jac is not None:
+        if self._is_static and self._static_jac is not None:
             return self._static_jac
         n = self.n
         Tm, dTdH = self.temperatures(y[:n])
@@ -160,16 +168,28 @@ class StiffModel:
             dq = dq + jq
             if je is not None:
                 e_rows = je if e_rows is None else e_rows + je
+        c_rows, c_cols, c_vals = [], [], []
+        for k, ctl in enumerate(self.controllers):
+            entry = ctl.jacobian_entry(Tm)
+            if entry is not None:
+                c_rows.append(k)
+                c_cols.append(entry[1])
+                c_vals.append(entry[2])
+        J_c = sp.csr_matrix((c_vals, (c_rows, c_cols)), shape=(self.nc, n))
+        if c_vals:  # the controller's power enters the node it heats
+            node_rows = [self.controllers[k]._node_idx for k in c_rows]
+            dq = dq + sp.csr_matrix((c_vals, (node_rows, c_cols)), shape=(n, n))
         scale = sp.diags(dTdH)
         J_hh = (dq @ scale).tocsr()
         e_block = -(self.to_links @ sp.diags(self.g_end) @ self.A_end)
         if e_rows is not None:
             e_block = e_block + e_rows
         J_eh = (e_block @ scale).tocsr() if self.nb else sp.csr_matrix((0, n))
-        zeros_right = sp.csr_matrix((self.ny, self.nb + self.S))
-        left = sp.vstack([J_hh, J_eh, sp.csr_matrix((self.S, n))], format="csr")
+        zeros_right = sp.csr_matrix((self.ny, self.ny - n))
+        left = sp.vstack([J_hh, J_eh, sp.csr_matrix((self.S, n)), (J_c @ scale).tocsr()],
+                         format="csr")
         J = sp.hstack([left, zeros_right], format="csc")
-        if not self.terms and not self.phase:
+        if self._is_static:
             self._static_jac = J
         return J
 
@@ -186,7 +206,7 @@ def run_stiff(model: StiffModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol:
         record_every = int(max(1, min(2000, 5_000_000 // max(1, model.ny))))
     y = model.y0(Tm0)
     atol_vec = np.concatenate([atol * model.C,
-                               np.full(model.nb + model.S, atol * float(model.C.sum()))])
+                               np.full(model.ny - model.n, atol * float(model.C.sum()))])
     stops = np.union1d(jump_times(model.profiles, 0.0, T_end), [T_end])
     buf_t, buf_y = [float(t_out[0])], [y.copy()]
     k_next = 1
@@ -203,7 +223,7 @@ def run_stiff(model: StiffModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol:
         while t < stop:
             try:
                 solver = BDF(model.rhs, t, y, float(stop), rtol=rtol, atol=atol_vec,
-                             jac=model.jac if (model.terms or model.phase) else model.jac(t, y))
+                             jac=model.jac(t, y) if model._is_static else model.jac)
             except (ValueError, np.linalg.LinAlgError) as exc:  # pragma: no cover - defensive
                 raise SolverError(f"the stiff solver could not start: {exc}", time=t) from None
             stats["restarts"] += 1
@@ -349,7 +369,30 @@ def run_stiff_network(network, asm, t_out, T0, mode, recorder, out_nodes, bounda
 
     stats = run_stiff(model, t_out, Tm0, emit, rtol, atol, progress)
     stats.update(model.stats)
+    if model.controllers:
+        recorder.tables["thermostats"] = thermostat_table(model.controllers, t_out, recorder)
     return stats
+
+
+def thermostat_table(controllers, t_out, recorder):
+    """Duty cycle, on-time, switches and energy of each thermostat over the run."""
+    import pandas as pd
+
+    span = float(t_out[-1] - t_out[0])
+    energy = recorder.last_energy[2][-len(controllers):]
+    rows = []
+    for c, e in zip(controllers, energy):
+        if c.control == "on-off":
+            times = np.append(np.asarray(c._log_t, dtype=float), t_out[-1])
+            on = np.asarray(c._log_on, dtype=float)
+            on_time = float(np.sum(np.diff(times) * on))
+        else:
+            on_time = float("nan")
+        duty = on_time / span if c.control == "on-off" else abs(float(e)) / (c.power * span)
+        rows.append({"thermostat": c.name, "node": c.node, "mode": c.mode, "control": c.control,
+                     "duty": duty, "on_time [s]": on_time, "switches": c.switch_count(),
+                     "energy [J]": abs(float(e))})
+    return pd.DataFrame(rows)
 
 
 def periodic_start(network, model: StiffModel, asm, rtol, atol, max_periods: int = 200,

@@ -1,0 +1,274 @@
+"""Convection coefficients from correlations, with air properties at the film temperature.
+
+Pure functions, SI in and out (temperatures in degC, converted to kelvin inside). A correlation is
+chosen by name from :data:`CORRELATIONS`; :func:`correlation_names` lists them and an unknown name
+raises an error listing the valid ones.
+
+References
+----------
+.. [1] F. P. Incropera, D. P. DeWitt, T. L. Bergman, A. S. Lavine, *Fundamentals of Heat and Mass
+   Transfer*, 6th ed., Wiley, 2007: eq. 7.30 (laminar flat plate), 7.36 (turbulent), 7.38 (mixed);
+   eq. 9.26 (vertical plate), 9.30-9.32 (horizontal plates), 9.34 (horizontal cylinder).
+.. [2] S. W. Churchill, H. H. S. Chu, "Correlating equations for laminar and turbulent free
+   convection from a vertical plate", Int. J. Heat Mass Transfer 18 (1975) 1323-1329; and "...from
+   a horizontal cylinder", Int. J. Heat Mass Transfer 18 (1975) 1049-1053.
+.. [3] W. H. McAdams, *Heat Transmission*, 3rd ed., McGraw-Hill, 1954 (horizontal plates).
+.. [4] F. M. White, *Viscous Fluid Flow*, 3rd ed., McGraw-Hill, 2006, Table 1-2 and 1-3
+   (Sutherland's law for the viscosity and conductivity of air).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable
+
+import numpy as np
+from scipy.constants import g as GRAVITY, zero_Celsius
+
+from .errors import InputError
+
+__all__ = [
+    "air_properties",
+    "nusselt_vertical_plate",
+    "nusselt_horizontal_plate",
+    "nusselt_horizontal_cylinder",
+    "nusselt_flat_plate_forced",
+    "natural_convection_coefficient",
+    "forced_convection_coefficient",
+    "Correlation",
+    "CORRELATIONS",
+    "correlation_names",
+    "get_correlation",
+]
+
+_R_AIR = 287.05           # J/(kg K), specific gas constant of dry air (common practice)
+_P_ATM = 101325.0         # Pa
+_MU0, _T_MU, _S_MU = 1.716e-5, 273.15, 110.4      # Sutherland, viscosity [4]
+_K0, _T_K, _S_K = 0.0241, 273.15, 194.0            # Sutherland form, conductivity [4]
+
+
+def air_properties(temperature, pressure=_P_ATM):
+    r"""Properties of dry air at ``temperature`` [degC] and ``pressure`` [Pa].
+
+    Returns a dict with density rho [kg/m^3] (ideal gas), specific heat cp [J/(kg K)],
+    dynamic viscosity mu [Pa s] and conductivity k [W/(m K)] from Sutherland's law, kinematic
+    viscosity nu, diffusivity alpha [m^2/s], Prandtl number Pr and expansion coefficient
+    beta = 1/T [1/K] (ideal gas).
+
+    .. math:: \mu = \mu_0 \left(\frac{T}{T_0}\right)^{3/2} \frac{T_0 + S}{T + S}
+
+    Valid roughly from -100 to 400 degC at ordinary pressures (Sutherland fits [4]); cp uses a
+    quadratic fit to tabulated values between 250 and 400 K (common practice, within 0.3 %).
+
+    >>> p = air_properties(26.85)
+    >>> round(float(p["Pr"]), 3), round(float(p["nu"]) * 1e6, 2)
+    (0.707, 15.69)
+    """
+    T = np.asarray(temperature, dtype=float) + zero_Celsius
+    rho = pressure / (_R_AIR * T)
+    cp = 1002.5 + 275e-6 * (T - 200.0) ** 2
+    mu = _MU0 * (T / _T_MU) ** 1.5 * (_T_MU + _S_MU) / (T + _S_MU)
+    k = _K0 * (T / _T_K) ** 1.5 * (_T_K + _S_K) / (T + _S_K)
+    nu = mu / rho
+    alpha = k / (rho * cp)
+    return {"rho": rho, "cp": cp, "mu": mu, "k": k, "nu": nu, "alpha": alpha, "Pr": nu / alpha,
+            "beta": 1.0 / T}
+
+
+def nusselt_vertical_plate(rayleigh, prandtl):
+    r"""Churchill-Chu correlation for a vertical plate, all Ra [1, 2] (Incropera eq. 9.26).
+
+    .. math:: Nu_L = \left\{0.825 + \frac{0.387 Ra_L^{1/6}}
+              {[1 + (0.492/Pr)^{9/16}]^{8/27}}\right\}^2
+
+    >>> round(float(nusselt_vertical_plate(1e9, 0.71)), 1)
+    122.9
+    """
+    ra = np.asarray(rayleigh, dtype=float)
+    return (0.825 + 0.387 * ra ** (1 / 6) / (1 + (0.492 / prandtl) ** (9 / 16)) ** (8 / 27)) ** 2
+
+
+def nusselt_horizontal_plate(rayleigh, buoyancy_lifts):
+    r"""Horizontal plate, McAdams' correlations as given by Incropera eqs. 9.30-9.32 [1, 3].
+
+    ``buoyancy_lifts`` is True for the upper surface of a hot plate or the lower surface of a cold
+    one (Nu = 0.54 Ra^1/4 up to Ra = 1e7, 0.15 Ra^1/3 above); False for the lower surface of a
+    hot plate or the upper surface of a cold one (Nu = 0.27 Ra^1/4, 0.15 Ra^1/3 above 1e10).
+    Characteristic length: area / perimeter.
+
+    >>> round(float(nusselt_horizontal_plate(1e6, True)), 3), round(float(nusselt_horizontal_plate(1e6, False)), 3)
+    (17.076, 8.538)
+    """
+    ra = np.asarray(rayleigh, dtype=float)
+    up = np.where(ra <= 1e7, 0.54 * ra ** 0.25, 0.15 * ra ** (1 / 3))
+    down = np.where(ra <= 1e10, 0.27 * ra ** 0.25, 0.15 * ra ** (1 / 3))
+    return np.where(buoyancy_lifts, up, down)
+
+
+def nusselt_horizontal_cylinder(rayleigh, prandtl):
+    r"""Churchill-Chu correlation for a long horizontal cylinder, Ra_D <= 1e12 [1, 2] (eq. 9.34).
+
+    .. math:: Nu_D = \left\{0.60 + \frac{0.387 Ra_D^{1/6}}
+              {[1 + (0.559/Pr)^{9/16}]^{8/27}}\right\}^2
+
+    >>> round(float(nusselt_horizontal_cylinder(1e5, 0.71)), 3)
+    7.778
+    """
+    ra = np.asarray(rayleigh, dtype=float)
+    return (0.60 + 0.387 * ra ** (1 / 6) / (1 + (0.559 / prandtl) ** (9 / 16)) ** (8 / 27)) ** 2
+
+
+def nusselt_flat_plate_forced(reynolds, prandtl, regime="auto", critical_reynolds=5e5):
+    r"""Average Nusselt number over a flat plate in parallel flow [1] (eqs. 7.30, 7.36, 7.38).
+
+    * laminar: Nu = 0.664 Re^1/2 Pr^1/3
+    * turbulent (tripped at the leading edge): Nu = 0.037 Re^4/5 Pr^1/3
+    * mixed (laminar then turbulent beyond Re_c = 5e5): Nu = (0.037 Re^4/5 - 871) Pr^1/3
+    * auto: laminar below Re_c, mixed above.
+
+    Valid for 0.6 <= Pr <= 60.
+
+    >>> round(float(nusselt_flat_plate_forced(1e5, 0.71)), 2)
+    187.32
+    """
+    re = np.asarray(reynolds, dtype=float)
+    cbrt = prandtl ** (1 / 3)
+    lam = 0.664 * re ** 0.5 * cbrt
+    if regime == "laminar":
+        return lam
+    if regime == "turbulent":
+        return 0.037 * re ** 0.8 * cbrt
+    # Incropera eq. 7.37: A = 0.037 Re_c^4/5 - 0.664 Re_c^1/2, tabulated as 871 for Re_c = 5e5
+    a = 871.0 if critical_reynolds == 5e5 else \
+        0.037 * critical_reynolds ** 0.8 - 0.664 * critical_reynolds ** 0.5
+    mixed = (0.037 * re ** 0.8 - a) * cbrt
+    if regime == "mixed":
+        return mixed
+    return np.where(re < critical_reynolds, lam, mixed)
+
+
+def natural_convection_coefficient(geometry, surface_temperature, fluid_temperature, length,
+                                   surface_faces="up"):
+    """Natural-convection film coefficient h [W/(m^2 K)] of air, properties at the film temperature.
+
+    Parameters
+    ----------
+    geometry : {'vertical-plate', 'horizontal-plate', 'horizontal-cylinder'}
+    surface_temperature, fluid_temperature : float or array [degC]
+    length : float
+        Height (vertical plate), area/perimeter (horizontal plate) or diameter (cylinder) [m].
+    surface_faces : {'up', 'down'}
+        For horizontal plates: which way the surface faces.
+
+    Returns h >= 0 (zero when the two temperatures are equal).
+
+    >>> round(float(natural_convection_coefficient('vertical-plate', 60.0, 20.0, 0.3)), 3)
+    5.245
+    """
+    ts = np.asarray(surface_temperature, dtype=float)
+    tf = np.asarray(fluid_temperature, dtype=float)
+    props = air_properties(0.5 * (ts + tf))
+    dT = np.abs(ts - tf)
+    ra = GRAVITY * props["beta"] * dT * length ** 3 / (props["nu"] * props["alpha"])
+    pr = props["Pr"]
+    if geometry == "vertical-plate":
+        nu = nusselt_vertical_plate(ra, pr)
+    elif geometry == "horizontal-cylinder":
+        nu = nusselt_horizontal_cylinder(ra, pr)
+    elif geometry == "horizontal-plate":
+        hot = ts > tf
+        lifts = hot if surface_faces == "up" else ~hot
+        nu = nusselt_horizontal_plate(ra, lifts)
+    else:  # pragma: no cover - guarded by the registry
+        raise ValueError(geometry)
+    h = nu * props["k"] / length
+    return np.where(dT > 0, h, _limit_at_zero(geometry, props, length, pr)) if np.ndim(h) else (
+        float(h) if dT > 0 else float(_limit_at_zero(geometry, props, length, pr)))
+
+
+def _limit_at_zero(geometry, props, length, pr):
+    """h as the temperature difference goes to zero (Ra -> 0): the conduction limit of Nu."""
+    if geometry == "vertical-plate":
+        nu0 = 0.825 ** 2
+    elif geometry == "horizontal-cylinder":
+        nu0 = 0.60 ** 2
+    else:
+        nu0 = 0.0
+    return nu0 * props["k"] / length
+
+
+def forced_convection_coefficient(velocity, surface_temperature, fluid_temperature, length,
+                                  regime="auto"):
+    """Forced-convection film coefficient h [W/(m^2 K)] of air over a flat plate of ``length``.
+
+    >>> round(float(forced_convection_coefficient(2.0, 40.0, 20.0, 0.5)), 3)
+    7.834
+    """
+    props = air_properties(0.5 * (np.asarray(surface_temperature, dtype=float)
+                                  + np.asarray(fluid_temperature, dtype=float)))
+    re = velocity * length / props["nu"]
+    return nusselt_flat_plate_forced(re, props["Pr"], regime) * props["k"] / length
+
+
+@dataclass(frozen=True)
+class Correlation:
+    """A named convection correlation and the keys it needs."""
+
+    name: str
+    description: str
+    length_key: str
+    coefficient: Callable  # (surface_T, fluid_T, params) -> h
+    extra_keys: tuple = ()
+    symmetric: bool = True  # False when the result depends on which side is the surface
+
+
+def _h_vertical(ts, tf, p):
+    return natural_convection_coefficient("vertical-plate", ts, tf, p["height"])
+
+
+def _h_horizontal_up(ts, tf, p):
+    return natural_convection_coefficient("horizontal-plate", ts, tf, p["length"], "up")
+
+
+def _h_horizontal_down(ts, tf, p):
+    return natural_convection_coefficient("horizontal-plate", ts, tf, p["length"], "down")
+
+
+def _h_cylinder(ts, tf, p):
+    return natural_convection_coefficient("horizontal-cylinder", ts, tf, p["diameter"])
+
+
+def _h_forced(ts, tf, p):
+    return forced_convection_coefficient(p["velocity"], ts, tf, p["length"],
+                                         p.get("regime", "auto"))
+
+
+#: name -> Correlation
+CORRELATIONS: dict[str, Correlation] = {
+    "vertical-plate": Correlation("vertical-plate", "natural convection, vertical plate "
+                                  "(Churchill-Chu)", "height", _h_vertical),
+    "horizontal-plate-up": Correlation("horizontal-plate-up", "natural convection, horizontal "
+                                       "plate facing up (McAdams)", "length", _h_horizontal_up,
+                                       symmetric=False),
+    "horizontal-plate-down": Correlation("horizontal-plate-down", "natural convection, "
+                                         "horizontal plate facing down (McAdams)", "length",
+                                         _h_horizontal_down, symmetric=False),
+    "horizontal-cylinder": Correlation("horizontal-cylinder", "natural convection, horizontal "
+                                       "cylinder (Churchill-Chu)", "diameter", _h_cylinder),
+    "flat-plate-forced": Correlation("flat-plate-forced", "forced parallel flow over a flat "
+                                     "plate (laminar, turbulent or mixed)", "length", _h_forced,
+                                     extra_keys=("velocity", "regime")),
+}
+
+
+def correlation_names() -> list[str]:
+    """Names accepted by ``{ convection = { correlation = ... } }``."""
+    return list(CORRELATIONS)
+
+
+def get_correlation(name, where=None) -> Correlation:
+    if name not in CORRELATIONS:
+        from .materials import suggest
+
+        raise InputError(f"unknown correlation {name!r}", where, suggest(name, CORRELATIONS))
+    return CORRELATIONS[name]

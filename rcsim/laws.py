@@ -122,6 +122,19 @@ class SegmentLaws:
     def __len__(self) -> int:
         return self.seg.size
 
+    def _value(self, t1, t2):
+        """f of every segment's law at face temperatures t1, t2 (no derivatives)."""
+        f = np.empty(np.broadcast_shapes(t1.shape, t2.shape))
+        for pos, law, params in self.groups:
+            f[..., pos] = law.flow(params, t1[..., pos], t2[..., pos])
+        return f
+
+    def flows(self, ta, tb):
+        """Flows q only (cheaper than :meth:`solve` when no segment has series resistances)."""
+        if not (self.R1.any() or self.R2.any()):
+            return self._value(np.asarray(ta, dtype=float), np.asarray(tb, dtype=float))
+        return self.solve(ta, tb)[0]
+
     def _law(self, t1, t2):
         """f, f1, f2 of every segment's law at face temperatures t1, t2 (shape (..., n))."""
         f = np.empty(np.broadcast_shapes(t1.shape, t2.shape))

@@ -221,7 +221,7 @@ class Assembled:
         q = self.seg_g * (points[..., self.seg_a] - points[..., self.seg_b])
         if self.nl is not None:
             s = self.nl.seg
-            q[..., s] = self.nl.solve(points[..., self.seg_a[s]], points[..., self.seg_b[s]])[0]
+            q[..., s] = self.nl.flows(points[..., self.seg_a[s]], points[..., self.seg_b[s]])
         return q
 
     def link_flows(self, node_t: np.ndarray, boundary_t: np.ndarray) -> np.ndarray:

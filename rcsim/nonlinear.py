@@ -64,13 +64,20 @@ class SegmentTerm:
         self.nb = len(boundary_links)
 
     def _ends(self, Tm, w):
-        ta = np.where(self.a_is_node, Tm[..., self.a_idx], w[..., self.a_idx])
-        tb = np.where(self.b_is_node, Tm[..., self.b_idx], w[..., self.b_idx])
-        return ta, tb
+        return self._gather(Tm, w, self.a_is_node, self.a_idx), \
+            self._gather(Tm, w, self.b_is_node, self.b_idx)
+
+    @staticmethod
+    def _gather(Tm, w, is_node, idx):
+        """Temperatures at segment ends: a state (node) or an input (boundary) each."""
+        out = np.empty(Tm.shape[:-1] + (idx.size,))
+        out[..., is_node] = Tm[..., idx[is_node]]
+        out[..., ~is_node] = w[..., idx[~is_node]]
+        return out
 
     def flows(self, Tm, w):
         ta, tb = self._ends(Tm, w)
-        q, _, _ = self.nl.solve(ta, tb)
+        q = self.nl.flows(ta, tb)
         dH = np.zeros(self.n)
         np.add.at(dH, self.a_idx[self.a_is_node], -q[self.a_is_node])
         np.add.at(dH, self.b_idx[self.b_is_node], q[self.b_is_node])

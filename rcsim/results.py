@@ -251,7 +251,7 @@ class Recorder:
             with np.errstate(invalid="ignore"):
                 flows = self._flow_g[None, :] * (points[:, self._a_col] - points[:, self._b_col])
             if self._nl_links.size:
-                q = self.asm.nl.solve(points[:, self._nl_a], points[:, self._nl_b])[0]
+                q = self.asm.nl.flows(points[:, self._nl_a], points[:, self._nl_b])
                 flows[:, self._nl_links] = q[:, self._nl_cols]
             self.sink.append("heat_flow", flows)
         else:

@@ -22,7 +22,10 @@ from ..errors import SolverError
 from ..results import Chunk
 from ..statespace import state_space
 
-__all__ = ["StiffModel", "run_stiff", "jump_times"]
+__all__ = ["StiffModel", "run_stiff", "jump_times", "DENSE_STATES"]
+
+#: Up to this many solver states the stiff path works with dense matrices.
+DENSE_STATES = 120
 
 
 def jump_times(profiles, t0: float, t1: float) -> np.ndarray:
@@ -68,6 +71,14 @@ class StiffModel:
         self.ny = self.n + self.nb + self.S + self.nc
         self._static_jac = None
         self.stats = {"nfev": 0, "njev": 0}
+        # small systems: dense arrays beat sparse bookkeeping (and BDF then uses dense LU)
+        self.dense = self.ny <= DENSE_STATES
+        self._K_sp, self._A_end_sp, self._to_links_sp = self.K, self.A_end, self.to_links
+        if self.dense:
+            self.K = self.K.toarray()
+            self.E = self.E.toarray()
+            self.A_end = self.A_end.toarray()
+            self.to_links = self.to_links.toarray()
 
     # -- structure ---------------------------------------------------------------------------
     def _setup_link_energy(self):
@@ -161,7 +172,7 @@ class StiffModel:
         n = self.n
         Tm, dTdH = self.temperatures(y[:n])
         w = self.inputs(t)
-        dq = -self.K
+        dq = -self._K_sp
         e_rows = None
         for term in self.terms:
             jq, je = term.jacobian(Tm, w)
@@ -181,7 +192,7 @@ class StiffModel:
             dq = dq + sp.csr_matrix((c_vals, (node_rows, c_cols)), shape=(n, n))
         scale = sp.diags(dTdH)
         J_hh = (dq @ scale).tocsr()
-        e_block = -(self.to_links @ sp.diags(self.g_end) @ self.A_end)
+        e_block = -(self._to_links_sp @ sp.diags(self.g_end) @ self._A_end_sp)
         if e_rows is not None:
             e_block = e_block + e_rows
         J_eh = (e_block @ scale).tocsr() if self.nb else sp.csr_matrix((0, n))
@@ -189,6 +200,8 @@ class StiffModel:
         left = sp.vstack([J_hh, J_eh, sp.csr_matrix((self.S, n)), (J_c @ scale).tocsr()],
                          format="csr")
         J = sp.hstack([left, zeros_right], format="csc")
+        if self.dense:
+            J = J.toarray()
         if self._is_static:
             self._static_jac = J
         return J

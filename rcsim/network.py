@@ -610,10 +610,12 @@ class Network:
         k = part.params["k"]
         bi = math.inf if r_ext == 0 else elements.biot_number(1.0 / r_ext, thickness, k)
         if bi > 0.1:
+            suggested = 10 if math.isinf(bi) else max(3, min(50, math.ceil(bi * 10)))
+            shown = "infinite (the layer touches a node directly)" if math.isinf(bi) \
+                else f"{bi:.3g}"
             warnings.warn(f"{part.where}: a massive layer kept as one node has Biot number "
-                          f"hL/k = {bi:.3g} > 0.1, so the lumped assumption is doubtful; "
-                          f"set slices = {max(3, min(50, math.ceil(bi * 10)))} or more",
-                          LumpedWarning, stacklevel=3)
+                          f"hL/k = {shown} > 0.1, so the lumped assumption is doubtful; "
+                          f"set slices = {suggested} or more", LumpedWarning, stacklevel=3)
 
     # -- analysis (hand-offs to the solver modules) --------------------------------------------
     def steady(self, at: float = 0.0):

@@ -16,7 +16,7 @@ import warnings
 import click
 
 from . import __version__
-from .errors import InputError, RcsimError, SolverError
+from .errors import InputError, Interrupted, RcsimError, SolverError
 
 CAUTION = ("caution: a simulation supports, and never replaces, qualification testing, local "
            "codes and licensed professional judgement.")
@@ -36,6 +36,10 @@ def _guard(func):
             warnings.simplefilter("always")
             try:
                 result = func(*args, **kwargs)
+            except Interrupted as err:
+                _relay(caught)
+                click.echo(f"\n{err}", err=True)
+                sys.exit(130)
             except InputError as err:
                 _relay(caught)
                 _fail(str(err), 2)
@@ -47,7 +51,7 @@ def _guard(func):
                 _fail(str(err), 2)
             except KeyboardInterrupt:
                 _relay(caught)
-                click.echo("interrupted: no result file was written", err=True)
+                click.echo("\ninterrupted: nothing was written", err=True)
                 sys.exit(130)
             _relay(caught)
             return result

@@ -18,6 +18,7 @@ __all__ = [
     "ProfileError",
     "DataError",
     "SolverError",
+    "Interrupted",
     "RcsimWarning",
     "LumpedWarning",
 ]
@@ -106,6 +107,24 @@ class SolverError(RcsimError, RuntimeError):
         if hint:
             text += f" ({hint})"
         super().__init__(text)
+
+
+class Interrupted(RcsimError, KeyboardInterrupt):
+    """A run stopped by Ctrl-C (also a KeyboardInterrupt); says how far it got.
+
+    Attributes
+    ----------
+    reached, total : float
+        Simulated time reached and asked for [s].
+    done : int
+        Units of work finished (e.g. sweep runs), where that applies.
+    """
+
+    def __init__(self, message: str, reached: float | None = None, total: float | None = None,
+                 done: int | None = None):
+        self.message = message
+        self.reached, self.total, self.done = reached, total, done
+        super().__init__(message)
 
 
 class RcsimWarning(UserWarning):

@@ -227,6 +227,7 @@ class Recorder:
         self.tlast = np.full(self.out_nodes.size, np.nan)
         self.last_energy = None
         self.n_samples = 0
+        self.last_time = None
         self.tables: dict = {}
         sink.declare("time", [])
         sink.declare("temperature", self.rec_names)
@@ -242,8 +243,8 @@ class Recorder:
     def add(self, c: Chunk) -> None:
         if c.t.size == 0:
             return
-        n = self.asm.n_nodes
         T = c.T
+        self._check_physical(c.t, T)
         self.sink.append("time", c.t)
         self.sink.append("temperature", T[:, self.rec_cols])
         if self.links.size:
@@ -269,7 +270,27 @@ class Recorder:
         if self.tracker is not None:
             self.tracker.update(c.t, T[:, self.limit_cols])
         self.last_energy = (float(c.e_stored[-1]), c.e_links[-1].copy(), c.e_sources[-1].copy())
+        self.last_time = float(c.t[-1])
         self.n_samples += c.t.size
+
+    def _check_physical(self, t: np.ndarray, T: np.ndarray) -> None:
+        """Refuse non-finite temperatures and temperatures below absolute zero."""
+        from .errors import SolverError
+
+        bad = ~np.isfinite(T)
+        if bad.any():
+            k, j = np.argwhere(bad)[0]
+            raise SolverError("the solution is no longer a finite number", time=float(t[k]),
+                              node=self.asm.node_names[int(self.out_nodes[j])],
+                              hint="check for huge source powers or conductances, tiny "
+                                   "capacities, or try the stiff solver with a tighter rtol")
+        if T.size and T.min() < -273.15:
+            k = int(np.argmax((T < -273.15).any(axis=1)))   # the first sample below
+            j = int(np.argmin(T[k]))
+            raise SolverError(f"the temperature fell below absolute zero ({T[k, j]:.4g} degC)",
+                              time=float(t[k]), node=self.asm.node_names[int(self.out_nodes[j])],
+                              hint="a cooling source draws more heat than can reach the node; "
+                                   "check source powers, capacities and resistances")
 
     def energy_balance(self) -> tuple[float, dict]:
         """Relative closure error and the energy terms at the end of the run.

@@ -380,3 +380,43 @@ def test_newton_steady_against_scalar_root():
     assert st.solver == "newton"
     assert st.temperatures["box"] == pytest.approx(T, abs=1e-8)
     assert st.heat_flows.sum() == pytest.approx(100.0, rel=1e-9)
+
+
+def test_solver_failure_names_time_node_and_remedy():
+    # a node drained by -500 W with only a weak radiative path in: its temperature heads for
+    # minus infinity; the stiff solver gives up, and that must be an error, not numbers
+    net = rcsim.Network()
+    net.add_node("a", capacity=10.0, initial=20.0)
+    net.add_boundary("b", temperature=20.0)
+    net.add_link("a", "b", parts=[{"radiation": {"emissivity": 0.9, "area": 0.01}}])
+    net.add_source("a", power=-500.0)
+    with pytest.raises(rcsim.SolverError) as err:
+        net.simulate("1 h", "1 min")
+    assert err.value.node == "a" and 0 < err.value.time < 3600
+    assert "try" in str(err.value) or "check" in str(err.value)
+
+
+def test_below_absolute_zero_is_refused():
+    # the linear path cannot fail, but its answer can be unphysical: dT/dt = -50 K/s at first
+    net = rcsim.Network()
+    net.add_node("a", capacity=10.0, initial=20.0)
+    net.add_boundary("b", temperature=20.0)
+    net.add_link("a", "b", resistance=100.0)
+    net.add_source("a", power=-500.0)
+    with pytest.raises(rcsim.SolverError, match="below absolute zero") as err:
+        net.simulate("1 h", "1 min")
+    assert err.value.time == 60.0 and err.value.node == "a"
+
+
+def test_newton_failure_is_an_error():
+    from rcsim.nonlinear import steady_newton
+
+    net = rcsim.Network()
+    net.add_node("box", capacity=1e4, initial=20.0)
+    net.add_boundary("room", temperature=20.0)
+    net.add_source("box", power=5000.0)
+    net.add_link("box", "room", parts=[{"radiation": {"emissivity": 0.05, "area": 0.01}}])
+    asm = net.assemble()
+    with pytest.raises(rcsim.SolverError, match="did not converge") as err:
+        steady_newton(asm, asm.boundary_values(0.0), asm.source_values(0.0), max_iterations=2)
+    assert err.value.node == "box"

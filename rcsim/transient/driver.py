@@ -8,7 +8,7 @@ import time as _time
 
 import numpy as np
 
-from ..errors import InputError, NetworkError, ProfileError
+from ..errors import InputError, Interrupted, NetworkError, ProfileError
 from ..limits import ExcursionTracker
 from ..materials import suggest
 from ..modes import DENSE_LIMIT
@@ -206,6 +206,15 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
             res = Result(sink.arrays(), dict(sink.names), meta, limits, nodes,
                          thermostats=recorder.tables.get("thermostats"))
         return res
+    except KeyboardInterrupt as exc:
+        sink.abort()
+        if isinstance(exc, Interrupted):
+            raise
+        reached = recorder.last_time or 0.0
+        where = f" to {output}" if output is not None else ""
+        raise Interrupted(f"interrupted at t = {reached:g} s of {duration:g} s "
+                          f"({100 * reached / duration:.0f} %); nothing was written{where}",
+                          reached=reached, total=duration) from None
     except BaseException:
         sink.abort()
         raise

@@ -43,7 +43,7 @@ from .errors import InputError
 from .units import format_duration
 
 __all__ = ["Drawn", "plot_result", "plot_history", "plot_response", "plot_flows", "plot_energy",
-           "standard_figures", "save_figure", "time_unit_for", "PALETTE", "LINE_STYLES",
+           "standard_figures", "warmup_nodes", "save_figure", "time_unit_for", "PALETTE", "LINE_STYLES",
            "KINDS", "FORMATS"]
 
 KINDS = ("history", "response", "flows")
@@ -280,14 +280,37 @@ def _fmt_temp(value: float) -> str:
     return f"{value:.3g} °C" if abs(value) < 100 else f"{value:.0f} °C"
 
 
-def _default_nodes(res, limited) -> tuple[list[str], int]:
-    """Nodes a figure shows when none are named: limited ones first, internal ones last."""
+def _default_nodes(res, limited) -> tuple[list[str], list[str]]:
+    """Nodes a figure shows when none are named, and a note on those left out.
+
+    Limited nodes first, then the others in result order, at most eight; internal nodes of massive
+    layers (``<link>.<i>``) only when there is nothing else to show.
+    """
     cols = list(res.temperatures.columns)
     links = set(res.heat_flows.columns)
+    inner = [c for c in cols if _internal(c, links)]
     ordered = [c for c in cols if c in limited] + \
-        [c for c in cols if c not in limited and not _internal(c, links)] + \
-        [c for c in cols if c not in limited and _internal(c, links)]
-    return ordered[:_MAX_SERIES], len(ordered)
+        [c for c in cols if c not in limited and c not in inner]
+    if not ordered:
+        ordered, inner = inner, []
+    notes = []
+    if len(ordered) > _MAX_SERIES:
+        notes.append(f"showing {_MAX_SERIES} of {len(ordered)} nodes")
+    if inner:
+        notes.append(f"{len(inner)} internal layer node(s) not shown")
+    return ordered[:_MAX_SERIES], notes
+
+
+def _legend(ax, own: bool, columns: int = 3) -> None:
+    """Below the axes on a figure of our own (it hides no data there); inside on a given axes."""
+    handles, labels = ax.get_legend_handles_labels()
+    if not handles:
+        return
+    if own:
+        ax.figure.legend(handles, labels, loc="outside lower center",
+                         ncols=min(columns, len(handles)))
+    else:
+        ax.legend(handles, labels, loc="best")
 
 
 # -- history -----------------------------------------------------------------------------------
@@ -316,9 +339,7 @@ def plot_history(res, nodes=None, *, boundaries=True, limits=True, ax=None, titl
     limited = list(dict.fromkeys(str(n) for n in lim["node"]))
     notes = []
     if nodes is None:
-        node_list, total = _default_nodes(res, limited)
-        if total > len(node_list):
-            notes.append(f"showing {len(node_list)} of {total} nodes")
+        node_list, notes = _default_nodes(res, limited)
         bnd_list = list(bnd.columns) if boundaries is True else \
             (_check_names(boundaries, list(bnd.columns), "boundary", "boundaries")
              if boundaries else [])
@@ -340,7 +361,8 @@ def plot_history(res, nodes=None, *, boundaries=True, limits=True, ax=None, titl
     from matplotlib.patches import Rectangle
 
     with mpl.rc_context(STYLE):
-        if ax is None:
+        own = ax is None
+        if own:
             fig, axes = _new_figure(_SIZE_ONE)
             ax = axes[0]
         else:
@@ -401,7 +423,7 @@ def plot_history(res, nodes=None, *, boundaries=True, limits=True, ax=None, titl
             ax.axvline(xh, color=colour[node], lw=0.9, linestyle=(0, (1, 1.5)), zorder=1)
             (mark,) = ax.plot([xh], [tl], marker="D", markersize=7, color=colour[node],
                               markeredgecolor="black", markeredgewidth=0.8, linestyle="none",
-                              zorder=5)
+                              zorder=5, clip_on=False)
             drawn.markers[node] = mark
             word = "below" if first["kind"] == "min" else "above"
             label = (f"{node} {word} {tl:g} °C from the start" if th <= t[0] else
@@ -418,7 +440,7 @@ def plot_history(res, nodes=None, *, boundaries=True, limits=True, ax=None, titl
         ta.format(ax)
         ax.set_ylabel("temperature [°C]")
         ax.set_title(title if title is not None else _title(res), loc="left")
-        ax.legend(loc="best")
+        _legend(ax, own, 4)
         _note(ax, notes, "lower right")
         drawn.notes = notes
         return drawn
@@ -567,7 +589,8 @@ def plot_response(res, nodes=None, *, final=None, ax=None, title=None) -> Drawn:
     rising = [finals[n] > initials[n] for n in shown]
     what = "warm-up" if all(rising) else "cool-down" if not any(rising) else "warm-up and cool-down"
     with mpl.rc_context(STYLE):
-        if ax is None:
+        own = ax is None
+        if own:
             fig, axes = _new_figure(_SIZE_ONE)
             ax = axes[0]
         else:
@@ -604,9 +627,11 @@ def plot_response(res, nodes=None, *, final=None, ax=None, title=None) -> Drawn:
             if tt[-1] >= tau:
                 ax.axvline(ta.x(tau + t[0]), color="#777777", lw=0.8, linestyle=(0, (1, 2)),
                            zorder=1)
+                ax.text(ta.x(tau + t[0]), 1.0, " τ₁", transform=ax.get_xaxis_transform(),
+                        fontsize=8.5, color="#444444", va="top", ha="left")
         ax.axhline(math.exp(-1.0), color="#777777", lw=0.8, linestyle=(0, (1, 2)), zorder=1)
-        ax.text(0.005, math.exp(-1.0), "1/e: 63.2 % of the change done", fontsize=7.5,
-                transform=ax.get_yaxis_transform(), va="bottom", ha="left", color="#555555",
+        ax.text(0.995, math.exp(-1.0), "1/e: 63.2 % of the change done", fontsize=7.5,
+                transform=ax.get_yaxis_transform(), va="bottom", ha="right", color="#555555",
                 clip_on=True)
         drawn.values.update(tau=tau, tau_source=tau_source, final=finals, initial=initials,
                             final_how=how)
@@ -624,7 +649,9 @@ def plot_response(res, nodes=None, *, final=None, ax=None, title=None) -> Drawn:
         ax.set_title(title if title is not None else f"{_title(res)}: {what}",
                      loc="left")
         how_text = {"last sample": "T_final = last sample of the run",
-                    "fitted asymptote": "T_final = asymptote fitted with τ₁",
+                    "fitted asymptote": "T_final = asymptote fitted with τ₁ (the run ends at "
+                                        f"{tt[-1] / tau:.2g} τ₁)" if math.isfinite(tau) else
+                                        "T_final = fitted asymptote",
                     "given": "T_final as given"}[how]
         notes.insert(0, how_text)
         taus = res.time_constants
@@ -636,8 +663,8 @@ def plot_response(res, nodes=None, *, final=None, ax=None, title=None) -> Drawn:
             ax.text(0.99, 0.985, "time constants\n" + listed, transform=ax.transAxes, fontsize=8,
                     va="top", ha="right", family="DejaVu Sans Mono",
                     bbox={"boxstyle": "round,pad=0.35", "fc": "white", "ec": "#bbbbbb"}, zorder=7)
-        ax.legend(loc="lower left", bbox_to_anchor=(0.0, 0.0))
-        _note(ax, notes, "lower right")
+        _legend(ax, own, 2)
+        _note(ax, notes, "lower left")
         drawn.notes = notes
         return drawn
 
@@ -755,12 +782,12 @@ def plot_energy(res, *, ax=None, title=None, dates=True) -> Drawn:
         ax.axhline(0.0, color="#999999", lw=0.8, zorder=1)
         drawn.lines["in"] = ax.plot(x, e_in / scale, lw=1.6, color=PALETTE[1],
                                     linestyle=LINE_STYLES[1], label="in (links and sources)",
-                                    zorder=3)[0]
+                                    zorder=4)[0]
         drawn.lines["out"] = ax.plot(x, e_out / scale, lw=1.6, color=PALETTE[3],
-                                     linestyle=LINE_STYLES[3], label="out (negative)", zorder=3)[0]
+                                     linestyle=LINE_STYLES[3], label="out (negative)", zorder=4)[0]
         drawn.lines["stored"] = ax.plot(x, stored / scale, lw=2.2, color=PALETTE[0],
                                         linestyle="-", label="stored (change since start)",
-                                        zorder=4)[0]
+                                        zorder=3)[0]
         drawn.lines["net"] = ax.plot(x, (e_in + e_out) / scale, linestyle="none", marker="o",
                                      markevery=0.05, markersize=4.5, markerfacecolor="none",
                                      markeredgecolor=PALETTE[2], markeredgewidth=1.1,
@@ -852,25 +879,28 @@ def save_figure(fig, path) -> str:
     return path
 
 
-def shows_warmup(res) -> bool:
-    """Whether ``res`` has a warm-up or cool-down worth a response figure.
+def warmup_nodes(res) -> list[str]:
+    """Nodes of ``res`` whose history is a warm-up or cool-down worth a response figure.
 
-    The run starts from given temperatures (not a steady or periodic start), and some node moves
-    from its initial temperature by 0.1 K or more, at least half of its whole swing during the run.
+    The run starts from given temperatures (not a steady or periodic start); the node moves by
+    0.1 K or more from its initial temperature to T_final (as :func:`standard_figures` takes it),
+    and its θ stays between −0.05 and 1.1 for 95 % of the run, so the approach to T_final is
+    not buried under swings.
     """
-    if str(res.meta.get("initial", "given")) not in ("given", ""):
-        return False
+    if str(res.meta.get("initial", "given")) not in ("given", "") or res.time.size < 3:
+        return []
     try:
         _, _, shown, _, initials, finals, *_ = _response_setup(res, None, _auto_final(res))
     except InputError:
-        return False
+        return []
     temps = res.temperatures
+    out = []
     for n in shown:
-        col = temps[n].to_numpy()
-        change = abs(initials[n] - finals[n])
-        if change >= 0.1 and change >= 0.5 * float(np.ptp(col)):
-            return True
-    return False
+        change = finals[n] - initials[n]
+        theta = (temps[n].to_numpy() - finals[n]) / -change
+        if abs(change) >= 0.1 and np.mean((theta > -0.05) & (theta < 1.1)) >= 0.95:
+            out.append(n)
+    return out
 
 
 def _auto_final(res):
@@ -883,8 +913,8 @@ def _auto_final(res):
 def standard_figures(res, folder, stem: str, formats=("png",)) -> list[str]:
     """Write the standard figures of ``res`` into ``folder``; return the paths written.
 
-    ``<stem>-history``, ``<stem>-response`` (when the run shows a warm-up or cool-down; T_final is
-    the fitted asymptote when the run ends before 5 τ₁) and ``<stem>-flows`` (heat flows and
+    ``<stem>-history``, ``<stem>-response`` (of the nodes :func:`warmup_nodes` finds, when there
+    are any; T_final is the fitted asymptote when the run ends before 5 τ₁) and ``<stem>-flows`` (heat flows and
     energy), in each of ``formats``.
     """
     import matplotlib.pyplot as plt
@@ -893,8 +923,9 @@ def standard_figures(res, folder, stem: str, formats=("png",)) -> list[str]:
         if fmt not in FORMATS:
             raise InputError(f"unknown figure format {fmt!r}", "formats", _suggest(fmt, FORMATS))
     jobs = [("history", lambda: plot_history(res))]
-    if shows_warmup(res):
-        jobs.append(("response", lambda: plot_response(res, final=_auto_final(res))))
+    moving = warmup_nodes(res)
+    if moving:
+        jobs.append(("response", lambda: plot_response(res, moving, final=_auto_final(res))))
     jobs.append(("flows", lambda: _plot_flows_and_energy(res)))
     written = []
     for name, job in jobs:

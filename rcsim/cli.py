@@ -316,7 +316,6 @@ def plot(result, kind, nodes, links, final, output):
     from .materials import suggest
     from .plotting import KINDS, plot_result, save_figure
     from .results import Result
-    from .units import to_si
 
     if kind not in KINDS:
         raise InputError(f"unknown kind {kind!r}", "--kind", suggest(kind, KINDS))
@@ -335,8 +334,7 @@ def plot(result, kind, nodes, links, final, output):
         if kind != "response":
             raise InputError("--final applies to response figures", "--final",
                              "use --kind response")
-        options["final"] = final if final in ("last", "fit") else \
-            to_si(final, "temperature", "--final")
+        options["final"] = final
     if links:
         options["links"] = links
     res = Result.load(result)

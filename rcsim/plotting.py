@@ -155,21 +155,20 @@ class _TimeAxis:
               "h": (1, 2, 3, 6, 12, 24, 48, 72), "d": (1, 2, 7, 14, 28, 56, 91, 182, 365)}
 
     def __init__(self, t: np.ndarray, start=None, dates: bool = True):
-        self.t0 = float(t[0]) if t.size else 0.0
-        span = float(t[-1] - t[0]) if t.size else 0.0
-        self.span = span
+        self.span = float(t[-1] - t[0]) if t.size else 0.0
         self.start = _naive(start) if (dates and start is not None) else None
         if self.start is not None:
             self.unit, self.scale = "date", 1.0
         else:
-            self.unit, self.scale = time_unit_for(span)
+            self.unit, self.scale = time_unit_for(self.span)
 
     def x(self, seconds):
+        """Axis values of times [s]: numbers in the unit, or datetime64 from the start."""
         seconds = np.asarray(seconds, dtype=float)
-        if self.start is not None:
-            return (self.start + pd.to_timedelta(seconds, unit="s")).to_numpy() \
-                if seconds.ndim else np.datetime64(self.start + pd.to_timedelta(float(seconds), "s"))
-        return seconds / self.scale
+        if self.start is None:
+            return seconds / self.scale
+        stamps = (self.start + pd.to_timedelta(np.atleast_1d(seconds), unit="s")).to_numpy()
+        return stamps if seconds.ndim else stamps[0]
 
     @property
     def label(self) -> str:
@@ -202,7 +201,7 @@ def _style(i: int) -> dict:
     """Colour, line style and (from the seventh series) marker of series ``i``."""
     out = {"color": PALETTE[i % len(PALETTE)], "linestyle": LINE_STYLES[i % len(LINE_STYLES)]}
     if i >= len(PALETTE):
-        out.update(marker=MARKERS[(i // len(PALETTE) - 1) % len(MARKERS)], markevery=0.1,
+        out.update(marker=MARKERS[(i - len(PALETTE)) % len(MARKERS)], markevery=0.1,
                    markersize=4, markerfacecolor="white")
     return out
 
@@ -493,6 +492,18 @@ def _crossing(t, theta, level):
     return float(t[k - 1] + (t[k] - t[k - 1]) * (a - level) / (a - b))
 
 
+def _temperature(value) -> float:
+    """T_final given as a number [degC] or a string with units."""
+    from .errors import UnitError
+    from .units import to_si
+
+    try:
+        return to_si(value, "temperature", "final")
+    except UnitError as err:
+        raise InputError(f"final must be 'last', 'fit' or a temperature; {err.message}", "final",
+                         "write e.g. '25 degC'") from None
+
+
 def _response_setup(res, nodes, final):
     """Nodes, T_initial, T_final, τ and how they were found, for a response plot."""
     temps = res.temperatures
@@ -507,9 +518,10 @@ def _response_setup(res, nodes, final):
         candidates, _ = _default_nodes(res, limited)
     else:
         candidates = _check_names(nodes, list(temps.columns), "node", "nodes")
-    if isinstance(final, str) and final not in ("last", "fit"):
-        raise InputError(f"final must be 'last', 'fit', a temperature or a dict, got {final!r}",
-                         "final")
+    if isinstance(final, dict):
+        final = {k: _temperature(v) for k, v in final.items()}
+    elif final not in (None, "last", "fit"):
+        final = _temperature(final)
     how = "last sample" if final in (None, "last") else "fitted asymptote" if final == "fit" \
         else "given"
     tau, tau_source = (float(taus[0]), "result") if taus.size else (math.nan, "estimated")
@@ -548,8 +560,8 @@ def plot_response(res, nodes=None, *, final=None, ax=None, title=None) -> Drawn:
     nodes : list of str, optional
         Nodes to draw (default: as for the history). Nodes whose initial and final temperatures
         differ by 0.01 K or less are skipped, and the figure says so.
-    final : None, "last", "fit", float or {node: float}
-        T_final [degC]: the last sample of the run (default), a least-squares asymptote
+    final : None, "last", "fit", a temperature, or {node: temperature}
+        T_final (degC, or a string with units such as "77 degF"): the last sample of the run (default), a least-squares asymptote
         T_final + A·exp(−t/τ₁) over the part of the run past the faster modes (``"fit"``, for runs
         that end before they settle), one temperature for every node, or one per node.
     ax : matplotlib Axes, optional

@@ -204,8 +204,13 @@ def test_response_skips_nodes_that_do_not_move():
     assert any("skipped" in n and "still" in n for n in d.notes)
     with pytest.raises(InputError, match="no warm-up or cool-down"):
         plotting.plot_response(res, nodes=["still"])
-    with pytest.raises(InputError, match="final must be"):
+    with pytest.raises(InputError, match="final must be 'last', 'fit' or a temperature"):
         plotting.plot_response(res, final="settled")
+    with pytest.raises(InputError, match="expected a temperature, got '3 W'"):
+        plotting.plot_response(res, final={"mass": "3 W"})
+    # 77 degF is (77 - 32) * 5/9 = 25 degC by the definition of the Fahrenheit scale
+    f = plotting.plot_response(res, nodes=["mass"], final="77 degF")
+    assert f.values["final"]["mass"] == pytest.approx(25.0, abs=1e-12)
 
 
 # -- flows and energy ----------------------------------------------------------------------------
@@ -373,7 +378,8 @@ def test_cli_plot_writes_each_kind_and_format(cli, result_file, tmp_path):
                                                 "figure)"),
     (["--final", "fit"], "error: --final: --final applies to response figures (use --kind "
                          "response)"),
-    (["--kind", "response", "--final", "7 W"], "error: --final: expected a temperature"),
+    (["--kind", "response", "--final", "7 W"], "error: --final: final must be 'last', 'fit' or a "
+                                               "temperature; expected a temperature"),
 ])
 def test_cli_plot_bad_options_exit_2_with_one_line(cli, result_file, tmp_path, args, message):
     args = [a.replace("{tmp}", str(tmp_path)) for a in args]

@@ -215,6 +215,29 @@ def _new_figure(size, rows: int = 1):
     return fig, list(axes[:, 0])
 
 
+def _begin(res, ax, kind: str, dates: bool):
+    """The axes to draw on (a new figure when ``ax`` is None), the time axis and an empty Drawn.
+
+    Returns ``(drawn, ax, time_axis, x, own)``; ``x`` are the result's times on the axis and
+    ``own`` says whether the figure is ours (then the legend goes below the axes).
+    """
+    own = ax is None
+    if own:
+        fig, axes = _new_figure(_SIZE_ONE)
+        ax = axes[0]
+    else:
+        fig, axes = ax.figure, [ax]
+    ta = _TimeAxis(res.time, res.start_time, dates)
+    drawn = Drawn(fig, axes, kind, time_unit=ta.unit, time_scale=ta.scale)
+    return drawn, ax, ta, ta.x(res.time), own
+
+
+def _end_time_axis(ax, ta, x) -> None:
+    if len(x):
+        ax.set_xlim(x[0], x[-1])
+    ta.format(ax)
+
+
 def _suggest(name, valid) -> str:
     from .materials import suggest
 
@@ -360,16 +383,8 @@ def plot_history(res, nodes=None, *, boundaries=True, limits=True, ax=None, titl
     from matplotlib.patches import Rectangle
 
     with mpl.rc_context(STYLE):
-        own = ax is None
-        if own:
-            fig, axes = _new_figure(_SIZE_ONE)
-            ax = axes[0]
-        else:
-            fig, axes = ax.figure, [ax]
+        drawn, ax, ta, x, own = _begin(res, ax, "history", dates)
         t = res.time
-        ta = _TimeAxis(t, res.start_time, dates)
-        x = ta.x(t)
-        drawn = Drawn(fig, axes, "history", time_unit=ta.unit, time_scale=ta.scale)
         colour = {}
         for i, name in enumerate(node_list):
             st = _style(i)
@@ -434,9 +449,7 @@ def plot_history(res, nodes=None, *, boundaries=True, limits=True, ax=None, titl
                               "alpha": 0.95},
                         arrowprops={"arrowstyle": "-", "color": colour[node], "lw": 0.8})
 
-        if len(t):
-            ax.set_xlim(x[0], x[-1])
-        ta.format(ax)
+        _end_time_axis(ax, ta, x)
         ax.set_ylabel("temperature [°C]")
         ax.set_title(title if title is not None else _title(res), loc="left")
         _legend(ax, own, 4)
@@ -601,15 +614,7 @@ def plot_response(res, nodes=None, *, final=None, ax=None, title=None) -> Drawn:
     rising = [finals[n] > initials[n] for n in shown]
     what = "warm-up" if all(rising) else "cool-down" if not any(rising) else "warm-up and cool-down"
     with mpl.rc_context(STYLE):
-        own = ax is None
-        if own:
-            fig, axes = _new_figure(_SIZE_ONE)
-            ax = axes[0]
-        else:
-            fig, axes = ax.figure, [ax]
-        ta = _TimeAxis(t, None, dates=False)
-        x = ta.x(t)
-        drawn = Drawn(fig, axes, "response", time_unit=ta.unit, time_scale=ta.scale)
+        drawn, ax, ta, x, own = _begin(res, ax, "response", False)
         ax.set_yscale("log")
         hidden = False
         for i, n in enumerate(candidates):
@@ -655,8 +660,7 @@ def plot_response(res, nodes=None, *, final=None, ax=None, title=None) -> Drawn:
         ax.yaxis.set_major_locator(LogLocator(base=10.0, subs=(1.0, 2.0, 5.0)))
         ax.yaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
         ax.yaxis.set_minor_formatter(NullFormatter())
-        ax.set_xlim(x[0], x[-1])
-        ta.format(ax)
+        _end_time_axis(ax, ta, x)
         ax.set_ylabel("θ = (T − T_final)/(T_initial − T_final) [–]")
         ax.set_title(title if title is not None else f"{_title(res)}: {what}",
                      loc="left")
@@ -726,30 +730,20 @@ def plot_flows(res, links=None, *, ax=None, title=None, dates=True) -> Drawn:
     import matplotlib as mpl
 
     with mpl.rc_context(STYLE):
-        if ax is None:
-            fig, axes = _new_figure(_SIZE_ONE)
-            ax = axes[0]
-        else:
-            fig, axes = ax.figure, [ax]
-        t = res.time
-        ta = _TimeAxis(t, res.start_time, dates)
-        x = ta.x(t)
-        drawn = Drawn(fig, axes, "flows", time_unit=ta.unit, time_scale=ta.scale)
+        drawn, ax, ta, x, own = _begin(res, ax, "flows", dates)
         ax.axhline(0.0, color="#999999", lw=0.8, zorder=1)
         for i, name in enumerate(names):
             label = f"{name} ({ends[name][0]} → {ends[name][1]})" if name in ends else name
             (line,) = ax.plot(x, flows[name].to_numpy(), lw=1.6, label=label, zorder=3,
                               **_style(i))
             drawn.lines[name] = line
-        if len(t):
-            ax.set_xlim(x[0], x[-1])
-        ta.format(ax)
+        _end_time_axis(ax, ta, x)
         ax.set_ylabel("heat flow [W]")
         ax.set_title(title if title is not None else
                      "heat flow through each link, positive from its first point to its second",
                      loc="left")
         if names:
-            ax.legend(loc="best")
+            _legend(ax, own, 2)
         else:
             notes.append("no link heat flows in this result")
         _note(ax, notes, "lower right")
@@ -782,15 +776,7 @@ def plot_energy(res, *, ax=None, title=None, dates=True) -> Drawn:
     import matplotlib as mpl
 
     with mpl.rc_context(STYLE):
-        if ax is None:
-            fig, axes = _new_figure(_SIZE_ONE)
-            ax = axes[0]
-        else:
-            fig, axes = ax.figure, [ax]
-        t = res.time
-        ta = _TimeAxis(t, res.start_time, dates)
-        x = ta.x(t)
-        drawn = Drawn(fig, axes, "energy", time_unit=ta.unit, time_scale=ta.scale)
+        drawn, ax, ta, x, own = _begin(res, ax, "energy", dates)
         ax.axhline(0.0, color="#999999", lw=0.8, zorder=1)
         drawn.lines["in"] = ax.plot(x, e_in / scale, lw=1.6, color=PALETTE[1],
                                     linestyle=LINE_STYLES[1], label="in (links and sources)",
@@ -806,15 +792,13 @@ def plot_energy(res, *, ax=None, title=None, dates=True) -> Drawn:
                                      label="in + out (lies on stored when energy balances)",
                                      zorder=5)[0]
         drawn.values.update(energy_unit=unit, energy_scale=scale)
-        if len(t):
-            ax.set_xlim(x[0], x[-1])
-        ta.format(ax)
+        _end_time_axis(ax, ta, x)
         ax.set_ylabel(f"energy [{unit}]")
         bal = res.energy_balance
         ax.set_title(title if title is not None else
                      f"cumulative energy; balance error {bal:.1e}" if math.isfinite(bal) else
                      "cumulative energy", loc="left")
-        ax.legend(loc="best")
+        _legend(ax, own, 2)
         return drawn
 
 

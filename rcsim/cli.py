@@ -85,15 +85,9 @@ def _check_output(path, suffixes, option) -> None:
 
 
 def _fmt_time(seconds: float) -> str:
-    if seconds is None or not math.isfinite(seconds):
-        return "-"
-    if seconds < 120:
-        return f"{seconds:.3g} s"
-    if seconds < 7200:
-        return f"{seconds / 60:.4g} min"
-    if seconds < 4 * 86400:
-        return f"{seconds / 3600:.4g} h"
-    return f"{seconds / 86400:.4g} d"
+    from .units import format_duration
+
+    return format_duration(seconds)
 
 
 def _fmt_energy(joules: float) -> str:
@@ -297,6 +291,72 @@ def run(scenario, output, csv_path, plots_dir, solver, record, allow_absolute_pa
         click.echo(format_run_summary(sc, res))
         for p in written:
             click.echo(f"wrote {p}")
+
+
+# -- plot ----------------------------------------------------------------------------------
+def _names(values) -> list[str] | None:
+    """Names given as repeated options and/or comma-separated lists."""
+    out = [n.strip() for v in values for n in v.split(",") if n.strip()]
+    return out or None
+
+
+@main.command()
+@click.argument("result", type=click.Path(dir_okay=True))
+@click.option("--kind", default="history", show_default=True,
+              help="history (temperatures, limits, hold time), response (warm-up or cool-down "
+              "on a log axis, time constants) or flows (heat flows and energy).")
+@click.option("--nodes", multiple=True, help="Nodes to draw, repeated or comma-separated "
+              "(history, response); a boundary's name adds it to a history.")
+@click.option("--links", multiple=True, help="Links to draw in a flows figure, repeated or "
+              "comma-separated.")
+@click.option("--final", default=None, help="response only: T_final as 'last' (the last sample, "
+              "default), 'fit' (asymptote fitted with the dominant time constant) or a "
+              "temperature such as '25 degC'.")
+@click.option("-o", "--output", type=click.Path(), help="Figure file, .png, .svg or .pdf "
+              "(default: RESULT's name with -KIND.png, beside it).")
+@_guard
+def plot(result, kind, nodes, links, final, output):
+    """Draw a figure from the result file RESULT (the run is not repeated)."""
+    from .materials import suggest
+    from .plotting import KINDS, plot_result, save_figure
+    from .results import Result
+
+    if kind not in KINDS:
+        raise InputError(f"unknown kind {kind!r}", "--kind", suggest(kind, KINDS))
+    if output is None:
+        output = f"{os.path.splitext(result)[0]}-{kind}.png"
+    _check_output(output, (".png", ".svg", ".pdf"), "--output")
+    nodes, links = _names(nodes), _names(links)
+    if links and kind != "flows":
+        raise InputError("--links chooses the links of a flows figure", "--links",
+                         "use --kind flows, or --nodes")
+    if nodes and kind == "flows":
+        raise InputError("--nodes chooses nodes of history and response figures", "--nodes",
+                         "use --links for a flows figure")
+    options = {}
+    if final is not None:
+        if kind != "response":
+            raise InputError("--final applies to response figures", "--final",
+                             "use --kind response")
+        options["final"] = final
+    if links:
+        options["links"] = links
+    res = Result.load(result)
+    try:
+        drawn = plot_result(res, kind, nodes=nodes, **options)
+    except InputError as err:
+        if err.where in ("nodes", "links", "final"):
+            raise InputError(err.message, f"--{err.where}", err.hint) from None
+        raise
+    import matplotlib.pyplot as plt
+
+    try:
+        save_figure(drawn.figure, output)
+    finally:
+        plt.close(drawn.figure)
+    for note in drawn.notes:
+        click.echo(f"note: {note}")
+    click.echo(f"wrote {output}")
 
 
 def format_run_summary(sc, res) -> str:

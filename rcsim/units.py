@@ -19,7 +19,7 @@ import pint
 
 from .errors import UnitError
 
-__all__ = ["ureg", "KINDS", "to_si", "to_si_array", "format_quantity"]
+__all__ = ["ureg", "KINDS", "to_si", "to_si_array", "format_quantity", "format_duration"]
 
 ureg = pint.UnitRegistry()
 ureg.formatter.default_format = "~P"
@@ -185,6 +185,23 @@ def format_quantity(value: float, kind: str, digits: int = 4) -> str:
     unit = {"temperature": "degC", "temperature_difference": "K"}.get(kind, KINDS[kind][0])
     unit = unit.replace("**", "^")
     return f"{value:.{digits}g} {unit}".strip()
+
+
+def format_duration(seconds: float | None) -> str:
+    """Format a time span [s] in the unit a reader expects: s, min, h or d.
+
+    >>> format_duration(90.0), format_duration(1800.0), format_duration(31592.8), format_duration(5e5)
+    ('90 s', '30 min', '8.776 h', '5.787 d')
+    """
+    if seconds is None or not math.isfinite(seconds):
+        return "-"
+    if abs(seconds) < 120:
+        return f"{seconds:.3g} s"
+    if abs(seconds) < 7200:
+        return f"{seconds / 60:.4g} min"
+    if abs(seconds) < 4 * 86400:
+        return f"{seconds / 3600:.4g} h"
+    return f"{seconds / 86400:.4g} d"
 
 
 def _short(value) -> str:

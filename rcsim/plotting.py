@@ -33,7 +33,6 @@ from __future__ import annotations
 
 import math
 import os
-import tempfile
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -66,8 +65,6 @@ _SIZE_ONE = (7.0, 4.3)   # inches: a print column at 1:1, a screen at 150 dpi
 _SIZE_TWO = (7.0, 6.4)
 _DPI = 150
 _MAX_SERIES = 8
-_UMASK = os.umask(0o022)
-os.umask(_UMASK)  # read once, at import
 
 STYLE = {
     "font.size": 9.5,
@@ -855,23 +852,13 @@ def save_figure(fig, path) -> str:
     if fmt not in FORMATS:
         raise InputError(f"cannot write a figure as {fmt or 'a file without suffix'!r}", path,
                          "use .png, .svg or .pdf")
-    folder = os.path.dirname(os.path.abspath(path))
-    if not os.path.isdir(folder):
-        raise InputError("folder does not exist", os.path.dirname(path) or ".", "create it first")
-    fd, tmp = tempfile.mkstemp(prefix=".rcsim-", suffix=f".{fmt}.tmp", dir=folder)
-    os.close(fd)
-    os.chmod(tmp, 0o666 & ~_UMASK)  # as an ordinary new file would be, not mkstemp's 0600
     import matplotlib as mpl
 
+    from .atomic import atomic_path
+
     meta = {"png": {"Software": None}, "svg": {"Date": None}, "pdf": {"CreationDate": None}}[fmt]
-    try:
-        with mpl.rc_context(STYLE):
-            fig.savefig(tmp, format=fmt, dpi=_DPI, metadata=meta)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.remove(tmp)
-        raise
+    with atomic_path(path, f".{fmt}.tmp") as tmp, mpl.rc_context(STYLE):
+        fig.savefig(tmp, format=fmt, dpi=_DPI, metadata=meta)
     return path
 
 

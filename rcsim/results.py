@@ -25,7 +25,6 @@ from __future__ import annotations
 import datetime as _dt
 import json
 import os
-import tempfile
 
 import numpy as np
 import pandas as pd
@@ -85,13 +84,10 @@ class H5Sink:
     def __init__(self, path):
         import h5py
 
+        from .atomic import temporary_beside
+
         self.path = os.fspath(path)
-        folder = os.path.dirname(os.path.abspath(self.path))
-        if not os.path.isdir(folder):
-            raise DataError("folder does not exist", os.path.dirname(self.path) or ".",
-                            "create it first")
-        fd, self.tmp = tempfile.mkstemp(prefix=".rcsim-", suffix=".h5.tmp", dir=folder)
-        os.close(fd)
+        self.tmp = temporary_beside(self.path, ".h5.tmp")
         self.file = h5py.File(self.tmp, "w")
         self.names: dict[str, list[str]] = {}
         self._empty: list[str] = []
@@ -132,7 +128,9 @@ class H5Sink:
             self.file.attrs[k] = v
         self.file.close()
         self._open = False
-        os.replace(self.tmp, self.path)
+        from .atomic import commit
+
+        commit(self.tmp, self.path)
 
     def abort(self) -> None:
         if self._open:
@@ -141,8 +139,9 @@ class H5Sink:
             except Exception:  # pragma: no cover - closing a broken file
                 pass
             self._open = False
-        if os.path.exists(self.tmp):
-            os.remove(self.tmp)
+        from .atomic import discard
+
+        discard(self.tmp)
 
 
 def _write_frame(h5, group: str, frame: pd.DataFrame) -> None:
@@ -516,17 +515,10 @@ class Result:
                   self.source_powers.add_prefix("source:"),
                   self.heat_flows.add_prefix("flow:")]
         table = pd.concat(frames, axis=1)
-        path = os.fspath(path)
-        folder = os.path.dirname(os.path.abspath(path))
-        fd, tmp = tempfile.mkstemp(prefix=".rcsim-", suffix=".csv.tmp", dir=folder)
-        os.close(fd)
-        try:
+        from .atomic import atomic_path
+
+        with atomic_path(path, ".csv.tmp") as tmp:
             table.to_csv(tmp, float_format="%.10g")
-            os.replace(tmp, path)
-        except BaseException:
-            if os.path.exists(tmp):
-                os.remove(tmp)
-            raise
 
     def plot(self, kind: str = "history", **kwargs):
         """Draw the result (see :mod:`rcsim.plotting`); returns what was drawn."""

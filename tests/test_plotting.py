@@ -27,6 +27,9 @@ from rcsim.errors import InputError  # noqa: E402
 from conftest import ROOT, SCENARIOS  # noqa: E402
 
 COLD_BOX = os.path.join(SCENARIOS, "cold-box.toml")
+# the figures are tested on a fixed linear box that warms up and settles (tests/data), so that
+# the bundled examples can change without changing these checks
+WARMUP_BOX = os.path.join(os.path.dirname(os.path.abspath(__file__)), "data", "warmup-box.toml")
 R, C = 2.5, 8400.0          # K/W, J/K: tau = RC = 21000 s
 TAU = R * C
 
@@ -39,7 +42,7 @@ def _close_figures():
 
 @pytest.fixture(scope="module")
 def box():
-    return rcsim.load(COLD_BOX).run()
+    return rcsim.load(WARMUP_BOX).run()
 
 
 def single_node(duration, step, start=None, boundary=25.0, source=None, initial=5.0):
@@ -342,7 +345,7 @@ def test_palette_stays_apart_for_colour_blind_readers_and_in_grey():
 @pytest.fixture(scope="module")
 def result_file(tmp_path_factory):
     path = tmp_path_factory.mktemp("plot") / "box.h5"
-    rcsim.load(COLD_BOX).run(output=str(path))
+    rcsim.load(WARMUP_BOX).run(output=str(path))
     return path
 
 
@@ -400,10 +403,15 @@ def test_cli_plot_missing_or_foreign_file(cli, tmp_path):
 
 
 def test_cli_run_writes_the_standard_set(cli, tmp_path):
-    r = cli("run", COLD_BOX, "--plots", tmp_path / "figs", "--quiet")
+    r = cli("run", WARMUP_BOX, "--plots", tmp_path / "figs", "--quiet")
     assert r.exit_code == 0, r.output
-    assert sorted(os.listdir(tmp_path / "figs")) == ["cold-box-flows.png", "cold-box-history.png",
-                                                    "cold-box-response.png"]
+    assert sorted(os.listdir(tmp_path / "figs")) == ["warmup-box-flows.png",
+                                                    "warmup-box-history.png",
+                                                    "warmup-box-response.png"]
+    # a run that never settles (the bundled shipper under a daily swing) has no response figure
+    r = cli("run", COLD_BOX, "--plots", tmp_path / "figs2", "--quiet")
+    assert r.exit_code == 0, r.output
+    assert sorted(os.listdir(tmp_path / "figs2")) == ["cold-box-flows.png", "cold-box-history.png"]
 
 
 # -- the gallery ---------------------------------------------------------------------------------
@@ -425,7 +433,7 @@ def test_gallery_build_picks_up_scenarios_and_drops_stale_figures(tmp_path):
 
     src = tmp_path / "scenarios"
     src.mkdir()
-    shutil.copy(COLD_BOX, src / "shipper.toml")
+    shutil.copy(WARMUP_BOX, src / "shipper.toml")
     out = tmp_path / "plots"
     out.mkdir()
     (out / "gone-history.png").write_bytes(b"old")

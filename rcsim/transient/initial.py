@@ -29,10 +29,13 @@ def resolve_initial_option(initial):
 def given_temperatures(network, asm, overrides: dict, u0: np.ndarray) -> np.ndarray:
     """Node temperatures at t = 0 from the nodes' ``initial`` values (and overrides).
 
-    Internal nodes of massive layers without a value are interpolated along their link's
-    resistance between the two ends (the steady profile through the layer). Massless nodes do not
-    need one. A massive user node without a value is an error.
+    Every node without a given value — internal nodes of massive layers, massless junctions —
+    starts on the steady profile between the given ones: with the nodes that have a value held
+    there and the boundaries at their t = 0 values, the rest solve K_UU T_U = -K_UK T_K + B_U u0.
+    A massive user node without a value is an error.
     """
+    import scipy.sparse.linalg as spla
+
     T = asm.initial.copy()
     for name, value in overrides.items():
         if name in asm.node_names:
@@ -41,34 +44,30 @@ def given_temperatures(network, asm, overrides: dict, u0: np.ndarray) -> np.ndar
             raise InputError(f"unknown node {name!r}", "initial",
                              suggest(name, asm.node_names))
     n_user = len(network.nodes)
-    n = asm.n_nodes
     missing = [i for i in range(n_user) if np.isnan(T[i]) and asm.capacity[i] > 0]
     if missing:
         name = asm.node_names[missing[0]]
         raise NetworkError(f"node {name!r} has no initial temperature", f"nodes.{name}.initial",
                            "give initial = '...' or start from initial = 'steady' or 'periodic'")
-    # internal nodes: interpolate along each link's chain of segments
-    for li, lname in enumerate(asm.link_names):
-        s0, s1 = int(asm.link_first_seg[li]), int(asm.link_last_seg[li])
-        if s1 == s0:
-            continue
-        inner = asm.seg_b[s0:s1]                       # internal node of each segment but the last
-        if not np.isnan(T[inner]).any():
-            continue
-        a, b = int(asm.seg_a[s0]), int(asm.seg_b[s1])
-        ta = T[a] if a < n else u0[a - n]
-        tb = T[b] if b < n else u0[b - n]
-        if np.isnan(ta) or np.isnan(tb):
-            ta = tb if np.isnan(ta) else ta
-            tb = ta if np.isnan(tb) else tb
-        if np.isnan(ta):
-            raise NetworkError(f"cannot set the initial temperatures inside link {lname!r}: "
-                               "neither end has one", f"links.{lname}",
-                               "give its end nodes an initial temperature")
-        r = 1.0 / asm.seg_g[s0:s1 + 1]
-        frac = np.cumsum(r)[:-1] / r.sum()
-        fill = np.isnan(T[inner])
-        T[inner[fill]] = (ta + (tb - ta) * frac)[fill]
-    # massless nodes get their algebraic value later; keep NaN out of the arrays
-    T[np.isnan(T)] = 0.0
+    massless = asm.capacity == 0
+    given = ~np.isnan(T) & ~massless
+    unknown = np.flatnonzero(~given)
+    if unknown.size == 0:
+        return T
+    known = np.flatnonzero(given)
+    K = asm.K.tocsr()
+    rhs = asm.B[unknown] @ u0 - K[unknown][:, known] @ T[known]
+    Kuu = K[unknown][:, unknown].tocsc()
+    try:
+        sol = spla.spsolve(Kuu, rhs) if unknown.size > 1 else rhs / Kuu.toarray()[0, 0]
+    except RuntimeError:
+        sol = np.full(unknown.size, np.nan)
+    sol = np.atleast_1d(np.asarray(sol, dtype=float))
+    if not np.all(np.isfinite(sol)):
+        # a group of such nodes touches neither a given node nor a boundary
+        bad = asm.node_names[int(unknown[int(np.argmax(~np.isfinite(sol)))])]
+        raise NetworkError(f"cannot set the initial temperature of {bad!r}: it is linked to no "
+                           "node with a given temperature and no boundary", None,
+                           "give a neighbouring node an initial temperature")
+    T[unknown] = sol
     return T

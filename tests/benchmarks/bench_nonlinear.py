@@ -98,7 +98,7 @@ def hand_written_box():
                 q_foam - q_film - q_rad_out]
 
     y0 = [C["payload"] * 5.0, pack_H(-3.0), pack_H(-3.0), C["box_air"] * 5.0, C["liner"] * 5.0,
-          C["shell"] * 25.0]
+          C["shell"] * 20.0]
     return rhs, y0, C["payload"]
 
 

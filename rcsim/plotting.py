@@ -802,11 +802,12 @@ def plot_energy(res, *, ax=None, title=None, dates=True) -> Drawn:
 def _plot_flows_and_energy(res, links=None, ax=None, title=None, dates=True) -> Drawn:
     if ax is not None and not isinstance(ax, (list, tuple, np.ndarray)):
         return plot_flows(res, links, ax=ax, title=title, dates=dates)
-    if ax is None:
+    own = ax is None
+    if own:
         import matplotlib as mpl
 
         with mpl.rc_context(STYLE):
-            fig, axes = _new_figure(_SIZE_TWO, rows=2)
+            fig, axes = _new_figure((_SIZE_TWO[0] + 3.0, _SIZE_TWO[1]), rows=2)
     else:
         axes = list(ax)
         if len(axes) != 2:
@@ -815,6 +816,14 @@ def _plot_flows_and_energy(res, links=None, ax=None, title=None, dates=True) -> 
     top = plot_flows(res, links, ax=axes[0], title=title, dates=dates)
     bottom = plot_energy(res, ax=axes[1], dates=dates)
     axes[0].set_xlabel("")
+    if own:  # on our own figure the legends go beside the axes, where they hide no curve
+        for a in axes:
+            legend = a.get_legend()
+            if legend is not None:
+                handles, labels = a.get_legend_handles_labels()
+                legend.remove()
+                a.legend(handles, labels, loc="upper left", bbox_to_anchor=(1.01, 1.0),
+                         borderaxespad=0.0)
     if title is None:
         fig.suptitle(_title(res), x=0.01, ha="left", fontsize=STYLE["axes.titlesize"] + 0.5,
                      fontweight="bold")
@@ -859,7 +868,18 @@ def save_figure(fig, path) -> str:
     meta = {"png": {"Software": None}, "svg": {"Date": None}, "pdf": {"CreationDate": None}}[fmt]
     with atomic_path(path, f".{fmt}.tmp") as tmp, mpl.rc_context(STYLE):
         fig.savefig(tmp, format=fmt, dpi=_DPI, metadata=meta)
+        if fmt == "png":
+            _palette_png(tmp)
     return path
+
+
+def _palette_png(path) -> None:
+    """Re-save a PNG with a 256-colour palette: line figures look the same at a third the size."""
+    from PIL import Image
+
+    with Image.open(path) as im:
+        small = im.convert("RGB").quantize(colors=256, method=Image.Quantize.MEDIANCUT, dither=0)
+    small.save(path, format="PNG", optimize=True)
 
 
 def warmup_nodes(res) -> list[str]:

@@ -605,9 +605,11 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit="s", m
         raise DataError("is a directory, not a CSV file", label)
     if not os.path.exists(path):
         raise DataError("file not found", label, f"looked for {os.path.abspath(path)}")
-    if max_bytes is not None and os.path.getsize(path) > max_bytes:
-        raise DataError(f"file is {os.path.getsize(path) / 1e9:.2f} GB, more than the "
+    size = os.path.getsize(path)
+    if max_bytes is not None and size > max_bytes:
+        raise DataError(f"file is {size / 1e9:.2f} GB, more than the "
                         f"{max_bytes / 1e9:.2f} GB allowed", label)
+    check_fits_in_memory(size * 4, label, "reading it")
     try:
         df = pd.read_csv(path, comment=None, skipinitialspace=True, dtype=str,
                          keep_default_na=False, encoding="utf-8")
@@ -657,6 +659,27 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit="s", m
     frame = pd.DataFrame(out, index=pd.Index(t, name="time"))
     frame.attrs["is_datetime"] = parsed.is_datetime
     return frame
+
+
+def memory_available() -> int | None:
+    """Bytes of memory available to this process (Linux /proc/meminfo), or None if unknown."""
+    try:
+        with open("/proc/meminfo", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("MemAvailable:"):
+                    return int(line.split()[1]) * 1024
+    except OSError:  # pragma: no cover - not Linux
+        pass
+    return None
+
+
+def check_fits_in_memory(needed_bytes: float, where: str, doing: str) -> None:
+    """Refuse work that would need more than 80 % of the available memory."""
+    avail = memory_available()
+    if avail is not None and needed_bytes > 0.8 * avail:
+        raise DataError(f"{doing} needs about {needed_bytes / 1e9:.1f} GB but only "
+                        f"{avail / 1e9:.1f} GB of memory is available", where,
+                        "split the file, or use a machine with more memory")
 
 
 def _parse_times(col, name, label, start, time_unit) -> _TimeParse:

@@ -397,9 +397,15 @@ class Result:
         if key not in self._arrays and self.path is not None:
             import h5py
 
+            from .profiles import check_fits_in_memory
+
             with h5py.File(self.path, "r") as h5:
                 if key in h5:
-                    self._arrays[key] = h5[key][()]
+                    ds = h5[key]
+                    check_fits_in_memory(ds.size * ds.dtype.itemsize * 2,
+                                         f"{os.path.basename(self.path)}: /{key}",
+                                         "loading this history")
+                    self._arrays[key] = ds[()]
         return self._arrays.get(key, np.empty((0, 0)))
 
     def _frame(self, key: str) -> pd.DataFrame:

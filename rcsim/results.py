@@ -62,7 +62,8 @@ class MemorySink:
         self.parts[key] = []
 
     def append(self, key: str, array: np.ndarray) -> None:
-        self.parts[key].append(np.asarray(array, dtype=float))
+        # a copy: a slice would keep the solver's whole block of states alive
+        self.parts[key].append(np.array(array, dtype=float))
 
     def arrays(self) -> dict:
         out = {}

@@ -273,12 +273,12 @@ def run_stiff(model: StiffModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol:
                 k2 = k_next
                 while k2 < t_out.size and t_out[k2] <= t_limit:
                     k2 += 1
-                if k2 > k_next:
-                    tt = t_out[k_next:k2]
-                    Y = dense(tt).T
+                while k_next < k2:  # in batches: one long step may span many outputs
+                    kb = min(k2, k_next + record_every)
+                    tt = t_out[k_next:kb]
                     buf_t.extend(tt.tolist())
-                    buf_y.extend(list(Y))
-                    k_next = k2
+                    buf_y.extend(list(dense(tt).T))
+                    k_next = kb
                     if len(buf_t) >= record_every:
                         flush()
                 if t_hit is not None:

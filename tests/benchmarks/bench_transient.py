@@ -130,8 +130,8 @@ print(json.dumps({"wall": wall, "peak_mb": peak,
 """
 
 
-def bench_large(quick: bool):
-    n = 2000 if quick else 10_000
+def bench_large(quick: bool, n: int | None = None):
+    n = n if n is not None else (2000 if quick else 10_000)
     out = {}
     for mode in ("build", "run"):
         p = subprocess.run([sys.executable, "-c", CHILD, str(n), mode], capture_output=True,
@@ -145,9 +145,50 @@ def bench_large(quick: bool):
     print(f"  energy balance {run['balance']:.1e}")
 
 
+CSV_CHILD = r"""
+import json, sys, time
+import numpy as np
+from rcsim.profiles import Table
+path, read = sys.argv[1], sys.argv[2] == "read"
+t0 = time.perf_counter()
+if read:
+    p = Table.from_csv(path, "t_amb").bind("temperature", "log")
+    assert p.times.size == 1_000_000
+wall = time.perf_counter() - t0
+peak = next(int(line.split()[1]) for line in open("/proc/self/status")
+            if line.startswith("VmHWM")) / 1024.0
+print(json.dumps({"wall": wall, "peak_mb": peak}))
+"""
+
+
+def bench_million_rows():
+    import os
+    import tempfile
+
+    folder = tempfile.mkdtemp()
+    path = os.path.join(folder, "log.csv")
+    t = np.arange(1_000_000) * 60.0
+    np.savetxt(path, np.column_stack([t, 20 + 5 * np.sin(t / 86400 * 2 * np.pi)]), delimiter=",",
+               header="time,t_amb", comments="", fmt=["%.0f", "%.4f"])
+    out = {}
+    for mode in ("import", "read"):
+        p = subprocess.run([sys.executable, "-c", CSV_CHILD, path, mode], capture_output=True,
+                           text=True, check=True)
+        out[mode] = json.loads(p.stdout.strip().splitlines()[-1])
+    size = os.path.getsize(path) / 1e6
+    print(f"a 1,000,000-row CSV column ({size:.0f} MB) read as a profile: "
+          f"{out['read']['wall']:.2f} s, peak memory {out['read']['peak_mb']:.0f} MB "
+          f"(importing rcsim alone: {out['import']['peak_mb']:.0f} MB)")
+
+
 if __name__ == "__main__":
     ap = argparse.ArgumentParser()
     ap.add_argument("--quick", action="store_true", help="shorter runs for a smoke test")
+    ap.add_argument("--large", action="store_true", help="also the 100,000-node network and a "
+                    "one-million-row CSV")
     args = ap.parse_args()
     bench_wall(args.quick)
     bench_large(args.quick)
+    if args.large:
+        bench_large(False, n=100_000)
+        bench_million_rows()

@@ -458,7 +458,7 @@ def _make_params(sc: Scenario, free, bounds, log: Log) -> list[_Param]:
                 raise InputError(f"bound of {key}: low {p.lo:g} is not below high {p.hi:g}",
                                  "bounds")
             if positive and p.lo <= 0:
-                p.lo = -math.inf if p.lo <= 0 else p.lo
+                p.lo = -math.inf  # a log-scale value is positive anyway
         params.append(p)
     return params
 
@@ -686,7 +686,7 @@ class FitResult:
     def table(self) -> pd.DataFrame:
         """The estimates with their display unit and the starting values (for printing/CSV)."""
         out = self.estimates.copy()
-        out["unit"] = [self.units.get(k, "") for k in out.index]
+        out["unit"] = [_si_unit(self.units.get(k, "")) for k in out.index]
         out["start"] = self.starts.iloc[0][list(out.index)].to_numpy(dtype=float) \
             if len(self.starts) else np.nan
         return out
@@ -928,13 +928,12 @@ def _starting_points(params, n, seed) -> list[np.ndarray]:
     rng = np.random.default_rng(seed)
     # a Latin-hypercube spread: each varied value covers its range once per start
     m = n - 1
-    for k in range(m):
-        points.append(x0.copy())
+    points += [x0.copy() for _ in range(m)]
     for i in vary:
         p = params[i]
-        lo, hi = p.to_x(p.lo) if np.isfinite(p.lo) and (p.lo > 0 or not p.log) else None, \
-            p.to_x(p.hi) if np.isfinite(p.hi) else None
-        if p.log:
+        lo = p.to_x(p.lo) if np.isfinite(p.lo) else None
+        hi = p.to_x(p.hi) if np.isfinite(p.hi) else None
+        if p.log:  # a decade either side, or the bounds
             a = lo if lo is not None else x0[i] - math.log(10.0)
             b = hi if hi is not None else x0[i] + math.log(10.0)
         else:
@@ -1015,8 +1014,7 @@ class _Problem:
     def solve(self, x0) -> _Run:
         from scipy.optimize import least_squares
 
-        lo = np.array([p.to_x(p.lo) if (np.isfinite(p.lo) and (p.lo > 0 or not p.log))
-                       else -np.inf for p in self.params])
+        lo = np.array([p.to_x(p.lo) if np.isfinite(p.lo) else -np.inf for p in self.params])
         hi = np.array([p.to_x(p.hi) if np.isfinite(p.hi) else np.inf for p in self.params])
         x0 = np.clip(np.asarray(x0, dtype=float), lo, hi)
         res = least_squares(self.residuals, x0, jac=self.jacobian, bounds=(lo, hi),
@@ -1053,8 +1051,9 @@ def _summarise(problem: _Problem, best: _Run, runs, log: Log, sc: Scenario, note
     for p, xi, v, se in zip(params, x, values, se_x):
         if p.log:
             std = v * se
-            lo, hi = (float(np.exp(xi - q * se)), float(np.exp(xi + q * se))) \
-                if np.isfinite(se) else (0.0, np.inf)
+            with np.errstate(over="ignore", under="ignore"):
+                lo, hi = (float(np.exp(xi - q * se)), float(np.exp(xi + q * se))) \
+                    if np.isfinite(se) else (0.0, np.inf)
         else:
             std = se
             lo, hi = (v - q * se, v + q * se) if np.isfinite(se) else (-np.inf, np.inf)
@@ -1092,7 +1091,8 @@ def _summarise(problem: _Problem, best: _Run, runs, log: Log, sc: Scenario, note
     if any(rn.status <= 0 for rn in [best]):
         warn.append(f"the fit did not converge ({best.message}); the estimates are uncertain")
     for p, v, se, (k, row) in zip(params, values, se_x, est.iterrows()):
-        if not np.isfinite(se):
+        if not np.isfinite(se) or (p.log and not (row["ci_low"] > 0
+                                                  and np.isfinite(row["ci_high"]))):
             warn.append(f"{k} is not identifiable from the data (the fit does not depend on it "
                         "in a way it can separate from the other values)")
         elif p.log and row["ci_high"] / row["ci_low"] > WIDE_FACTOR:
@@ -1141,7 +1141,8 @@ def _summarise(problem: _Problem, best: _Run, runs, log: Log, sc: Scenario, note
         tau = fitted_sc.network.time_constants()
     except InputError:  # pragma: no cover - networks too large for the dense decomposition
         tau = None
-    start_rows = [dict(zip(keys, problem.values(rn.x0)), cost=rn.cost, status=rn.status,
+    start_rows = [dict(zip(keys, [float(f"{v:.12g}") for v in problem.values(rn.x0)]),
+                       cost=rn.cost, status=rn.status,
                        evaluations=rn.nfev) for rn in runs]
     return FitResult(
         estimates=est, correlation=correlation, covariance=covariance, rmse=rmse,

@@ -67,10 +67,14 @@ WIDE_FACTOR = 4.0
 #: A temperature estimate whose 95 % half-width exceeds this [K] is called not identifiable.
 WIDE_KELVIN = 2.0
 
+#: A positive value without bounds is kept within this factor of its starting value.
+LOG_RANGE = 1e6
+
 _TIME_NAMES = {"time", "t", "timestamp", "datetime", "date", "seconds", "elapsed", "time_s"}
 _NA_TOKENS = {"", "nan", "na", "n/a", "null", "none", "-", "--"}
 _LINEAR_KINDS = {"temperature", "temperature_difference", "power"}
 _CHUNK_ELEMENTS = 400_000
+_PENALTY = 1e6  # residual [K/sigma] given to a trial value the model cannot run
 
 
 class FitWarning(RcsimWarning):
@@ -125,10 +129,10 @@ def _strip_unit(name: str) -> tuple[str, str | None]:
     return name.strip(), None
 
 
-def _find_time_column(columns, time, mapped_targets, names) -> str:
+def _find_time_column(columns, time, mapped_targets, names, label) -> str:
     if time is not None:
         if time not in columns:
-            raise DataError(f"no time column {time!r}", None,
+            raise DataError(f"no time column {time!r}", label,
                             "columns are: " + ", ".join(map(repr, columns)))
         return time
     for c in columns:
@@ -137,7 +141,7 @@ def _find_time_column(columns, time, mapped_targets, names) -> str:
     first = columns[0]
     if first in mapped_targets or first in names:
         raise DataError(f"no time column (the first column {first!r} is a node or boundary)",
-                        None, "add a column named 'time' (seconds or ISO-8601 timestamps) or "
+                        label, "add a column named 'time' (seconds or ISO-8601 timestamps) or "
                         "name the time column (time= / --time)")
     return first
 
@@ -253,7 +257,7 @@ def _from_csv(path, time, time_unit, label, columns, names, start):
     if raw.shape[0] == 0:
         raise DataError("has a header but no data rows", label)
     header_all = list(raw.columns)
-    tcol = _find_time_column(header_all, time, set(columns), names)
+    tcol = _find_time_column(header_all, time, set(columns), names, label)
     if time_unit is None:
         time_unit = _strip_unit(tcol)[1] or "s"
     try:
@@ -303,7 +307,7 @@ def _from_frame(df, time, time_unit, label, columns, names):
         tvals = df.index
         tname = str(df.index.name or "index")
     else:
-        tcol = _find_time_column(header_all, time, set(columns), names)
+        tcol = _find_time_column(header_all, time, set(columns), names, label)
         tvals = df[tcol]
         tname = tcol
     if time_unit is None:
@@ -946,6 +950,16 @@ def _starting_points(params, n, seed) -> list[np.ndarray]:
     return points
 
 
+def _x_limits(params):
+    """Bounds of the fitted coordinates. A positive value without bounds stays within a factor
+    LOG_RANGE of its start, which keeps trial values physical (and exp() finite)."""
+    lo = np.array([p.to_x(p.lo) if np.isfinite(p.lo) else
+                   (p.to_x(p.start) - math.log(LOG_RANGE) if p.log else -np.inf) for p in params])
+    hi = np.array([p.to_x(p.hi) if np.isfinite(p.hi) else
+                   (p.to_x(p.start) + math.log(LOG_RANGE) if p.log else np.inf) for p in params])
+    return lo, hi
+
+
 @dataclass
 class _Run:
     x: np.ndarray
@@ -975,13 +989,7 @@ class _Problem:
         x = np.asarray(x, dtype=float)
         if self._last[0] is not None and np.array_equal(self._last[0], x):
             return self._last[1]
-        with np.errstate(over="raise", invalid="raise"):
-            try:
-                r = (self.residual_matrix(x) * self.weights[None, :])[self.mask]
-            except FloatingPointError:
-                r = np.full(int(self.mask.sum()), 1e12)
-        if not np.all(np.isfinite(r)):
-            r = np.where(np.isfinite(r), r, 1e12)
+        r = self._eval(x)
         self._last = (x.copy(), r)
         return r
 
@@ -1007,15 +1015,16 @@ class _Problem:
     def _eval(self, x):
         with np.errstate(over="raise", invalid="raise"):
             try:
-                return (self.residual_matrix(x) * self.weights[None, :])[self.mask]
-            except FloatingPointError:
-                return np.full(int(self.mask.sum()), 1e12)
+                r = (self.residual_matrix(x) * self.weights[None, :])[self.mask]
+            except (FloatingPointError, InputError):
+                # a trial value the model refuses (or that overflows): far from any fit
+                return np.full(int(self.mask.sum()), _PENALTY)
+        return np.where(np.isfinite(r), r, _PENALTY)
 
     def solve(self, x0) -> _Run:
         from scipy.optimize import least_squares
 
-        lo = np.array([p.to_x(p.lo) if np.isfinite(p.lo) else -np.inf for p in self.params])
-        hi = np.array([p.to_x(p.hi) if np.isfinite(p.hi) else np.inf for p in self.params])
+        lo, hi = _x_limits(self.params)
         x0 = np.clip(np.asarray(x0, dtype=float), lo, hi)
         res = least_squares(self.residuals, x0, jac=self.jacobian, bounds=(lo, hi),
                             method="trf", x_scale="jac", ftol=1e-12, xtol=1e-10, gtol=1e-10,

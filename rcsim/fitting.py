@@ -339,7 +339,7 @@ def _from_frame(df, time, time_unit, label, columns, names):
     out = {}
     for c in header:
         col = df[c].reset_index(drop=True)
-        vals = pd.to_numeric(col, errors="coerce").to_numpy(dtype=float)
+        vals = pd.to_numeric(col, errors="coerce").to_numpy(dtype=float, copy=True)
         bad = ~np.isfinite(vals)
         if bad.any():
             text = col.astype(str).str.strip().str.lower()

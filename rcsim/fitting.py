@@ -613,8 +613,8 @@ class _Model:
                                       record=sorted(set(self.measured_nodes)),
                                       initial=sc.settings.initial,
                                       solver="stiff" if self.solver == "stiff" else "auto",
-                                      rtol=min(sc.settings.rtol, 1e-8),
-                                      atol=min(sc.settings.atol, 1e-8))
+                                      rtol=min(sc.settings.rtol, 1e-7),
+                                      atol=min(sc.settings.atol, 1e-7))
         temps = res.temperatures
         return temps[self.measured_nodes].to_numpy(dtype=float)
 
@@ -999,8 +999,11 @@ class _Problem:
         Values entering the output linearly get exact differences. The others get forward
         differences while searching (one model run each; the model is exact to rounding, so a
         step of 1e-7 loses about half the digits) and central differences (step 1e-4, error
-        of order 1e-8) for the covariance at the optimum.
+        of order 1e-8) for the covariance at the optimum. A model run by a tolerance-controlled
+        integrator (not the exact path) is noisier, so its steps are larger (1e-4 and 1e-3).
         """
+        exact = self.model.fast
+        h_fwd, h_ctr = (1e-7, 1e-4) if exact else (1e-4, 1e-3)
         x = np.asarray(x, dtype=float)
         r0 = self.residuals(x)
         J = np.empty((r0.size, x.size))
@@ -1011,13 +1014,13 @@ class _Problem:
                 xp[i] += step
                 J[:, i] = (self._eval(xp) - r0) / step
             elif central:
-                step = 1e-4 * (1.0 if p.log else max(1.0, abs(x[i])))
+                step = h_ctr * (1.0 if p.log else max(1.0, abs(x[i])))
                 xp, xm = x.copy(), x.copy()
                 xp[i] += step
                 xm[i] -= step
                 J[:, i] = (self._eval(xp) - self._eval(xm)) / (2 * step)
             else:
-                step = 1e-7 * (1.0 if p.log else max(1.0, abs(x[i])))
+                step = h_fwd * (1.0 if p.log else max(1.0, abs(x[i])))
                 xp = x.copy()
                 xp[i] += step
                 J[:, i] = (self._eval(xp) - r0) / step

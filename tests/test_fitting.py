@@ -330,13 +330,16 @@ def test_linear_values_reuse_one_decomposition():
 
 
 def test_stiff_path_agrees_with_exact_path():
-    span, dt = 6 * 3600.0, 300.0
-    sc = block_scenario(dt, span)
+    # the general path (a tolerance-controlled BDF run per evaluation) finds the same optimum
+    span, dt = 6 * 3600.0, 600.0
+    sc = block_scenario(dt, span).with_values({"nodes.block.capacity": "1.6 kJ/K",
+                                               "links.skin.resistance": "1.4 K/W"})
     log = lsim_log(dt, span, seed=9)
     a = quiet_fit(sc, log, FREE[:2], starts=1)
     b = quiet_fit(sc, log, FREE[:2], starts=1, solver="stiff")
     assert a.solver == "exact" and b.solver == "stiff"
-    np.testing.assert_allclose(b.estimates["value"], a.estimates["value"], rtol=1e-4)
+    np.testing.assert_allclose(b.estimates["value"], a.estimates["value"], rtol=1e-3)
+    np.testing.assert_allclose(b.estimates["std_error"], a.estimates["std_error"], rtol=0.05)
 
 
 def test_two_measured_columns_weighted_by_sigma():

@@ -479,7 +479,7 @@ def format_fit_summary(sc, res) -> str:
         lines.append(f"  time constants of the fitted network: {tau}"
                      + (" ..." if len(res.time_constants) > 4 else ""))
     if res.warnings:
-        lines.append(f"  {len(res.warnings)} warning(s), printed above")
+        lines.append(f"  {len(res.warnings)} warning(s): see the lines starting with 'warning:'")
     lines.append("")
     lines.append("check the fitted model against data it was not fitted to before predicting "
                  "with it.")

@@ -428,10 +428,10 @@ def _make_params(sc: Scenario, free, bounds, log: Log) -> list[_Param]:
             inner = "sine.mean" if isinstance(raw, dict) and "sine" in raw else "..."
             raise ScenarioError("holds a table, not a number", where,
                                 f"free one of its numbers, e.g. {key}.{inner}")
-        kind = quantity_kind(tokens)
+        kind = _fit_kind(tokens)
         if kind is None or isinstance(raw, bool):
             raise ScenarioError("does not hold a physical quantity that can be fitted", where)
-        value = sc.si_value(key)
+        value = to_si(raw, kind, where)
         tier, target = "rebuild", None
         if tokens[0] == "nodes" and tokens[-1] == "initial" and len(tokens) == 3:
             if sc.settings.initial != "given":
@@ -465,6 +465,26 @@ def _make_params(sc: Scenario, free, bounds, log: Log) -> list[_Param]:
                 p.lo = -math.inf  # a log-scale value is positive anyway
         params.append(p)
     return params
+
+
+def _fit_kind(tokens) -> str | None:
+    """Quantity kind of a key path, also for the numbers inside profiles.
+
+    Beyond :func:`rcsim.scenario.quantity_kind`: ``...temperature.constant`` and
+    ``...power.constant``, and list items of steps and tables (``...steps.values[1]`` is a
+    temperature under a boundary and a power under a source; ``...steps.at[1]`` and
+    ``...table.times[0]`` are times).
+    """
+    root = {"boundaries": "temperature", "sources": "power"}.get(tokens[0])
+    if root and tokens[-1] == "constant":
+        return root
+    if root and isinstance(tokens[-1], int) and len(tokens) >= 3:
+        name = tokens[-2]
+        if name == "values":
+            return root
+        if name in ("at", "times"):
+            return "time"
+    return quantity_kind(tokens)
 
 
 # ============================================================================================
@@ -544,10 +564,19 @@ class _Model:
             self._cache.popitem(last=False)
         return net, asm
 
-    def outputs(self, values) -> np.ndarray:
-        """Model temperatures (n_times, n_measured) for the free values (SI)."""
+    def outputs(self, values, times=None) -> np.ndarray:
+        """Model temperatures (n_times, n_measured) for the free values (SI).
+
+        At the log's times, or at ``times`` (increasing, from 0 to the log's end).
+        """
         self.n_evaluations += 1
         values = [float(v) for v in values]
+        if times is not None:
+            saved, self.t = self.t, np.asarray(times, dtype=float)
+            try:
+                return self.outputs(values)
+            finally:
+                self.t = saved
         if not self.fast:
             return self._outputs_general(values)
         return self._outputs_exact(values)
@@ -647,6 +676,9 @@ class FitResult:
     residuals, measured, fitted : DataFrame
         Measured - fitted, measured and fitted temperatures at the log's times (index time [s],
         one column per measured log column).
+    curve : DataFrame
+        The fitted model on an even grid over the log's span (joined with the log's times), so
+        that it can be drawn across gaps.
     inputs : DataFrame
         The log columns that drove boundaries.
     fitted_scenario : rcsim.Scenario
@@ -665,6 +697,7 @@ class FitResult:
     residuals: pd.DataFrame
     measured: pd.DataFrame
     fitted: pd.DataFrame
+    curve: pd.DataFrame
     inputs: pd.DataFrame
     fitted_scenario: Scenario
     starts: pd.DataFrame
@@ -733,7 +766,7 @@ class FitResult:
         check = loads(text, name=os.path.basename(path), base_dir=folder,
                       allow_absolute_paths=sc.allow_absolute_paths)
         for k, row in self.estimates.iterrows():
-            got = check.si_value(k)
+            got = to_si(check.value(k), self.units[k], k)
             if not math.isclose(got, row["value"], rel_tol=1e-9, abs_tol=1e-9):
                 raise SolverError(f"the written scenario reads back {k} = {got!r}, not "
                                   f"{row['value']!r}")  # pragma: no cover - a bug if reached
@@ -848,13 +881,16 @@ def fit(scenario, data, free, *, columns=None, ignore=(), bounds=None, sigma=Non
                    time=time, time_unit=time_unit, max_gap=max_gap)
     params = _make_params(sc, free, bounds, log)
     notes: list[str] = []
-    for _, g in log.gaps.iterrows():
-        kind = "interpolated linearly across" if g["column"] in log.inputs else \
+    for column, g in log.gaps.groupby("column", sort=False):
+        kind = "interpolated linearly across" if column in log.inputs else \
             "skipped in the residuals"
-        notes.append(f"{log.name}: column {g['column']!r} has no value for "
-                     f"{_fmt_span(g['length [s]'])} (from {_fmt_span(g['from [s]'])} after the "
-                     f"start, line {g['line']}), longer than the {_fmt_span(log.max_gap)} "
-                     f"allowed; {kind}")
+        worst = g.loc[g["length [s]"].idxmax()]
+        where = (f"{_fmt_span(worst['length [s]'])} (from {_fmt_span(worst['from [s]'])} after "
+                 f"the start, line {worst['line']})")
+        what = f"no value for {where}" if len(g) == 1 else \
+            f"{len(g)} spans without a value, the longest {where}"
+        notes.append(f"{log.name}: column {column!r} has {what}, longer than the "
+                     f"{_fmt_span(log.max_gap)} allowed; {kind}")
     model = _Model(sc, log, params, solver)
     Y = log.values[log.measured].to_numpy(dtype=float)
     mask = np.isfinite(Y)
@@ -1102,6 +1138,14 @@ def _summarise(problem: _Problem, best: _Run, runs, log: Log, sc: Scenario, note
     measured = pd.DataFrame(problem.Y, index=index, columns=log.measured)
     fitted = pd.DataFrame(fitted_arr, index=index, columns=log.measured)
     resid = (measured - fitted).where(problem.mask)
+    # the fitted model on an even grid too, so that a figure shows it across the log's gaps
+    step = float(np.median(np.diff(t)))
+    n_grid = min(200_000, int(t[-1] / step) + 1)
+    grid = np.union1d(t, np.linspace(0.0, float(t[-1]), max(n_grid, 2)))
+    if grid.size > 400_000:
+        grid = t
+    curve = pd.DataFrame(model.outputs(values, times=grid), index=pd.Index(grid, name="time [s]"),
+                         columns=log.measured)
     rmse = float(np.sqrt(np.nanmean(resid.to_numpy() ** 2)))
     rmse_by = pd.Series(np.sqrt(np.nanmean(resid.to_numpy() ** 2, axis=0)), index=log.measured,
                         name="rmse [K]")
@@ -1170,7 +1214,7 @@ def _summarise(problem: _Problem, best: _Run, runs, log: Log, sc: Scenario, note
     return FitResult(
         estimates=est, correlation=correlation, covariance=covariance, rmse=rmse,
         rmse_by_column=rmse_by, autocorrelation=ac, warnings=warn, residuals=resid,
-        measured=measured, fitted=fitted, inputs=inputs, fitted_scenario=fitted_sc,
+        measured=measured, fitted=fitted, curve=curve, inputs=inputs, fitted_scenario=fitted_sc,
         starts=pd.DataFrame(start_rows), units=units, targets=dict(log.targets),
         log_name=log.name, start_time=log.start_time, n_points=m, dof=dof,
         solver=model.solver, n_evaluations=model.n_evaluations,

@@ -10,7 +10,6 @@ import numpy as np
 
 __all__ = ["plot_fit"]
 
-_OUTLINE = None  # set on first use (keeps the matplotlib import inside the function)
 _UNITS = {"s": 1.0, "min": 60.0, "h": 3600.0, "d": 86400.0}
 
 
@@ -24,6 +23,9 @@ def _time_unit(span: float) -> str:
 
 def plot_fit(result, *, ax=None, columns=None, time_unit=None, show_inputs=True):
     """Measured (markers) and fitted (lines) temperatures; measured - fitted below.
+
+    The fitted line is ``result.curve`` (the model on an even grid, so it is right across gaps
+    of the log); the residuals are at the log's times.
 
     Parameters
     ----------
@@ -44,11 +46,7 @@ def plot_fit(result, *, ax=None, columns=None, time_unit=None, show_inputs=True)
         ``figure``, ``axes`` (upper, lower), ``measured``, ``fitted``, ``residuals`` and
         ``inputs`` (dicts of column -> Line2D).
     """
-    import matplotlib.patheffects as pe
     import matplotlib.pyplot as plt
-
-    global _OUTLINE
-    _OUTLINE = [pe.Stroke(linewidth=2.6, foreground="white"), pe.Normal()]
 
     if ax is None:
         fig, (ax_t, ax_r) = plt.subplots(2, 1, sharex=True, figsize=(9, 6),
@@ -74,11 +72,12 @@ def plot_fit(result, *, ax=None, columns=None, time_unit=None, show_inputs=True)
         label = c if node == c else f"{c} ({node})"
         meas = result.measured[c].to_numpy()
         (m_line,) = ax_t.plot(x, meas, linestyle="none", marker=".",
-                              markersize=2.5 if many else 5, alpha=0.35,
+                              markersize=3 if many else 5, alpha=0.5,
                               label=f"{label}, measured")
-        (f_line,) = ax_t.plot(x, result.fitted[c].to_numpy(), color=m_line.get_color(),
-                              linewidth=1.4, zorder=3, path_effects=_OUTLINE,
-                              label=f"{label}, fitted")
+        curve = result.curve
+        (f_line,) = ax_t.plot(curve.index.to_numpy() / _UNITS[unit], curve[c].to_numpy(),
+                              color=m_line.get_color(),
+                              linewidth=1.0, zorder=3, label=f"{label}, fitted")
         (r_line,) = ax_r.plot(x, result.residuals[c].to_numpy(), linestyle="none", marker=".",
                               markersize=2.5 if many else 5, color=m_line.get_color(),
                               label=label)

@@ -533,3 +533,57 @@ def test_time_in_minutes_from_the_header_and_timestamps(write):
     np.testing.assert_array_equal(ra.time, [0.0, 60.0, 120.0, 180.0, 240.0])
     np.testing.assert_array_equal(rb.time, ra.time)
     assert rb.start_time == pd.Timestamp("2026-01-01T10:00:00")
+
+
+def test_constant_source_power_and_its_constant_form():
+    # lumped body heated from ambient by a constant power Q: T = Ta + Q R (1 - exp(-t/RC))
+    # (closed form); the power enters linearly, so one decomposition serves the whole fit
+    C, R, Q, Ta = 3000.0, 0.8, 12.0, 19.0
+    t = np.arange(0.0, 5 * 3600.0, 60.0)
+    y = Ta + Q * R * (1 - np.exp(-t / (R * C))) + np.random.default_rng(12).normal(0, 0.02, t.size)
+    for spec, key in (('"5 W"', "sources.heater.power"),
+                      ('{ constant = "5 W" }', "sources.heater.power.constant")):
+        sc = rcsim.loads(f"""
+[nodes.body]
+capacity = {C}
+initial = {Ta}
+[boundaries.air]
+temperature = {{ constant = "{Ta} degC" }}
+[links.skin]
+between = ["body", "air"]
+resistance = {R}
+[sources.heater]
+node = "body"
+power = {spec}
+""")
+        res = quiet_fit(sc, pd.DataFrame({"time": t, "body": y}),
+                        [key, "boundaries.air.temperature.constant"])
+        row = res.estimates.loc[key]
+        assert row["ci_low"] <= Q <= row["ci_high"]
+        assert res.n_decompositions == 1
+        assert res.fitted_scenario.value(key).endswith(" W")
+
+
+def test_numbers_inside_profiles_can_be_freed():
+    # a heater of unknown power switched by steps: T = Ta + Q R (1 - exp(-(t - t1)/RC)) after t1
+    # (closed form); the second value of the steps is freed by its list index
+    C, R, Q, Ta, t1 = 3000.0, 0.8, 12.0, 19.0, 1800.0
+    t = np.arange(0.0, 5 * 3600.0, 60.0)
+    y = Ta + np.where(t >= t1, Q * R * (1 - np.exp(-(t - t1) / (R * C))), 0.0)
+    sc = rcsim.loads(f"""
+[nodes.body]
+capacity = {C}
+initial = {Ta}
+[boundaries.air]
+temperature = "{Ta} degC"
+[links.skin]
+between = ["body", "air"]
+resistance = {R}
+[sources.heater]
+node = "body"
+power = {{ steps = {{ at = ["0 s", "{t1} s"], values = ["0 W", "5 W"] }} }}
+""")
+    res = quiet_fit(sc, pd.DataFrame({"time": t, "body": y}), ["sources.heater.power.steps.values[1]"])
+    assert res.estimates.loc["sources.heater.power.steps.values[1]", "value"] == \
+        pytest.approx(Q, rel=1e-8)
+    assert res.fitted_scenario.value("sources.heater.power.steps.values[1]").endswith(" W")

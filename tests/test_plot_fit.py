@@ -44,11 +44,16 @@ def test_drawn_data_is_the_fit_data(result):
     drawn = plot_fit(result)
     try:
         hours = result.time / 3600.0
-        for key, frame in (("measured", result.measured), ("fitted", result.fitted),
-                           ("residuals", result.residuals)):
+        for key, frame in (("measured", result.measured), ("residuals", result.residuals)):
             line = drawn[key]["probe"]
             np.testing.assert_array_equal(line.get_xdata(), hours)
             np.testing.assert_array_equal(line.get_ydata(), frame["probe"].to_numpy())
+        fitted = drawn["fitted"]["probe"]
+        np.testing.assert_array_equal(fitted.get_xdata(), result.curve.index / 3600.0)
+        np.testing.assert_array_equal(fitted.get_ydata(), result.curve["probe"].to_numpy())
+        # the curve passes through the fitted values at the log's times
+        np.testing.assert_allclose(result.curve["probe"].loc[result.time],
+                                   result.fitted["probe"], atol=1e-9)
         np.testing.assert_array_equal(drawn["inputs"]["room"].get_ydata(),
                                       result.inputs["room"].to_numpy())
         # residuals are measured - fitted, NaN where the log has no value
@@ -70,7 +75,7 @@ def test_given_axes_and_time_unit(result):
         drawn = result.plot(ax=axes, time_unit="min", show_inputs=False)
         assert drawn["figure"] is fig
         assert drawn["inputs"] == {}
-        np.testing.assert_allclose(drawn["fitted"]["probe"].get_xdata(), result.time / 60.0)
+        np.testing.assert_allclose(drawn["measured"]["probe"].get_xdata(), result.time / 60.0)
         assert axes[1].get_xlabel() == "time [min]"
         with pytest.raises(ValueError, match="not a measured column"):
             plot_fit(result, ax=axes, columns=["room"])

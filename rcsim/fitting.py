@@ -355,16 +355,18 @@ def _from_frame(df, time, time_unit, label, columns, names):
 
 
 def _find_gaps(t, values, limit, lines) -> pd.DataFrame:
-    rows = []
+    """Spans longer than ``limit`` without a value, per column (including at the ends)."""
+    parts = []
     for c in values.columns:
         ok = np.flatnonzero(np.isfinite(values[c].to_numpy()))
-        tt = t[ok]
-        edges = np.concatenate([[t[0]], tt, [t[-1]]])
+        edges = np.concatenate([[t[0]], t[ok], [t[-1]]])
         d = np.diff(edges)
-        for j in np.flatnonzero(d > limit * (1 + 1e-9)):
-            line = int(lines[ok[j - 1]]) if 0 < j <= ok.size else int(lines[0 if j == 0 else -1])
-            rows.append((c, float(edges[j]), float(edges[j + 1]), float(d[j]), line))
-    return pd.DataFrame(rows, columns=["column", "from [s]", "to [s]", "length [s]", "line"])
+        j = np.flatnonzero(d > limit * (1 + 1e-9))
+        # the line of the last row with a value before the span (the first row for a leading one)
+        line = np.where(j == 0, lines[0], lines[ok[np.maximum(j - 1, 0)]])
+        parts.append(pd.DataFrame({"column": c, "from [s]": edges[j], "to [s]": edges[j + 1],
+                                   "length [s]": d[j], "line": line.astype(int)}))
+    return pd.concat(parts, ignore_index=True)
 
 
 # ============================================================================================

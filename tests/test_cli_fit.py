@@ -92,3 +92,12 @@ def test_fit_bounds_on_the_command_line(cli):
             "--starts", "1", "--max-gap", "1h")
     assert r.exit_code == 0, r.output
     assert "warning: nodes.block.capacity ended at its upper bound" in r.output
+
+
+def test_fit_sigma_option(cli):
+    r = cli("fit", BLOCK, LOG, *FREE, "--sigma", "0.05 K", "--starts", "1", "--max-gap", "1h")
+    assert r.exit_code == 0, r.output
+    r = cli("fit", BLOCK, LOG, *FREE, "--sigma", "block=0.05 K", "--sigma", "room=1 K")
+    assert r.exit_code == 2 and "sigma is given for 'room', which is no measured column" in r.output
+    r = cli("fit", BLOCK, LOG, *FREE, "--sigma", "-1 K")
+    assert r.exit_code == 2 and "sigma must be positive" in r.output

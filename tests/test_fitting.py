@@ -583,7 +583,8 @@ resistance = {R}
 node = "body"
 power = {{ steps = {{ at = ["0 s", "{t1} s"], values = ["0 W", "5 W"] }} }}
 """)
-    res = quiet_fit(sc, pd.DataFrame({"time": t, "body": y}), ["sources.heater.power.steps.values[1]"])
+    res = quiet_fit(sc, pd.DataFrame({"time": t, "body": y}),
+                    ["sources.heater.power.steps.values[1]"])
     assert res.estimates.loc["sources.heater.power.steps.values[1]", "value"] == \
         pytest.approx(Q, rel=1e-8)
     assert res.fitted_scenario.value("sources.heater.power.steps.values[1]").endswith(" W")

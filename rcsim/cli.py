@@ -325,11 +325,18 @@ def _write_figure_atomic(fig, path) -> None:
 
     folder = os.path.dirname(os.path.abspath(path))
     suffix = os.path.splitext(path)[1].lower()
-    fd, tmp = tempfile.mkstemp(prefix=".rcsim-", suffix=suffix, dir=folder)
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=".rcsim-", suffix=suffix, dir=folder)
+    except OSError as exc:
+        raise InputError(f"cannot write here ({exc.strerror})", path) from None
     os.close(fd)
     try:
         fig.savefig(tmp, dpi=120, format=suffix.lstrip("."), bbox_inches="tight")
         os.replace(tmp, path)
+    except OSError as exc:
+        if os.path.exists(tmp):
+            os.remove(tmp)
+        raise InputError(f"cannot write ({exc.strerror})", path) from None
     except BaseException:
         if os.path.exists(tmp):
             os.remove(tmp)

@@ -715,7 +715,7 @@ class FitResult:
     wall_time: float = 0.0
     gaps: pd.DataFrame | None = None
     time_constants: np.ndarray | None = None
-    _source_scenario: Scenario | None = None
+    _categories: list = field(default_factory=list, repr=False)
 
     @property
     def time(self) -> np.ndarray:
@@ -817,11 +817,18 @@ def _write_text_atomic(path, text: str) -> str:
     folder = os.path.dirname(os.path.abspath(path))
     if not os.path.isdir(folder):
         raise DataError("folder does not exist", os.path.dirname(path) or ".", "create it first")
-    fd, tmp = tempfile.mkstemp(prefix=".rcsim-", suffix=".tmp", dir=folder)
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=".rcsim-", suffix=".tmp", dir=folder)
+    except OSError as exc:
+        raise DataError(f"cannot write here ({exc.strerror})", path) from None
     try:
         with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
             fh.write(text)
         os.replace(tmp, path)
+    except OSError as exc:
+        if os.path.exists(tmp):
+            os.remove(tmp)
+        raise DataError(f"cannot write ({exc.strerror})", path) from None
     except BaseException:
         if os.path.exists(tmp):
             os.remove(tmp)
@@ -927,8 +934,8 @@ def fit(scenario, data, free, *, columns=None, ignore=(), bounds=None, sigma=Non
         runs.append(best)
     result = _summarise(problem, best, runs, log, sc, notes)
     result.wall_time = _time.perf_counter() - wall0
-    for text in result.warnings:
-        warnings.warn(text, FitWarning, stacklevel=2)
+    for text, category in zip(result.warnings, result._categories):
+        warnings.warn(text, category, stacklevel=2)
     return result
 
 
@@ -1205,7 +1212,14 @@ def _summarise(problem: _Problem, best: _Run, runs, log: Log, sc: Scenario, note
     for p, v in zip(params, values):
         subst[p.key] = _in_original_unit(v, p)
         units[p.key] = p.kind
-    fitted_sc = sc.with_values(subst)
+    with warnings.catch_warnings(record=True) as caught:  # e.g. a Biot number now above 0.1
+        warnings.simplefilter("always")
+        fitted_sc = sc.with_values(subst)
+    categories = [FitWarning] * len(warn)
+    for w in caught:
+        if issubclass(w.category, RcsimWarning) and str(w.message) not in warn:
+            warn.append(f"fitted scenario: {w.message}")
+            categories.append(w.category)
     try:
         tau = fitted_sc.network.time_constants()
     except InputError:  # pragma: no cover - networks too large for the dense decomposition
@@ -1221,7 +1235,7 @@ def _summarise(problem: _Problem, best: _Run, runs, log: Log, sc: Scenario, note
         log_name=log.name, start_time=log.start_time, n_points=m, dof=dof,
         solver=model.solver, n_evaluations=model.n_evaluations,
         n_decompositions=model.n_decompositions, gaps=log.gaps, time_constants=tau,
-        _source_scenario=sc)
+        _categories=categories)
 
 
 def _lag1(r: np.ndarray) -> float:

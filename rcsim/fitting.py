@@ -925,14 +925,17 @@ def fit(scenario, data, free, *, columns=None, ignore=(), bounds=None, sigma=Non
     for x0 in x_starts:
         runs.append(problem.solve(x0))
     best = min(runs, key=lambda r: r.cost)
+    # other starts that ended elsewhere with about as good a fit (compared under one weighting)
+    rivals = sum(1 for rn in runs if rn is not best and rn.cost <= best.cost * 1.01 + 1e-300
+                 and np.max(np.abs(rn.x - best.x)) > 0.1)
     if sigma is None and len(log.measured) > 1:
         # weight each column by the spread of its own residuals, then refine from the optimum
         r = problem.residual_matrix(best.x)
         spread = np.sqrt(np.nanmean(np.where(mask, r, np.nan) ** 2, axis=0))
-        problem.weights = 1.0 / np.maximum(spread, 1e-12)
+        problem.set_weights(1.0 / np.maximum(spread, 1e-12))
         best = problem.solve(best.x)
         runs.append(best)
-    result = _summarise(problem, best, runs, log, sc, notes)
+    result = _summarise(problem, best, runs, log, sc, notes, rivals)
     result.wall_time = _time.perf_counter() - wall0
     for text, category in zip(result.warnings, result._categories):
         warnings.warn(text, category, stacklevel=2)
@@ -1023,6 +1026,10 @@ class _Problem:
         self.weights = np.asarray(weights, dtype=float)
         self._last = (None, None)
 
+    def set_weights(self, weights) -> None:
+        self.weights = np.asarray(weights, dtype=float)
+        self._last = (None, None)
+
     def values(self, x):
         return [p.from_x(xi) for p, xi in zip(self.params, x)]
 
@@ -1092,7 +1099,8 @@ class _Problem:
                     str(res.message), int(res.nfev), x0)
 
 
-def _summarise(problem: _Problem, best: _Run, runs, log: Log, sc: Scenario, notes) -> FitResult:
+def _summarise(problem: _Problem, best: _Run, runs, log: Log, sc: Scenario, notes,
+               rivals: int) -> FitResult:
     from scipy import stats
 
     params = problem.params
@@ -1200,10 +1208,8 @@ def _summarise(problem: _Problem, best: _Run, runs, log: Log, sc: Scenario, note
             warn.append(f"residuals of column {c!r} are strongly autocorrelated (lag-1 r = "
                         f"{ac[c]:.2f}): the model is likely too simple for the data (e.g. one "
                         "node where the body needs two); the intervals are then too narrow")
-    close = [rn for rn in runs if rn is not best and rn.cost <= best.cost * 1.01 + 1e-300
-             and np.max(np.abs(rn.x - best.x)) > 0.1]
-    if close:
-        warn.append(f"{len(close)} other start(s) ended at different values with nearly the "
+    if rivals:
+        warn.append(f"{rivals} other start(s) ended at different values with nearly the "
                     "same fit; the data may not decide between them")
 
     # the fitted scenario, written with the unit each value was given in

@@ -386,6 +386,11 @@ power = {{ table = {{ times = {times}, values = {values} }} }}
     # residual spreads per column match the noise put in
     assert res.rmse_by_column["probe_heater"] == pytest.approx(0.2, rel=0.15)
     assert res.rmse_by_column["probe_body"] == pytest.approx(0.02, rel=0.15)
+    # without sigma, each column is weighted by the spread of its own residuals: the same
+    # optimum to within a fraction of the standard errors
+    auto = quiet_fit(sc, log, free, columns={"probe_heater": "plate", "probe_body": "body"})
+    shift = (auto.estimates["value"] - res.estimates["value"]).abs() / res.estimates["std_error"]
+    assert (shift < 0.5).all(), shift.to_dict()
 
 
 # -- the bundled example ---------------------------------------------------------------------

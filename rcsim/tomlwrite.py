@@ -27,7 +27,7 @@ import re
 
 __all__ = ["dumps"]
 
-_BARE_KEY = re.compile(r"^[A-Za-z0-9_-]+$")
+_BARE_KEY = re.compile(r"[A-Za-z0-9_-]+")
 _ESCAPES = {'"': '\\"', "\\": "\\\\", "\b": "\\b", "\t": "\\t", "\n": "\\n", "\f": "\\f",
             "\r": "\\r"}
 
@@ -76,7 +76,7 @@ def _table(table: dict, path: list[str], depth_left: int, out: list[str]) -> Non
 def _key(key) -> str:
     if not isinstance(key, str):
         raise TypeError(f"TOML keys are strings, got {type(key).__name__} {key!r}")
-    return key if _BARE_KEY.match(key) else _string(key)
+    return key if _BARE_KEY.fullmatch(key) else _string(key)
 
 
 def _string(text: str) -> str:

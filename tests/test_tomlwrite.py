@@ -44,7 +44,7 @@ def test_header_depth_changes_layout_not_content(depth):
 
 def test_special_floats_and_escapes():
     doc = {"inf": math.inf, "ninf": -math.inf, "tiny": 5e-324, "s": 'q"\\\n\t\x01é',
-           "key with space": 1, "": 2}
+           "key with space": 1, "": 2, "0\n": {}, "a\n": [1]}
     back = tomllib.loads(dumps(doc))
     assert back == doc
     assert math.isnan(tomllib.loads(dumps({"n": math.nan}))["n"])

@@ -22,6 +22,7 @@ except PackageNotFoundError:  # pragma: no cover - running from a source tree
 
 from . import errors  # noqa: E402
 from .errors import InputError, RcsimError, SolverError  # noqa: E402
+from .fitting import FitResult, fit  # noqa: E402
 from .network import Network  # noqa: E402
 from .profiles import Constant, Repeat, Sine, Steps, Table  # noqa: E402
 from .results import Result  # noqa: E402
@@ -36,6 +37,8 @@ __all__ = [
     "Scenario",
     "load",
     "loads",
+    "fit",
+    "FitResult",
     "Constant",
     "Sine",
     "Steps",

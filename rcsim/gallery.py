@@ -77,10 +77,10 @@ def _write_index(path: str, scenarios: str, sections) -> None:
             name = os.path.basename(p)
             kind = os.path.splitext(name)[0].rsplit("-", 1)[-1]
             lines += [f"**{kind}**: {_CAPTIONS.get(kind, '')}", "", f"![{stem} {kind}]({name})", ""]
-    tmp = path + ".tmp"
-    with open(tmp, "w", encoding="utf-8") as fh:
+    from .atomic import atomic_path
+
+    with atomic_path(path) as tmp, open(tmp, "w", encoding="utf-8") as fh:
         fh.write("\n".join(lines))
-    os.replace(tmp, path)
 
 
 @click.command()

@@ -202,9 +202,10 @@ def quantity_kind(tokens: list) -> str | None:
     parent = tokens[-2] if len(tokens) > 1 else None
     if isinstance(last, int):
         return None
-    if parent == "contact" and last == "resistance":
+    in_part = len(tokens) > 2 and isinstance(tokens[-3], int)  # ...parts[i].<kind>.<key>
+    if in_part and parent == "contact" and last == "resistance":
         return "area_resistance"
-    if parent == "contact" and last == "conductance":
+    if in_part and parent == "contact" and last == "conductance":
         return "heat_transfer_coefficient"
     if last in ("mean", "amplitude"):
         root = "temperature" if tokens[0] == "boundaries" else "power"

@@ -61,7 +61,7 @@ def networks(draw, level=None, nonlinear=False, sources=False, equal=False):
         else:
             net.add_link(a, b, name=f"x{k}", resistance=float(10 ** rng.uniform(-2, 1)))
     if sources:
-        net.add_source("n0", power=float(rng.uniform(-50, 200)))
+        net.add_source("n0", power=float(rng.uniform(0, 200)))  # a draw could cool below 0 K
     return net
 
 

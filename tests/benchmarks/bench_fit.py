@@ -1,0 +1,140 @@
+"""Benchmark of fitting (issue 9): three days of one-minute data, two or three free values.
+
+1. A heated block in a room whose air temperature is logged (drives the model); capacity,
+   skin resistance and starting temperature free. rcsim.fit (exact modal path, decomposition
+   reused for the starting temperature) against a naive fit written here: the same
+   least_squares problem whose every evaluation rebuilds the scenario with
+   ``Scenario.with_values(...)`` and runs ``network.simulate`` (target: a few seconds for
+   rcsim, and faster than the naive fit).
+2. Newton cooling toward a constant ambient (closed form): rcsim.fit of the resistance, ambient
+   and start against scipy's curve_fit on the closed-form exponential (the floor: no model run
+   at all). Both must agree.
+
+Run:  python tests/benchmarks/bench_fit.py [--quick]
+Ratios are measured in one run on the same machine; absolute times are only indicative.
+"""
+
+from __future__ import annotations
+
+import argparse
+import time
+import warnings
+
+import numpy as np
+import pandas as pd
+import scipy.signal as sig
+from scipy.optimize import curve_fit, least_squares
+
+import rcsim
+
+BLOCK = """
+[nodes.block]
+capacity = "1.2 kJ/K"
+initial = "10 degC"
+[boundaries.room]
+temperature = "20 degC"
+[links.skin]
+between = ["block", "room"]
+resistance = "1 K/W"
+[sources.resistor]
+node = "block"
+power = {{ steps = {{ at = {at}, values = {values}, repeat = "24 h" }} }}
+"""
+C, R, T0 = 1794.0, 1.5, 6.0
+
+
+def heated_block_log(days: float):
+    t = np.arange(0.0, days * 86400.0 + 1.0, 60.0)
+    room = 20.0 + 2.0 * np.sin(2 * np.pi * t / 86400.0)
+    at, values = [0.0, 3 * 3600.0, 7 * 3600.0], [0.0, 8.0, 0.0]
+    # reference by scipy.signal.lsim on a 10-s grid, the heater as held steps
+    tf = np.arange(0.0, t[-1] + 1.0, 10.0)
+    P = np.where((tf % 86400.0 >= at[1]) & (tf % 86400.0 < at[2]), 8.0, 0.0)
+    roomf = 20.0 + 2.0 * np.sin(2 * np.pi * tf / 86400.0)
+    system = sig.StateSpace([[-1 / (R * C)]], [[1 / (R * C), 1 / C]], [[1.0]], [[0.0, 0.0]])
+    _, y, _ = sig.lsim(system, np.column_stack([roomf, P]), tf, X0=[T0], interp=False)
+    y = y[::6]
+    y = y + np.random.default_rng(0).normal(0.0, 0.05, y.size)
+    sc = rcsim.loads(BLOCK.format(at=at, values=values))
+    return sc, pd.DataFrame({"time": t, "block": y, "room": room})
+
+
+FREE = ["nodes.block.capacity", "links.skin.resistance", "nodes.block.initial"]
+
+
+def naive_fit(sc, log):
+    """least_squares where every evaluation is with_values(...) + simulate (no reuse)."""
+    t = log["time"].to_numpy()
+    y = log["block"].to_numpy()
+    table = {"table": {"times": t.tolist(), "values": log["room"].tolist()}}
+
+    def model(x):
+        c, r, t0 = np.exp(x[0]), np.exp(x[1]), x[2]
+        s = sc.with_values({"nodes.block.capacity": c, "links.skin.resistance": r,
+                            "nodes.block.initial": t0, "boundaries.room.temperature": table})
+        res = s.network.simulate(float(t[-1]), 60.0, record=["block"])
+        return res.temperatures["block"].to_numpy() - y
+
+    x0 = [np.log(1200.0), np.log(1.0), float(y[0])]
+    out = least_squares(model, x0, method="trf", x_scale="jac")
+    return np.exp(out.x[0]), np.exp(out.x[1]), out.x[2], out.nfev + out.njev * 3
+
+
+def best_of(repeats, func):
+    times, out = [], None
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        out = func()
+        times.append(time.perf_counter() - t0)
+    return min(times), out
+
+
+def main():
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--quick", action="store_true", help="one day instead of three")
+    args = ap.parse_args()
+    days = 1.0 if args.quick else 3.0
+    warnings.simplefilter("ignore")
+
+    sc, log = heated_block_log(days)
+    print(f"1. heated block, {len(log)} one-minute rows ({days:g} days), free: "
+          + ", ".join(FREE))
+    t_fit1, res1 = best_of(2, lambda: rcsim.fit(sc, log, FREE, starts=1))
+    t_fit4, res4 = best_of(1, lambda: rcsim.fit(sc, log, FREE, starts=4))
+    t_naive, naive = best_of(1, lambda: naive_fit(sc, log))
+    est = res1.estimates["value"]
+    print(f"   rcsim.fit, 1 start : {t_fit1:7.2f} s  ({res1.n_evaluations} model runs, "
+          f"{res1.n_decompositions} decompositions)")
+    print(f"   rcsim.fit, 4 starts: {t_fit4:7.2f} s  ({res4.n_evaluations} model runs)")
+    print(f"   naive with_values + simulate per evaluation: {t_naive:7.2f} s  "
+          f"(~{naive[3]} model runs)")
+    print(f"   speed-up of rcsim.fit (1 start) over the naive fit: {t_naive / t_fit1:6.1f}x")
+    print(f"   estimates rcsim C={est.iloc[0]:.2f} J/K R={est.iloc[1]:.5f} K/W "
+          f"T0={est.iloc[2]:.4f} degC; naive C={naive[0]:.2f} R={naive[1]:.5f} "
+          f"T0={naive[2]:.4f}; truth C={C} R={R} T0={T0}")
+
+    # 2. closed form, constant ambient
+    t = log["time"].to_numpy()
+    Ta = 22.0
+    y = Ta + (60.0 - Ta) * np.exp(-t / (R * C)) + np.random.default_rng(1).normal(0, 0.05,
+                                                                                  t.size)
+    sc2 = rcsim.loads(BLOCK.format(at=[0.0], values=[0.0]).replace('capacity = "1.2 kJ/K"',
+                                                                    f"capacity = {C}"))
+    free2 = ["links.skin.resistance", "boundaries.room.temperature", "nodes.block.initial"]
+    log2 = pd.DataFrame({"time": t, "block": y})
+    t_r, res2 = best_of(3, lambda: rcsim.fit(sc2, log2, free2, starts=1))
+
+    def closed(tt, r, ta, t0):
+        return ta + (t0 - ta) * np.exp(-tt / (r * C))
+
+    t_c, (p, _) = best_of(3, lambda: curve_fit(closed, t, y, p0=[1.0, 20.0, 55.0]))
+    print(f"2. Newton cooling, {len(t)} rows, free: " + ", ".join(free2))
+    print(f"   rcsim.fit: {t_r:.3f} s ({res2.n_evaluations} model runs, "
+          f"{res2.n_decompositions} decompositions);  curve_fit on the closed form: {t_c:.4f} s;"
+          f"  ratio rcsim/closed form {t_r / t_c:.0f}x")
+    d = np.max(np.abs(res2.estimates["value"].to_numpy() - p) / np.abs(p))
+    print(f"   largest relative difference of the estimates: {d:.1e}")
+
+
+if __name__ == "__main__":
+    main()

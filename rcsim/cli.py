@@ -265,8 +265,10 @@ def materials(category, sources):
 @click.option("--allow-absolute-paths", is_flag=True, help="Let the scenario read CSV files by "
               "absolute path.")
 @click.option("--quiet", is_flag=True, help="Print nothing but errors and warnings.")
+@click.option("--all-nodes", is_flag=True, help="Also list the internal nodes of sliced layers.")
 @_guard
-def run(scenario, output, csv_path, plots_dir, solver, record, allow_absolute_paths, quiet):
+def run(scenario, output, csv_path, plots_dir, solver, record, allow_absolute_paths, quiet,
+        all_nodes):
     """Simulate SCENARIO and print a summary."""
     _check_output(output, (".h5", ".hdf5"), "--output")
     _check_output(csv_path, (".csv",), "--csv")
@@ -288,7 +290,7 @@ def run(scenario, output, csv_path, plots_dir, solver, record, allow_absolute_pa
         os.makedirs(plots_dir, exist_ok=True)
         written += standard_figures(res, plots_dir, stem=os.path.splitext(sc.name)[0])
     if not quiet:
-        click.echo(format_run_summary(sc, res))
+        click.echo(format_run_summary(sc, res, all_nodes=all_nodes))
         for p in written:
             click.echo(f"wrote {p}")
 
@@ -535,8 +537,10 @@ def format_fit_summary(sc, res) -> str:
     return "\n".join(lines)
 
 
-def format_run_summary(sc, res) -> str:
-    """The text printed by ``rcsim run``."""
+def format_run_summary(sc, res, all_nodes: bool = False) -> str:
+    """The text printed by ``rcsim run`` (internal nodes of sliced layers only if asked)."""
+    internal = set() if all_nodes else {n for n in res.nodes["node"]
+                                         if sc.network._is_internal_name(str(n))}
     lines = []
     title = f' "{sc.title}"' if sc.title else ""
     st = res.stats
@@ -549,8 +553,13 @@ def format_run_summary(sc, res) -> str:
     width = max([len(str(n)) for n in nodes["node"]] + [4]) if len(nodes) else 4
     lines.append(f"  {'node':<{width}}  {'min [degC]':>10}  {'max [degC]':>10}  {'final [degC]':>12}")
     for _, row in nodes.iterrows():
+        if row["node"] in internal:
+            continue
         lines.append(f"  {row['node']:<{width}}  {row['min [degC]']:10.3f}  "
                      f"{row['max [degC]']:10.3f}  {row['final [degC]']:12.3f}")
+    if internal:
+        lines.append(f"  ({len(internal)} internal nodes of sliced layers not shown; "
+                     "--all-nodes lists them)")
     if len(res.limits):
         lines.append("")
         lines.append("  limits")
@@ -565,6 +574,24 @@ def format_run_summary(sc, res) -> str:
                              f"{_fmt_time(row['time_out [s]'])} out in all, worst "
                              f"{row['worst [K]']:.3g} K beyond, "
                              f"{row['degree_hours [K*h]']:.3g} K*h")
+    if res.period is not None and len(res.boundary_temperatures.columns):
+        try:
+            pr = res.periodic_response()
+        except InputError:
+            pr = None
+        if pr is not None:
+            ref = pr.attrs["reference"]
+            lines.append("")
+            lines.append(f"  periodic regime over the last {_fmt_time(res.period)}; lag and "
+                         f"decrement against {ref}")
+            lines.append(f"  {'':<{width}}  {'mean [degC]':>11}  {'swing [K]':>9}  "
+                         f"{'lag':>9}  {'decrement':>9}")
+            for name, row in pr.iterrows():
+                if name == f"{ref} (boundary)" or name in internal:
+                    continue
+                lines.append(f"  {name:<{width}}  {row['mean [degC]']:11.3f}  "
+                             f"{row['swing [K]']:9.3f}  {_fmt_time(row['lag [s]']):>9}  "
+                             f"{row['decrement [-]']:9.3f}")
     lf = res.liquid_fraction
     if lf.shape[1]:
         lines.append("")

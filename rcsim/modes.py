@@ -63,13 +63,26 @@ def modal_decomposition(asm) -> Modes:
     return modes
 
 
+def _linear_assembled(network):
+    """The network's Assembled; a nonlinear one linearised about its steady state at t = 0."""
+    asm = network.assemble()
+    if asm.is_linear:
+        return asm
+    from .nonlinear import linearised, steady_newton  # solver layer, same level
+
+    u = asm.boundary_values(0.0)
+    T = steady_newton(asm, u, asm.source_values(0.0), list(network.thermostats.values()))
+    return linearised(asm, T, u)
+
+
 def time_constants(network) -> np.ndarray:
     """Time constants [s] of all modes, longest first (inf for floating groups).
 
-    For networks above :data:`DENSE_LIMIT` states, only the 20 longest are computed (sparse
-    shift-invert Lanczos).
+    A nonlinear network (radiation, film correlations, phase change) is linearised about its
+    steady state at t = 0. For networks above :data:`DENSE_LIMIT` states, only the 20 longest are
+    computed (sparse shift-invert Lanczos).
     """
-    asm = network.assemble()
+    asm = _linear_assembled(network)
     ss = state_space(asm)
     if ss.n > DENSE_LIMIT:
         return _longest_sparse(ss, 20)
@@ -95,7 +108,7 @@ def modes_table(network, top: int = 3) -> pd.DataFrame:
     Columns: ``time_constant [s]``, ``time_constant [h]``, ``nodes`` (up to ``top`` names with
     their share of the mode's energy, e.g. ``"payload 92%, wall.1 6%"``).
     """
-    asm = network.assemble()
+    asm = _linear_assembled(network)
     ss = state_space(asm)
     modes = modal_decomposition(asm)
     share = ss.C[:, None] * modes.V ** 2  # (n_states, n_modes), columns sum to 1

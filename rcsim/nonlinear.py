@@ -25,7 +25,7 @@ from .steady import check_grounded, steady_temperatures
 from .units import to_si
 
 __all__ = ["SegmentTerm", "Thermostat", "make_thermostat", "build_terms", "steady_newton",
-           "add_thermostats_from_scenario", "THERMOSTAT_KEYS"]
+           "add_thermostats_from_scenario", "THERMOSTAT_KEYS", "linearised"]
 
 THERMOSTAT_KEYS = {"node", "sensor", "mode", "setpoint", "band", "power", "control", "initially"}
 
@@ -381,3 +381,31 @@ def _linear_first_guess(asm, u, s):
     rhs = B @ u + asm.P @ s
     T = spla.spsolve(K.tocsc(), rhs) if n > 1 else rhs / K.toarray()[0, 0]
     return np.atleast_1d(T)
+
+
+def linearised(asm, T: np.ndarray, u: np.ndarray):
+    """A linear copy of ``asm`` about node temperatures ``T`` and boundary temperatures ``u``.
+
+    Each nonlinear segment becomes the conductance (dq/dT_a - dq/dT_b)/2 of its tangent there;
+    each phase-change node gets the capacity dH/dT of its enthalpy curve at its temperature (a
+    zero-width melting point counts as m * L per 0.01 K). Used for the time constants of a
+    nonlinear network about a state; the copy shares nothing mutable with ``asm``.
+    """
+    import dataclasses
+
+    from .network import _conductance_matrices
+
+    seg_g = asm.seg_g.copy()
+    if asm.nl is not None:
+        points = np.concatenate([T, u])
+        s = asm.nl.seg
+        _, da, db = asm.nl.solve(points[asm.seg_a[s]], points[asm.seg_b[s]])
+        seg_g[s] = np.maximum(0.5 * (da - db), 1e-12)
+    cap = asm.capacity.copy()
+    for i, pc in asm.phase_change.items():
+        H = pc.enthalpy(float(T[i]))
+        _, dTdH = pc.temperature(H)
+        cap[i] = 1.0 / dTdH if dTdH > 0 else pc.mass * pc.latent_heat / 0.01
+    K, B = _conductance_matrices(asm.seg_a, asm.seg_b, seg_g, asm.n_nodes, asm.n_boundaries)
+    return dataclasses.replace(asm, capacity=cap, seg_g=seg_g, K=K, B=B, phase_change={},
+                               nl=None)

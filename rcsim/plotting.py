@@ -981,7 +981,9 @@ def warmup_nodes(res) -> list[str]:
     The run starts from given temperatures (not a steady or periodic start); the node moves by
     0.1 K or more from its initial temperature to T_final (as :func:`standard_figures` takes it),
     and its θ stays between −0.05 and 1.1 for 95 % of the run, so the approach to T_final is
-    not buried under swings.
+    not buried under swings; nor may it rebound: θ never climbs back by more than 0.05 above
+    the lowest value it has reached (a warm-up or cool-down approaches T_final, it does not swing
+    about it).
     """
     if str(res.meta.get("initial", "given")) not in ("given", "") or res.time.size < 3:
         return []
@@ -994,7 +996,9 @@ def warmup_nodes(res) -> list[str]:
     for n in shown:
         change = finals[n] - initials[n]
         theta = (temps[n].to_numpy() - finals[n]) / -change
-        if abs(change) >= 0.1 and np.mean((theta > -0.05) & (theta < 1.1)) >= 0.95:
+        rebound = float(np.max(theta - np.minimum.accumulate(theta))) if theta.size else 0.0
+        if abs(change) >= 0.1 and np.mean((theta > -0.05) & (theta < 1.1)) >= 0.95 \
+                and rebound <= 0.05:
             out.append(n)
     return out
 

@@ -527,6 +527,73 @@ class Result:
         with atomic_path(path, ".csv.tmp") as tmp:
             table.to_csv(tmp, float_format="%.10g")
 
+    @property
+    def period(self) -> float | None:
+        """Period of the inputs [s] when the run started in its periodic regime, else None."""
+        p = self.meta.get("period")
+        return float(p) if p not in (None, "", 0, 0.0) else None
+
+    def periodic_response(self, reference: str | None = None, period=None) -> pd.DataFrame:
+        """Mean, swing, amplitude, time of peak, lag and decrement of every node over one period.
+
+        Uses the last full period of the run (``period`` [s]; default the inputs' period stored
+        with a run that started periodic). The amplitude and phase are those of the first
+        harmonic (the discrete Fourier coefficient at 2 pi / period over one period of samples),
+        so the lag of a node behind the reference boundary is the phase difference over omega,
+        and the decrement is the ratio of their amplitudes. ``reference`` defaults to the boundary
+        with the largest first harmonic.
+
+        Columns: ``mean [degC]``, ``swing [K]`` (max - min), ``amplitude [K]``, ``peak [s]``
+        (time of the maximum within the period, from its start), ``lag [s]``, ``decrement [-]``.
+        """
+        from .units import to_si
+
+        P = self.period if period is None else to_si(period, "time", "period")
+        if P is None:
+            raise DataError("the run did not start periodic, so give the period", "period")
+        t = self.time
+        step = float(np.median(np.diff(t))) if t.size > 1 else 0.0
+        n = int(round(P / step)) if step > 0 else 0
+        if n < 4 or t.size < n + 1 or abs(n * step - P) > 1e-6 * P:
+            raise DataError(f"the run needs at least one period ({P:g} s) of evenly spaced "
+                            f"samples whose step divides it", "period")
+        sel = slice(t.size - 1 - n, t.size - 1)          # the last full period, end excluded
+        tt = t[sel]
+        omega = 2 * np.pi / P
+        basis = np.exp(-1j * omega * tt)
+        frames = {**{c: self.temperatures[c].to_numpy()[sel] for c in self.temperatures.columns}}
+        bounds = {c: self.boundary_temperatures[c].to_numpy()[sel]
+                  for c in self.boundary_temperatures.columns}
+
+        def harmonic(x):
+            return 2.0 / n * np.sum(x * basis)
+
+        bh = {c: harmonic(v) for c, v in bounds.items()}
+        if reference is None:
+            if not bh:
+                raise DataError("no boundary to compare with", "reference")
+            reference = max(bh, key=lambda c: abs(bh[c]))
+        if reference not in bh:
+            from .materials import suggest
+
+            raise DataError(f"unknown boundary {reference!r}", "reference", suggest(reference, bh))
+        ref = bh[reference]
+        rows = []
+        for name, x in list(frames.items()) + [(f"{c} (boundary)", v) for c, v in bounds.items()]:
+            h = harmonic(x)
+            lag = ((np.angle(ref) - np.angle(h)) / omega) % P if abs(ref) > 0 and abs(h) > 0 \
+                else np.nan
+            rows.append({"node": name, "mean [degC]": float(np.mean(x)),
+                         "swing [K]": float(np.max(x) - np.min(x)),
+                         "amplitude [K]": float(abs(h)),
+                         "peak [s]": float((tt[int(np.argmax(x))] - tt[0]) % P),
+                         "lag [s]": float(lag),
+                         "decrement [-]": float(abs(h) / abs(ref)) if abs(ref) > 0 else np.nan})
+        out = pd.DataFrame(rows).set_index("node")
+        out.attrs["reference"] = reference
+        out.attrs["period"] = P
+        return out
+
     def plot(self, kind: str = "history", **kwargs):
         """Draw the result (see :mod:`rcsim.plotting`); returns what was drawn."""
         from . import plotting  # plotting sits above results; thin hand-off

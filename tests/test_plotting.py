@@ -442,3 +442,13 @@ def test_gallery_build_picks_up_scenarios_and_drops_stale_figures(tmp_path):
                                        "shipper-response.png"]
     assert written[-1] == str(out / "README.md")
     assert "![shipper response](shipper-response.png)" in (out / "README.md").read_text()
+
+
+def test_no_response_figure_for_a_node_that_swings_about_its_final_value():
+    # the winter shipper's payload cools, dips past its final value and climbs back with the daily
+    # swing: a response figure would misread that as a decay with one time constant
+    res = rcsim.load(os.path.join(SCENARIOS, "cold-box-winter.toml")).run()
+    assert plotting.warmup_nodes(res) == []
+    # the switch-on of the enclosure is a warm-up of every node
+    res = rcsim.load(os.path.join(SCENARIOS, "enclosure-warmup.toml")).run()
+    assert set(plotting.warmup_nodes(res)) == {"module", "plate", "inner_air", "shell"}

@@ -171,7 +171,7 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
                                       boundary_links, rtol, atol, progress, thermostats)
             solver_name = "stiff (BDF, sparse Jacobian)"
         balance, terms = recorder.energy_balance()
-        tau = _time_constants_or_none(asm)
+        tau = _time_constants_or_none(asm, float(t_out[-1]), network)
         wall = _time.perf_counter() - wall0
         stats["wall_time [s]"] = wall
         stats["states"] = int(ss.n)
@@ -187,6 +187,7 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
             "title": network.title or "",
             "initial": mode,
             "time_constants": [] if tau is None else [float(x) for x in tau],
+            "period": _period_or_none(asm, mode),
             "created": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
         }
         limits = recorder.limits_table()
@@ -220,13 +221,33 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
         raise
 
 
-def _time_constants_or_none(asm):
-    """Time constants of the linear part of the network (None when too large to compute)."""
+def _period_or_none(asm, mode):
+    """The inputs' common period when the run started in its periodic regime."""
+    if mode != "periodic":
+        return None
+    p = common_period(list(asm.boundary_profiles) + list(asm.source_profiles))
+    return float(p) if p > 0 else None
+
+
+def _time_constants_or_none(asm, t_end: float, network):
+    """Time constants of the network; a nonlinear one linearised about the steady state under
+    the inputs at the end of the run (what governs its approach to the end). None when they
+    cannot be computed (too large, or no steady state)."""
     from ..modes import modal_decomposition
 
     if state_space(asm).n > DENSE_LIMIT:
         return None
-    return modal_decomposition(asm).time_constants
+    if asm.is_linear:
+        return modal_decomposition(asm).time_constants
+    from ..errors import RcsimError
+    from ..nonlinear import linearised, steady_newton
+
+    try:
+        u = asm.boundary_values(t_end)
+        T = steady_newton(asm, u, asm.source_values(t_end), list(network.thermostats.values()))
+        return modal_decomposition(linearised(asm, T, u)).time_constants
+    except (RcsimError, np.linalg.LinAlgError, ValueError):
+        return None
 
 
 def _run_exact(asm, t_out, T0, mode, overrides, recorder, out_nodes, boundary_links, progress,

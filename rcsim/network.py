@@ -391,12 +391,10 @@ class Network:
         if len(given) != 1:
             raise NetworkError("give exactly one of resistance, conductance or parts"
                                + (f" (got {', '.join(given)})" if given else ""), where)
-        if resistance is not None:
-            part_list = [make_part({"resistance": resistance}, f"{where}.resistance")]
-            part_list[0].where = f"{where}.resistance"
+        if resistance is not None:  # make_part adds the kind to the key path
+            part_list = [make_part({"resistance": resistance}, where)]
         elif conductance is not None:
-            part_list = [make_part({"conductance": conductance}, f"{where}.conductance")]
-            part_list[0].where = f"{where}.conductance"
+            part_list = [make_part({"conductance": conductance}, where)]
         else:
             if not isinstance(parts, (list, tuple)) or not parts:
                 raise NetworkError("parts must be a non-empty list of parts in series",

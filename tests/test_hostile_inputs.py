@@ -164,3 +164,25 @@ def test_the_corpus_is_large_enough():
 
     assert len(UNITS) + len(API) + len(PROFILES) + len(LOGS) + 4 + len(CASES) >= 40
     assert len(UNITS) + len(API) + len(PROFILES) + len(LOGS) + 4 >= 40
+
+
+def test_files_never_execute_code(tmp_path):
+    # no reader evaluates text as code: neither the package's source uses eval/exec/pickle...
+    import pathlib
+    import re
+
+    src = pathlib.Path(rcsim.__file__).parent
+    for f in src.rglob("*.py"):
+        text = f.read_text(encoding="utf-8")
+        assert not re.search(r"\b(eval|exec)\s*\(|\bpickle\b|allow_pickle\s*=\s*True", text), f
+    # ...nor does a result file whose metadata holds code-like text run it
+    net = rcsim.Network()
+    net.add_node("a", capacity=1.0, initial=0.0)
+    net.add_boundary("b", temperature=0.0)
+    net.add_link("a", "b", resistance=1.0)
+    res = net.simulate("1 min", "10 s")
+    marker = tmp_path / "ran"
+    res.meta["scenario"] = f"__import__('pathlib').Path({str(marker)!r}).touch()"
+    res.save(tmp_path / "r.h5")
+    back = rcsim.Result.load(tmp_path / "r.h5")
+    assert back.scenario.startswith("__import__") and not marker.exists()

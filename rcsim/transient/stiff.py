@@ -160,6 +160,29 @@ class StiffModel:
         out[n + self.nb:n + self.nb + self.S] = w[self.M:]
         return out
 
+    def _jac_dense(self, t, y):
+        """The same Jacobian as :meth:`jac`, assembled as a dense array (small systems)."""
+        n, nb, S = self.n, self.nb, self.S
+        Tm, dTdH = self.temperatures(y[:n])
+        w = self.inputs(t)
+        dq = -self.K.copy()
+        e_block = -(self.to_links * self.g_end[None, :]) @ self.A_end if nb else np.zeros((0, n))
+        for term in self.terms:
+            jq, je = term.jacobian(Tm, w)
+            dq += jq.toarray()
+            if je is not None:
+                e_block = e_block + je.toarray()
+        J = np.zeros((self.ny, self.ny))
+        for k, ctl in enumerate(self.controllers):
+            entry = ctl.jacobian_entry(Tm)
+            if entry is not None:
+                dq[ctl._node_idx, entry[1]] += entry[2]
+                J[n + nb + S + k, entry[1]] = entry[2] * dTdH[entry[1]]
+        J[:n, :n] = dq * dTdH[None, :]
+        if nb:
+            J[n:n + nb, :n] = e_block * dTdH[None, :]
+        return J
+
     @property
     def _is_static(self) -> bool:
         return not self.terms and not self.phase and not any(
@@ -169,6 +192,11 @@ class StiffModel:
         self.stats["njev"] += 1
         if self._is_static and self._static_jac is not None:
             return self._static_jac
+        if self.dense:
+            J = self._jac_dense(t, y)
+            if self._is_static:
+                self._static_jac = J
+            return J
         n = self.n
         Tm, dTdH = self.temperatures(y[:n])
         w = self.inputs(t)

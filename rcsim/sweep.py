@@ -892,7 +892,9 @@ def one_at_a_time(scenario, vary, *, executor="processes", workers=None, schedul
         One row per (output, input): ``output``, ``input``, ``low``, ``high`` (SI input values),
         ``at_low``, ``at_high``, ``base`` (output values; NaN where a run failed or a hold time
         was not reached) and ``swing`` = |at_high - at_low|, sorted by output then by swing,
-        largest first. ``attrs['errors']`` lists runs that failed.
+        largest first. For a hold time not reached within the run the swing takes the run
+        duration in its place (so it is a lower bound). ``attrs['errors']`` lists runs that
+        failed; ``attrs['duration']`` is the run duration [s].
     """
     sc = _scenario(scenario)
     ranges = _ranges(sc, vary)
@@ -913,12 +915,18 @@ def one_at_a_time(scenario, vary, *, executor="processes", workers=None, schedul
     if interrupted:
         raise KeyboardInterrupt
     recs = []
+    duration = sc.settings.duration
     for j, c in enumerate(cols):
         for i, k in enumerate(keys):
             lo, hi = out[1 + 2 * i, j], out[2 + 2 * i, j]
+            a, b = lo, hi
+            if c.startswith("hold_time.") and duration and not (errors[1 + 2 * i]
+                                                                 or errors[2 + 2 * i]):
+                # never left the band: the hold time is at least the duration (a lower bound)
+                a, b = (duration if math.isnan(v) else v for v in (lo, hi))
             recs.append({"output": c, "input": k, "low": ranges[k][0], "high": ranges[k][1],
                          "at_low": lo, "at_high": hi, "base": out[0, j],
-                         "swing": abs(hi - lo) if np.isfinite(hi) and np.isfinite(lo) else np.nan})
+                         "swing": abs(b - a) if np.isfinite(a) and np.isfinite(b) else np.nan})
     table = pd.DataFrame(recs, columns=["output", "input", "low", "high", "at_low", "at_high",
                                         "base", "swing"])
     order = {c: j for j, c in enumerate(cols)}
@@ -929,6 +937,7 @@ def one_at_a_time(scenario, vary, *, executor="processes", workers=None, schedul
     table.attrs["units"] = {c: _unit_of(c, kinds) for c in keys + cols}
     table.attrs["errors"] = [f"run {i}: {e}" for i, e in enumerate(errors) if e]
     table.attrs["scenario"] = sc.name
+    table.attrs["duration"] = duration
     return table
 
 

@@ -1137,6 +1137,7 @@ def read_table(path) -> pd.DataFrame:
     else:
         raise DataError("should end with .csv, .h5 or .parquet", label)
     if "error" in table.columns:
-        table["error"] = table["error"].fillna("").astype(object)
+        err = table["error"].astype(object)
+        table["error"] = err.where(err.notna(), "")
     table.attrs = meta
     return table

@@ -338,11 +338,14 @@ def _parse_vary(items) -> dict:
     return vary
 
 
-def _fmt_output(output: str, value: float) -> str:
+def _fmt_output(output: str, value: float, duration=None) -> str:
+    """An output value for the summary; a hold time never reached prints as "> <duration>"."""
     if isinstance(value, float) and math.isnan(value):
         return "-"
     if output.startswith(("hold_time.", "time_out.")):
-        return _fmt_time(value) if math.isfinite(value) else "never"
+        if math.isfinite(value):
+            return _fmt_time(value)
+        return f"> {_fmt_time(duration)}" if duration else "never"
     return f"{value:.3f}"
 
 
@@ -462,8 +465,9 @@ def format_sweep_summary(sc, table, pct, where, wall, target=None, indices=None,
     lines.append(f"  {'output':<{ow}}" + "".join(f"{c:>12}" for c in cols))
     for out, row in pct.iterrows():
         unit = "[degC]" if out.split(".", 1)[0] in ("min", "max") else ""
-        cells = "".join(f"{_fmt_output(out, row[c]):>12}" for c in cols)
-        note = f"   (never left the band in {row['never']} runs)" if row.get("never") else ""
+        cells = "".join(f"{_fmt_output(out, row[c], attrs.get('duration')):>12}" for c in cols)
+        note = (f"   (never left the band in {int(row['never'])} runs)" if row.get("never")
+                else "")
         lines.append(f"  {out + ' ' + unit:<{ow}}{cells}{note}")
     failed = int((table["error"].astype(str) != "").sum()) if "error" in table.columns else 0
     lines.append("")
@@ -499,10 +503,11 @@ def format_sweep_summary(sc, table, pct, where, wall, target=None, indices=None,
             rows = rows[rows["swing"].fillna(0) > 1e-9 * scale]
             if rows.empty:
                 continue
-            lines.append(f"    {out} (base {_fmt_output(out, rows['base'].iloc[0])})")
+            dur = oat.attrs.get("duration")
+            lines.append(f"    {out} (base {_fmt_output(out, rows['base'].iloc[0], dur)})")
             for _, r in rows.iterrows():
-                lines.append(f"      {r['input']:<{iw}}  {_fmt_output(out, r['at_low']):>10} .. "
-                             f"{_fmt_output(out, r['at_high'])}")
+                lines.append(f"      {r['input']:<{iw}}  {_fmt_output(out, r['at_low'], dur):>10}"
+                             f" .. {_fmt_output(out, r['at_high'], dur)}")
     lines.append("")
     lines.append(CAUTION)
     return "\n".join(lines)

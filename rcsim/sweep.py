@@ -1032,7 +1032,9 @@ def _check_table_path(path) -> str:
         raise InputError(f"{path!r} is a directory", "output", "give a file name")
     if low.endswith(".parquet"):
         try:
-            import pyarrow  # noqa: F401
+            import importlib
+
+            importlib.import_module("pyarrow")
         except ImportError:
             raise InputError("writing .parquet needs the pyarrow package", "output",
                              "pip install \"rcsim[parquet]\", or write .csv or .h5") from None

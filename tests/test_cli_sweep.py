@@ -75,9 +75,12 @@ def test_bad_input_is_one_line_and_exit_2(cli, tmp_path, args, message):
 
 
 def test_interrupt_reports_how_far_it_got(cli, tmp_path, monkeypatch):
+    import importlib
+
     import pandas as pd
 
-    import rcsim.sweep as sweep_module
+    # the module, not the function rcsim.sweep that shadows it as a package attribute
+    sweep_module = importlib.import_module("rcsim.sweep")
 
     def interrupted(*args, **kwargs):
         raise SweepInterrupted(pd.DataFrame({"a": [1.0, 2.0]}), 2, 10, str(tmp_path / "t.csv"))

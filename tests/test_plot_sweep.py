@@ -6,7 +6,6 @@ import matplotlib
 import numpy as np
 import pytest
 
-import rcsim
 from rcsim.plot_sweep import plot_distribution, plot_scatter, plot_tornado, sweep_figures
 from rcsim.sweep import one_at_a_time, sweep
 

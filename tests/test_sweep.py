@@ -375,3 +375,16 @@ def test_table_files_round_trip(body, tmp_path, suffix):
         assert back.attrs["seed"] == 2
         assert back.attrs["units"]["hold_time.body"] == "s"
         assert back.attrs["limits"] == {"body": {"min": None, "max": 8.0}}
+
+
+def test_missing_optional_packages_are_named(body, tmp_path, monkeypatch):
+    import sys
+
+    # a module set to None in sys.modules raises ImportError on import, as if not installed
+    monkeypatch.setitem(sys.modules, "pyarrow", None)
+    with pytest.raises(InputError, match="needs the pyarrow package.*rcsim\\[parquet\\]"):
+        sweep(body, {"nodes.body.capacity": [8000.0]}, output=tmp_path / "t.parquet")
+    monkeypatch.setitem(sys.modules, "dask.distributed", None)
+    with pytest.raises(InputError, match="needs the dask and distributed packages.*rcsim\\[dask\\]"):
+        sweep(body, {"nodes.body.capacity": [8000.0]}, executor="dask")
+    assert not list(tmp_path.glob("*.parquet"))

@@ -400,6 +400,15 @@ def sweep_command(scenario, vary_items, samples, seed, executor, workers, schedu
     if plots_dir is not None and os.path.exists(plots_dir) and not os.path.isdir(plots_dir):
         raise InputError(f"{plots_dir!r} exists and is not a folder", "--plots")
     sc = _load(scenario, allow_absolute_paths)
+    oat = None
+    if tornado:  # first: it is short, and it checks the ranges before the long part
+        oat_progress = _SweepProgress(sys.stderr.isatty() and not quiet, "one at a time")
+        try:
+            oat = one_at_a_time(sc, vary, executor=executor, workers=workers,
+                                scheduler=scheduler, dask_workers=dask_workers,
+                                progress=oat_progress)
+        finally:
+            oat_progress.close()
     progress = _SweepProgress(sys.stderr.isatty() and not quiet)
     t0 = time.perf_counter()
     try:
@@ -415,15 +424,6 @@ def sweep_command(scenario, vary_items, samples, seed, executor, workers, schedu
     finally:
         progress.close()
     wall = time.perf_counter() - t0
-    oat = None
-    if tornado:
-        oat_progress = _SweepProgress(sys.stderr.isatty() and not quiet, "one at a time")
-        try:
-            oat = one_at_a_time(sc, vary, executor=executor, workers=workers,
-                                scheduler=scheduler, dask_workers=dask_workers,
-                                progress=oat_progress)
-        finally:
-            oat_progress.close()
     written = [output] if output else []
     if plots_dir:
         from .plot_sweep import sweep_figures
@@ -486,7 +486,9 @@ def format_sweep_summary(sc, table, pct, where, wall, target=None, indices=None,
     iw = max([len(k) for k in attrs.get("inputs", [])] + [5])
     if indices is not None and not indices.empty:
         lines.append("")
-        lines.append("  first-order indices: share of each output's variance due to one input alone")
+        rough = " (rough below ~200 runs)" if n < 200 else ""
+        lines.append("  first-order indices: share of each output's variance due to one input "
+                     f"alone{rough}")
         for out in indices.columns:
             col = indices[out]
             if col.isna().all():

@@ -867,16 +867,21 @@ def percentiles(table: pd.DataFrame, q=(5, 50, 95)) -> pd.DataFrame:
 
 # -- sensitivity -----------------------------------------------------------------------------
 def _ranges(sc, vary):
-    ranges = {}
+    """({key: (low, high, kind)} of the keys with a range, {key: value} of single-valued ones)."""
+    ranges, fixed = {}, {}
     for key, value in vary.items():
         kind = _check_key(sc, key)
         where = f"vary {key}"
         spec = _as_spec(value, where).bind(kind, where)
         low, high = spec.ends()
-        if not low < high:
-            raise InputError("one-at-a-time needs a range (two different values)", where)
-        ranges[key] = (low, high, kind)
-    return ranges
+        if low < high:
+            ranges[key] = (low, high, kind)
+        else:
+            fixed[key] = low
+    if not ranges:
+        raise InputError("one-at-a-time needs at least one key with a range", "vary",
+                         "give two or more values or a distribution")
+    return ranges, fixed
 
 
 def one_at_a_time(scenario, vary, *, executor="processes", workers=None, scheduler=None,
@@ -884,7 +889,8 @@ def one_at_a_time(scenario, vary, *, executor="processes", workers=None, schedul
     """Tornado ranking: each input at the low and high end of its range, the others as written.
 
     The range of a grid is its smallest and largest value; of a distribution its 5th and 95th
-    percentiles. The base run uses the scenario's own values.
+    percentiles. The base run uses the scenario's own values, except for keys given a single
+    value, which hold that value in every run.
 
     Returns
     -------
@@ -897,12 +903,12 @@ def one_at_a_time(scenario, vary, *, executor="processes", workers=None, schedul
         failed; ``attrs['duration']`` is the run duration [s].
     """
     sc = _scenario(scenario)
-    ranges = _ranges(sc, vary)
-    keys = list(ranges)
+    ranges, fixed = _ranges(sc, vary)
+    keys = list(ranges) + list(fixed)
     record, cols, limit_nodes = _output_layout(sc, nodes)
-    base = np.array([sc.si_value(k) for k in keys])
+    base = np.array([fixed[k] if k in fixed else sc.si_value(k) for k in keys])
     rows = [base.copy()]
-    for i, k in enumerate(keys):
+    for i, k in enumerate(ranges):
         for end in (0, 1):
             r = base.copy()
             r[i] = ranges[k][end]
@@ -917,7 +923,7 @@ def one_at_a_time(scenario, vary, *, executor="processes", workers=None, schedul
     recs = []
     duration = sc.settings.duration
     for j, c in enumerate(cols):
-        for i, k in enumerate(keys):
+        for i, k in enumerate(ranges):
             lo, hi = out[1 + 2 * i, j], out[2 + 2 * i, j]
             a, b = lo, hi
             if c.startswith("hold_time.") and duration and not (errors[1 + 2 * i]
@@ -933,8 +939,8 @@ def one_at_a_time(scenario, vary, *, executor="processes", workers=None, schedul
     table["_o"] = table["output"].map(order)
     table = table.sort_values(["_o", "swing"], ascending=[True, False], na_position="last",
                               kind="stable").drop(columns="_o").reset_index(drop=True)
-    kinds = {k: ranges[k][2] for k in keys}
-    table.attrs["units"] = {c: _unit_of(c, kinds) for c in keys + cols}
+    kinds = {k: ranges[k][2] for k in ranges}
+    table.attrs["units"] = {c: _unit_of(c, kinds) for c in list(ranges) + cols}
     table.attrs["errors"] = [f"run {i}: {e}" for i, e in enumerate(errors) if e]
     table.attrs["scenario"] = sc.name
     table.attrs["duration"] = duration

@@ -388,3 +388,15 @@ def test_missing_optional_packages_are_named(body, tmp_path, monkeypatch):
     with pytest.raises(InputError, match="needs the dask and distributed packages.*rcsim\\[dask\\]"):
         sweep(body, {"nodes.body.capacity": [8000.0]}, executor="dask")
     assert not list(tmp_path.glob("*.parquet"))
+
+
+def test_one_at_a_time_holds_single_values_and_needs_a_range(body):
+    oat = one_at_a_time(body, {"nodes.body.capacity": [6000.0, 10000.0],
+                               "boundaries.air.temperature": "40 degC"}, executor="serial")
+    rows = oat[oat["output"] == "hold_time.body"]
+    assert list(rows["input"]) == ["nodes.body.capacity"]
+    # every run in 40 degC air: the base is the closed form at C = 8400 J/K, Ta = 40 degC
+    assert rows["base"].iloc[0] == pytest.approx(body_hold_time(8400, 2.5, 40.0),
+                                                 abs=STEP**2 / (8 * 21000))
+    with pytest.raises(InputError, match="at least one key with a range"):
+        one_at_a_time(body, {"nodes.body.capacity": "8 kJ/K"}, executor="serial")

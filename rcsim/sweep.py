@@ -528,6 +528,8 @@ def _base_of(job) -> Scenario:
 def _run_batch(job, batch):
     """Run a batch ``(indices, values)``; returns (indices, outputs, errors, warnings)."""
     indices, values = batch
+    if "scenario" not in job:  # in a worker process (local or Dask)
+        _limit_worker_blas()
     base = _base_of(job)
     keys, record, limit_nodes, n_out = job["keys"], job["record"], job["limit_nodes"], job["n_out"]
     out = np.full((len(indices), n_out), np.nan)
@@ -569,9 +571,31 @@ def _batches(values, workers, batch_size):
             for i in range(0, n, batch_size)]
 
 
+def _one_blas_thread():
+    """Limit BLAS to one thread (runs are already parallel; nested BLAS threads oversubscribe the
+    cores). Uses threadpoolctl when installed (``rcsim[sweep]``); otherwise does nothing."""
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:
+        from contextlib import nullcontext
+
+        return nullcontext()
+    return threadpool_limits(limits=1, user_api="blas")
+
+
+_WORKER_LIMITS: list = []
+
+
+def _limit_worker_blas() -> None:
+    """In a worker process: one BLAS thread for the rest of its life (applied once)."""
+    if not _WORKER_LIMITS:
+        _WORKER_LIMITS.append(_one_blas_thread())
+
+
 def _serial(job, batches):
-    for b in batches:
-        yield _run_batch(job, b)
+    with _one_blas_thread():  # restored when the sweep ends
+        for b in batches:
+            yield _run_batch(job, b)
 
 
 _WORKER_JOB: dict = {}
@@ -582,6 +606,7 @@ def _init_worker(job):  # pragma: no cover - runs in the worker processes
     import signal
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    _limit_worker_blas()
     _WORKER_JOB.clear()
     _WORKER_JOB.update(job)
 

@@ -81,7 +81,7 @@ def plot_distribution(table: pd.DataFrame, output: str, ax=None, bins="auto",
     never = int(np.isnan(y).sum()) if output.startswith("hold_time.") else 0
     values = y[np.isfinite(y)] * scale
     counts, edges, _ = ax.hist(values, bins=bins, color="tab:blue", alpha=0.8,
-                               edgecolor="white") if values.size else (np.zeros(0), np.zeros(0),
+                               edgecolor="white", linewidth=0.5) if values.size else (np.zeros(0), np.zeros(0),
                                                                        None)
     limit_value = _limit_of(table, output)
     label = None
@@ -198,6 +198,12 @@ def plot_scatter(table: pd.DataFrame, output: str, inputs=None, axes=None) -> di
         ax.set_ylabel(output_label(output), fontsize="small")
     if limits:
         axes[0].legend(loc="best", fontsize="small")
+    never = int(np.isnan(y).sum()) if output.startswith("hold_time.") else 0
+    if never and axes:
+        dur = table.attrs.get("duration")
+        within = f" within {dur / 3600:g} h" if dur else ""
+        axes[0].figure.suptitle(f"{never} runs never left the band{within} (not shown)",
+                                fontsize="medium")
     return {"axes": axes[:len(inputs)], "points": points, "limits": limits}
 
 

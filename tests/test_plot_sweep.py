@@ -94,3 +94,17 @@ def test_sweep_figures_writes_pngs_for_outputs_that_vary(table, oat, tmp_path):
     for p in paths:
         with open(p, "rb") as fh:
             assert fh.read(8) == b"\x89PNG\r\n\x1a\n"
+
+
+def test_hold_times_never_reached_are_counted_not_drawn():
+    import pandas as pd
+
+    t = pd.DataFrame({"k": [1.0, 2.0, 3.0, 4.0], "hold_time.x": [3600.0, 7200.0, np.nan, np.nan],
+                      "error": ["", "", "", ""]})
+    t.attrs.update(inputs=["k"], outputs=["hold_time.x"], duration=36000.0)
+    drawn = plot_distribution(t, "hold_time.x")
+    assert drawn["never"] == 2 and drawn["counts"].sum() == 2
+    assert "2 more never left the band within 10 h" in drawn["ax"].get_title()
+    drawn = plot_scatter(t, "hold_time.x")
+    np.testing.assert_array_equal(drawn["points"]["k"].get_offsets(), [[1.0, 1.0], [2.0, 2.0]])
+    assert "2 runs never left the band" in drawn["axes"][0].figure.get_suptitle()

@@ -441,21 +441,19 @@ def _design(sc, vary, samples, seed, max_runs) -> _Design:
     if dist_cols and seed is None:
         seed = int(np.random.SeedSequence().entropy % (2**63))
     values = np.empty((total, len(keys)))
-    if dist_cols:
+    if grid_cols:  # full factorial, first key slowest; each point repeated for the draws
+        points = np.array(list(product(*[specs[i].values for i in grid_cols])), dtype=float)
+        values[:, grid_cols] = np.repeat(points, n_samp, axis=0)
+    if dist_cols:  # the same draws at every grid point
         rng = np.random.default_rng(seed)
-        draws = {i: np.asarray(specs[i].draw(rng, n_samp), dtype=float) for i in dist_cols}
-    points = list(product(*[specs[i].values for i in grid_cols])) if grid_cols else [()]
-    for g, point in enumerate(points):
-        rows = slice(g * n_samp, (g + 1) * n_samp)
-        for j, i in enumerate(grid_cols):
-            values[rows, i] = point[j]
         for i in dist_cols:
-            values[rows, i] = draws[i]
+            values[:, i] = np.tile(np.asarray(specs[i].draw(rng, n_samp), dtype=float), n_grid)
     return _Design(keys, kinds, specs, values, seed if dist_cols else None)
 
 
 def _check_design_values(sc, design) -> None:
-    """Build the scenario once per grid value and at each distribution's median, before running."""
+    """Build the scenario at both ends of each grid and at each distribution's median, so values
+    the model refuses are reported before anything runs."""
     for key, spec in zip(design.keys, design.specs):
         vals = spec.ends() if isinstance(spec, Grid) else (spec.center(),)
         for v in dict.fromkeys(vals):

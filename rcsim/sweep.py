@@ -53,7 +53,7 @@ from itertools import product
 import numpy as np
 import pandas as pd
 
-from .errors import InputError, RcsimWarning
+from .errors import InputError, RcsimWarning, SolverError
 from .scenario import Scenario, build, load, parse_key_path, quantity_kind
 from .units import KINDS, to_si
 
@@ -613,6 +613,19 @@ def _run_batch_here(batch):  # pragma: no cover - runs in the worker processes
     return _run_batch(_WORKER_JOB, batch)
 
 
+def _worker_result(fut):
+    """A batch's result; a worker that died (not a run that failed: those are rows) stops the
+    sweep with one line."""
+    try:
+        return fut.result()
+    except (KeyboardInterrupt, SystemExit):
+        raise
+    except Exception as exc:  # noqa: BLE001 - pool or cluster failure, reported as one line
+        raise SolverError(f"a sweep worker stopped unexpectedly ({type(exc).__name__}: {exc})",
+                          hint="run with executor 'serial' to see whether a run causes it") \
+            from None
+
+
 def _processes(job, batches, workers):
     from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 
@@ -623,7 +636,7 @@ def _processes(job, batches, workers):
         while pending:
             done, pending = wait(pending, return_when=FIRST_COMPLETED)
             for fut in done:
-                yield fut.result()
+                yield _worker_result(fut)
         finished = True
     finally:
         pool.shutdown(wait=finished, cancel_futures=True)
@@ -654,7 +667,7 @@ def _dask(job, batches, scheduler, n_workers):
         shared = client.scatter(job, broadcast=True)
         futures = [client.submit(_run_batch, shared, b, pure=False) for b in batches]
         for fut in as_completed(futures):
-            yield fut.result()
+            yield _worker_result(fut)
     finally:
         pending = [f for f in futures if not f.done()]
         if pending:

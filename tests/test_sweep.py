@@ -400,3 +400,28 @@ def test_one_at_a_time_holds_single_values_and_needs_a_range(body):
                                                  abs=STEP**2 / (8 * 21000))
     with pytest.raises(InputError, match="at least one key with a range"):
         one_at_a_time(body, {"nodes.body.capacity": "8 kJ/K"}, executor="serial")
+
+
+def test_a_worker_that_dies_stops_the_sweep_with_one_line(body, monkeypatch):
+    import importlib
+
+    from concurrent.futures import Future
+    from concurrent.futures.process import BrokenProcessPool
+
+    sweep_module = importlib.import_module("rcsim.sweep")
+
+    class DeadPool:  # a pool whose worker died: every result raises BrokenProcessPool
+        def __init__(self, *a, **k):
+            pass
+
+        def submit(self, *a, **k):
+            f = Future()
+            f.set_exception(BrokenProcessPool("a process terminated abruptly"))
+            return f
+
+        def shutdown(self, *a, **k):
+            pass
+
+    monkeypatch.setattr("concurrent.futures.ProcessPoolExecutor", DeadPool)
+    with pytest.raises(rcsim.SolverError, match="sweep worker stopped unexpectedly.*abruptly"):
+        sweep_module.sweep(body, {"nodes.body.capacity": [8000.0, 9000.0]}, workers=2)

@@ -28,6 +28,7 @@ from .profiles import Constant, Repeat, Sine, Steps, Table  # noqa: E402
 from .results import Result  # noqa: E402
 from .scenario import Scenario, load, loads  # noqa: E402
 from .steady import SteadyResult  # noqa: E402
+from .sweep import sweep  # noqa: E402  (helpers: ``from rcsim.sweep import Normal, ...``)
 
 __all__ = [
     "__version__",
@@ -44,6 +45,7 @@ __all__ = [
     "Steps",
     "Table",
     "Repeat",
+    "sweep",
     "errors",
     "RcsimError",
     "InputError",

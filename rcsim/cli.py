@@ -464,6 +464,150 @@ def fit(scenario, log, free, mapping, ignore, bound_items, sigma_items, time_col
             plt.close(drawn.figure)
         written.append(plot_path)
     click.echo(format_fit_summary(sc, res))
+# -- sweep ---------------------------------------------------------------------------------
+class _SweepProgress:
+    """Runs done and the time left, on stderr, once a sweep has lasted more than ~2 s."""
+
+    def __init__(self, enabled: bool, label: str = "sweep"):
+        self.enabled = enabled
+        self.label = label
+        self.t0 = time.perf_counter()
+        self.shown = False
+
+    def __call__(self, done: int, total: int) -> None:
+        if not self.enabled:
+            return
+        elapsed = time.perf_counter() - self.t0
+        if elapsed < 2.0 and not self.shown:
+            return
+        self.shown = True
+        fraction = done / total if total else 1.0
+        left = elapsed / fraction - elapsed if fraction > 0 else float("nan")
+        bar = "#" * int(30 * fraction)
+        click.echo(f"\r{self.label} [{bar:<30}] {done}/{total} runs, {_fmt_time(left)} left ",
+                   nl=False, err=True)
+
+    def close(self) -> None:
+        if self.shown:
+            click.echo("", err=True)
+
+
+def _parse_vary(items) -> dict:
+    """``("KEY=SPEC", ...)`` -> {key: spec text}; one line naming the bad item otherwise."""
+    vary = {}
+    for item in items:
+        key, eq, spec = item.partition("=")
+        key, spec = key.strip(), spec.strip()
+        if not eq or not key or not spec:
+            raise InputError(f"expected KEY=VALUES, got {item!r}", "--vary",
+                             "e.g. --vary links.walls.parts[1].conduction.thickness=40mm..80mm:5")
+        if key in vary:
+            raise InputError(f"key {key!r} is given twice", "--vary")
+        vary[key] = spec
+    return vary
+
+
+def _fmt_output(output: str, value: float, duration=None) -> str:
+    """An output value for the summary; a hold time never reached prints as "> <duration>"."""
+    if isinstance(value, float) and math.isnan(value):
+        return "-"
+    if output.startswith(("hold_time.", "time_out.")):
+        if math.isfinite(value):
+            return _fmt_time(value)
+        return f"> {_fmt_time(duration)}" if duration else "never"
+    return f"{value:.3f}"
+
+
+@main.command(name="sweep")
+@click.argument("scenario", type=click.Path(dir_okay=True))
+@click.option("--vary", "vary_items", multiple=True, required=True, metavar="KEY=VALUES",
+              help="A value to vary, by key path (repeatable). VALUES is a grid: LOW..HIGH[:N] "
+                   "(N evenly spaced, default 5) or A,B,C; or a distribution: uniform(LOW,HIGH), "
+                   "normal(MEAN,SD), lognormal(MEDIAN,FACTOR), triangular(LOW,MODE,HIGH). "
+                   "Units allowed, e.g. 40mm..80mm:5 or normal(25degC,2K).")
+@click.option("--sample", "samples", type=click.IntRange(1), metavar="N",
+              help="Draw N samples of the distributions (needed when there are any).")
+@click.option("--seed", type=click.IntRange(0), help="Seed of the random draws (printed when "
+              "not given, so the sweep can be repeated).")
+@click.option("--executor", type=click.Choice(["serial", "processes", "dask"]), default=None,
+              help="Where the runs go: this process, local processes (default), or Dask.")
+@click.option("--workers", type=click.IntRange(1), help="Local processes (default: all cores).")
+@click.option("--scheduler", metavar="ADDRESS", help="Address of a running Dask scheduler "
+              "(implies --executor dask).")
+@click.option("--dask-workers", type=click.IntRange(1), help="Start a local Dask cluster of this "
+              "many workers (implies --executor dask).")
+@click.option("-o", "--output", type=click.Path(), help="Write the table (one row per run) to "
+              "this .csv, .h5 or .parquet file.")
+@click.option("--plots", "plots_dir", type=click.Path(), help="Write the sweep figures into this "
+              "folder.")
+@click.option("--tornado", is_flag=True, help="Also run each input alone at the low and high end "
+              "of its range (2 runs per input) and rank the inputs.")
+@click.option("--target-hold", metavar="TIME", help="Required hold time, e.g. '48 h': print the "
+              "share of runs that hold it and mark it on the figures.")
+@click.option("--allow-absolute-paths", is_flag=True, help="Let the scenario read CSV files by "
+              "absolute path.")
+@click.option("--quiet", is_flag=True, help="Print nothing but errors and warnings.")
+@_guard
+def sweep_command(scenario, vary_items, samples, seed, executor, workers, scheduler, dask_workers,
+                  output, plots_dir, tornado, target_hold, allow_absolute_paths, quiet):
+    """Run SCENARIO many times over grids or samples of its values; percentiles and sensitivity."""
+    from .sweep import (SweepInterrupted, first_order_indices, one_at_a_time, percentiles,
+                        sweep)
+    from .units import to_si
+
+    vary = _parse_vary(vary_items)
+    if executor is None:
+        executor = "dask" if (scheduler or dask_workers) else "processes"
+    elif executor != "dask" and (scheduler or dask_workers):
+        raise InputError(f"--scheduler and --dask-workers need --executor dask, not {executor}",
+                         "--executor")
+    target = None if target_hold is None else to_si(target_hold, "time", "--target-hold")
+    if output is not None:
+        from .sweep import _check_table_path
+
+        _check_table_path(output)
+    if plots_dir is not None and os.path.exists(plots_dir) and not os.path.isdir(plots_dir):
+        raise InputError(f"{plots_dir!r} exists and is not a folder", "--plots")
+    sc = _load(scenario, allow_absolute_paths)
+    oat = None
+    if tornado:  # first: it is short, and it checks the ranges before the long part
+        oat_progress = _SweepProgress(sys.stderr.isatty() and not quiet, "one at a time")
+        try:
+            oat = one_at_a_time(sc, vary, executor=executor, workers=workers,
+                                scheduler=scheduler, dask_workers=dask_workers,
+                                progress=oat_progress)
+        finally:
+            oat_progress.close()
+    progress = _SweepProgress(sys.stderr.isatty() and not quiet)
+    t0 = time.perf_counter()
+    try:
+        table = sweep(sc, vary, samples=samples, seed=seed, executor=executor, workers=workers,
+                      scheduler=scheduler, dask_workers=dask_workers, output=output,
+                      progress=progress)
+    except SweepInterrupted as stop:
+        progress.close()
+        where = (f"wrote the {len(stop.table)} finished rows to {stop.output}" if stop.output
+                 else "no table written")
+        click.echo(f"interrupted after {stop.done} of {stop.planned} runs; {where}", err=True)
+        sys.exit(130)
+    finally:
+        progress.close()
+    wall = time.perf_counter() - t0
+    written = [output] if output else []
+    if plots_dir:
+        from .plot_sweep import sweep_figures
+
+        written += sweep_figures(table, plots_dir, stem=os.path.splitext(sc.name)[0], oat=oat,
+                                 target_hold=target)
+    if quiet:
+        return
+    where = {"serial": "in this process",
+             "processes": f"{workers or os.cpu_count() or 1} local process(es)",
+             "dask": (f"Dask at {scheduler}" if scheduler else
+                      f"a local Dask cluster of {dask_workers or workers or os.cpu_count() or 1} "
+                      "worker(s)")}[executor]
+    click.echo(format_sweep_summary(sc, table, percentiles(table), where, wall, target,
+                                    first_order_indices(table) if samples else None, oat))
     for p in written:
         click.echo(f"wrote {p}")
 
@@ -533,6 +677,74 @@ def format_fit_summary(sc, res) -> str:
     lines.append("")
     lines.append("check the fitted model against data it was not fitted to before predicting "
                  "with it.")
+def format_sweep_summary(sc, table, pct, where, wall, target=None, indices=None, oat=None) -> str:
+    """The text printed by ``rcsim sweep``."""
+    import numpy as np
+
+    lines = []
+    title = f' "{sc.title}"' if sc.title else ""
+    n = len(table)
+    lines.append(f"{sc.name}{title}: {n} runs, {where}, {wall:.3g} s")
+    attrs = table.attrs
+    if attrs.get("seed") is not None:
+        lines.append(f"  samples drawn with seed {attrs['seed']}")
+    lines.append("")
+    lines.append("  inputs (SI units; degC for temperatures)")
+    width = max([len(k) for k in attrs.get("inputs", [])] + [5])
+    for k in attrs.get("inputs", []):
+        lines.append(f"    {k:<{width}}  {attrs.get('design', {}).get(k, '')}")
+    lines.append("")
+    ow = max([len(o) for o in pct.index] + [6]) + 7
+    cols = [c for c in pct.columns if c.endswith("%")]
+    lines.append(f"  {'output':<{ow}}" + "".join(f"{c:>12}" for c in cols))
+    for out, row in pct.iterrows():
+        unit = "[degC]" if out.split(".", 1)[0] in ("min", "max") else ""
+        cells = "".join(f"{_fmt_output(out, row[c], attrs.get('duration')):>12}" for c in cols)
+        note = (f"   (never left the band in {int(row['never'])} runs)" if row.get("never")
+                else "")
+        lines.append(f"  {out + ' ' + unit:<{ow}}{cells}{note}")
+    failed = int((table["error"].astype(str) != "").sum()) if "error" in table.columns else 0
+    lines.append("")
+    lines.append(f"  failed runs: {failed} of {n}")
+    if failed:
+        first = table.loc[table["error"].astype(str) != "", "error"].iloc[0]
+        lines.append(f"    first: {first}")
+    if target is not None:
+        for out in [c for c in attrs.get("outputs", []) if c.startswith("hold_time.")]:
+            ok = table["error"].astype(str) == ""
+            hold = table.loc[ok, out].to_numpy(dtype=float)
+            holds = int(((hold >= target) | (hold != hold)).sum())
+            share = 100.0 * holds / hold.size if hold.size else float("nan")
+            lines.append(f"  {out[len('hold_time.'):]} holds {_fmt_time(target)}: {share:.1f} % "
+                         f"of runs ({holds} of {hold.size})")
+    iw = max([len(k) for k in attrs.get("inputs", [])] + [5])
+    if indices is not None and not indices.empty:
+        lines.append("")
+        rough = " (rough below ~200 runs)" if n < 200 else ""
+        lines.append("  first-order indices: share of each output's variance due to one input "
+                     f"alone{rough}")
+        for out in indices.columns:
+            col = indices[out]
+            if col.isna().all():
+                continue
+            lines.append(f"    {out} (sum {col.sum():.2f})")
+            for k, v in col.sort_values(ascending=False).items():
+                lines.append(f"      {k:<{iw}}  {v:5.2f}")
+    if oat is not None:
+        lines.append("")
+        lines.append("  one at a time: output with each input at the low .. high end of its range")
+        for out, rows in oat.groupby("output", sort=False):
+            scale = max(1.0, float(np.nanmax(np.abs(rows[["at_low", "at_high"]].to_numpy(
+                dtype=float)))) if rows[["at_low", "at_high"]].notna().any().any() else 1.0)
+            rows = rows[rows["swing"].fillna(0) > 1e-9 * scale]
+            if rows.empty:
+                continue
+            dur = oat.attrs.get("duration")
+            lines.append(f"    {out} (base {_fmt_output(out, rows['base'].iloc[0], dur)})")
+            for _, r in rows.iterrows():
+                lines.append(f"      {r['input']:<{iw}}  {_fmt_output(out, r['at_low'], dur):>10}"
+                             f" .. {_fmt_output(out, r['at_high'], dur)}")
+    lines.append("")
     lines.append(CAUTION)
     return "\n".join(lines)
 

@@ -464,6 +464,10 @@ def fit(scenario, log, free, mapping, ignore, bound_items, sigma_items, time_col
             plt.close(drawn.figure)
         written.append(plot_path)
     click.echo(format_fit_summary(sc, res))
+    for p in written:
+        click.echo(f"wrote {p}")
+
+
 # -- sweep ---------------------------------------------------------------------------------
 class _SweepProgress:
     """Runs done and the time left, on stderr, once a sweep has lasted more than ~2 s."""
@@ -677,6 +681,10 @@ def format_fit_summary(sc, res) -> str:
     lines.append("")
     lines.append("check the fitted model against data it was not fitted to before predicting "
                  "with it.")
+    lines.append(CAUTION)
+    return "\n".join(lines)
+
+
 def format_sweep_summary(sc, table, pct, where, wall, target=None, indices=None, oat=None) -> str:
     """The text printed by ``rcsim sweep``."""
     import numpy as np

@@ -599,7 +599,7 @@ def sweep_command(scenario, vary_items, samples, seed, executor, workers, schedu
     wall = time.perf_counter() - t0
     written = [output] if output else []
     if plots_dir:
-        from .plot_sweep import sweep_figures
+        from .plotting import sweep_figures
 
         written += sweep_figures(table, plots_dir, stem=os.path.splitext(sc.name)[0], oat=oat,
                                  target_hold=target)

@@ -1,4 +1,4 @@
-"""Sweep figures (rcsim.plot_sweep), headless: drawn data equals the table, limits where they are."""
+"""Sweep figures (rcsim.plotting), headless: drawn data equals the table, limits where they are."""
 
 import os
 
@@ -6,7 +6,7 @@ import matplotlib
 import numpy as np
 import pytest
 
-from rcsim.plot_sweep import plot_distribution, plot_scatter, plot_tornado, sweep_figures
+from rcsim.plotting import plot_distribution, plot_scatter, plot_tornado, sweep_figures
 from rcsim.sweep import one_at_a_time, sweep
 
 from conftest import SCENARIOS

@@ -125,6 +125,7 @@ def _mutate(data, path, value, action):
             cur[f"extra_{last}"] = value
 
 
+@pytest.mark.filterwarnings("ignore::rcsim.errors.LumpedWarning")
 @MANY
 @given(st.lists(st.tuples(st.sampled_from(PATHS), JUNK,
                           st.sampled_from(["set", "delete", "extra"])), min_size=1, max_size=3))
@@ -140,6 +141,7 @@ def test_mutated_scenarios_fail_cleanly(mutations):
         assert str(out).startswith("m.toml"), str(out)
 
 
+@pytest.mark.filterwarnings("ignore::rcsim.errors.LumpedWarning")
 @SOME
 @given(st.lists(st.tuples(st.sampled_from(PATHS), JUNK, st.just("set")), min_size=1, max_size=2))
 def test_mutated_scenarios_that_load_also_run_or_fail_cleanly(mutations):

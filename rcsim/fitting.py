@@ -242,6 +242,9 @@ def _from_csv(path, time, time_unit, label, columns, names, start):
         raise DataError("is a directory, not a CSV file", label)
     if not os.path.exists(path):
         raise DataError("file not found", label, f"looked for {os.path.abspath(path)}")
+    from .profiles import check_fits_in_memory
+
+    check_fits_in_memory(os.path.getsize(path) * 15, label, "reading it")
     try:
         raw = pd.read_csv(path, dtype=str, keep_default_na=False, skipinitialspace=True,
                           encoding="utf-8")

@@ -225,3 +225,17 @@ def test_names(name):
         return net.steady()
 
     _ok_or_input_error(add)
+
+
+@MANY
+@given(st.lists(st.lists(CSV_CELLS, min_size=1, max_size=4), min_size=0, max_size=8),
+       st.sampled_from(["time,block,room\n", "t [min],block\n", "when,block\n", "block,room\n",
+                        "time,block,block\n", "time,probe,room\n", ""]))
+def test_fit_log_reader(tmp_path_factory, rows, header):
+    from rcsim.fitting import read_log
+
+    path = tmp_path_factory.mktemp("log") / "log.csv"
+    path.write_bytes((header + "\n".join(",".join(r) for r in rows)).encode("utf-8", "replace"))
+    out = _ok_or_input_error(read_log, path, ["block"], ["room"])
+    if isinstance(out, InputError):
+        assert "log.csv" in str(out)

@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import math
 import re
+from functools import lru_cache
 from numbers import Real
 
 import pint
@@ -68,6 +69,16 @@ def _describe_dims(dims) -> str:
 
 
 def _parse_string(text: str, where: str | None):
+    """(number, pint units or None) of a string; parsed once per distinct string."""
+    try:
+        return _parse_cached(text)
+    except UnitError as err:
+        raise UnitError(err.message, where, err.hint) from None
+
+
+@lru_cache(maxsize=4096)
+def _parse_cached(text: str):
+    where = None
     match = _NUMBER.match(text)
     if not match:
         raise UnitError(f"cannot read {text!r} as a number with a unit", where,

@@ -105,7 +105,11 @@ def _load(path, allow_absolute_paths=False):
 
 
 class _Progress:
-    """A progress bar on stderr that appears only when a run lasts more than ~2 s."""
+    """A progress bar on stderr that appears only once a job has lasted more than ~2 s.
+
+    Called with the fraction done (a run), or through :meth:`runs` with runs done and total (a
+    sweep).
+    """
 
     def __init__(self, enabled: bool, label: str = "running"):
         self.enabled = enabled
@@ -113,7 +117,7 @@ class _Progress:
         self.label = label
         self.shown = False
 
-    def __call__(self, fraction: float) -> None:
+    def __call__(self, fraction: float, detail: str = "") -> None:
         if not self.enabled:
             return
         elapsed = time.perf_counter() - self.t0
@@ -123,8 +127,12 @@ class _Progress:
         fraction = min(max(fraction, 0.0), 1.0)
         left = elapsed / fraction - elapsed if fraction > 0 else float("nan")
         bar = "#" * int(30 * fraction)
-        click.echo(f"\r{self.label} [{bar:<30}] {100 * fraction:5.1f}%  "
-                   f"{_fmt_time(left)} left ", nl=False, err=True)
+        shown = detail or f"{100 * fraction:5.1f}%"
+        click.echo(f"\r{self.label} [{bar:<30}] {shown}  {_fmt_time(left)} left ", nl=False,
+                   err=True)
+
+    def runs(self, done: int, total: int) -> None:
+        self(done / total if total else 1.0, f"{done}/{total} runs,")
 
     def close(self) -> None:
         if self.shown:
@@ -469,33 +477,6 @@ def fit(scenario, log, free, mapping, ignore, bound_items, sigma_items, time_col
 
 
 # -- sweep ---------------------------------------------------------------------------------
-class _SweepProgress:
-    """Runs done and the time left, on stderr, once a sweep has lasted more than ~2 s."""
-
-    def __init__(self, enabled: bool, label: str = "sweep"):
-        self.enabled = enabled
-        self.label = label
-        self.t0 = time.perf_counter()
-        self.shown = False
-
-    def __call__(self, done: int, total: int) -> None:
-        if not self.enabled:
-            return
-        elapsed = time.perf_counter() - self.t0
-        if elapsed < 2.0 and not self.shown:
-            return
-        self.shown = True
-        fraction = done / total if total else 1.0
-        left = elapsed / fraction - elapsed if fraction > 0 else float("nan")
-        bar = "#" * int(30 * fraction)
-        click.echo(f"\r{self.label} [{bar:<30}] {done}/{total} runs, {_fmt_time(left)} left ",
-                   nl=False, err=True)
-
-    def close(self) -> None:
-        if self.shown:
-            click.echo("", err=True)
-
-
 def _parse_vary(items) -> dict:
     """``("KEY=SPEC", ...)`` -> {key: spec text}; one line naming the bad item otherwise."""
     vary = {}
@@ -575,19 +556,19 @@ def sweep_command(scenario, vary_items, samples, seed, executor, workers, schedu
     sc = _load(scenario, allow_absolute_paths)
     oat = None
     if tornado:  # first: it is short, and it checks the ranges before the long part
-        oat_progress = _SweepProgress(sys.stderr.isatty() and not quiet, "one at a time")
+        oat_progress = _Progress(sys.stderr.isatty() and not quiet, "one at a time")
         try:
             oat = one_at_a_time(sc, vary, executor=executor, workers=workers,
                                 scheduler=scheduler, dask_workers=dask_workers,
-                                progress=oat_progress)
+                                progress=oat_progress.runs)
         finally:
             oat_progress.close()
-    progress = _SweepProgress(sys.stderr.isatty() and not quiet)
+    progress = _Progress(sys.stderr.isatty() and not quiet, "sweep")
     t0 = time.perf_counter()
     try:
         table = sweep(sc, vary, samples=samples, seed=seed, executor=executor, workers=workers,
                       scheduler=scheduler, dask_workers=dask_workers, output=output,
-                      progress=progress)
+                      progress=progress.runs)
     except SweepInterrupted as stop:
         progress.close()
         where = (f"wrote the {len(stop.table)} finished rows to {stop.output}" if stop.output

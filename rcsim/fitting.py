@@ -242,22 +242,9 @@ def _from_csv(path, time, time_unit, label, columns, names, start):
         raise DataError("is a directory, not a CSV file", label)
     if not os.path.exists(path):
         raise DataError("file not found", label, f"looked for {os.path.abspath(path)}")
-    from .profiles import check_fits_in_memory
+    from .profiles import read_csv_text
 
-    check_fits_in_memory(os.path.getsize(path) * 15, label, "reading it")
-    try:
-        raw = pd.read_csv(path, dtype=str, keep_default_na=False, skipinitialspace=True,
-                          encoding="utf-8")
-    except UnicodeDecodeError:
-        raise DataError("is not UTF-8 text", label) from None
-    except pd.errors.EmptyDataError:
-        raise DataError("is empty", label, "a header row and data rows are needed") from None
-    except pd.errors.ParserError as exc:
-        raise DataError(f"cannot be read as CSV: {str(exc).strip().splitlines()[-1]}",
-                        label) from None
-    raw.columns = [str(c).strip() for c in raw.columns]
-    if raw.shape[0] == 0:
-        raise DataError("has a header but no data rows", label)
+    raw = read_csv_text(path, label)
     header_all = list(raw.columns)
     tcol = _find_time_column(header_all, time, set(columns), names, label)
     if time_unit is None:

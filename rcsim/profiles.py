@@ -154,6 +154,21 @@ def _finite_checked(array: np.ndarray, what: str, where: str | None) -> np.ndarr
     return array
 
 
+def _check_points(times, values, outside, where, min_points: int, what: str) -> None:
+    """The checks Steps and Table share: shape, counts, finite numbers, increasing times."""
+    if times.ndim != 1 or times.size < min_points:
+        raise ProfileError(f"{what} needs at least {'one time' if min_points == 1 else 'two points'}",
+                           where)
+    if values.shape != times.shape:
+        raise ProfileError(f"{what} has {times.size} times but {values.size} values", where,
+                           "give one value per time")
+    if outside not in ("error", "hold"):
+        raise ProfileError(f"outside must be 'error' or 'hold', got {outside!r}", where)
+    _finite_checked(times, "times", where)
+    _finite_checked(values, "values", where)
+    _increasing(times, where)
+
+
 def _increasing(times: np.ndarray, where: str | None, strict: bool = True) -> None:
     d = np.diff(times)
     bad = d <= 0 if strict else d < 0
@@ -278,16 +293,7 @@ class Steps(Profile):
         self._set(t, v, outside, None)
 
     def _set(self, times, values, outside, where):
-        if times.ndim != 1 or times.size == 0:
-            raise ProfileError("steps need at least one time", where)
-        if values.shape != times.shape:
-            raise ProfileError(f"steps have {times.size} times but {values.size} values", where,
-                               "give one value per time")
-        if outside not in ("error", "hold"):
-            raise ProfileError(f"outside must be 'error' or 'hold', got {outside!r}", where)
-        _finite_checked(times, "times", where)
-        _finite_checked(values, "values", where)
-        _increasing(times, where)
+        _check_points(times, values, outside, where, 1, "a list of steps")
         self.times, self.values, self.outside = times, values, outside
 
     def _bind(self, kind, where):
@@ -349,16 +355,7 @@ class Table(Profile):
             self._set(t, v, outside, None)
 
     def _set(self, times, values, outside, where):
-        if times.ndim != 1 or times.size < 2:
-            raise ProfileError("a table needs at least two points", where)
-        if values.shape != times.shape:
-            raise ProfileError(f"table has {times.size} times but {values.size} values", where,
-                               "give one value per time")
-        if outside not in ("error", "hold"):
-            raise ProfileError(f"outside must be 'error' or 'hold', got {outside!r}", where)
-        _finite_checked(times, "times", where)
-        _finite_checked(values, "values", where)
-        _increasing(times, where)
+        _check_points(times, values, outside, where, 2, "a table")
         self.times, self.values, self.outside = times, values, outside
 
     def _bind(self, kind, where):
@@ -609,22 +606,7 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit="s", m
     if max_bytes is not None and size > max_bytes:
         raise DataError(f"file is {size / 1e9:.2f} GB, more than the "
                         f"{max_bytes / 1e9:.2f} GB allowed", label)
-    # pandas holds a CSV read as text at about 11-15 times its size on disk (measured for
-    # 1,000,000 rows, tests/benchmarks/bench_transient.py --large)
-    check_fits_in_memory(size * 15, label, "reading it")
-    try:
-        df = pd.read_csv(path, comment=None, skipinitialspace=True, dtype=str,
-                         keep_default_na=False, encoding="utf-8")
-    except UnicodeDecodeError:
-        raise DataError("is not UTF-8 text", label) from None
-    except pd.errors.EmptyDataError:
-        raise DataError("is empty", label, "a header row and data rows are needed") from None
-    except pd.errors.ParserError as exc:
-        raise DataError(f"cannot be read as CSV: {str(exc).strip().splitlines()[-1]}",
-                        label) from None
-    df.columns = [str(c).strip() for c in df.columns]
-    if df.shape[0] == 0:
-        raise DataError("has a header but no data rows", label)
+    df = read_csv_text(path, label)
     if len(set(df.columns)) != len(df.columns):
         raise DataError("has duplicate column names", label)
     tcol = time if time is not None else df.columns[0]
@@ -661,6 +643,32 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit="s", m
     frame = pd.DataFrame(out, index=pd.Index(t, name="time"))
     frame.attrs["is_datetime"] = parsed.is_datetime
     return frame
+
+
+def read_csv_text(path, label: str):
+    """Read a CSV file with a header as a DataFrame of stripped strings, or raise DataError.
+
+    Checks that it fits in memory, is UTF-8, parses as CSV and has data rows.
+    """
+    import pandas as pd
+
+    # pandas holds a CSV read as text at about 11-15 times its size on disk (measured for
+    # 1,000,000 rows, tests/benchmarks/bench_transient.py --large)
+    check_fits_in_memory(os.path.getsize(path) * 15, label, "reading it")
+    try:
+        df = pd.read_csv(path, skipinitialspace=True, dtype=str, keep_default_na=False,
+                         encoding="utf-8")
+    except UnicodeDecodeError:
+        raise DataError("is not UTF-8 text", label) from None
+    except pd.errors.EmptyDataError:
+        raise DataError("is empty", label, "a header row and data rows are needed") from None
+    except pd.errors.ParserError as exc:
+        raise DataError(f"cannot be read as CSV: {str(exc).strip().splitlines()[-1]}",
+                        label) from None
+    df.columns = [str(c).strip() for c in df.columns]
+    if df.shape[0] == 0:
+        raise DataError("has a header but no data rows", label)
+    return df
 
 
 def memory_available() -> int | None:

@@ -62,8 +62,9 @@ class MemorySink:
         self.parts[key] = []
 
     def append(self, key: str, array: np.ndarray) -> None:
-        # a copy: a slice would keep the solver's whole block of states alive
-        self.parts[key].append(np.array(array, dtype=float))
+        # a slice would keep the solver's whole block of states alive: copy those only
+        a = np.asarray(array, dtype=float)
+        self.parts[key].append(a.copy() if a.base is not None else a)
 
     def arrays(self) -> dict:
         out = {}

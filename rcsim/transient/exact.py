@@ -158,7 +158,17 @@ class ExactPropagator:
         self.W = self.V.T @ self.ss.E.toarray()                  # (n, I)
         self.profiles = list(asm.boundary_profiles) + list(asm.source_profiles)
         self.n_inputs = len(self.profiles)
+        self._phi_cache: dict = {}
         self._sines = [(i, s) for i, p in enumerate(self.profiles) for s in p.sines()]
+
+    def phi(self, h: float):
+        """E0..E3 of lambda * h for one interval length (cached: chunks repeat the same h)."""
+        out = self._phi_cache.get(h)
+        if out is None:
+            if len(self._phi_cache) > 64:
+                self._phi_cache.clear()
+            out = self._phi_cache[h] = phi_functions(h * self.lam)
+        return out
 
     # -- state <-> temperatures ------------------------------------------------------------
     def z_from_temperatures(self, Tm: np.ndarray) -> np.ndarray:
@@ -222,7 +232,7 @@ class ExactPropagator:
             k_of = np.searchsorted(t_out, tau[:-1], side="right") - 1
             r = t_out[k_of + 1] - tau[1:]
         special = (np.abs(h - h0) > 1e-12 * h0) | (r > 0)
-        _, e1, e2, e3 = phi_functions(h0 * lam)
+        _, e1, e2, e3 = self.phi(h0)
         Wt = W.T                                                   # (I, n)
         mg = [Wt * (h0 * e1), Wt * (h0 * e2)]
         mh = [Wt * (h0 * h0 * e2), Wt * (h0 * h0 * e3)]
@@ -271,8 +281,7 @@ class ExactPropagator:
             return [], [], []
         lam, W = self.lam, self.W
         tk = t_out[:-1]
-        decay = np.exp(-h0 * lam)
-        _, e1, _, _ = phi_functions(h0 * lam)
+        decay, e1, _, _ = self.phi(h0)
         cols, sg, sh = [], [], []
         for i, (amp, om, ph) in self._sines:
             den = lam + 1j * om
@@ -321,7 +330,7 @@ class ExactPropagator:
 
     def step_factors(self, h: float) -> tuple[np.ndarray, np.ndarray]:
         """(exp(-lambda h), h E1(lambda h)) for an interval of length h."""
-        e0, e1, _, _ = phi_functions(h * self.lam)
+        e0, e1, _, _ = self.phi(h)
         return e0, h * e1
 
     def propagate(self, t_out: np.ndarray, z0: np.ndarray):
@@ -348,8 +357,8 @@ class ExactPropagator:
             Z = linear_recurrence_times(self.lam, t_out, G, z0)
         # state integral: H plus the decay of each interval's start state, h E1(lam h) z_start
         hu, inv = np.unique(h, return_inverse=True)
-        _, e1, _, _ = phi_functions(hu[:, None] * self.lam[None, :])
-        he1 = hu[:, None] * e1
+        he1 = np.vstack([u * self.phi(float(u))[1] for u in hu]) if hu.size <= 4 else \
+            hu[:, None] * phi_functions(hu[:, None] * self.lam[None, :])[1]
         Zint = H
         Zint[0] += z0 * he1[inv[0]]
         if N > 1:

@@ -31,6 +31,22 @@ THERMOSTAT_KEYS = {"node", "sensor", "mode", "setpoint", "band", "power", "contr
 
 
 # -- nonlinear segments on the stiff path ------------------------------------------------------
+def segment_jacobian(a_is_node, ia, b_is_node, ib, da, db):
+    """(rows, cols, values) of d(heat into each node)/dT for segments carrying q from a to b.
+
+    Node a loses q and node b gains it; q depends on T_a (``da``) and T_b (``db``). Ends that
+    are boundaries (``*_is_node`` False) contribute no row or column.
+    """
+    rows, cols, vals = [], [], []
+    for mask_r, r_idx, sign in ((a_is_node, ia, -1.0), (b_is_node, ib, 1.0)):
+        for mask_c, c_idx, d in ((a_is_node, ia, da), (b_is_node, ib, db)):
+            m = mask_r & mask_c
+            rows.append(r_idx[m])
+            cols.append(c_idx[m])
+            vals.append(sign * d[m])
+    return np.concatenate(rows), np.concatenate(cols), np.concatenate(vals)
+
+
 class SegmentTerm:
     """Flows of the nonlinear segments into the states, and their Jacobian."""
 
@@ -89,18 +105,10 @@ class SegmentTerm:
     def jacobian(self, Tm, w):
         ta, tb = self._ends(Tm, w)
         _, da, db = self.nl.solve(ta, tb)
-        rows, cols, vals = [], [], []
         an, bn = self.a_is_node, self.b_is_node
         ia, ib = self.a_idx, self.b_idx
-        # dH_a = -q, dH_b = +q ; q depends on T_a (da) and T_b (db)
-        for mask_r, r_idx, sign in ((an, ia, -1.0), (bn, ib, 1.0)):
-            for mask_c, c_idx, d in ((an, ia, da), (bn, ib, db)):
-                m = mask_r & mask_c
-                rows.append(r_idx[m])
-                cols.append(c_idx[m])
-                vals.append(sign * d[m])
-        J = sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
-                          shape=(self.n, self.n))
+        rows, cols, vals = segment_jacobian(an, ia, bn, ib, da, db)
+        J = sp.csr_matrix((vals, (rows, cols)), shape=(self.n, self.n))
         je = None
         if self.e_rows:
             er, ec, ev = [], [], []
@@ -186,16 +194,19 @@ class Thermostat:
         v[self._node_idx] = self.sign * self.power_now(Tm)
         return v
 
-    def jacobian_entry(self, Tm):
-        """(row, col, dP/dT) for the proportional law inside its band, else None."""
+    def slope(self, T: float):
+        """d(power into the node)/d(sensed temperature) [W/K]: nonzero only for the proportional
+        law inside its band (None otherwise)."""
         if self.control != "proportional":
             return None
-        T = float(Tm[self._sensor_idx])
-        lo, hi = self.setpoint - 0.5 * self.band, self.setpoint + 0.5 * self.band
-        if not (lo < T < hi):
+        if not (self.setpoint - 0.5 * self.band < T < self.setpoint + 0.5 * self.band):
             return None
-        slope = -self.power / self.band if self.mode == "heat" else self.power / self.band
-        return self._node_idx, self._sensor_idx, self.sign * slope
+        return self.sign * (-self.power if self.mode == "heat" else self.power) / self.band
+
+    def jacobian_entry(self, Tm):
+        """(row, col, dP/dT) in state indices, or None (see :meth:`slope`)."""
+        d = self.slope(float(Tm[self._sensor_idx]))
+        return None if d is None else (self._node_idx, self._sensor_idx, d)
 
     def event_value(self, t, Tm):
         """Switching function of the on/off law (None for proportional control)."""
@@ -303,7 +314,7 @@ def steady_newton(asm, u: np.ndarray, s: np.ndarray, thermostats=(), tol: float 
 
     def residual_and_jacobian(T):
         F = -(K @ T) + rhs0
-        rows, cols, vals = [], [], []
+        rows, cols, vals = [np.empty(0, int)], [np.empty(0, int)], [np.empty(0)]
         if nl is not None:
             points = np.concatenate([T, u])
             a, b = asm.seg_a[nl.seg], asm.seg_b[nl.seg]
@@ -311,25 +322,16 @@ def steady_newton(asm, u: np.ndarray, s: np.ndarray, thermostats=(), tol: float 
             an, bn = a < n, b < n
             np.add.at(F, a[an], -q[an])
             np.add.at(F, b[bn], q[bn])
-            for mask_r, r_idx, sign in ((an, a, -1.0), (bn, b, 1.0)):
-                for mask_c, c_idx, d in ((an, a, da), (bn, b, db)):
-                    m = mask_r & mask_c
-                    rows.append(r_idx[m])
-                    cols.append(c_idx[m])
-                    vals.append(sign * d[m])
+            r, c, v = segment_jacobian(an, a, bn, b, da, db)
+            rows.append(r), cols.append(c), vals.append(v)
         for t in ctrl:
             i, j = idx[t.node], idx[t.sensor]
             F[i] += t.sign * float(t._proportional(T[j]))
-            lo, hi = t.setpoint - 0.5 * t.band, t.setpoint + 0.5 * t.band
-            if lo < T[j] < hi:
-                slope = -t.power / t.band if t.mode == "heat" else t.power / t.band
-                rows.append(np.array([i]))
-                cols.append(np.array([j]))
-                vals.append(np.array([t.sign * slope]))
-        J = -K
-        if rows:
-            J = J + sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows),
-                                                         np.concatenate(cols))), shape=(n, n))
+            d = t.slope(float(T[j]))
+            if d is not None:
+                rows.append(np.array([i])), cols.append(np.array([j])), vals.append(np.array([d]))
+        J = -K + sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows),
+                                                       np.concatenate(cols))), shape=(n, n))
         return F, J.tocsc()
 
     # first guess: nonlinear segments replaced by their conductance at the mean input temperature

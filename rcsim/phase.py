@@ -122,7 +122,9 @@ def make_phase_change(spec, where: str, material=None) -> PhaseChange:
     fill the keys not given). The node's own ``material`` is used the same way.
     """
     if isinstance(spec, PhaseChange):
-        return spec
+        import dataclasses
+
+        return dataclasses.replace(spec)  # the node sets its mass: never change the caller's
     if isinstance(spec, str):
         spec = {"material": spec}
     if not isinstance(spec, dict):

@@ -420,3 +420,16 @@ def test_newton_failure_is_an_error():
     with pytest.raises(rcsim.SolverError, match="did not converge") as err:
         steady_newton(asm, asm.boundary_values(0.0), asm.source_values(0.0), max_iterations=2)
     assert err.value.node == "box"
+
+
+def test_a_phase_change_object_given_twice_is_not_changed():
+    # the node sets the mass of its own copy: the caller's object (and another node using it) keep
+    # theirs
+    from rcsim.phase import PhaseChange
+
+    pc = PhaseChange(333.55e3, 0.0, 0.0, 2050.0, 4180.0, mass=1.0)
+    net = rcsim.Network()
+    net.add_node("a", mass=2.0, initial=-5.0, phase_change=pc)
+    net.add_node("b", mass=3.0, initial=-5.0, phase_change=pc)
+    assert pc.mass == 1.0
+    assert (net.nodes["a"].phase_change.mass, net.nodes["b"].phase_change.mass) == (2.0, 3.0)

@@ -8,7 +8,7 @@ import time as _time
 
 import numpy as np
 
-from ..errors import InputError, Interrupted, NetworkError, ProfileError
+from ..errors import InputError, Interrupted, NetworkError, ProfileError, SolverError
 from ..limits import ExcursionTracker
 from ..materials import suggest
 from ..modes import DENSE_LIMIT
@@ -20,7 +20,11 @@ from ..units import to_si
 from .exact import ExactPropagator
 from .initial import given_temperatures, resolve_initial_option
 
-__all__ = ["simulate", "EXACT_LIMIT", "MAX_SAMPLES"]
+__all__ = ["simulate", "EXACT_LIMIT", "MAX_SAMPLES", "SOLVERS"]
+
+#: Solver names: 'auto' picks 'exact' for linear networks and 'piecewise' (falling back to
+#: 'stiff' where it does not suit) for nonlinear ones.
+SOLVERS = ("auto", "exact", "piecewise", "stiff")
 
 #: 'auto' uses the exact path up to this many states, the stiff path above.
 EXACT_LIMIT = 2000
@@ -73,8 +77,9 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
     if duration / step > MAX_SAMPLES:
         raise InputError(f"{duration / step:.3g} output samples are too many (limit "
                          f"{MAX_SAMPLES:.0e})", "step", "use a longer step")
-    if solver not in ("auto", "exact", "stiff"):
-        raise InputError(f"solver must be 'auto', 'exact' or 'stiff', got {solver!r}", "solver")
+    if solver not in SOLVERS:
+        raise InputError(f"solver must be one of {', '.join(map(repr, SOLVERS))}, got {solver!r}",
+                         "solver")
     for tol, nm in ((rtol, "rtol"), (atol, "atol")):
         if not (0 < tol < 1):
             raise InputError(f"{nm} must be between 0 and 1, got {tol!r}", nm)
@@ -165,11 +170,29 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
                                boundary_links, progress, network)
             solver_name = "exact (modal)"
         else:
-            from .stiff import run_stiff_network  # noqa: PLC0415
+            stats = None
+            fallback = None
+            if solver in ("auto", "piecewise"):
+                from .piecewise import NotSuitable, run_piecewise_network  # noqa: PLC0415
 
-            stats = run_stiff_network(network, asm, t_out, T0, mode, recorder, out_nodes,
-                                      boundary_links, rtol, atol, progress, thermostats)
-            solver_name = "stiff (BDF, sparse Jacobian)"
+                try:
+                    stats = run_piecewise_network(network, asm, t_out, T0, mode, recorder,
+                                                  out_nodes, boundary_links, rtol, atol,
+                                                  progress, thermostats)
+                    solver_name = "piecewise exact (events, waveform relaxation)"
+                except NotSuitable as exc:
+                    if solver == "piecewise":
+                        raise SolverError(f"the piecewise solver cannot take this run: {exc}",
+                                          hint="use solver = 'stiff' or 'auto'") from None
+                    fallback = str(exc)
+            if stats is None:
+                from .stiff import run_stiff_network  # noqa: PLC0415
+
+                stats = run_stiff_network(network, asm, t_out, T0, mode, recorder, out_nodes,
+                                          boundary_links, rtol, atol, progress, thermostats)
+                solver_name = "stiff (BDF, sparse Jacobian)"
+                if fallback is not None:
+                    stats["piecewise_declined"] = fallback
         balance, terms = recorder.energy_balance()
         tau = _time_constants_or_none(asm, float(t_out[-1]), network)
         wall = _time.perf_counter() - wall0

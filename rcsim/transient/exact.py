@@ -30,7 +30,7 @@ from ..statespace import state_space
 
 __all__ = ["phi_functions", "linear_recurrence", "ExactPropagator"]
 
-_SERIES_TERMS = 24
+_SERIES_TERMS = 18
 _SERIES_BELOW = 1.0
 _BLOCK = 16
 
@@ -38,8 +38,9 @@ _BLOCK = 16
 def phi_functions(x):
     """E0..E3 of ``x`` (any shape), accurate for all x >= 0 (and tiny negative rounding).
 
-    ``E0 = exp(-x)``, ``E1 = (1 - E0)/x``, ``E2 = (1 - E1)/x``, ``E3 = (1/2 - E2)/x``; the
-    recurrence loses digits for small x, where a Taylor series is used instead.
+    ``E0 = exp(-x)``, ``E1 = (1 - E0)/x``, ``E2 = (1 - E1)/x``, ``E3 = (1/2 - E2)/x``; that
+    recurrence loses digits for small x, where E3 comes from its Taylor series instead and the
+    others follow by the stable backward recurrence ``E2 = 1/2 - x E3``, ``E1 = 1 - x E2``.
 
     >>> [round(float(e), 12) for e in phi_functions(0.0)]
     [1.0, 1.0, 0.5, 0.166666666667]
@@ -47,26 +48,31 @@ def phi_functions(x):
     x = np.asarray(x, dtype=float)
     e0 = np.exp(-x)
     small = np.abs(x) < _SERIES_BELOW
+    if small.all():
+        e3 = _series3(x)
+        e2 = 0.5 - x * e3
+        return e0, 1.0 - x * e2, e2, e3
     with np.errstate(divide="ignore", invalid="ignore"):
-        e1 = np.where(small, 0.0, -np.expm1(-x) / x)
-        e2 = np.where(small, 0.0, (1.0 - e1) / x)
-        e3 = np.where(small, 0.0, (0.5 - e2) / x)
+        e1 = -np.expm1(-x) / x
+        e2 = (1.0 - e1) / x
+        e3 = (0.5 - e2) / x
     if np.any(small):
         xs = x[small]
-        s1, s2, s3 = _series(xs, 1), _series(xs, 2), _series(xs, 3)
-        e1 = np.asarray(e1)
-        e2 = np.asarray(e2)
-        e3 = np.asarray(e3)
-        e1[small], e2[small], e3[small] = s1, s2, s3
+        s3 = _series3(xs)
+        s2 = 0.5 - xs * s3
+        e1[small], e2[small], e3[small] = 1.0 - xs * s2, s2, s3
     return e0, e1, e2, e3
 
 
-def _series(x, k):
-    # sum_{m>=0} (-x)^m / (m+k)!  by Horner
-    coeffs = [1.0 / math.factorial(m + k) for m in range(_SERIES_TERMS)]
-    out = np.full_like(x, coeffs[-1])
-    for c in reversed(coeffs[:-1]):
-        out = out * (-x) + c
+#: Taylor coefficients of E3: sum_m (-x)^m / (m + 3)!  (18 terms: below 1e-17 for |x| < 1)
+_E3_COEFFS = [(-1.0) ** m / math.factorial(m + 3) for m in range(_SERIES_TERMS)]
+
+
+def _series3(x):
+    """E3(x) by Horner's rule on its Taylor series (|x| < 1)."""
+    out = np.full(np.shape(x), _E3_COEFFS[-1])
+    for c in reversed(_E3_COEFFS[:-1]):
+        out = out * x + c
     return out
 
 

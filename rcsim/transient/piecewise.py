@@ -1,0 +1,800 @@
+"""Piecewise-exact integration of nonlinear networks: events plus waveform relaxation.
+
+Phase change and thermostats make a network *piecewise linear*: between two events (a pack
+starting or ending its melt, a thermostat switching, a proportional thermostat entering or
+leaving its band) every capacity and every source is fixed, so the network is linear and is
+advanced in closed form by its modes, exactly like a linear network (:mod:`.exact`). The state is
+the stored energy H of each massive node; in one *regime* the temperatures are affine in it,
+``T = a + b * H`` (b = 1/C, or the slope of a pack's enthalpy curve), and
+
+    dH/dt = A H + c + E' w(t) + N r(t),      A = -K' diag(b) (+ a proportional thermostat)
+
+Event functions are affine in H, so crossings are found on the output grid and then located
+inside their interval by a bracketing root search on the closed-form state; the regime changes
+there and integration restarts.
+
+The smooth nonlinear links (radiation, film correlations) are split into a reference conductance
+g, built into K' and E', and a remainder r = q(T_a, T_b) - g (T_a - T_b). The remainder is taken
+piecewise linear in time between grid points, from the previous trajectory (waveform
+relaxation), and the whole run is repeated until the trajectory stops changing; Anderson
+mixing speeds this fixed-point iteration up. The grid (output times and input knots) is refined
+where the remainder bends too much for linear interpolation. Every sweep over the time axis is
+vectorised: a Python loop runs only over regimes and events, never over time steps.
+
+Energy accounting uses the same closed forms: the time integral of the state over each interval
+comes from its own kernel, and the energy through boundary links, sources and thermostats follows
+from it, so the energy balance closes to rounding whatever the grid.
+
+When the method does not suit a network (complex modes from a proportional thermostat heating one
+node and sensing another, too many states or samples, no convergence) :class:`NotSuitable` is
+raised and the driver falls back to the stiff integrator.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..statespace import state_space  # noqa: F401  (kept for callers that patch it)
+from .exact import linear_recurrence, phi_functions
+
+__all__ = ["NotSuitable", "PiecewiseSolver", "run_piecewise_network", "PIECEWISE_STATES"]
+
+#: Up to this many states the piecewise-exact path is tried (dense eigenproblems per regime).
+PIECEWISE_STATES = 200
+#: Largest (grid points x states) the path holds in memory; larger runs use the stiff path.
+PIECEWISE_ELEMENTS = 6_000_000
+#: Waveform-relaxation sweeps before giving up.
+MAX_SWEEPS = 60
+#: Grid refinements before giving up.
+MAX_REFINEMENTS = 8
+#: Events per sweep before giving up (a chattering model belongs to the stiff path).
+MAX_EVENTS = 50_000
+
+
+class NotSuitable(Exception):
+    """The piecewise-exact path cannot handle this run (the stiff path takes over)."""
+
+
+class _Regime:
+    """Modal form of the network in one regime (fixed pack states and thermostat states)."""
+
+    __slots__ = ("key", "lam", "V", "Vi", "a", "b", "cm", "Ein", "Nm", "cz", "Cev", "dev",
+                 "ev_owner", "p_const", "p_lin", "phi_cache")
+
+
+class PiecewiseSolver:
+    """Integrate a :class:`~rcsim.transient.stiff.StiffModel` by events and waveform relaxation.
+
+    Parameters
+    ----------
+    model : StiffModel
+        The network in energy form (its structure only is used here).
+    t_out : array
+        Output times [s], starting at 0.
+    rtol, atol : float
+        Tolerances in the sense of the stiff path: waveform relaxation stops when no temperature
+        changes by more than ``atol + rtol * T_scale`` [K] between sweeps (T_scale the largest
+        temperature magnitude of the start and the inputs), and the grid is refined until the
+        estimated interpolation error of the nonlinear remainder is below ten times that.
+    """
+
+    def __init__(self, model, t_out, rtol: float = 1e-6, atol: float = 1e-6):
+        self.model = model
+        n = self.n = model.n
+        if n > PIECEWISE_STATES:
+            raise NotSuitable(f"{n} states (the piecewise path takes up to {PIECEWISE_STATES})")
+        self.rtol, self.atol = float(rtol), float(atol)
+        self.t_out = np.asarray(t_out, dtype=float)
+        self.K = np.asarray(model.K.toarray() if hasattr(model.K, "toarray") else model.K)
+        self.E = np.asarray(model.E.toarray() if hasattr(model.E, "toarray") else model.E)
+        self.C = model.C
+        self.profiles = model.profiles
+        self.I = len(self.profiles)
+        self.sines = [(i, amp, om, ph) for i, p in enumerate(self.profiles)
+                      for amp, om, ph in p.sines()]
+        # nonlinear segments
+        seg = model.terms[0] if model.terms else None
+        self.seg = seg
+        self.n_nl = 0 if seg is None else len(seg.nl)
+        if seg is not None:
+            self.N = np.zeros((n, self.n_nl))
+            k = np.arange(self.n_nl)
+            self.N[seg.a_idx[seg.a_is_node], k[seg.a_is_node]] -= 1.0
+            self.N[seg.b_idx[seg.b_is_node], k[seg.b_is_node]] += 1.0
+        else:
+            self.N = np.zeros((n, 0))
+        # phase change and thermostats
+        self.pcm = sorted(model.phase)                       # state indices
+        self.ctrl = list(model.controllers)
+        # the grid: output times and every knot of the inputs
+        T_end = float(self.t_out[-1])
+        knots = [p.knots(0.0, T_end) for p in self.profiles]
+        allk = np.concatenate(knots) if knots else np.empty(0)
+        self._base_grid = np.union1d(self.t_out, allk) if allk.size else self.t_out.copy()
+        self.history: list = []          # (grid points, largest change) per sweep
+        self.stats = {"sweeps": 0, "regimes": 0, "events": 0, "refinements": 0, "runs": 0}
+        self._set_reference(np.zeros(self.n_nl))
+
+    # -- reference conductances of the nonlinear segments -----------------------------------
+    def _set_reference(self, g: np.ndarray) -> None:
+        n, seg = self.n, self.seg
+        self.g = np.asarray(g, dtype=float)
+        Kp = self.K.copy()
+        Ep = self.E.copy()
+        if seg is not None:
+            an, bn, ia, ib = seg.a_is_node, seg.b_is_node, seg.a_idx, seg.b_idx
+            for k in range(self.n_nl):
+                gk = self.g[k]
+                if an[k]:
+                    Kp[ia[k], ia[k]] += gk
+                    if bn[k]:
+                        Kp[ia[k], ib[k]] -= gk
+                    else:
+                        Ep[ia[k], ib[k]] += gk
+                if bn[k]:
+                    Kp[ib[k], ib[k]] += gk
+                    if an[k]:
+                        Kp[ib[k], ia[k]] -= gk
+                    else:
+                        Ep[ib[k], ia[k]] += gk
+        self.Kp, self.Ep = Kp, Ep
+        self._regimes: dict = {}
+        try:
+            self._Kp_inv = np.abs(np.linalg.inv(Kp)) if n else np.zeros((0, 0))
+        except np.linalg.LinAlgError:
+            self._Kp_inv = None
+
+    # -- regimes -----------------------------------------------------------------------------
+    def _regime_key(self, H: np.ndarray, on: list) -> tuple:
+        key = []
+        for i in self.pcm:
+            pc = self.model.phase[i]
+            key.append(0 if H[i] < 0.0 else (2 if H[i] > pc.h_melt_end else 1))
+        for c, is_on in zip(self.ctrl, on):
+            if c.control == "on-off":
+                key.append(1 if is_on else 0)
+            else:
+                a, b = self._affine_T(c._sensor_idx, key)
+                x = self._x_of(c, a + b * H[c._sensor_idx])
+                key.append(0 if x >= 1.0 else (2 if x <= 0.0 else 1))
+        return tuple(key)
+
+    def _affine_T(self, i: int, key) -> tuple[float, float]:
+        """(a, b) with T_i = a + b H_i in the regime ``key`` (its pack part)."""
+        if i in self.model.phase:
+            pc = self.model.phase[i]
+            r = key[self.pcm.index(i)]
+            m, cs, cl = pc.mass, pc.specific_heat_solid, pc.specific_heat_liquid
+            if r == 0:
+                return pc.melting_low, 1.0 / (m * cs)
+            if r == 2:
+                return pc.melting_high - pc.h_melt_end / (m * cl), 1.0 / (m * cl)
+            if pc.width == 0.0:
+                return pc.melting_low, 0.0
+            return pc.melting_low, 1.0 / (m * (cs + pc.latent_heat / pc.width))
+        return 0.0, 1.0 / self.C[i]
+
+    @staticmethod
+    def _x_coeffs(c) -> tuple[float, float]:
+        """(alpha, beta) with the proportional thermostat's fraction x = alpha + beta T."""
+        half = 0.5 * c.band
+        if c.mode == "heat":
+            return (c.setpoint + half) / c.band, -1.0 / c.band
+        return (half - c.setpoint) / c.band, 1.0 / c.band
+
+    def _x_of(self, c, T: float) -> float:
+        al, be = self._x_coeffs(c)
+        return al + be * T
+
+    def _regime(self, key: tuple) -> _Regime:
+        reg = self._regimes.get(key)
+        if reg is not None:
+            return reg
+        n = self.n
+        a = np.zeros(n)
+        b = 1.0 / self.C
+        for i in self.pcm:
+            a[i], b[i] = self._affine_T(i, key)
+        A = -self.Kp * b[None, :]
+        c = -self.Kp @ a
+        npcm = len(self.pcm)
+        rows, ds, owner = [], [], []
+
+        def event(coef_i, i, d, who):
+            row = np.zeros(n)
+            row[i] = coef_i
+            rows.append(row)
+            ds.append(d)
+            owner.append(who)
+
+        for p, i in enumerate(self.pcm):
+            top = self.model.phase[i].h_melt_end
+            r = key[p]
+            if r == 0:
+                event(1.0, i, 0.0, (p, 1))
+            elif r == 1:
+                event(-1.0, i, 0.0, (p, 0))
+                event(1.0, i, -top, (p, 2))
+            else:
+                event(-1.0, i, top, (p, 1))
+        p_const = np.zeros(len(self.ctrl))
+        p_lin = np.zeros((len(self.ctrl), n))      # power = p_const + p_lin @ H
+        symmetric = True
+        for k, ctl in enumerate(self.ctrl):
+            s, j = ctl._sensor_idx, ctl._node_idx
+            state = key[npcm + k]
+            sa, sb = a[s], b[s]
+            half = 0.5 * ctl.band
+            if ctl.control == "on-off":
+                p_const[k] = ctl.sign * ctl.power * state
+                low, high = ctl.setpoint - half, ctl.setpoint + half
+                if (ctl.mode == "heat") == bool(state):     # heater on / cooler off: rises to high
+                    event(sb, s, sa - high, (npcm + k, 1 - state))
+                else:                                        # falls to low
+                    event(-sb, s, low - sa, (npcm + k, 1 - state))
+            else:
+                al, be = self._x_coeffs(ctl)
+                if state == 0:                               # full power while x >= 1
+                    p_const[k] = ctl.sign * ctl.power
+                    event(-be * sb, s, 1.0 - al - be * sa, (npcm + k, 1))
+                elif state == 2:                             # off while x <= 0
+                    event(be * sb, s, al + be * sa, (npcm + k, 1))
+                else:
+                    p_const[k] = ctl.sign * ctl.power * (al + be * sa)
+                    p_lin[k, s] = ctl.sign * ctl.power * be * sb
+                    event(be * sb, s, al + be * sa - 1.0, (npcm + k, 0))
+                    event(-be * sb, s, -al - be * sa, (npcm + k, 2))
+                    if j != s:
+                        symmetric = False
+            c[j] += p_const[k]
+            A[j] += p_lin[k]
+        if symmetric and np.all(b > 0):
+            # A = -K' B is similar to the symmetric -B^1/2 K' B^1/2
+            sq = np.sqrt(b)
+            S = sq[:, None] * (-A / b[None, :]) * sq[None, :]
+            lam, U = np.linalg.eigh(0.5 * (S + S.T))
+            V = U / sq[:, None]
+            Vi = U.T * sq[None, :]
+        else:
+            mu, V = np.linalg.eig(A)
+            scale = max(1.0, float(np.abs(mu).max()))
+            if np.abs(mu.imag).max(initial=0.0) > 1e-9 * scale:
+                raise NotSuitable("oscillating modes (a proportional thermostat heating one "
+                                  "node and sensing another)")
+            V = V.real
+            lam = -mu.real
+            try:
+                Vi = np.linalg.inv(V)
+            except np.linalg.LinAlgError:
+                raise NotSuitable("a regime without a full set of modes") from None
+            if np.linalg.cond(V) > 1e10:
+                raise NotSuitable("ill-conditioned modes")
+        reg = _Regime()
+        reg.key, reg.lam, reg.V, reg.Vi, reg.a, reg.b = key, lam, V, Vi, a, b
+        reg.cm = Vi @ c
+        reg.Ein = Vi @ self.Ep
+        reg.Nm = Vi @ self.N
+        reg.cz = [(amp * np.exp(1j * ph) * reg.Ein[:, i] / (lam + 1j * om), om)
+                  for i, amp, om, ph in self.sines]
+        reg.Cev = np.asarray(rows).reshape(-1, n)
+        reg.dev = np.asarray(ds, dtype=float)
+        reg.ev_owner = owner
+        reg.p_const, reg.p_lin = p_const, p_lin
+        reg.phi_cache = {}
+        self._regimes[key] = reg
+        self.stats["regimes"] += 1
+        return reg
+
+    # -- closed forms ------------------------------------------------------------------------
+    @staticmethod
+    def _zp(reg: _Regime, t: np.ndarray) -> np.ndarray:
+        """Particular (periodic) modal response to the sine inputs at times t: (len(t), n)."""
+        out = np.zeros((t.size, reg.lam.size))
+        for cz, om in reg.cz:
+            out += (np.exp(1j * om * t)[:, None] * cz[None, :]).imag
+        return out
+
+    @staticmethod
+    def _zp_integral(reg: _Regime, t0: np.ndarray, t1: np.ndarray) -> np.ndarray:
+        out = np.zeros((t0.size, reg.lam.size))
+        for cz, om in reg.cz:
+            out += (((np.exp(1j * om * t1) - np.exp(1j * om * t0)) / (1j * om))[:, None]
+                    * cz[None, :]).imag
+        return out
+
+    # -- one sweep over the time axis --------------------------------------------------------
+    def sweep(self, grid, rR, rL, H0, record=False):
+        """Integrate over ``grid`` with the remainder given at the grid points.
+
+        ``rR[j]``/``rL[j]`` are the remainder flows (per nonlinear segment) at the start/end of
+        interval j. Returns the states H at the grid points and, per interval, the integrals of
+        the state temperatures and of the thermostat powers.
+        """
+        n = self.n
+        J = grid.size - 1
+        h_all = np.diff(grid)
+        wR, wL = self._wR, self._wL
+        Hg = np.empty((J + 1, n))
+        Hg[0] = H0
+        IntT = np.zeros((J, n))
+        IntP = np.zeros((J, len(self.ctrl)))
+        on = [c.on for c in self.ctrl]
+        switches = [[] for _ in self.ctrl]
+        t_c, H_c, j = float(grid[0]), H0.copy(), 0
+        state = list(self._regime_key(H0, on))   # explicit: never re-derived at a boundary
+        npcm = len(self.pcm)
+        chunk = 8192
+        events = 0
+        while j < J:
+            reg = self._regime(tuple(state))
+            self.stats["runs"] += 1
+            j_end = min(J, j + chunk)
+            s = np.concatenate([[t_c], grid[j + 1:j_end + 1]])
+            m = s.size - 1
+            h = np.diff(s)
+            # piecewise-linear forcing (modal) at the start and end of each local interval
+            theta = (t_c - grid[j]) / h_all[j]
+            wr = wR[j:j_end].copy()
+            rr = rR[j:j_end].copy()
+            wr[0] += theta * (wL[j] - wR[j])
+            rr[0] += theta * (rL[j] - rR[j])
+            FR = wr @ reg.Ein.T + rr @ reg.Nm.T + reg.cm
+            FL = wL[j:j_end] @ reg.Ein.T + rL[j:j_end] @ reg.Nm.T + reg.cm
+            dF = FL - FR
+            starts, (e0, e1, e2, e3) = self._phi_rows(reg, h)
+            zp = self._zp(reg, s) if reg.cz else None
+            G = h[:, None] * (e1 * FR + e2 * dF)
+            if zp is not None:
+                G += zp[1:] - e0 * zp[:-1]
+            z0 = reg.Vi @ H_c
+            Z = _scan(e0, starts, G, z0)
+            Hs = Z @ reg.V.T
+            fired_at = m
+            if reg.dev.size:
+                vals = Hs @ reg.Cev.T + reg.dev
+                hit = np.flatnonzero((vals > 0.0).any(axis=1))
+                if hit.size:
+                    fired_at = int(hit[0])
+            # accept the intervals before the event
+            k = fired_at
+            zprev = np.vstack([z0[None, :], Z[:k]])[:k] if k else np.empty((0, n))
+            if k:
+                Iz = h[:k, None] * (e1[:k] * zprev + h[:k, None] * (e2[:k] * FR[:k] +
+                                                                   e3[:k] * dF[:k]))
+                if zp is not None:
+                    Iz += self._zp_integral(reg, s[:k], s[1:k + 1]) - h[:k, None] * e1[:k] * zp[:k]
+                self._accumulate(reg, Iz @ reg.V.T, h[:k], j, IntT, IntP)
+                Hg[j + 1:j + k + 1] = Hs[:k]
+            if k == m:
+                t_c, H_c, j = float(grid[j_end]), Hs[-1].copy(), j_end
+                continue
+            # locate the first event inside interval k of this run
+            zk = z0 if k == 0 else Z[k - 1]
+            t_hit, which = self._locate(reg, s[k], h[k], zk, FR[k], dF[k], vals[k])
+            tau = t_hit - s[k]
+            Iz, z_hit = self._partial(reg, s[k], tau, h[k], zk, FR[k], dF[k])
+            self._accumulate(reg, (Iz @ reg.V.T)[None, :], np.array([tau]), j + k, IntT, IntP)
+            H_c = reg.V @ z_hit
+            t_c = t_hit
+            j = j + k
+            # the located event and any other that is due at the same instant (equal packs)
+            vals_hit = reg.Cev @ H_c + reg.dev
+            slack = 1e-9 * (np.abs(reg.Cev) @ np.abs(H_c) + np.abs(reg.dev) + 1.0)
+            due = set(np.flatnonzero(vals_hit > -slack).tolist()) | {which}
+            for e in sorted(due):
+                pos, target = reg.ev_owner[e]
+                if state[pos] == target:
+                    continue
+                state[pos] = target
+                if pos >= npcm and self.ctrl[pos - npcm].control == "on-off":
+                    on[pos - npcm] = bool(target)
+                    switches[pos - npcm].append(t_hit)
+                events += 1
+            if events > MAX_EVENTS:
+                raise NotSuitable(f"more than {MAX_EVENTS} events")
+            if t_c >= grid[j + 1]:  # the event sits on the grid point itself
+                Hg[j + 1] = H_c
+                j += 1
+        self.stats["events"] = events
+        return Hg, IntT, IntP, switches
+
+    @staticmethod
+    def _phi_rows(reg, h):
+        """Starts of the stretches of equal interval length, and E0..E3 for every interval.
+
+        The functions are computed once per distinct length and regime (cached), then spread to
+        the rows: grids are uniform apart from refined stretches and events.
+        """
+        m = h.size
+        if m > 1:
+            brk = np.flatnonzero(np.abs(np.diff(h)) > 1e-12 * h[1:]) + 1
+            starts = np.concatenate([[0], brk])
+        else:
+            starts = np.zeros(1, dtype=np.int64)
+        cache = reg.phi_cache
+        rows = []
+        for hv in h[starts].tolist():
+            e = cache.get(hv)
+            if e is None:
+                if len(cache) > 256:
+                    cache.clear()
+                e = cache[hv] = np.vstack(phi_functions(hv * reg.lam))
+            rows.append(e)
+        E = np.stack(rows)                                        # (stretches, 4, n)
+        if starts.size == 1:
+            return starts, tuple(np.broadcast_to(E[0, k], (m, reg.lam.size)) for k in range(4))
+        sid = np.repeat(np.arange(starts.size), np.diff(np.append(starts, m)))
+        Er = E[sid]
+        return starts, tuple(Er[:, k] for k in range(4))
+
+    def _accumulate(self, reg, IH, h, j0, IntT, IntP):
+        """Add integrals of the state over pieces starting in grid intervals j0, j0+1, ..."""
+        k = h.size
+        IT = reg.a[None, :] * h[:, None] + reg.b[None, :] * IH
+        if k == 1:
+            IntT[j0] += IT[0]
+        else:
+            IntT[j0:j0 + k] += IT
+        if IntP.shape[1]:
+            P = reg.p_const[None, :] * h[:, None] + IH @ reg.p_lin.T
+            if k == 1:
+                IntP[j0] += P[0]
+            else:
+                IntP[j0:j0 + k] += P
+
+    def _state_at(self, reg, t0, tau, h, z0, FR, dF):
+        """Modal state a time ``tau`` into an interval starting at t0 with state z0."""
+        x = tau * reg.lam
+        e0, e1, e2, _ = phi_functions(x)
+        z = e0 * z0 + tau * (e1 * FR + e2 * (tau / h) * dF)
+        if reg.cz:
+            zp = self._zp(reg, np.array([t0, t0 + tau]))
+            z = z + zp[1] - e0 * zp[0]
+        return z
+
+    def _partial(self, reg, t0, tau, h, z0, FR, dF):
+        """(integral of the modal state over [t0, t0 + tau], state at t0 + tau)."""
+        x = tau * reg.lam
+        e0, e1, e2, e3 = phi_functions(x)
+        slope = dF * (tau / h)
+        z = e0 * z0 + tau * (e1 * FR + e2 * slope)
+        Iz = tau * (e1 * z0 + tau * (e2 * FR + e3 * slope))
+        if reg.cz:
+            zp = self._zp(reg, np.array([t0, t0 + tau]))
+            z = z + zp[1] - e0 * zp[0]
+            Iz = Iz + self._zp_integral(reg, np.array([t0]), np.array([t0 + tau]))[0] \
+                - tau * e1 * zp[0]
+        return Iz, z
+
+    def _locate(self, reg, t0, h, z0, FR, dF, vals_end):
+        """Earliest time in (t0, t0 + h] where an event function turns positive."""
+        best_t, best_e = None, None
+        for e in np.flatnonzero(vals_end > 0.0):
+            row = reg.Cev[e] @ reg.V
+            d = reg.dev[e]
+
+            def f(tau, row=row, d=d):
+                return float(row @ self._state_at(reg, t0, tau, h, z0, FR, dF) + d)
+
+            lo, hi = 0.0, h
+            f_lo = float(row @ z0 + d)
+            f_hi = float(vals_end[e])
+            if best_t is not None and best_t - t0 < hi:
+                hi_try = best_t - t0
+                f_try = f(hi_try)
+                if f_try <= 0.0:
+                    continue
+                hi, f_hi = hi_try, f_try
+            if f_lo > 0.0:  # already past at the start (rounding): switch at once
+                hi = min(hi, max(1e-9 * max(1.0, abs(t0)), 1e-12))
+                best_t, best_e = t0 + hi, e
+                continue
+            xtol = 1e-6 * max(1.0, h)
+            for it in range(100):  # regula falsi aimed just past the root, keeping f(hi) > 0
+                width = hi - lo
+                if width <= xtol:
+                    break
+                tm = lo - f_lo * width / (f_hi - f_lo) + 0.5 * xtol
+                if it % 4 == 3 or not (lo < tm < hi):  # guard against slow one-sided progress
+                    tm = 0.5 * (lo + hi)
+                fm = f(tm)
+                if fm > 0.0:
+                    hi, f_hi = tm, fm
+                    tl = tm - xtol
+                    if tl > lo:
+                        fl = f(tl)
+                        if fl > 0.0:
+                            hi, f_hi = tl, fl
+                        else:
+                            lo, f_lo = tl, fl
+                else:
+                    lo, f_lo = tm, fm
+            if best_t is None or t0 + hi < best_t:
+                best_t, best_e = t0 + hi, e
+        return best_t, best_e
+
+    # -- inputs and remainder on a grid ------------------------------------------------------
+    def _set_grid(self, grid: np.ndarray) -> None:
+        self.grid = grid
+        I = self.I
+        if I:
+            self._wR = np.column_stack([p._pl(grid[:-1], "right") for p in self.profiles])
+            self._wL = np.column_stack([p._pl(grid[1:], "left") for p in self.profiles])
+            sin_left = np.zeros((grid.size, I))
+            for i, amp, om, ph in self.sines:
+                sin_left[:, i] += amp * np.sin(om * grid + ph)
+            self._WR = self._wR + sin_left[:-1]              # full input values
+            self._WL = self._wL + sin_left[1:]
+        else:
+            self._wR = self._wL = np.zeros((grid.size - 1, 0))
+            self._WR = self._WL = self._wR
+
+    def _temperatures(self, Hg: np.ndarray) -> np.ndarray:
+        T = Hg / self.C[None, :]
+        for i in self.pcm:
+            T[:, i] = self.model.phase[i].temperature_array(Hg[:, i])
+        return T
+
+    def _flows(self, Tg: np.ndarray):
+        """Nonlinear flows q and remainders at the start (R) and end (L) of every interval."""
+        seg = self.seg
+        ta_r, tb_r = seg._ends(Tg[:-1], self._WR)
+        ta_l, tb_l = seg._ends(Tg[1:], self._WL)
+        qR = seg.nl.flows(ta_r, tb_r)
+        qL = seg.nl.flows(ta_l, tb_l)
+        return qR - self.g * (ta_r - tb_r), qL - self.g * (ta_l - tb_l), (ta_r, tb_r)
+
+    def _tangent_reference(self, Tg: np.ndarray) -> np.ndarray:
+        """Mid-range of each segment's tangent conductance along the trajectory."""
+        seg = self.seg
+        ta, tb = seg._ends(Tg[:-1], self._WR)
+        _, da, db = seg.nl.solve(ta, tb)
+        g = 0.5 * (da - db)
+        return np.maximum(0.5 * (g.min(axis=0) + g.max(axis=0)), 1e-12)
+
+    # -- the whole run -----------------------------------------------------------------------
+    def solve(self, H0: np.ndarray):
+        """Integrate from energies H0; returns (grid, Hg, IntT, IntP, rR, rL, switches)."""
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+            return self._solve(H0)
+
+    def _solve(self, H0: np.ndarray):
+        grid = self._base_grid
+        if grid.size * max(1, self.n) > PIECEWISE_ELEMENTS:
+            raise NotSuitable("too many samples for the piecewise path")
+        self._set_grid(grid)
+        T0 = self._temperatures(H0[None, :])
+        scale = max(float(np.abs(T0).max(initial=0.0)),
+                    float(np.abs(self._WR[:, :self.model.M]).max(initial=0.0)))
+        self.tol = self.atol + self.rtol * scale
+        self.grid_tol = 10.0 * self.tol
+        nnl = self.n_nl
+        J = grid.size - 1
+        on0 = [c.on for c in self.ctrl]
+        if nnl:
+            # first reference: tangents at the starting state and the inputs at t = 0
+            T0 = self._temperatures(H0[None, :])
+            Tg0 = np.repeat(T0, J + 1, axis=0)
+            self._set_reference(self._tangent_reference(Tg0))
+        rR = np.zeros((J, nnl))
+        rL = np.zeros((J, nnl))
+        if nnl:
+            rR, rL, _ = self._flows(np.repeat(self._temperatures(H0[None, :]), J + 1, axis=0))
+        refreshed = False
+        refinements = 0
+        grid_ok = False
+        mixer = _Anderson(5)
+        T_prev = None
+        change = np.inf
+        for _ in range(MAX_SWEEPS * 2):
+            for c, o in zip(self.ctrl, on0):
+                c.on = o
+            Hg, IntT, IntP, switches = self.sweep(self.grid, rR, rL, H0)
+            self.stats["sweeps"] += 1
+            if not nnl:
+                return self.grid, Hg, IntT, IntP, rR, rL, switches
+            Tg = self._temperatures(Hg)
+            if not (np.all(np.isfinite(Tg)) and Tg.min(initial=0.0) > -273.15):
+                raise NotSuitable("the trajectory left the physical range")
+            if not refreshed:
+                # reference conductances from the first trajectory, then start over
+                self._set_reference(self._tangent_reference(Tg))
+                refreshed = True
+                rR, rL, _ = self._flows(Tg)
+                T_prev, prev_grid = Tg, self.grid
+                continue
+            if T_prev is None:
+                change = np.inf
+            elif T_prev.shape == Tg.shape:
+                change = float(np.abs(Tg - T_prev).max())
+            else:  # the grid was refined: compare at the points both grids share
+                change = float(np.abs(Tg[np.searchsorted(self.grid, prev_grid)] - T_prev).max())
+            T_prev, prev_grid = Tg, self.grid
+            self.history.append((self.grid.size, change))
+            nR, nL, _ = self._flows(Tg)
+            if change <= self.tol:
+                if grid_ok and self._refine_where(nR, nL) is None:
+                    return self.grid, Hg, IntT, IntP, rR, rL, switches
+                grid_ok = False
+            if not grid_ok and change <= 30.0 * self.grid_tol:
+                # nearly converged: is the grid fine enough for a linear remainder?
+                pieces = self._refine_where(nR, nL)
+                if pieces is None:
+                    grid_ok = True
+                else:
+                    refinements += 1
+                    self.stats["refinements"] = refinements
+                    if refinements > MAX_REFINEMENTS:
+                        raise NotSuitable("the grid could not be refined enough")
+                    rR, rL = self._refine(pieces, nR, nL)
+                    mixer = _Anderson(5)
+                    continue
+            x = np.concatenate([rR.ravel(), rL.ravel()])
+            fx = np.concatenate([nR.ravel(), nL.ravel()])
+            xn = mixer.step(x, fx)
+            if not np.all(np.isfinite(xn)):
+                raise NotSuitable("the relaxation diverged")
+            rR = xn[:rR.size].reshape(rR.shape)
+            rL = xn[rR.size:].reshape(rL.shape)
+        raise NotSuitable(f"no convergence in {MAX_SWEEPS * 2} relaxation sweeps (last change "
+                          f"{change:.2g} K)")
+
+    def _refine(self, pieces, rR, rL):
+        """Split intervals into the given numbers of pieces; the remainder follows linearly."""
+        old = self.grid
+        h = np.diff(old)
+        idx = np.flatnonzero(pieces > 1)
+        new_pts = [old[j] + h[j] * np.arange(1, pieces[j]) / pieces[j] for j in idx]
+        new_grid = np.union1d(old, np.concatenate(new_pts))
+        if new_grid.size * max(1, self.n) > PIECEWISE_ELEMENTS:
+            raise NotSuitable("the grid the nonlinear links need is too fine")
+        # each new interval lies inside one old interval: interpolate its end values there
+        k = np.searchsorted(old, new_grid[:-1], side="right") - 1
+        frac0 = ((new_grid[:-1] - old[k]) / h[k])[:, None]
+        frac1 = ((new_grid[1:] - old[k]) / h[k])[:, None]
+        nR = rR[k] + frac0 * (rL[k] - rR[k])
+        nL = rR[k] + frac1 * (rL[k] - rR[k])
+        self._set_grid(new_grid)
+        return nR, nL
+
+    def _refine_where(self, rR, rL):
+        """Pieces to split each interval into where the remainder bends too much for linear
+        interpolation (None when no interval needs it)."""
+        if self._Kp_inv is None or rR.shape[0] < 2:
+            return None
+        h = np.diff(self.grid)
+        # curvature from consecutive slopes where the remainder is continuous
+        slope = (rL - rR) / h[:, None]
+        cont = np.abs(rR[1:] - rL[:-1]) <= 1e-12 * (1.0 + np.abs(rR[1:]))
+        d2 = np.where(cont, np.abs(slope[1:] - slope[:-1]), 0.0) / (0.5 * (h[1:] + h[:-1]))[:, None]
+        # interpolation error ~ h^2/8 |r''| on each side of an interior point
+        err = np.zeros_like(rR)
+        err[1:] = np.maximum(err[1:], d2 * (h[1:, None] ** 2) / 8.0)
+        err[:-1] = np.maximum(err[:-1], d2 * (h[:-1, None] ** 2) / 8.0)
+        node_err = np.abs(err @ self.N.T)                      # W into each node
+        dT = node_err @ self._Kp_inv.T                           # K'^-1 |flow error|
+        worst = dT.max(axis=1) / self.grid_tol
+        if worst.max(initial=0.0) <= 1.0:
+            return None
+        # the error falls as h^2: split each interval enough to meet the tolerance (and then some)
+        return np.where(worst > 1.0, np.clip(np.ceil(1.5 * np.sqrt(worst)), 2, 64), 1).astype(int)
+
+
+def _scan(e0, starts, G, z0):
+    """States after each interval of ``z[k+1] = e0[k] z[k] + G[k]``, one vectorised recurrence
+    per stretch of equal decay factors."""
+    m = G.shape[0]
+    out = np.empty_like(G)
+    bounds = np.append(starts, m)
+    z = z0
+    for a, b in zip(bounds[:-1].tolist(), bounds[1:].tolist()):
+        if b - a == 1:
+            z = e0[a] * z + G[a]
+            out[a] = z
+        else:
+            out[a:b] = linear_recurrence(np.ascontiguousarray(e0[a]), G[a:b], z)
+            z = out[b - 1]
+    return out
+
+
+class _Anderson:
+    """Anderson mixing for the fixed point x = F(x) (type II, small memory)."""
+
+    def __init__(self, m: int):
+        self.m = m
+        self.X: list = []
+        self.R: list = []
+
+    def step(self, x, fx):
+        r = fx - x
+        self.X.append(x)
+        self.R.append(r)
+        if len(self.X) > self.m + 1:
+            self.X.pop(0)
+            self.R.pop(0)
+        if len(self.X) < 2:
+            return fx
+        dX = np.column_stack([self.X[i + 1] - self.X[i] for i in range(len(self.X) - 1)])
+        dR = np.column_stack([self.R[i + 1] - self.R[i] for i in range(len(self.R) - 1)])
+        gamma, *_ = np.linalg.lstsq(dR, r, rcond=None)
+        out = fx - (dX + dR) @ gamma
+        return out
+
+
+def run_piecewise_network(network, asm, t_out, T0, mode, recorder, out_nodes, boundary_links,
+                          rtol, atol, progress, thermostats=()) -> dict:
+    """Build the model of ``network`` and run it on the piecewise-exact path.
+
+    Raises :class:`NotSuitable` before anything is recorded when the path cannot take it.
+    """
+    from ..nonlinear import build_terms
+    from .stiff import OutputMap, StiffModel, chunk_from_states, periodic_start, thermostat_table
+
+    terms, phase, controllers = build_terms(network, asm, thermostats)
+    model = StiffModel(asm, terms, phase, controllers)
+    ss = model.ss
+    solver = PiecewiseSolver(model, t_out, rtol=rtol, atol=atol)
+    if mode == "periodic":
+        Tm0 = periodic_start(network, model, asm, rtol, atol)
+    else:
+        Tm0 = T0[ss.massive]
+    for c in model.controllers:
+        c.reset(0.0, Tm0)
+    H0 = model.energy_of(Tm0)
+    grid, Hg, IntT, IntP, rR, rL, switches = solver.solve(H0)
+    for c, sw in zip(model.controllers, switches):
+        if c.control == "on-off":
+            on = c._log_on[0]
+            c._log_t = [0.0] + list(sw)
+            c._log_on = [on if k % 2 == 0 else not on for k in range(len(sw) + 1)]
+    # energies over each grid interval
+    h = np.diff(grid)
+    Iw = 0.5 * h[:, None] * (solver._wR + solver._wL)
+    for i, amp, om, ph in solver.sines:
+        Iw[:, i] += amp / om * (np.cos(om * grid[:-1] + ph) - np.cos(om * grid[1:] + ph))
+    M = model.M
+    inc_links = np.zeros((h.size, model.nb))
+    if model.nb:
+        t_end = (model._A_end_sp @ IntT.T).T + Iw @ model.D_end.T
+        flow = model.g_end[None, :] * (Iw[:, model.bcol] - t_end)
+        inc_links = (model._to_links_sp @ flow.T).T
+        if solver.seg is not None and solver.seg.e_rows:
+            seg = solver.seg
+            Ir = 0.5 * h[:, None] * (rR + rL)
+            ta = seg._gather(IntT, Iw, seg.a_is_node, seg.a_idx)
+            tb = seg._gather(IntT, Iw, seg.b_is_node, seg.b_idx)
+            Iq = solver.g[None, :] * (ta - tb) + Ir
+            for k, col, sign in seg.e_rows:
+                inc_links[:, col] += sign * Iq[:, k]
+    Y = np.zeros((grid.size, model.ny))
+    Y[:, :model.n] = Hg
+    n, nb, S = model.n, model.nb, model.S
+    Y[1:, n:n + nb] = np.cumsum(inc_links, axis=0)
+    Y[1:, n + nb:n + nb + S] = np.cumsum(Iw[:, M:], axis=0)
+    Y[1:, n + nb + S:] = np.cumsum(IntP, axis=0)
+    rows = np.searchsorted(grid, t_out)
+    H0_sum = float(H0.sum())
+    out_map = OutputMap(model, np.asarray(out_nodes))
+
+    def extras_fn(t, Tm, Yr):
+        ex = {}
+        if model.phase:
+            ex["liquid_fraction"] = np.column_stack(
+                [model.phase[i].liquid_fraction_array(Yr[:, i]) for i in model._phase_idx])
+        if model.controllers:
+            ex["thermostat_power"] = np.column_stack(
+                [c.power_history(t, Tm) for c in model.controllers])
+        return ex
+
+    step = 20_000
+    for k0 in range(0, rows.size, step):
+        sel = rows[k0:k0 + step]
+        recorder.add(chunk_from_states(model, t_out[k0:k0 + step], Y[sel], H0_sum, out_map,
+                                       extras_fn))
+        if progress is not None:
+            progress(min(1.0, (k0 + step) / rows.size))
+    if model.controllers:
+        recorder.tables["thermostats"] = thermostat_table(model.controllers, t_out, recorder)
+    stats = dict(solver.stats)
+    stats["grid_points"] = int(grid.size)
+    return stats

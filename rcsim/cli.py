@@ -266,7 +266,7 @@ def materials(category, sources):
 @click.option("--csv", "csv_path", type=click.Path(), help="Also write the histories as CSV.")
 @click.option("--plots", "plots_dir", type=click.Path(), help="Write the standard figures "
               "into this folder.")
-@click.option("--solver", type=click.Choice(["auto", "exact", "stiff"]), default=None,
+@click.option("--solver", type=click.Choice(["auto", "exact", "piecewise", "stiff"]), default=None,
               help="Override the scenario's solver.")
 @click.option("--record", multiple=True, help="Keep the history of this node only "
               "(repeatable).")
@@ -415,7 +415,7 @@ def _sigma_option(items):
               "(default 5 times the median row interval).")
 @click.option("--starts", default=4, show_default=True, type=click.IntRange(1, 50),
               help="Number of starting points (against local minima).")
-@click.option("--solver", type=click.Choice(["auto", "exact", "stiff"]), default="auto",
+@click.option("--solver", type=click.Choice(["auto", "exact", "piecewise", "stiff"]), default="auto",
               show_default=True, help="How the model is run at each evaluation.")
 @click.option("-o", "--output", type=click.Path(), help="Write the estimates table to this CSV "
               "file.")

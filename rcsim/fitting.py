@@ -509,9 +509,9 @@ class _Model:
             prof.check_span(0.0, float(self.t[-1]))
         nonlinear = not asm.is_linear or bool(getattr(net, "thermostats", None))
         n_states = state_space(asm).n
-        if solver not in ("auto", "exact", "stiff"):
-            raise InputError(f"solver must be 'auto', 'exact' or 'stiff', got {solver!r}",
-                             "solver")
+        if solver not in ("auto", "exact", "piecewise", "stiff"):
+            raise InputError(f"solver must be 'auto', 'exact', 'piecewise' or 'stiff', got "
+                             f"{solver!r}", "solver")
         if solver == "exact" and (nonlinear or n_states > min(DENSE_LIMIT, EXACT_LIMIT)):
             raise InputError("the exact path needs a linear network of at most "
                              f"{min(DENSE_LIMIT, EXACT_LIMIT)} states", "solver",
@@ -519,7 +519,8 @@ class _Model:
         mode = sc.settings.initial
         self.fast = (solver != "stiff" and not nonlinear and mode in ("given", "steady")
                      and n_states <= min(DENSE_LIMIT, EXACT_LIMIT))
-        self.solver = "exact" if self.fast else ("stiff" if solver == "stiff" else "auto")
+        self.solver = "exact" if self.fast else (solver if solver in ("stiff", "piecewise")
+                                                 else "auto")
         if mode == "periodic" and self.fast is False and self.tables:
             raise ScenarioError("a periodic start is not defined when a boundary follows a log",
                                 f"{sc.name}: simulation.initial",
@@ -632,7 +633,7 @@ class _Model:
             res = sc.network.simulate(float(self.t[-1]), float(self.t[-1]), times=self.t,
                                       record=sorted(set(self.measured_nodes)),
                                       initial=sc.settings.initial,
-                                      solver="stiff" if self.solver == "stiff" else "auto",
+                                      solver=self.solver if self.solver in ("stiff", "piecewise") else "auto",
                                       rtol=min(sc.settings.rtol, 1e-7),
                                       atol=min(sc.settings.atol, 1e-7))
         temps = res.temperatures
@@ -843,7 +844,7 @@ def fit(scenario, data, free, *, columns=None, ignore=(), bounds=None, sigma=Non
     starts : int
         Number of starts (the scenario's values, then points spread around them or inside the
         bounds). Only values that need a rebuild are varied; the others enter linearly.
-    solver : 'auto', 'exact' or 'stiff'
+    solver : 'auto', 'exact', 'piecewise' or 'stiff'
         'auto' uses the exact modal path where it applies.
     seed : int
         Seed of the spread of starts.

@@ -652,9 +652,13 @@ class Network:
         initial : None, 'given', 'steady', 'periodic' or dict
             Initial state: the nodes' own initial temperatures (default), the steady state at
             t = 0, the periodic regime of periodic inputs, or a {node: temperature} mapping.
-        solver : 'auto', 'exact' or 'stiff'
-            'exact' (modal, closed form) for linear networks; 'stiff' (solve_ivp with an analytic
-            sparse Jacobian) for any network; 'auto' picks 'exact' where it applies.
+        solver : 'auto', 'exact', 'piecewise' or 'stiff'
+            'exact' (modal, closed form) for linear networks; 'piecewise' (closed form between
+            phase-change and thermostat events, waveform relaxation for radiation and film
+            correlations) for nonlinear networks of up to 200 states; 'stiff' (solve_ivp with an
+            analytic sparse Jacobian) for any network; 'auto' picks 'exact' for linear networks
+            and 'piecewise' for nonlinear ones, falling back to 'stiff' where 'piecewise' does not
+            suit (the reason is kept in ``meta['stats']['piecewise_declined']``).
         record : list of str, optional
             Nodes whose histories are kept (default all).
         output : str or path, optional

@@ -358,8 +358,8 @@ def _settings(sim: dict) -> Settings:
                                 f"{sim['initial']!r}", "simulation.initial")
         st.initial = sim["initial"]
     if "solver" in sim:
-        if sim["solver"] not in ("auto", "exact", "stiff"):
-            raise ScenarioError(f"solver must be 'auto', 'exact' or 'stiff', got "
+        if sim["solver"] not in ("auto", "exact", "piecewise", "stiff"):
+            raise ScenarioError(f"solver must be 'auto', 'exact', 'piecewise' or 'stiff', got "
                                 f"{sim['solver']!r}", "simulation.solver")
         st.solver = sim["solver"]
     if "record" in sim:

@@ -97,6 +97,12 @@ def _parse_cached(text: str):
     return number, units
 
 
+#: Nonzero SI magnitudes outside [MIN_MAGNITUDE, MAX_MAGNITUDE] are refused: far beyond any
+#: physical network, and products of such numbers overflow double precision.
+MIN_MAGNITUDE = 1e-30
+MAX_MAGNITUDE = 1e30
+
+
 def to_si(value, kind: str, where: str | None = None, *, finite: bool = True) -> float:
     """Convert ``value`` to a float in the SI unit of ``kind``.
 
@@ -109,7 +115,7 @@ def to_si(value, kind: str, where: str | None = None, *, finite: bool = True) ->
     where : str, optional
         Key path used in error messages.
     finite : bool
-        Refuse NaN and infinity (default).
+        Refuse NaN, infinity and nonzero magnitudes outside 1e-30 to 1e30 (default).
 
     Returns
     -------
@@ -150,6 +156,10 @@ def to_si(value, kind: str, where: str | None = None, *, finite: bool = True) ->
         result = _convert(number, units, kind, value, where)
     if finite and not math.isfinite(result):
         raise UnitError(f"expected a finite number, got {_short(value)}", where)
+    if finite and result != 0.0 and not (MIN_MAGNITUDE <= abs(result) <= MAX_MAGNITUDE):
+        raise UnitError(f"{_short(value)} is {result:.3g} in SI units, outside the range rcsim "
+                        f"computes with ({MIN_MAGNITUDE:g} to {MAX_MAGNITUDE:g} in size, or 0)",
+                        where, "check the value and its unit")
     return result
 
 

@@ -59,3 +59,13 @@ def test_bad_values(bad):
 def test_non_finite_rejected():
     with pytest.raises(UnitError, match="finite"):
         to_si(math.nan, "length", "x")
+
+
+@pytest.mark.parametrize("value, kind", [(2.2e-309, "resistance"), (3.6e307, "capacity"),
+                                         ("1e40 W", "power"), ("1e-35 m", "length")])
+def test_magnitudes_beyond_any_network_are_refused(value, kind):
+    # products of such numbers overflow double precision (IEEE 754 max about 1.8e308); far
+    # outside anything physical, so refused with the key named instead of computed with
+    with pytest.raises(UnitError, match="outside the range") as err:
+        to_si(value, kind, "links.x.value")
+    assert str(err.value).startswith("links.x.value")

@@ -33,8 +33,8 @@ raised and the driver falls back to the stiff integrator.
 from __future__ import annotations
 
 import numpy as np
+from scipy.optimize import brentq
 
-from ..statespace import state_space  # noqa: F401  (kept for callers that patch it)
 from .exact import linear_recurrence, phi_functions
 
 __all__ = ["NotSuitable", "PiecewiseSolver", "run_piecewise_network", "PIECEWISE_STATES"]
@@ -75,7 +75,7 @@ class PiecewiseSolver:
         Tolerances in the sense of the stiff path: waveform relaxation stops when no temperature
         changes by more than ``atol + rtol * T_scale`` [K] between sweeps (T_scale the largest
         temperature magnitude of the start and the inputs), and the grid is refined until the
-        estimated interpolation error of the nonlinear remainder is below ten times that.
+        estimated interpolation error of the nonlinear remainder is below three times that.
     """
 
     def __init__(self, model, t_out, rtol: float = 1e-6, atol: float = 1e-6):
@@ -467,50 +467,40 @@ class PiecewiseSolver:
         return Iz, z
 
     def _locate(self, reg, t0, h, z0, FR, dF, vals_end):
-        """Earliest time in (t0, t0 + h] where an event function turns positive."""
+        """Earliest time in (t0, t0 + h] where an event function turns positive.
+
+        The time returned lies just past the crossing (within a millionth of the interval), on
+        the side where the function is positive, so the new regime starts strictly inside.
+        """
+        xtol = 1e-6 * max(1.0, h)
+        fired = np.flatnonzero(vals_end > 0.0)
+        rows = reg.Cev[fired] @ reg.V
+        f0 = rows @ z0 + reg.dev[fired]
+        if (f0 > 0.0).any():  # already past at the start (rounding): switch at once
+            return t0 + min(h, xtol), int(fired[int(np.argmax(f0))])
+        # most likely first: the crossing of the straight line between the interval's ends
+        guess = f0 / (f0 - vals_end[fired])
         best_t, best_e = None, None
-        for e in np.flatnonzero(vals_end > 0.0):
-            row = reg.Cev[e] @ reg.V
-            d = reg.dev[e]
+        for k in np.argsort(guess):
+            row, d = rows[k], reg.dev[fired[k]]
 
             def f(tau, row=row, d=d):
                 return float(row @ self._state_at(reg, t0, tau, h, z0, FR, dF) + d)
 
-            lo, hi = 0.0, h
-            f_lo = float(row @ z0 + d)
-            f_hi = float(vals_end[e])
-            if best_t is not None and best_t - t0 < hi:
-                hi_try = best_t - t0
-                f_try = f(hi_try)
-                if f_try <= 0.0:
-                    continue
-                hi, f_hi = hi_try, f_try
-            if f_lo > 0.0:  # already past at the start (rounding): switch at once
-                hi = min(hi, max(1e-9 * max(1.0, abs(t0)), 1e-12))
-                best_t, best_e = t0 + hi, e
-                continue
-            xtol = 1e-6 * max(1.0, h)
-            for it in range(100):  # regula falsi aimed just past the root, keeping f(hi) > 0
-                width = hi - lo
-                if width <= xtol:
+            hi = h
+            if best_t is not None:
+                hi = best_t - t0 - xtol
+                if hi <= 0.0 or f(hi) <= 0.0:
+                    continue   # not earlier than the best so far by more than the tolerance
+            root = brentq(f, 0.0, hi, xtol=0.25 * xtol, rtol=1e-12)
+            t_hi = min(hi, root + 0.5 * xtol)
+            for _ in range(4):
+                if f(t_hi) > 0.0:
                     break
-                tm = lo - f_lo * width / (f_hi - f_lo) + 0.5 * xtol
-                if it % 4 == 3 or not (lo < tm < hi):  # guard against slow one-sided progress
-                    tm = 0.5 * (lo + hi)
-                fm = f(tm)
-                if fm > 0.0:
-                    hi, f_hi = tm, fm
-                    tl = tm - xtol
-                    if tl > lo:
-                        fl = f(tl)
-                        if fl > 0.0:
-                            hi, f_hi = tl, fl
-                        else:
-                            lo, f_lo = tl, fl
-                else:
-                    lo, f_lo = tm, fm
-            if best_t is None or t0 + hi < best_t:
-                best_t, best_e = t0 + hi, e
+                t_hi = min(hi, t_hi + xtol)
+            else:
+                t_hi = hi
+            best_t, best_e = t0 + t_hi, int(fired[k])
         return best_t, best_e
 
     # -- inputs and remainder on a grid ------------------------------------------------------
@@ -567,7 +557,7 @@ class PiecewiseSolver:
         scale = max(float(np.abs(T0).max(initial=0.0)),
                     float(np.abs(self._WR[:, :self.model.M]).max(initial=0.0)))
         self.tol = self.atol + self.rtol * scale
-        self.grid_tol = 10.0 * self.tol
+        self.grid_tol = 3.0 * self.tol
         nnl = self.n_nl
         J = grid.size - 1
         on0 = [c.on for c in self.ctrl]
@@ -584,9 +574,8 @@ class PiecewiseSolver:
         refinements = 0
         grid_ok = False
         mixer = _Anderson(5)
-        T_prev = None
-        change = np.inf
-        for _ in range(MAX_SWEEPS * 2):
+        res = res_prev = np.inf
+        for _ in range(MAX_SWEEPS):
             for c, o in zip(self.ctrl, on0):
                 c.on = o
             Hg, IntT, IntP, switches = self.sweep(self.grid, rR, rL, H0)
@@ -601,22 +590,27 @@ class PiecewiseSolver:
                 self._set_reference(self._tangent_reference(Tg))
                 refreshed = True
                 rR, rL, _ = self._flows(Tg)
-                T_prev, prev_grid = Tg, self.grid
                 continue
-            if T_prev is None:
-                change = np.inf
-            elif T_prev.shape == Tg.shape:
-                change = float(np.abs(Tg - T_prev).max())
-            else:  # the grid was refined: compare at the points both grids share
-                change = float(np.abs(Tg[np.searchsorted(self.grid, prev_grid)] - T_prev).max())
-            T_prev, prev_grid = Tg, self.grid
-            self.history.append((self.grid.size, change))
             nR, nL, _ = self._flows(Tg)
-            if change <= self.tol:
-                if grid_ok and self._refine_where(nR, nL) is None:
+            # fixed-point residual: how far the remainder this trajectory implies is from the one
+            # it was computed with, as a temperature (steady gain of the network)
+            res = self._as_temperature(np.maximum(np.abs(nR - rR), np.abs(nL - rL)))
+            self.history.append((self.grid.size, res))
+            if res <= self.tol:
+                if self._refine_where(nR, nL) is None:
                     return self.grid, Hg, IntT, IntP, rR, rL, switches
                 grid_ok = False
-            if not grid_ok and change <= 30.0 * self.grid_tol:
+            if res > 0.7 * res_prev:         # Anderson mixing stalls or lost its way: restart
+                mixer = _Anderson(5)
+            res_prev = res
+            x = np.concatenate([rR.ravel(), rL.ravel()])
+            fx = np.concatenate([nR.ravel(), nL.ravel()])
+            xn = mixer.step(x, fx)
+            if not np.all(np.isfinite(xn)):
+                raise NotSuitable("the relaxation diverged")
+            rR = xn[:rR.size].reshape(rR.shape)
+            rL = xn[rR.size:].reshape(rL.shape)
+            if not grid_ok:
                 # nearly converged: is the grid fine enough for a linear remainder?
                 pieces = self._refine_where(nR, nL)
                 if pieces is None:
@@ -626,21 +620,15 @@ class PiecewiseSolver:
                     self.stats["refinements"] = refinements
                     if refinements > MAX_REFINEMENTS:
                         raise NotSuitable("the grid could not be refined enough")
-                    rR, rL = self._refine(pieces, nR, nL)
-                    mixer = _Anderson(5)
-                    continue
-            x = np.concatenate([rR.ravel(), rL.ravel()])
-            fx = np.concatenate([nR.ravel(), nL.ravel()])
-            xn = mixer.step(x, fx)
-            if not np.all(np.isfinite(xn)):
-                raise NotSuitable("the relaxation diverged")
-            rR = xn[:rR.size].reshape(rR.shape)
-            rL = xn[rR.size:].reshape(rL.shape)
-        raise NotSuitable(f"no convergence in {MAX_SWEEPS * 2} relaxation sweeps (last change "
-                          f"{change:.2g} K)")
+                    rR, rL = self._refine(pieces)(rR, rL)
+                    mixer = _Anderson(5)    # its history does not carry over to new points
+                    res_prev = np.inf
+        raise NotSuitable(f"no convergence in {MAX_SWEEPS} relaxation sweeps (last residual "
+                          f"{res:.2g} K)")
 
-    def _refine(self, pieces, rR, rL):
-        """Split intervals into the given numbers of pieces; the remainder follows linearly."""
+    def _refine(self, pieces):
+        """Split intervals into the given numbers of pieces; returns the map that carries a
+        remainder (start and end values per interval) over to the new grid, linearly."""
         old = self.grid
         h = np.diff(old)
         idx = np.flatnonzero(pieces > 1)
@@ -652,10 +640,20 @@ class PiecewiseSolver:
         k = np.searchsorted(old, new_grid[:-1], side="right") - 1
         frac0 = ((new_grid[:-1] - old[k]) / h[k])[:, None]
         frac1 = ((new_grid[1:] - old[k]) / h[k])[:, None]
-        nR = rR[k] + frac0 * (rL[k] - rR[k])
-        nL = rR[k] + frac1 * (rL[k] - rR[k])
         self._set_grid(new_grid)
-        return nR, nL
+
+        def lift(rR, rL):
+            return rR[k] + frac0 * (rL[k] - rR[k]), rR[k] + frac1 * (rL[k] - rR[k])
+
+        return lift
+
+    def _as_temperature(self, dr: np.ndarray) -> float:
+        """Largest temperature shift that remainder errors ``dr`` (W per segment, per row) can
+        cause: |K'^-1| |N dr| (the steady gain bounds the lasting effect of a flow error)."""
+        node = np.abs(dr @ self.N.T)
+        if self._Kp_inv is None:       # pragma: no cover - a reference conductance grounds it
+            return float(node.max(initial=0.0))
+        return float((node @ self._Kp_inv.T).max(initial=0.0))
 
     def _refine_where(self, rR, rL):
         """Pieces to split each interval into where the remainder bends too much for linear
@@ -671,8 +669,7 @@ class PiecewiseSolver:
         err = np.zeros_like(rR)
         err[1:] = np.maximum(err[1:], d2 * (h[1:, None] ** 2) / 8.0)
         err[:-1] = np.maximum(err[:-1], d2 * (h[:-1, None] ** 2) / 8.0)
-        node_err = np.abs(err @ self.N.T)                      # W into each node
-        dT = node_err @ self._Kp_inv.T                           # K'^-1 |flow error|
+        dT = np.abs(err @ self.N.T) @ self._Kp_inv.T            # K'^-1 |flow error|
         worst = dT.max(axis=1) / self.grid_tol
         if worst.max(initial=0.0) <= 1.0:
             return None
@@ -704,6 +701,11 @@ class _Anderson:
         self.m = m
         self.X: list = []
         self.R: list = []
+
+    def remap(self, lift) -> None:
+        """Carry the history over to a refined grid (a linear map of every stored vector)."""
+        self.X = [lift(v) for v in self.X]
+        self.R = [lift(v) for v in self.R]
 
     def step(self, x, fx):
         r = fx - x

@@ -1,0 +1,171 @@
+"""The piecewise-exact path for nonlinear networks (events, waveform relaxation), checked against
+independent integrations and analytic solutions; the same checks on the stiff path."""
+
+from __future__ import annotations
+
+import math
+import os
+
+import numpy as np
+import pytest
+from scipy.integrate import solve_ivp
+from scipy.optimize import brentq
+
+import rcsim
+
+from shipper_by_hand import hand_written_box
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+SHIPPER = os.path.join(HERE, "..", "scenarios", "cold-box.toml")
+SIGMA = 5.670374419e-8   # CODATA 2018
+K0 = 273.15
+
+
+def test_shipper_against_an_independent_integration():
+    # the bundled shipper written out by hand (tests/shipper_by_hand.py: Churchill-Chu from the
+    # `ht` library, the gel pack's enthalpy curve, radiation inside and out) and integrated by
+    # scipy's Radau method at rtol 1e-10: payload temperatures and the 8 degC hold time
+    res = rcsim.load(SHIPPER).run(solver="piecewise")
+    assert res.meta["solver"].startswith("piecewise")
+    rhs, y0, c_pay = hand_written_box()
+    scale = np.array([c_pay, 4000, 4000, 100, 2500, 1200.0])
+    sol = solve_ivp(rhs, (0.0, res.time[-1]), y0, method="Radau", t_eval=res.time, rtol=1e-10,
+                    atol=1e-10 * scale, dense_output=True)
+    payload = res.temperatures["payload"].to_numpy()
+    assert np.abs(payload - sol.y[0] / c_pay).max() < 1e-4
+    k = int(np.argmax(sol.y[0] / c_pay > 8.0))
+    t_cross = brentq(lambda t: sol.sol(t)[0] / c_pay - 8.0, res.time[k - 1], res.time[k],
+                     xtol=1e-6)
+    hold = res.limits.set_index("kind").loc["max", "hold_time [s]"]
+    assert hold == pytest.approx(t_cross, abs=1.0)
+    assert res.energy_balance < 1e-9
+
+
+def test_auto_takes_the_piecewise_path_and_agrees_with_the_stiff_one():
+    # two integrations of one model by different methods; tolerance from the stiff path's rtol
+    sc = rcsim.load(SHIPPER)
+    auto = sc.run()
+    stiff = sc.network.simulate("72 h", "5 min", solver="stiff", rtol=1e-9, atol=1e-9)
+    assert auto.meta["solver"].startswith("piecewise")
+    for node in ("payload", "pack_a", "shell"):
+        assert np.abs(auto.temperatures[node].to_numpy()
+                      - stiff.temperatures[node].to_numpy()).max() < 1e-4
+
+
+def _radiating_body(step):
+    C, eps, A, Ts = 2000.0, 0.8, 0.1, 20.0
+    net = rcsim.Network()
+    net.add_node("body", capacity=C, initial=300.0)
+    net.add_boundary("walls", temperature=Ts)
+    net.add_link("body", "walls", parts=[{"radiation": {"emissivity": eps, "area": A}}])
+    return net, (C, eps, A, Ts)
+
+
+@pytest.mark.parametrize("solver, step", [("piecewise", "1 min"), ("piecewise", "1 h"),
+                                          ("stiff", "1 min")])
+def test_radiative_cooling_at_any_output_step(solver, step):
+    # C dT/dt = -e sigma A (T^4 - Ts^4): scipy's solve_ivp (DOP853, rtol 1e-12) of the scalar
+    # equation. With a 1 h output step the piecewise path must refine its own grid where the
+    # fourth power bends: the error stays at the tolerance's level, not the step's
+    net, (C, eps, A, Ts) = _radiating_body(step)
+    res = net.simulate("6 h", step, solver=solver)
+
+    def f(t, T):
+        return -eps * SIGMA * A * ((T + K0) ** 4 - (Ts + K0) ** 4) / C
+
+    ref = solve_ivp(f, (0.0, res.time[-1]), [300.0], method="DOP853", t_eval=res.time,
+                    rtol=1e-12, atol=1e-12)
+    err = np.abs(res.temperatures["body"].to_numpy() - ref.y[0]).max()
+    assert err < 2e-3      # of a 280 K fall: 1e-5 relative (BDF at rtol 1e-6 is near 1e-3 K)
+    assert res.energy_balance < 1e-9 if solver == "piecewise" else res.energy_balance < 1e-6
+
+
+@pytest.mark.parametrize("solver", ["piecewise", "stiff"])
+def test_ice_melting_on_both_paths(solver):
+    # piecewise analytic solution of a lumped ice mass behind a resistance R in air at Tinf:
+    # t1 = R m cs ln((Tinf - Ti)/Tinf) to reach 0 degC, t2 = m L R / Tinf to melt at 0 degC,
+    # t3 = R m cl ln(Tinf/(Tinf - 8)) for the water to reach 8 degC. Latent heat of fusion of
+    # water 333.6 kJ/kg (handbook value); zero-width melting range (a pure substance)
+    m, L, cs, cl, R, Tinf, Ti = 2.0, 333.6e3, 2050.0, 4180.0, 0.5, 25.0, -10.0
+    net = rcsim.Network()
+    net.add_node("pack", mass=m, initial=Ti, phase_change={
+        "latent_heat": "333.6 kJ/kg", "melting": ["0 degC", "0 degC"],
+        "specific_heat_solid": "2.05 kJ/(kg*K)", "specific_heat_liquid": "4.18 kJ/(kg*K)"})
+    net.add_boundary("air", temperature=Tinf)
+    net.add_link("pack", "air", resistance=R)
+    net.add_limit("pack", max=8.0)
+    res = net.simulate("3 d", "1 min", solver=solver, rtol=1e-8, atol=1e-8)
+    t1 = R * m * cs * math.log((Tinf - Ti) / Tinf)
+    t2 = m * L * R / Tinf
+    t3 = R * m * cl * math.log(Tinf / (Tinf - 8))
+    assert res.limits["hold_time [s]"].iloc[0] == pytest.approx(t1 + t2 + t3, abs=1.0)
+    t_half = np.interp(0.5, res.liquid_fraction["pack"].to_numpy(), res.time)
+    assert t_half == pytest.approx(t1 + 0.5 * t2, abs=1.0)
+    assert res.energy_balance < 1e-8
+
+
+@pytest.mark.parametrize("solver", ["piecewise", "stiff"])
+def test_on_off_heater_period_on_both_paths(solver):
+    # one node, heater P, ambient Tinf through R (Newton cooling with a source): between the
+    # thresholds lo and hi, t_on = tau ln((Tinf + PR - lo)/(Tinf + PR - hi)) and
+    # t_off = tau ln((hi - Tinf)/(lo - Tinf)); the number of switches over a settled span is the
+    # span over the cycle, twice
+    C, R, P, Tinf = 2e5, 0.05, 900.0, 5.0
+    net = rcsim.Network()
+    net.add_node("room", capacity=C, initial=20.0)
+    net.add_boundary("out", temperature=Tinf)
+    net.add_link("room", "out", resistance=R)
+    net.add_thermostat("heater", "room", setpoint="20 degC", band="1 K", power="900 W")
+    res = net.simulate("3 d", "1 min", solver=solver)
+    tau, lo, hi = R * C, 19.5, 20.5
+    t_on = tau * math.log((Tinf + P * R - lo) / (Tinf + P * R - hi))
+    t_off = tau * math.log((hi - Tinf) / (lo - Tinf))
+    row = res.thermostats.iloc[0]
+    assert row["duty"] == pytest.approx(t_on / (t_on + t_off), abs=0.005)
+    assert row["switches"] == pytest.approx(2 * 3 * 86400 / (t_on + t_off), abs=2.0)
+    T = res.temperatures["room"].to_numpy()
+    assert T.max() <= hi + 1e-6 and T.min() >= lo - 1e-6
+    assert res.energy["source:heater"].iloc[-1] == pytest.approx(P * row["on_time [s]"], rel=1e-6)
+    assert res.energy_balance < 1e-6
+
+
+def test_proportional_heater_sensing_another_node():
+    # a heater in a tank controlled by the temperature of a pipe fed from it: in the band
+    # P = Pmax (sp + band/2 - Tpipe)/band; the steady state solves three linear equations
+    # (tank: P + (Ta - Tt)/R1 + (Tp - Tt)/R2 = 0, pipe: (Tt - Tp)/R2 + (Ta - Tp)/R3 = 0)
+    R1, R2, R3, Ta, sp, band, Pmax = 0.2, 0.05, 0.1, 10.0, 40.0, 4.0, 2000.0
+    net = rcsim.Network()
+    net.add_node("tank", capacity=4e5, initial=30.0)
+    net.add_node("pipe", capacity=2e4, initial=30.0)
+    net.add_boundary("room", temperature=Ta)
+    net.add_link("tank", "room", resistance=R1)
+    net.add_link("tank", "pipe", resistance=R2)
+    net.add_link("pipe", "room", resistance=R3)
+    net.add_thermostat("heater", "tank", sensor="pipe", setpoint=sp, band=band, power=Pmax,
+                       control="proportional")
+    k = Pmax / band
+    A = np.array([[-1 / R1 - 1 / R2, 1 / R2 - k], [1 / R2, -1 / R2 - 1 / R3]])
+    b = np.array([-Ta / R1 - k * (sp + band / 2), -Ta / R3])
+    Tt, Tp = np.linalg.solve(A, b)
+    res = net.simulate("5 d", "10 min")
+    assert res.temperatures["pipe"].iloc[-1] == pytest.approx(Tp, abs=1e-4)
+    assert res.temperatures["tank"].iloc[-1] == pytest.approx(Tt, abs=1e-4)
+    assert res.energy_balance < 1e-6
+
+
+def test_piecewise_on_request_refuses_what_it_cannot_take():
+    # more states than the piecewise path takes: asked for by name, it says so and what to use
+    net = rcsim.Network()
+    net.add_node("a", capacity=1e4, initial=20.0)
+    net.add_node("b", capacity=1e4, initial=20.0)
+    net.add_boundary("out", temperature=0.0)
+    net.add_link("a", "b", name="wall", parts=[{"conduction": {
+        "k": 0.04, "thickness": 0.1, "area": 1.0, "density": 30.0, "specific_heat": 1400.0,
+        "slices": 250}}])
+    net.add_link("b", "out", parts=[{"radiation": {"emissivity": 0.9, "area": 1.0}}])
+    with pytest.raises(rcsim.SolverError, match="piecewise") as err:
+        net.simulate("1 h", "10 min", solver="piecewise")
+    assert "stiff" in str(err.value)
+    res = net.simulate("1 h", "10 min")          # auto falls back and says why
+    assert res.meta["solver"].startswith("stiff")
+    assert "states" in res.meta["stats"]["piecewise_declined"]

@@ -97,10 +97,14 @@ def _parse_cached(text: str):
     return number, units
 
 
-#: Nonzero SI magnitudes outside [MIN_MAGNITUDE, MAX_MAGNITUDE] are refused: far beyond any
-#: physical network, and products of such numbers overflow double precision.
+#: SI magnitudes above MAX_MAGNITUDE, and nonzero sizes (lengths, capacities, resistances...)
+#: below MIN_MAGNITUDE, are refused: far beyond any physical network, and products or
+#: reciprocals of such numbers overflow double precision.
 MIN_MAGNITUDE = 1e-30
 MAX_MAGNITUDE = 1e30
+#: Kinds that are levels, not sizes of things: a tiny value is just about zero, and harmless.
+_LEVELS = {"dimensionless", "temperature", "temperature_difference", "power", "energy",
+           "heat_flux", "rate", "time"}
 
 
 def to_si(value, kind: str, where: str | None = None, *, finite: bool = True) -> float:
@@ -115,7 +119,7 @@ def to_si(value, kind: str, where: str | None = None, *, finite: bool = True) ->
     where : str, optional
         Key path used in error messages.
     finite : bool
-        Refuse NaN, infinity and nonzero magnitudes outside 1e-30 to 1e30 (default).
+        Refuse NaN, infinity, magnitudes above 1e30 and nonzero sizes below 1e-30 (default).
 
     Returns
     -------
@@ -156,9 +160,11 @@ def to_si(value, kind: str, where: str | None = None, *, finite: bool = True) ->
         result = _convert(number, units, kind, value, where)
     if finite and not math.isfinite(result):
         raise UnitError(f"expected a finite number, got {_short(value)}", where)
-    if finite and result != 0.0 and not (MIN_MAGNITUDE <= abs(result) <= MAX_MAGNITUDE):
+    if finite and (abs(result) > MAX_MAGNITUDE or
+                   (kind not in _LEVELS and 0.0 < abs(result) < MIN_MAGNITUDE)):
         raise UnitError(f"{_short(value)} is {result:.3g} in SI units, outside the range rcsim "
-                        f"computes with ({MIN_MAGNITUDE:g} to {MAX_MAGNITUDE:g} in size, or 0)",
+                        f"computes with (up to {MAX_MAGNITUDE:g} in size; at least "
+                        f"{MIN_MAGNITUDE:g} for sizes of things, or 0)",
                         where, "check the value and its unit")
     return result
 

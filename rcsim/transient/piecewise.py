@@ -33,7 +33,6 @@ raised and the driver falls back to the stiff integrator.
 from __future__ import annotations
 
 import numpy as np
-from scipy.optimize import brentq
 
 from .exact import linear_recurrence, phi_functions
 
@@ -111,7 +110,8 @@ class PiecewiseSolver:
         knots = [p.knots(0.0, T_end) for p in self.profiles]
         allk = np.concatenate(knots) if knots else np.empty(0)
         self._base_grid = np.union1d(self.t_out, allk) if allk.size else self.t_out.copy()
-        self.history: list = []          # (grid points, largest change) per sweep
+        self.history: list = []          # (grid points, residual [K]) per sweep
+        self._event_hints = np.empty(0)  # event times of the last sweep
         self.stats = {"sweeps": 0, "regimes": 0, "events": 0, "refinements": 0, "runs": 0}
         self._set_reference(np.zeros(self.n_nl))
 
@@ -323,12 +323,19 @@ class PiecewiseSolver:
         t_c, H_c, j = float(grid[0]), H0.copy(), 0
         state = list(self._regime_key(H0, on))   # explicit: never re-derived at a boundary
         npcm = len(self.pcm)
-        chunk = 8192
+        # runs end a little past where the previous sweep met its events: later samples would be
+        # recomputed after the event anyway
+        hints = np.searchsorted(grid, self._event_hints) if self._event_hints.size else None
+        hit_times = []
         events = 0
         while j < J:
             reg = self._regime(tuple(state))
             self.stats["runs"] += 1
-            j_end = min(J, j + chunk)
+            j_end = J
+            if hints is not None:
+                nxt = hints[hints > j]
+                if nxt.size:
+                    j_end = min(J, int(nxt[0]) + 4)
             s = np.concatenate([[t_c], grid[j + 1:j_end + 1]])
             m = s.size - 1
             h = np.diff(s)
@@ -390,12 +397,14 @@ class PiecewiseSolver:
                     on[pos - npcm] = bool(target)
                     switches[pos - npcm].append(t_hit)
                 events += 1
+            hit_times.append(t_hit)
             if events > MAX_EVENTS:
                 raise NotSuitable(f"more than {MAX_EVENTS} events")
             if t_c >= grid[j + 1]:  # the event sits on the grid point itself
                 Hg[j + 1] = H_c
                 j += 1
         self.stats["events"] = events
+        self._event_hints = np.asarray(hit_times)
         return Hg, IntT, IntP, switches
 
     @staticmethod
@@ -443,13 +452,14 @@ class PiecewiseSolver:
                 IntP[j0:j0 + k] += P
 
     def _state_at(self, reg, t0, tau, h, z0, FR, dF):
-        """Modal state a time ``tau`` into an interval starting at t0 with state z0."""
-        x = tau * reg.lam
-        e0, e1, e2, _ = phi_functions(x)
-        z = e0 * z0 + tau * (e1 * FR + e2 * (tau / h) * dF)
+        """Modal state(s) ``tau`` (scalar or array) into an interval starting at t0 with z0."""
+        tau = np.asarray(tau, dtype=float)
+        tt = tau[..., None]
+        e0, e1, e2, _ = phi_functions(tt * reg.lam)
+        z = e0 * z0 + tt * (e1 * FR + e2 * (tt / h) * dF)
         if reg.cz:
-            zp = self._zp(reg, np.array([t0, t0 + tau]))
-            z = z + zp[1] - e0 * zp[0]
+            zp = self._zp(reg, np.append(t0, t0 + np.atleast_1d(tau)))
+            z = z + (zp[1:] - e0.reshape(-1, reg.lam.size) * zp[0]).reshape(z.shape)
         return z
 
     def _partial(self, reg, t0, tau, h, z0, FR, dF):
@@ -469,10 +479,10 @@ class PiecewiseSolver:
     def _locate(self, reg, t0, h, z0, FR, dF, vals_end):
         """Earliest time in (t0, t0 + h] where an event function turns positive.
 
-        The time returned lies just past the crossing (within a millionth of the interval), on
+        The time returned lies just past the crossing (within 1e-5 of the interval), on
         the side where the function is positive, so the new regime starts strictly inside.
         """
-        xtol = 1e-6 * max(1.0, h)
+        xtol = 1e-5 * max(1.0, h)
         fired = np.flatnonzero(vals_end > 0.0)
         rows = reg.Cev[fired] @ reg.V
         f0 = rows @ z0 + reg.dev[fired]
@@ -487,18 +497,21 @@ class PiecewiseSolver:
             def f(tau, row=row, d=d):
                 return float(row @ self._state_at(reg, t0, tau, h, z0, FR, dF) + d)
 
-            hi = h
+            lo, hi = 0.0, h
             if best_t is not None:
                 hi = best_t - t0 - xtol
                 if hi <= 0.0 or f(hi) <= 0.0:
                     continue   # not earlier than the best so far by more than the tolerance
-            root = brentq(f, 0.0, hi, xtol=0.25 * xtol, rtol=1e-12)
+            # bracket on 32 points at once, then Brent's method inside the bracket
+            taus = hi * np.arange(1, 33) / 32.0
+            vals = self._state_at(reg, t0, taus, h, z0, FR, dF) @ row + d
+            i = int(np.argmax(vals > 0.0))
+            if vals[i] > 0.0:
+                lo, hi = (taus[i - 1] if i else 0.0), taus[i]
+            root = _root_in_bracket(f, lo, hi, float(vals[i - 1]) if i else float(f0[k]),
+                                    float(vals[i]), 0.25 * xtol)
             t_hi = min(hi, root + 0.5 * xtol)
-            for _ in range(4):
-                if f(t_hi) > 0.0:
-                    break
-                t_hi = min(hi, t_hi + xtol)
-            else:
+            if f(t_hi) <= 0.0:
                 t_hi = hi
             best_t, best_e = t0 + t_hi, int(fired[k])
         return best_t, best_e
@@ -675,6 +688,36 @@ class PiecewiseSolver:
             return None
         # the error falls as h^2: split each interval enough to meet the tolerance (and then some)
         return np.where(worst > 1.0, np.clip(np.ceil(1.5 * np.sqrt(worst)), 2, 64), 1).astype(int)
+
+
+def _root_in_bracket(f, lo, hi, f_lo, f_hi, xtol, max_iter=60):
+    """A root of f in [lo, hi] (f_lo <= 0 < f_hi) to within ``xtol``: Illinois regula falsi,
+    which needs two or three evaluations for the nearly linear event functions met here."""
+    side = 0
+    root = hi
+    for _ in range(max_iter):
+        width = hi - lo
+        if width <= xtol:
+            return hi
+        t = lo - f_lo * width / (f_hi - f_lo)
+        if not (lo < t < hi):
+            t = 0.5 * (lo + hi)
+        ft = f(t)
+        slope = (f_hi - f_lo) / width
+        root = t - ft / slope
+        if abs(ft) <= slope * xtol:       # the next step would be below the tolerance
+            return min(max(root, lo), hi)
+        if ft > 0.0:
+            hi, f_hi = t, ft
+            if side == 1:
+                f_lo *= 0.5
+            side = 1
+        else:
+            lo, f_lo = t, ft
+            if side == -1:
+                f_hi *= 0.5
+            side = -1
+    return root
 
 
 def _scan(e0, starts, G, z0):

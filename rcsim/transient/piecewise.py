@@ -327,6 +327,7 @@ class PiecewiseSolver:
         # recomputed after the event anyway
         hints = np.searchsorted(grid, self._event_hints) if self._event_hints.size else None
         hit_times = []
+        pending = []
         events = 0
         while j < J:
             reg = self._regime(tuple(state))
@@ -348,7 +349,7 @@ class PiecewiseSolver:
             FR = wr @ reg.Ein.T + rr @ reg.Nm.T + reg.cm
             FL = wL[j:j_end] @ reg.Ein.T + rL[j:j_end] @ reg.Nm.T + reg.cm
             dF = FL - FR
-            starts, (e0, e1, e2, e3) = self._phi_rows(reg, h)
+            starts, (e0, e1, e2, e3) = self._phi_rows(reg, j, j_end, h)
             zp = self._zp(reg, s) if reg.cz else None
             G = h[:, None] * (e1 * FR + e2 * dF)
             if zp is not None:
@@ -366,11 +367,8 @@ class PiecewiseSolver:
             k = fired_at
             zprev = np.vstack([z0[None, :], Z[:k]])[:k] if k else np.empty((0, n))
             if k:
-                Iz = h[:k, None] * (e1[:k] * zprev + h[:k, None] * (e2[:k] * FR[:k] +
-                                                                   e3[:k] * dF[:k]))
-                if zp is not None:
-                    Iz += self._zp_integral(reg, s[:k], s[1:k + 1]) - h[:k, None] * e1[:k] * zp[:k]
-                self._accumulate(reg, Iz @ reg.V.T, h[:k], j, IntT, IntP)
+                # the integrals are needed from the last sweep only: kept as a task till then
+                pending.append((reg, k, j, s, h, zprev, FR, dF, e1, e2, e3, zp))
                 Hg[j + 1:j + k + 1] = Hs[:k]
             if k == m:
                 t_c, H_c, j = float(grid[j_end]), Hs[-1].copy(), j_end
@@ -404,37 +402,45 @@ class PiecewiseSolver:
                 Hg[j + 1] = H_c
                 j += 1
         self.stats["events"] = events
+        self._pending = (pending, IntT, IntP)
         self._event_hints = np.asarray(hit_times)
         return Hg, IntT, IntP, switches
 
-    @staticmethod
-    def _phi_rows(reg, h):
-        """Starts of the stretches of equal interval length, and E0..E3 for every interval.
+    def _phi_rows(self, reg, j, j_end, h):
+        """Starts of the stretches of equal interval length in a run over grid intervals
+        j..j_end-1 (the first possibly shortened to ``h[0]``), and E0..E3 for every interval.
 
-        The functions are computed once per distinct length and regime (cached), then spread to
-        the rows: grids are uniform apart from refined stretches and events.
+        The functions are computed once per regime and grid for each distinct length, then
+        spread to the rows: grids are uniform apart from refined stretches.
         """
         m = h.size
-        if m > 1:
-            brk = np.flatnonzero(np.abs(np.diff(h)) > 1e-12 * h[1:]) + 1
-            starts = np.concatenate([[0], brk])
-        else:
-            starts = np.zeros(1, dtype=np.int64)
-        cache = reg.phi_cache
-        rows = []
-        for hv in h[starts].tolist():
-            e = cache.get(hv)
-            if e is None:
-                if len(cache) > 256:
-                    cache.clear()
-                e = cache[hv] = np.vstack(phi_functions(hv * reg.lam))
-            rows.append(e)
-        E = np.stack(rows)                                        # (stretches, 4, n)
-        if starts.size == 1:
-            return starts, tuple(np.broadcast_to(E[0, k], (m, reg.lam.size)) for k in range(4))
-        sid = np.repeat(np.arange(starts.size), np.diff(np.append(starts, m)))
+        cached = reg.phi_cache.get("grid")
+        if cached is None or cached[0] is not self.grid:
+            E = np.stack(phi_functions(self._h_stretch[:, None] * reg.lam[None, :]), axis=1)
+            cached = reg.phi_cache["grid"] = (self.grid, E)
+        E = cached[1]                                             # (stretches, 4, n)
+        sid = self._sid[j:j_end]
         Er = E[sid]
-        return starts, tuple(Er[:, k] for k in range(4))
+        if h[0] != self._h_all[j]:                                # a run starting mid-interval
+            Er[0] = np.stack(phi_functions(h[0] * reg.lam))
+            brk = np.flatnonzero(sid[2:] != sid[1:-1]) + 2
+            starts = np.concatenate([[0, 1], brk]) if m > 1 else np.zeros(1, dtype=np.int64)
+        else:
+            brk = np.flatnonzero(sid[1:] != sid[:-1]) + 1
+            starts = np.concatenate([[0], brk])
+        return starts, (Er[:, 0], Er[:, 1], Er[:, 2], Er[:, 3])
+
+    def _finish_integrals(self):
+        """State and thermostat-power integrals of the last sweep (IntT, IntP), completed."""
+        pending, IntT, IntP = self._pending
+        for reg, k, j, s, h, zprev, FR, dF, e1, e2, e3, zp in pending:
+            hk = h[:k, None]
+            Iz = hk * (e1[:k] * zprev + hk * (e2[:k] * FR[:k] + e3[:k] * dF[:k]))
+            if zp is not None:
+                Iz += self._zp_integral(reg, s[:k], s[1:k + 1]) - hk * e1[:k] * zp[:k]
+            self._accumulate(reg, Iz @ reg.V.T, h[:k], j, IntT, IntP)
+        self._pending = ([], IntT, IntP)
+        return IntT, IntP
 
     def _accumulate(self, reg, IH, h, j0, IntT, IntP):
         """Add integrals of the state over pieces starting in grid intervals j0, j0+1, ..."""
@@ -519,6 +525,11 @@ class PiecewiseSolver:
     # -- inputs and remainder on a grid ------------------------------------------------------
     def _set_grid(self, grid: np.ndarray) -> None:
         self.grid = grid
+        h = self._h_all = np.diff(grid)
+        brk = np.flatnonzero(np.abs(np.diff(h)) > 1e-12 * h[1:]) + 1
+        starts = np.concatenate([[0], brk])
+        self._h_stretch = h[starts]                    # interval length of each stretch
+        self._sid = np.repeat(np.arange(starts.size), np.diff(np.append(starts, h.size)))
         I = self.I
         if I:
             self._wR = np.column_stack([p._pl(grid[:-1], "right") for p in self.profiles])
@@ -594,7 +605,7 @@ class PiecewiseSolver:
             Hg, IntT, IntP, switches = self.sweep(self.grid, rR, rL, H0)
             self.stats["sweeps"] += 1
             if not nnl:
-                return self.grid, Hg, IntT, IntP, rR, rL, switches
+                return (self.grid, Hg, *self._finish_integrals(), rR, rL, switches)
             Tg = self._temperatures(Hg)
             if not (np.all(np.isfinite(Tg)) and Tg.min(initial=0.0) > -273.15):
                 raise NotSuitable("the trajectory left the physical range")
@@ -611,7 +622,7 @@ class PiecewiseSolver:
             self.history.append((self.grid.size, res))
             if res <= self.tol:
                 if self._refine_where(nR, nL) is None:
-                    return self.grid, Hg, IntT, IntP, rR, rL, switches
+                    return (self.grid, Hg, *self._finish_integrals(), rR, rL, switches)
                 grid_ok = False
             if res > 0.7 * res_prev:         # Anderson mixing stalls or lost its way: restart
                 mixer = _Anderson(5)

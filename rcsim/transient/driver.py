@@ -265,12 +265,24 @@ def _time_constants_or_none(asm, t_end: float, network):
     from ..errors import RcsimError
     from ..nonlinear import linearised, steady_newton
 
+    # a pure function of the assembled network, the end time and the thermostats: kept on the
+    # assembly, so repeated runs of one network do not solve the same steady state again
+    thermostats = list(network.thermostats.values())
+    key = (float(t_end), tuple((t.name, t.node, t.sensor, t.mode, t.setpoint, t.band, t.power,
+                                t.control) for t in thermostats))
+    cache = asm.__dict__.setdefault("_tau_cache", {})
+    if key in cache:
+        return cache[key]
     try:
         u = asm.boundary_values(t_end)
-        T = steady_newton(asm, u, asm.source_values(t_end), list(network.thermostats.values()))
-        return modal_decomposition(linearised(asm, T, u)).time_constants
+        T = steady_newton(asm, u, asm.source_values(t_end), thermostats)
+        tau = modal_decomposition(linearised(asm, T, u)).time_constants
     except (RcsimError, np.linalg.LinAlgError, ValueError):
-        return None
+        tau = None
+    if len(cache) > 16:
+        cache.clear()
+    cache[key] = tau
+    return tau
 
 
 def _run_exact(asm, t_out, T0, mode, overrides, recorder, out_nodes, boundary_links, progress,

@@ -739,9 +739,11 @@ def _scan(e0, starts, G, z0):
     bounds = np.append(starts, m)
     z = z0
     for a, b in zip(bounds[:-1].tolist(), bounds[1:].tolist()):
-        if b - a == 1:
-            z = e0[a] * z + G[a]
-            out[a] = z
+        if b - a <= 12:  # short stretches (refined spots): step by step is cheaper
+            decay = e0[a]
+            for i in range(a, b):
+                z = decay * z + G[i]
+                out[i] = z
         else:
             out[a:b] = linear_recurrence(np.ascontiguousarray(e0[a]), G[a:b], z)
             z = out[b - 1]

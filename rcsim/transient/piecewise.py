@@ -46,6 +46,8 @@ PIECEWISE_ELEMENTS = 6_000_000
 MAX_SWEEPS = 60
 #: Grid refinements before giving up.
 MAX_REFINEMENTS = 8
+#: Longest run (grid intervals advanced in one closed-form pass).
+MAX_RUN = 8192
 #: Events per sweep before giving up (a chattering model belongs to the stiff path).
 MAX_EVENTS = 50_000
 
@@ -328,15 +330,19 @@ class PiecewiseSolver:
         hints = np.searchsorted(grid, self._event_hints) if self._event_hints.size else None
         hit_times = []
         pending = []
+        chunk = 1024 if hints is None else MAX_RUN
         events = 0
         while j < J:
             reg = self._regime(tuple(state))
             self.stats["runs"] += 1
-            j_end = J
+            # a run is as long as events allow: it grows while none come, shrinks when they do
+            # (the work after an event is thrown away), and ends a little past the next event
+            # of the previous sweep
+            j_end = min(J, j + chunk)
             if hints is not None:
                 nxt = hints[hints > j]
                 if nxt.size:
-                    j_end = min(J, int(nxt[0]) + 4)
+                    j_end = min(j_end, int(nxt[0]) + 4)
             s = np.concatenate([[t_c], grid[j + 1:j_end + 1]])
             m = s.size - 1
             h = np.diff(s)
@@ -372,7 +378,9 @@ class PiecewiseSolver:
                 Hg[j + 1:j + k + 1] = Hs[:k]
             if k == m:
                 t_c, H_c, j = float(grid[j_end]), Hs[-1].copy(), j_end
+                chunk = min(MAX_RUN, 2 * chunk)
                 continue
+            chunk = max(64, 4 * (k + 1))
             # locate the first event inside interval k of this run
             zk = z0 if k == 0 else Z[k - 1]
             t_hit, which = self._locate(reg, s[k], h[k], zk, FR[k], dF[k], vals[k])

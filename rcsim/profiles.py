@@ -699,7 +699,14 @@ def _parse_times(col, name, label, start, time_unit) -> _TimeParse:
     numeric = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
     if np.isfinite(numeric).all():
         factor = to_si(f"1 {time_unit}", "time", "time_unit")
-        return _TimeParse(numeric * factor, False)
+        with np.errstate(over="ignore"):
+            seconds = numeric * factor
+        if not np.isfinite(seconds).all():  # e.g. 1e306 min: a number, but not a time
+            i = int(np.argmax(~np.isfinite(seconds)))
+            raise DataError(f"time column {name!r} line {i + 2} is too large to be a time "
+                            f"({text.iloc[i]!r} {time_unit})", label,
+                            "check the column's unit and values")
+        return _TimeParse(seconds, False)
     if np.isfinite(numeric[0]):  # the first row decides: seconds, or timestamps
         i = int(np.argmax(~np.isfinite(numeric)))
         raise DataError(f"time column {name!r} line {i + 2} is not a number ({text.iloc[i]!r})",

@@ -482,6 +482,7 @@ resistance = "1 K/W"
     ("time,block\n0,20\n", "at least two rows"),
     ("time,room\n0,20\n60,20\n", "no column is matched to a node"),
     ("time,block\n0,20\nyesterday,21\n", "line 3"),
+    ("t [min],block\n0,20\n3e306,21\n", "time column 't [min]' line 3 is too large"),
 ])
 def test_bad_logs(write, text, expected):
     path = write("log.csv", text)

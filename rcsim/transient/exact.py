@@ -47,7 +47,7 @@ def phi_functions(x):
     x = np.asarray(x, dtype=float)
     e0 = np.exp(-x)
     small = np.abs(x) < _SERIES_BELOW
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         e1 = np.where(small, 0.0, -np.expm1(-x) / x)
         e2 = np.where(small, 0.0, (1.0 - e1) / x)
         e3 = np.where(small, 0.0, (0.5 - e2) / x)

@@ -3,7 +3,9 @@
 A *log* is a table: a time column (seconds, or ISO-8601 timestamps) and temperature columns.
 Columns named like a node (or mapped to one) are *measured*: the model is fitted to them. Columns
 named like a boundary (or mapped to one) *drive* the model: the boundary follows the log (linear
-between samples) instead of its profile in the scenario. The model starts at the log's first row.
+between samples) instead of its profile in the scenario. The model starts at the log's first row;
+with ``simulation.start`` and a log with timestamps, the scenario's own profiles are read from
+(first timestamp - start) on (:class:`rcsim.profiles.Shifted`).
 
 Any numeric value of the scenario can be *freed* by its key path (``nodes.block.capacity``,
 ``links.skin.resistance``, ``links.wall.parts[1].conduction.thickness``, ``nodes.block.initial``,
@@ -50,7 +52,7 @@ import pandas as pd
 
 from .errors import DataError, InputError, RcsimWarning, ScenarioError, SolverError
 from .materials import suggest
-from .profiles import Constant, Table, read_time_series
+from .profiles import Constant, Shifted, Table, read_time_series
 from .scenario import Scenario, load, loads, parse_key_path, quantity_kind
 from .units import KINDS, to_si, ureg
 
@@ -107,6 +109,9 @@ class Log:
         Spans without a value longer than ``max_gap``: column, from [s], to [s], length [s], line.
     max_gap : float
         The limit used [s].
+    first_time : float
+        The first row's time as written, in seconds, when the time column holds numbers (0.0
+        for timestamps).
     """
 
     time: np.ndarray
@@ -119,6 +124,7 @@ class Log:
     lines: np.ndarray
     gaps: pd.DataFrame
     max_gap: float
+    first_time: float = 0.0
 
 
 def _strip_unit(name: str) -> tuple[str, str | None]:
@@ -233,7 +239,8 @@ def read_log(source, nodes, boundaries, *, columns=None, ignore=(), time=None, t
             raise InputError(f"max_gap must be positive, got {max_gap!r}", "max_gap")
     gaps = _find_gaps(t, values, gap_limit, lines)
     start_time = origin if is_dt else None
-    return Log(t, values, targets, measured, inputs, start_time, label, lines, gaps, gap_limit)
+    return Log(t, values, targets, measured, inputs, start_time, label, lines, gaps, gap_limit,
+               0.0 if is_dt else float(t_raw[0]))
 
 
 def _from_csv(path, time, time_unit, label, columns, names, start):
@@ -481,6 +488,45 @@ def _fit_kind(tokens) -> str | None:
 # ============================================================================================
 # the model
 # ============================================================================================
+def _log_offset(sc: Scenario, log: Log, varies: bool = True) -> float:
+    """Where the log's first row lies on the scenario's clock [s after its t = 0].
+
+    Without ``simulation.start`` the scenario's t = 0 is the log's first row (0.0). With a start,
+    a log with timestamps begins (first timestamp - start) after it; a log with numeric times
+    must begin at 0 (then both readings of its numbers agree). When nothing of the scenario
+    varies in time (``varies`` False) the placement does not matter and is 0.0.
+
+    Raises
+    ------
+    ScenarioError
+        A log that begins before the start, numeric log times that do not begin at 0, or
+        timestamps and start that disagree on time zones (one has a UTC offset, the other not).
+    """
+    start = sc.settings.start
+    if start is None or not varies:
+        return 0.0
+    where = f"{sc.name}: simulation.start"
+    if log.start_time is None:
+        if log.first_time == 0.0:
+            return 0.0
+        raise ScenarioError(f"the times of {log.name} are numbers starting at "
+                            f"{log.first_time:g} s, which cannot be placed against the start "
+                            f"{start}", where, "give the log ISO-8601 timestamps, or let its "
+                            "times start at 0, meaning the start")
+    origin = pd.Timestamp(start)
+    if (origin.tzinfo is None) != (log.start_time.tzinfo is None):
+        raise ScenarioError(f"the start {start} and the timestamps of {log.name} disagree on "
+                            "time zones (one has a UTC offset, the other not)", where,
+                            "give both with or both without a UTC offset")
+    offset = (log.start_time - origin).total_seconds()
+    if offset < 0:
+        raise ScenarioError(f"{log.name} begins at {log.start_time}, before the start {start} "
+                            "where the scenario's profiles begin", where,
+                            "set simulation.start at or before the log's first time, or leave "
+                            "out the earlier rows")
+    return float(offset)
+
+
 class _Model:
     """Model temperatures at the log's times, as a function of the free values (SI)."""
 
@@ -502,11 +548,11 @@ class _Model:
             b = log.targets[c]
             self.tables[b] = Table(self.t[ok], vals[ok], outside="hold").bind(
                 "temperature", f"{log.name}: column {c!r}")
-        for nm, prof in zip(asm.boundary_names, asm.boundary_profiles):
-            if nm not in self.tables:
-                prof.check_span(0.0, float(self.t[-1]))
-        for prof in asm.source_profiles:
-            prof.check_span(0.0, float(self.t[-1]))
+        own = [p for nm, p in zip(asm.boundary_names, asm.boundary_profiles)
+               if nm not in self.tables] + list(asm.source_profiles)
+        self.offset = _log_offset(sc, log, varies=any(not p.is_constant for p in own))
+        for prof in own:
+            prof.check_span(self.offset, self.offset + float(self.t[-1]))
         nonlinear = not asm.is_linear or bool(getattr(net, "thermostats", None))
         n_states = state_space(asm).n
         if solver not in ("auto", "exact", "piecewise", "stiff"):
@@ -530,6 +576,10 @@ class _Model:
         self.n_decompositions = 0
 
     # -- building blocks ---------------------------------------------------------------------
+    def _shift(self, prof):
+        """A scenario profile read on the log's clock (t = 0 at the log's first row)."""
+        return Shifted(prof, self.offset) if self.offset else prof
+
     def _rebuild_values(self, values):
         return {p.key: v for p, v in zip(self.params, values) if p.tier == "rebuild"}
 
@@ -581,9 +631,9 @@ class _Model:
         from .transient.initial import given_temperatures
 
         net, asm0 = self._structure(values)
-        bprof = [self.tables.get(nm, p) for nm, p in zip(asm0.boundary_names,
-                                                          asm0.boundary_profiles)]
-        sprof = list(asm0.source_profiles)
+        bprof = [self.tables[nm] if nm in self.tables else self._shift(p)
+                 for nm, p in zip(asm0.boundary_names, asm0.boundary_profiles)]
+        sprof = [self._shift(p) for p in asm0.source_profiles]
         overrides = {}
         for p, v in zip(self.params, values):
             if p.tier == "initial":
@@ -630,6 +680,11 @@ class _Model:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
             sc = self.sc.with_values(subst)
+            if self.offset:  # the scenario's own profiles, read on the log's clock
+                for item in [b for b in sc.network.boundaries.values()
+                             if b.name not in self.tables] + list(sc.network.sources.values()):
+                    item.profile = self._shift(item.profile)
+                sc.network._changed()
             res = sc.network.simulate(float(self.t[-1]), float(self.t[-1]), times=self.t,
                                       record=sorted(set(self.measured_nodes)),
                                       initial=sc.settings.initial,
@@ -856,7 +911,8 @@ def fit(scenario, data, free, *, columns=None, ignore=(), bounds=None, sigma=Non
     Raises
     ------
     InputError
-        Bad scenario, log, key path or bound (the message names the file, key, column or line).
+        Bad scenario, log, key path or bound (the message names the file, key, column or line);
+        a log that cannot be placed against ``simulation.start`` (see :func:`_log_offset`).
     """
     wall0 = _time.perf_counter()
     sc = scenario if isinstance(scenario, Scenario) else load(scenario)

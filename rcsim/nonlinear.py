@@ -212,11 +212,13 @@ class Thermostat:
         """Switching function of the on/off law (None for proportional control)."""
         if self.control != "on-off":
             return None
-        T = float(Tm[self._sensor_idx])
-        half = 0.5 * self.band
-        if self.mode == "heat":
-            return T - (self.setpoint + half) if self.on else T - (self.setpoint - half)
-        return T - (self.setpoint - half) if self.on else T - (self.setpoint + half)
+        return float(Tm[self._sensor_idx]) - self.threshold()
+
+    def threshold(self) -> float:
+        """Sensed temperature [degC] at which the on/off law switches next: the top of the band
+        for a heater that is on or a cooler that is off, the bottom otherwise."""
+        rising = self.on == (self.mode == "heat")
+        return self.setpoint + (0.5 if rising else -0.5) * self.band
 
     def switch(self, t: float, Tm) -> None:
         self.on = not self.on

@@ -62,6 +62,9 @@ def test_map_and_ignore(cli, write):
 
 def test_fit_bad_input_is_one_line_exit_2(cli, write, tmp_path):
     bad = write("bad.csv", "time,block,room\n0,20,20\n60,abc,20\n")
+    with open(BLOCK, encoding="utf-8") as fh:  # the log begins at 08:00, an hour before
+        dated = write("dated.toml", fh.read().replace(
+            "[simulation]\n", "[simulation]\nstart = 2026-03-02T09:00:00\n"))
     cases = [
         (["fit", BLOCK, bad, *FREE], "column 'block' line 3 is not a number ('abc')"),
         (["fit", BLOCK, LOG], "nothing to fit"),
@@ -70,6 +73,7 @@ def test_fit_bad_input_is_one_line_exit_2(cli, write, tmp_path):
         (["fit", BLOCK, LOG, *FREE, "--map", "nocolumn"], "COLUMN=NAME"),
         (["fit", BLOCK, LOG, *FREE, "--max-gap", "10 kg"], "expected a time"),
         (["fit", BLOCK, tmp_path / "none.csv", *FREE], "file not found"),
+        (["fit", dated, LOG, *FREE], "simulation.start: fit-block-log.csv begins at"),
     ]
     for args, expected in cases:
         r = cli(*args)

@@ -482,6 +482,7 @@ resistance = "1 K/W"
     ("time,block\n0,20\n", "at least two rows"),
     ("time,room\n0,20\n60,20\n", "no column is matched to a node"),
     ("time,block\n0,20\nyesterday,21\n", "line 3"),
+    ("t [min],block\n0,20\n3e306,21\n", "time column 't [min]' line 3 is too large"),
 ])
 def test_bad_logs(write, text, expected):
     path = write("log.csv", text)
@@ -538,6 +539,67 @@ def test_time_in_minutes_from_the_header_and_timestamps(write):
     np.testing.assert_array_equal(ra.time, [0.0, 60.0, 120.0, 180.0, 240.0])
     np.testing.assert_array_equal(rb.time, ra.time)
     assert rb.start_time == pd.Timestamp("2026-01-01T10:00:00")
+
+
+DATED_BLOCK = """
+[simulation]
+start = 2026-07-01T00:00:00
+[nodes.block]
+capacity = "1 kJ/K"
+initial = "20 degC"
+[boundaries.yard]
+temperature = { sine = { mean = "18 degC", amplitude = "8 K", period = "24 h", peak = "15 h" } }
+[links.skin]
+between = ["block", "yard"]
+resistance = "2 K/W"
+"""
+
+
+@pytest.mark.parametrize("solver", ["auto", "stiff"])
+def test_log_is_placed_on_the_scenario_clock_by_its_timestamps(write, solver):
+    # The yard follows the scenario's sine, warmest at 15:00 after simulation.start; the log
+    # begins at 09:30 that day, so the model must read the sine from 9.5 h on. The logged block
+    # is the analytic solution of the first-order RC ODE C dT/dt = (T_yard(t) - T)/R:
+    #   T(t) = m + A cos(w (t - peak) - phi)/sqrt(1 + (w tau)^2) + (T0 - that at t0) e^-(t-t0)/tau
+    # with tau = R C and phi = atan(w tau) (t on the scenario clock, t0 = 9.5 h). Read from the
+    # log's first row instead, the sine is 9.5 h out of phase and the capacity comes out wrong.
+    C, R, T0, m, A, peak = 2500.0, 2.0, 14.0, 18.0, 8.0, 15 * 3600.0
+    w, tau, t0 = 2 * math.pi / 86400.0, R * C, 9.5 * 3600.0
+    t = t0 + np.arange(0.0, 12 * 3600.0 + 1.0, 300.0)
+
+    def periodic(tt):
+        return m + A * np.cos(w * (tt - peak) - math.atan(w * tau)) / math.sqrt(1 + (w * tau) ** 2)
+
+    T = periodic(t) + (T0 - periodic(t0)) * np.exp(-(t - t0) / tau)
+    stamps = pd.Timestamp("2026-07-01T00:00:00") + pd.to_timedelta(t, unit="s")
+    log = write("log.csv", "time,block\n" + "".join(
+        f"{s.isoformat()},{v:.10f}\n" for s, v in zip(stamps, T)))
+    res = quiet_fit(rcsim.loads(DATED_BLOCK), log, ["nodes.block.capacity",
+                                                    "nodes.block.initial"], solver=solver)
+    tol = 1e-6 if solver == "auto" else 1e-4   # the stiff path runs at rtol 1e-7
+    assert res.estimates.loc["nodes.block.capacity", "value"] == pytest.approx(C, rel=tol)
+    assert res.estimates.loc["nodes.block.initial", "value"] == pytest.approx(T0, abs=100 * tol)
+
+
+@pytest.mark.parametrize("start, rows, expected", [
+    # the log begins at 23:00 the day before the start
+    ("2026-07-01T00:00:00", ["2026-06-30T23:00:00,20", "2026-06-30T23:05:00,20.1"],
+     "begins at 2026-06-30 23:00:00, before the start 2026-07-01 00:00:00"),
+    # numbers that do not begin at 0: seconds since the start, or since the first row?
+    ("2026-07-01T00:00:00", ["600,20", "900,20.1"], "numbers starting at 600 s"),
+    ("2026-07-01T00:00:00+02:00", ["2026-07-01T09:00:00,20", "2026-07-01T09:05:00,20.1"],
+     "disagree on time zones"),
+])
+def test_log_that_cannot_be_placed_against_the_start(write, start, rows, expected):
+    text = DATED_BLOCK.replace("start = 2026-07-01T00:00:00", f"start = {start}")
+    log = write("log.csv", "time,block\n" + "\n".join(rows) + "\n")
+    with pytest.raises(ScenarioError) as err:
+        rcsim.fit(rcsim.loads(text), log, ["nodes.block.capacity"])
+    assert expected in str(err.value) and "simulation.start" in str(err.value)
+    # with only constant inputs the placement does not matter
+    steady = text.replace(text[text.index("temperature = {"):text.index("[links")],
+                          'temperature = "20 degC"\n')
+    assert quiet_fit(rcsim.loads(steady), log, ["nodes.block.capacity"], starts=1).n_points == 2
 
 
 def test_constant_source_power_and_its_constant_form():

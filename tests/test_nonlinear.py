@@ -272,6 +272,69 @@ def test_on_off_heater_cycles_between_thresholds():
     assert res.energy_balance < 1e-6
 
 
+def _newton_cooling_switches(C, R, P, mean, amplitude, period, peak, lo, hi, T0, on, t_end):
+    """Switching instants of an on/off heater on one node behind R from a sinusoidal ambient.
+
+    Between switches the node obeys C dT/dt = (T_a(t) - T)/R + P*on, a first-order linear ODE
+    (Newton's law of cooling with a sinusoidal ambient) whose closed-form solution is the periodic
+    part mean + P*R*on + amplitude*cos(w(t - peak) - phi)/sqrt(1 + (w*tau)^2), phi = atan(w*tau),
+    plus (T0 - that part at t0)*exp(-(t - t0)/tau). Each switch is the first crossing of the
+    threshold by that closed form, found on a 1 s grid (the shortest dip here lasts minutes) and
+    refined with brentq. Returns the switch times and the time on.
+    """
+    tau, w = R * C, 2 * math.pi / period
+
+    def periodic(t, on):
+        return mean + P * R * on + amplitude * np.cos(w * (t - peak) - math.atan(w * tau)) / (
+            math.sqrt(1 + (w * tau) ** 2))
+
+    t0, times, on_time = 0.0, [], 0.0
+    while True:
+        thr = hi if on else lo
+
+        def g(t, t0=t0, T0=T0, on=on, thr=thr):
+            return periodic(t, on) + (T0 - periodic(t0, on)) * np.exp(-(t - t0) / tau) - thr
+
+        grid = np.arange(t0, t_end, 1.0)
+        cross = np.flatnonzero(np.sign(g(grid[1:])) != np.sign(g(grid[:-1])))
+        t1 = brentq(g, grid[cross[0]], grid[cross[0] + 1], xtol=1e-9) if cross.size else t_end
+        on_time += (t1 - t0) * on
+        if not cross.size:
+            return np.asarray(times), on_time
+        times.append(t1)
+        t0, T0, on = t1, thr, not on
+
+
+def test_on_off_heater_sees_a_dip_through_its_threshold_within_one_step():
+    # A frost heater in a vented outdoor cabinet (tau = R C = 1000 s) under a daily sine. The
+    # outdoor mean is set so that the cabinet's own periodic swing dips 1 mK below the switch-on
+    # threshold for a few minutes in the coldest hour: the heater must come on each night, though
+    # a solver step spans the whole dip and the sensed temperature is above the threshold at both
+    # its ends. Expected switches and time on: the closed form above (Newton's law of cooling).
+    C, R, P = 5e4, 0.02, 200.0
+    amplitude, period, peak = 6.0, 86400.0, 15 * 3600.0
+    setpoint, band = 2.5, 0.2
+    lo, hi = setpoint - band / 2, setpoint + band / 2
+    w, tau = 2 * math.pi / period, R * C
+    swing = amplitude / math.sqrt(1 + (w * tau) ** 2)     # periodic amplitude of the node
+    mean = lo - 1e-3 + swing
+    T0 = mean + swing * math.cos(w * (0.0 - peak) - math.atan(w * tau))   # on its periodic curve
+    net = rcsim.Network()
+    net.add_node("cabinet", capacity=C, initial=T0)
+    net.add_boundary("outdoor", temperature=rcsim.Sine(mean=mean, amplitude=amplitude,
+                                                       period=period, peak=peak))
+    net.add_link("cabinet", "outdoor", resistance=R)
+    net.add_thermostat("frost", "cabinet", setpoint=setpoint, band=band, power=P)
+    res = net.simulate("3 d", "10 min", solver="stiff")
+    times, on_time = _newton_cooling_switches(C, R, P, mean, amplitude, period, peak, lo, hi, T0,
+                                              False, 3 * 86400.0)
+    assert times.size == 6          # on and off once a night (the reference, not rcsim)
+    row = res.thermostats.iloc[0]
+    assert row["switches"] == times.size
+    assert row["on_time [s]"] == pytest.approx(on_time, rel=1e-4)
+    assert res.energy_balance < 1e-6
+
+
 def test_proportional_cooler_steady_state():
     # proportional cooler: P(T) = Pmax (T - (sp - band/2))/band inside the band; with a heat load
     # Q and ambient through R the steady state solves Q + (Tinf - T)/R = P(T): a linear equation

@@ -147,6 +147,23 @@ def _random_network(n=20, seed=3):
     return net
 
 
+def test_phi_functions_of_tiny_and_ordinary_arguments_together():
+    # a mode so slow that lambda*h is subnormal (a layer 1e153 m thick did it) next to an
+    # ordinary one: 0.5/x overflowed in the branch the series replaces. Expected: the limits
+    # E1, E2, E3 -> 1, 1/2, 1/6 as x -> 0 (Taylor series of (1 - e^-x)/x etc.) and the closed
+    # forms E1 = (1 - e^-x)/x, E2 = (1 - E1)/x, E3 = (1/2 - E2)/x at x = 2, evaluated with math.
+    from rcsim.transient.exact import phi_functions
+
+    e0, e1, e2, e3 = phi_functions(np.array([1e-310, 2.0]))
+    c1 = (1 - math.exp(-2.0)) / 2.0
+    c2 = (1 - c1) / 2.0
+    c3 = (0.5 - c2) / 2.0
+    assert e0 == pytest.approx([1.0, math.exp(-2.0)], rel=1e-15)
+    assert e1 == pytest.approx([1.0, c1], rel=1e-14)
+    assert e2 == pytest.approx([0.5, c2], rel=1e-14)
+    assert e3 == pytest.approx([1 / 6, c3], rel=1e-13)
+
+
 def test_exact_path_matches_lsim_to_1e9():
     # scipy.signal.lsim with interp=True (first-order hold: inputs linear between samples) on the
     # same state-space matrices. The boundary step at 36000 s falls on a sample; lsim sees it as a

@@ -52,7 +52,7 @@ def phi_functions(x):
         e3 = _series3(x)
         e2 = 0.5 - x * e3
         return e0, 1.0 - x * e2, e2, e3
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         e1 = -np.expm1(-x) / x
         e2 = (1.0 - e1) / x
         e3 = (0.5 - e2) / x

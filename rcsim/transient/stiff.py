@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import numpy as np
 import scipy.sparse as sp
+from numpy.polynomial import chebyshev as cheb
 from scipy.integrate import BDF
 from scipy.optimize import brentq
 
@@ -253,6 +254,7 @@ def run_stiff(model: StiffModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol:
     k_next = 1
     t = float(t_out[0])
     stats = {"steps": 0, "restarts": 0, "events": 0, "nlu": 0}
+    switching = _Switching(model)
 
     def flush():
         nonlocal buf_t, buf_y
@@ -269,7 +271,6 @@ def run_stiff(model: StiffModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol:
                 raise SolverError(f"the stiff solver could not start: {exc}", time=t) from None
             stats["restarts"] += 1
             restarted = False
-            g_old = [c.event_value(t, model.temperatures(y[:model.n])[0]) for c in model.controllers]
             while solver.status == "running":
                 message = solver.step()
                 if solver.status == "failed":
@@ -280,23 +281,8 @@ def run_stiff(model: StiffModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol:
                 stats["steps"] += 1
                 t_old, t_new = solver.t_old, solver.t
                 dense = solver.dense_output()
-                # switching events of controllers (thermostats)
-                t_hit = None
-                if model.controllers:
-                    Tn = model.temperatures(solver.y[:model.n])[0]
-                    g_new = [c.event_value(t_new, Tn) for c in model.controllers]
-                    for ci, (ga, gb) in enumerate(zip(g_old, g_new)):
-                        if ga is None or gb is None or np.sign(ga) == np.sign(gb) or gb == 0.0 and ga == 0.0:
-                            continue
-                        ctl = model.controllers[ci]
-
-                        def f(tt, ctl=ctl):
-                            return ctl.event_value(tt, model.temperatures(dense(tt)[:model.n])[0])
-
-                        root = brentq(f, t_old, t_new, xtol=1e-9 * max(1.0, abs(t_new)))
-                        if t_hit is None or root < t_hit[0]:
-                            t_hit = (root, ci)
-                    g_old = g_new
+                # switching events of on/off thermostats, along the whole step
+                t_hit = switching.first(dense, t_old, t_new) if switching else None
                 t_limit = t_hit[0] if t_hit is not None else t_new
                 k2 = k_next
                 while k2 < t_out.size and t_out[k2] <= t_limit:
@@ -324,6 +310,86 @@ def run_stiff(model: StiffModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol:
                 y = solver.y.copy()
     flush()
     return stats
+
+
+# Six Chebyshev points on [-1, 1]: the dense output of a BDF step is a polynomial of degree at
+# most 5 (the method's highest order), so its values there give that polynomial exactly.
+_CHEB_POINTS = np.cos(np.pi * (np.arange(6) + 0.5) / 6)
+_TO_CHEB = np.linalg.inv(cheb.chebvander(_CHEB_POINTS, 5))
+_DERIVATIVE = cheb.chebder(np.eye(6))          # Chebyshev series -> series of its derivative
+
+
+class _Switching:
+    """Finds the earliest switching of an on/off thermostat inside a solver step.
+
+    Within a step the solver's solution is its dense output, a polynomial in t. Between two
+    consecutive extrema of the sensed node's energy that polynomial is monotone, and so is the
+    sensed temperature (T(H) never decreases). Checking the sign of the switching function at the
+    step ends *and* at those extrema therefore finds every crossing of the threshold, also a dip
+    through it and back within one step that the two ends alone do not show. The root is then
+    located in the first bracket with a change of sign.
+
+    Cheap bounds come first: with the sensed energy written as a Chebyshev series
+    c_0 + sum c_k T_k(s) on the step (|T_k| <= 1), it stays within c_0 -+ sum |c_k|, and a step
+    whose bound does not reach the threshold needs nothing more; a step whose slope series keeps
+    its sign the same way is monotone, and its two ends decide.
+    """
+
+    def __init__(self, model: StiffModel):
+        self.model = model
+        self.on_off = [ci for ci, c in enumerate(model.controllers) if c.control == "on-off"]
+        self.rows = np.asarray([model.controllers[ci]._sensor_idx for ci in self.on_off],
+                               dtype=np.int64)
+        self.cap = model.C[self.rows] if self.rows.size else np.zeros(0)
+        self.phase = {r: model.phase[int(i)] for r, i in enumerate(self.rows)
+                      if int(i) in model.phase}
+
+    def __bool__(self) -> bool:
+        return bool(self.on_off)
+
+    def _temperature(self, H: np.ndarray) -> np.ndarray:
+        """Sensed temperatures [degC] from energies, one per on/off thermostat."""
+        T = H / self.cap
+        for r, pc in self.phase.items():
+            T[r] = pc.temperature_array(H[r])
+        return T
+
+    def first(self, dense, t_old: float, t_new: float):
+        """(time, controller index) of the earliest switching in [t_old, t_new], or None."""
+        mid, half = 0.5 * (t_new + t_old), 0.5 * (t_new - t_old)
+        coef = dense(mid + half * _CHEB_POINTS)[self.rows] @ _TO_CHEB.T   # a series per sensor
+        reach = np.abs(coef[:, 1:]).sum(axis=1)
+        thresholds = np.asarray([self.model.controllers[ci].threshold() for ci in self.on_off])
+        near = ((self._temperature(coef[:, 0] - reach) <= thresholds)
+                & (thresholds <= self._temperature(coef[:, 0] + reach)))
+        if not near.any():
+            return None
+        xtol = 1e-9 * max(1.0, abs(t_new))
+        hit = None
+        for r in np.flatnonzero(near):
+            c_r, thr, pc = coef[r], thresholds[r], self.phase.get(r)
+
+            def g(s, c_r=c_r, r=r, thr=thr, pc=pc):
+                h = cheb.chebval(s, c_r)
+                return (h / self.cap[r] if pc is None else pc.temperature_array(h)) - thr
+
+            d_r = _DERIVATIVE @ c_r
+            if abs(d_r[0]) > np.abs(d_r[1:]).sum():   # the slope keeps its sign: monotone
+                s = np.array([-1.0, 1.0])
+            else:
+                crit = cheb.chebroots(d_r)
+                crit = crit.real[(np.abs(crit.imag) < 1e-6) & (np.abs(crit.real) < 1.0)]
+                s = np.concatenate([[-1.0], np.sort(crit), [1.0]])
+            sign = np.sign(g(s))
+            change = np.flatnonzero((sign[1:] != sign[:-1]) & ((sign[1:] != 0) | (sign[:-1] != 0)))
+            if not change.size:
+                continue
+            a, b = s[change[0]], s[change[0] + 1]
+            root = brentq(lambda tt, g=g: float(g((tt - mid) / half)), mid + half * a,
+                          mid + half * b, xtol=xtol)
+            if hit is None or root < hit[0]:
+                hit = (root, self.on_off[r])
+        return hit
 
 
 def _worst_node(model, solver):

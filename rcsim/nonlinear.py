@@ -181,6 +181,15 @@ class Thermostat:
             self.on = T < self.setpoint
         else:
             self.on = T > self.setpoint
+        # a state given with ``initially`` that the band already contradicts (a heater on above
+        # its cut-out, off below its cut-in; a cooler the other way round) switches at once
+        half = 0.5 * self.band
+        if self.on and (T >= self.setpoint + half if self.mode == "heat"
+                        else T <= self.setpoint - half):
+            self.on = False
+        elif not self.on and (T <= self.setpoint - half if self.mode == "heat"
+                              else T >= self.setpoint + half):
+            self.on = True
         self._log_t = [t0]
         self._log_on = [self.on]
 

@@ -169,3 +169,23 @@ def test_piecewise_on_request_refuses_what_it_cannot_take():
     res = net.simulate("1 h", "10 min")          # auto falls back and says why
     assert res.meta["solver"].startswith("stiff")
     assert "states" in res.meta["stats"]["piecewise_declined"]
+
+
+@pytest.mark.parametrize("solver", ["piecewise", "stiff"])
+def test_a_heater_started_on_above_its_cut_out_switches_off(solver):
+    # a room at 25 degC with a heater set to 20 degC +- 0.5 K, told to start "on": a thermostat
+    # above its cut-out is off, so the room cools freely: T = Tinf + (T0 - Tinf) exp(-t/RC)
+    # (Newton's law of cooling) until it falls to the cut-in at 19.5 degC
+    C, R, Tinf, T0 = 2e5, 0.05, 5.0, 25.0
+    net = rcsim.Network()
+    net.add_node("room", capacity=C, initial=T0)
+    net.add_boundary("out", temperature=Tinf)
+    net.add_link("room", "out", resistance=R)
+    net.add_thermostat("heater", "room", setpoint="20 degC", band="1 K", power="900 W",
+                       initially="on")
+    res = net.simulate("4 h", "1 min", solver=solver)
+    t = res.time
+    free = t < R * C * math.log((T0 - Tinf) / (19.5 - Tinf))      # before the first cut-in
+    expected = Tinf + (T0 - Tinf) * np.exp(-t[free] / (R * C))
+    assert np.abs(res.temperatures["room"].to_numpy()[free] - expected).max() < 1e-4
+    assert res.temperatures["room"].max() <= T0 + 1e-9

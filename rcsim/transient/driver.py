@@ -5,10 +5,12 @@ from __future__ import annotations
 import datetime as _dt
 import math
 import time as _time
+import warnings
 
 import numpy as np
 
-from ..errors import InputError, Interrupted, NetworkError, ProfileError, SolverError
+from ..errors import (InputError, Interrupted, NetworkError, ProfileError, RcsimWarning,
+                      SolverError)
 from ..limits import ExcursionTracker
 from ..materials import suggest
 from ..modes import DENSE_LIMIT
@@ -275,7 +277,9 @@ def _time_constants_or_none(asm, t_end: float, network):
         return cache[key]
     try:
         u = asm.boundary_values(t_end)
-        T = steady_newton(asm, u, asm.source_values(t_end), thermostats)
+        with warnings.catch_warnings():  # on/off thermostats are left off here; no news
+            warnings.simplefilter("ignore", RcsimWarning)
+            T = steady_newton(asm, u, asm.source_values(t_end), thermostats)
         tau = modal_decomposition(linearised(asm, T, u)).time_constants
     except (RcsimError, np.linalg.LinAlgError, ValueError):
         tau = None

@@ -331,6 +331,9 @@ class PiecewiseSolver:
         hit_times = []
         pending = []
         chunk = 1024 if hints is None else MAX_RUN
+        # with nonlinear links every sweep pays for every event, and each switch puts a kink in
+        # the links' flows that the grid must resolve: many switches make the stiff path cheaper
+        event_budget = max(200, J // 100) if self.n_nl else MAX_EVENTS
         events = 0
         while j < J:
             reg = self._regime(tuple(state))
@@ -404,8 +407,11 @@ class PiecewiseSolver:
                     switches[pos - npcm].append(t_hit)
                 events += 1
             hit_times.append(t_hit)
-            if events > MAX_EVENTS:
-                raise NotSuitable(f"more than {MAX_EVENTS} events")
+            if events > event_budget:
+                raise NotSuitable(f"more than {event_budget} events in a sweep (frequent switching "
+                                  "with radiation or film links: each switch bends the links' "
+                                  "flows, and the stiff path steps to each switch anyway)"
+                                  if self.n_nl else f"more than {event_budget} events")
             if t_c >= grid[j + 1]:  # the event sits on the grid point itself
                 Hg[j + 1] = H_c
                 j += 1

@@ -8,12 +8,14 @@ import os
 
 import numpy as np
 import pytest
+from hypothesis import HealthCheck, given, settings
 from scipy.integrate import solve_ivp
 from scipy.optimize import brentq
 
 import rcsim
 
 from shipper_by_hand import hand_written_box
+from test_invariants import networks
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 SHIPPER = os.path.join(HERE, "..", "scenarios", "cold-box.toml")
@@ -189,3 +191,30 @@ def test_a_heater_started_on_above_its_cut_out_switches_off(solver):
     expected = Tinf + (T0 - Tinf) * np.exp(-t[free] / (R * C))
     assert np.abs(res.temperatures["room"].to_numpy()[free] - expected).max() < 1e-4
     assert res.temperatures["room"].max() <= T0 + 1e-9
+
+
+@settings(max_examples=40, deadline=None,
+          suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
+@given(networks(nonlinear=True))
+def test_random_nonlinear_networks_agree_with_scipy_bdf(net):
+    # random networks with radiation links, steps and sines: the piecewise path against scipy's
+    # BDF integrating the same equations at rtol 1e-9 (the stiff path), on every node
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", rcsim.errors.LumpedWarning)
+        try:
+            res = net.simulate("6 h", "15 min")
+        except rcsim.errors.NetworkError as err:
+            assert "nonlinear" in str(err)   # radiation next to a massless node: refused
+            return
+        ref = net.simulate("6 h", "15 min", solver="stiff", rtol=1e-9, atol=1e-9)
+    if res.meta["solver"].startswith("exact"):
+        return                               # the draw holds no radiation link
+    if not res.meta["solver"].startswith("piecewise"):
+        assert res.meta["stats"]["piecewise_declined"]
+        return
+    T, T_ref = res.temperatures.to_numpy(), ref.temperatures.to_numpy()
+    scale = 1.0 + np.abs(T_ref).max()
+    assert np.abs(T - T_ref).max() <= 2e-5 * scale
+    assert res.energy_balance < 1e-9

@@ -247,17 +247,19 @@ def test_melting_range_from_material_table():
 
 
 # -- thermostats ------------------------------------------------------------------------------
-def test_on_off_heater_cycles_between_thresholds():
+@pytest.mark.parametrize("solver", ["auto", "stiff"])
+def test_on_off_heater_cycles_between_thresholds(solver):
     # single node with a heater P and ambient Tinf: between the thresholds lo and hi the heating
     # and cooling phases are exponential; t_on = tau ln((Tinf + PR - lo)/(Tinf + PR - hi)),
-    # t_off = tau ln((hi - Tinf)/(lo - Tinf)) (Newton cooling with a source)
+    # t_off = tau ln((hi - Tinf)/(lo - Tinf)) (Newton cooling with a source); the number of
+    # switches is twice the span over the cycle
     C, R, P, Tinf = 2e5, 0.05, 900.0, 5.0
     net = rcsim.Network()
     net.add_node("room", capacity=C, initial=19.0)
     net.add_boundary("out", temperature=Tinf)
     net.add_link("room", "out", resistance=R)
     net.add_thermostat("heater", "room", setpoint="20 degC", band="1 K", power="900 W")
-    res = net.simulate("2 d", "1 min")
+    res = net.simulate("2 d", "1 min", solver=solver)
     tau, lo, hi = R * C, 19.5, 20.5
     t_on = tau * math.log((Tinf + P * R - lo) / (Tinf + P * R - hi))
     t_off = tau * math.log((hi - Tinf) / (lo - Tinf))
@@ -266,6 +268,7 @@ def test_on_off_heater_cycles_between_thresholds():
     assert T[settled].max() <= hi + 1e-6 and T[settled].min() >= lo - 1e-6
     row = res.thermostats.iloc[0]
     assert row["duty"] == pytest.approx(t_on / (t_on + t_off), abs=0.01)
+    assert row["switches"] == pytest.approx(2 * 2 * 86400 / (t_on + t_off), abs=3.0)
     # energy used = P x time on, and it is the source term of the energy balance
     assert row["energy [J]"] == pytest.approx(P * row["on_time [s]"], rel=1e-6)
     assert res.energy["source:heater"].iloc[-1] == pytest.approx(row["energy [J]"], rel=1e-9)

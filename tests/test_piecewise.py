@@ -106,31 +106,6 @@ def test_ice_melting_on_both_paths(solver):
     assert res.energy_balance < 1e-8
 
 
-@pytest.mark.parametrize("solver", ["piecewise", "stiff"])
-def test_on_off_heater_period_on_both_paths(solver):
-    # one node, heater P, ambient Tinf through R (Newton cooling with a source): between the
-    # thresholds lo and hi, t_on = tau ln((Tinf + PR - lo)/(Tinf + PR - hi)) and
-    # t_off = tau ln((hi - Tinf)/(lo - Tinf)); the number of switches over a settled span is the
-    # span over the cycle, twice
-    C, R, P, Tinf = 2e5, 0.05, 900.0, 5.0
-    net = rcsim.Network()
-    net.add_node("room", capacity=C, initial=20.0)
-    net.add_boundary("out", temperature=Tinf)
-    net.add_link("room", "out", resistance=R)
-    net.add_thermostat("heater", "room", setpoint="20 degC", band="1 K", power="900 W")
-    res = net.simulate("3 d", "1 min", solver=solver)
-    tau, lo, hi = R * C, 19.5, 20.5
-    t_on = tau * math.log((Tinf + P * R - lo) / (Tinf + P * R - hi))
-    t_off = tau * math.log((hi - Tinf) / (lo - Tinf))
-    row = res.thermostats.iloc[0]
-    assert row["duty"] == pytest.approx(t_on / (t_on + t_off), abs=0.005)
-    assert row["switches"] == pytest.approx(2 * 3 * 86400 / (t_on + t_off), abs=2.0)
-    T = res.temperatures["room"].to_numpy()
-    assert T.max() <= hi + 1e-6 and T.min() >= lo - 1e-6
-    assert res.energy["source:heater"].iloc[-1] == pytest.approx(P * row["on_time [s]"], rel=1e-6)
-    assert res.energy_balance < 1e-6
-
-
 def test_proportional_heater_sensing_another_node():
     # a heater in a tank controlled by the temperature of a pipe fed from it: in the band
     # P = Pmax (sp + band/2 - Tpipe)/band; the steady state solves three linear equations

@@ -126,19 +126,16 @@ class PiecewiseSolver:
         if seg is not None:
             an, bn, ia, ib = seg.a_is_node, seg.b_is_node, seg.a_idx, seg.b_idx
             for k in range(self.n_nl):
-                gk = self.g[k]
-                if an[k]:
-                    Kp[ia[k], ia[k]] += gk
-                    if bn[k]:
-                        Kp[ia[k], ib[k]] -= gk
-                    else:
-                        Ep[ia[k], ib[k]] += gk
-                if bn[k]:
-                    Kp[ib[k], ib[k]] += gk
-                    if an[k]:
-                        Kp[ib[k], ia[k]] -= gk
-                    else:
-                        Ep[ib[k], ia[k]] += gk
+                # the conductance g between the ends: into K' where an end is a node, into E'
+                # (as an input column) where the other end is a boundary
+                for this_node, i, other_node, o in ((an[k], ia[k], bn[k], ib[k]),
+                                                    (bn[k], ib[k], an[k], ia[k])):
+                    if this_node:
+                        Kp[i, i] += self.g[k]
+                        if other_node:
+                            Kp[i, o] -= self.g[k]
+                        else:
+                            Ep[i, o] += self.g[k]
         self.Kp, self.Ep = Kp, Ep
         self._regimes: dict = {}
         try:
@@ -800,7 +797,8 @@ def run_piecewise_network(network, asm, t_out, T0, mode, recorder, out_nodes, bo
     Raises :class:`NotSuitable` before anything is recorded when the path cannot take it.
     """
     from ..nonlinear import build_terms
-    from .stiff import OutputMap, StiffModel, chunk_from_states, periodic_start, thermostat_table
+    from .stiff import (OutputMap, StiffModel, chunk_from_states, extras_of, periodic_start,
+                        thermostat_table)
 
     terms, phase, controllers = build_terms(network, asm, thermostats)
     model = StiffModel(asm, terms, phase, controllers)
@@ -848,15 +846,7 @@ def run_piecewise_network(network, asm, t_out, T0, mode, recorder, out_nodes, bo
     H0_sum = float(H0.sum())
     out_map = OutputMap(model, np.asarray(out_nodes))
 
-    def extras_fn(t, Tm, Yr):
-        ex = {}
-        if model.phase:
-            ex["liquid_fraction"] = np.column_stack(
-                [model.phase[i].liquid_fraction_array(Yr[:, i]) for i in model._phase_idx])
-        if model.controllers:
-            ex["thermostat_power"] = np.column_stack(
-                [c.power_history(t, Tm) for c in model.controllers])
-        return ex
+    extras_fn = extras_of(model)
 
     step = 20_000
     for k0 in range(0, rows.size, step):

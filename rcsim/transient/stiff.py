@@ -443,6 +443,22 @@ def chunk_from_states(model: StiffModel, t: np.ndarray, Y: np.ndarray, H0_sum: f
                  e_stored=H.sum(axis=1) - H0_sum, extras=extras)
 
 
+def extras_of(model: StiffModel):
+    """The function giving a chunk's extra histories: liquid fractions and thermostat powers."""
+
+    def extras_fn(t, Tm, Y):
+        ex = {}
+        if model.phase:
+            ex["liquid_fraction"] = np.column_stack(
+                [model.phase[i].liquid_fraction_array(Y[:, i]) for i in model._phase_idx])
+        if model.controllers:
+            ex["thermostat_power"] = np.column_stack(
+                [c.power_history(t, Tm) for c in model.controllers])
+        return ex
+
+    return extras_fn
+
+
 def run_stiff_network(network, asm, t_out, T0, mode, recorder, out_nodes, boundary_links, rtol,
                       atol, progress, thermostats=()) -> dict:
     """Build the stiff model of ``network`` (nonlinear terms included) and run it."""
@@ -458,15 +474,7 @@ def run_stiff_network(network, asm, t_out, T0, mode, recorder, out_nodes, bounda
     H0_sum = float(model.energy_of(Tm0).sum())
     out_map = OutputMap(model, np.asarray(out_nodes))
 
-    def extras_fn(t, Tm, Y):
-        ex = {}
-        if model.phase:
-            ex["liquid_fraction"] = np.column_stack(
-                [model.phase[i].liquid_fraction_array(Y[:, i]) for i in model._phase_idx])
-        if model.controllers:
-            ex["thermostat_power"] = np.column_stack(
-                [c.power_history(t, Tm) for c in model.controllers])
-        return ex
+    extras_fn = extras_of(model)
 
     for c in model.controllers:
         c.reset(0.0, Tm0)

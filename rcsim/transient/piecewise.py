@@ -380,7 +380,7 @@ class PiecewiseSolver:
                 t_c, H_c, j = float(grid[j_end]), Hs[-1].copy(), j_end
                 chunk = min(MAX_RUN, 2 * chunk)
                 continue
-            chunk = max(64, 4 * (k + 1))
+            chunk = MAX_RUN if hints is not None else max(64, 4 * (k + 1))
             # locate the first event inside interval k of this run
             zk = z0 if k == 0 else Z[k - 1]
             t_hit, which = self._locate(reg, s[k], h[k], zk, FR[k], dF[k], vals[k])

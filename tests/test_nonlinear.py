@@ -308,12 +308,15 @@ def _newton_cooling_switches(C, R, P, mean, amplitude, period, peak, lo, hi, T0,
         t0, T0, on = t1, thr, not on
 
 
-def test_on_off_heater_sees_a_dip_through_its_threshold_within_one_step():
+@pytest.mark.parametrize("solver, step", [("stiff", "10 min"), ("piecewise", "10 min"),
+                                          ("piecewise", "1 h")])
+def test_on_off_heater_sees_a_dip_through_its_threshold_within_one_step(solver, step):
     # A frost heater in a vented outdoor cabinet (tau = R C = 1000 s) under a daily sine. The
     # outdoor mean is set so that the cabinet's own periodic swing dips 1 mK below the switch-on
     # threshold for a few minutes in the coldest hour: the heater must come on each night, though
     # a solver step spans the whole dip and the sensed temperature is above the threshold at both
-    # its ends. Expected switches and time on: the closed form above (Newton's law of cooling).
+    # its ends (a solver step, or a grid interval of the piecewise path). Expected switches and
+    # time on: the closed form above (Newton's law of cooling).
     C, R, P = 5e4, 0.02, 200.0
     amplitude, period, peak = 6.0, 86400.0, 15 * 3600.0
     setpoint, band = 2.5, 0.2
@@ -328,7 +331,7 @@ def test_on_off_heater_sees_a_dip_through_its_threshold_within_one_step():
                                                        period=period, peak=peak))
     net.add_link("cabinet", "outdoor", resistance=R)
     net.add_thermostat("frost", "cabinet", setpoint=setpoint, band=band, power=P)
-    res = net.simulate("3 d", "10 min", solver="stiff")
+    res = net.simulate("3 d", step, solver=solver)
     times, on_time = _newton_cooling_switches(C, R, P, mean, amplitude, period, peak, lo, hi, T0,
                                               False, 3 * 86400.0)
     assert times.size == 6          # on and off once a night (the reference, not rcsim)

@@ -59,7 +59,7 @@ class NotSuitable(Exception):
 class _Regime:
     """Modal form of the network in one regime (fixed pack states and thermostat states)."""
 
-    __slots__ = ("key", "lam", "V", "Vi", "a", "b", "cm", "Ein", "Nm", "cz", "Cev", "dev",
+    __slots__ = ("key", "lam", "V", "Vi", "a", "b", "cm", "Ein", "Nm", "cz", "Cev", "CevV", "dev",
                  "ev_owner", "p_const", "p_lin", "phi_cache")
 
 
@@ -276,6 +276,7 @@ class PiecewiseSolver:
         reg.cz = [(amp * np.exp(1j * ph) * reg.Ein[:, i] / (lam + 1j * om), om)
                   for i, amp, om, ph in self.sines]
         reg.Cev = np.asarray(rows).reshape(-1, n)
+        reg.CevV = reg.Cev @ V
         reg.dev = np.asarray(ds, dtype=float)
         reg.ev_owner = owner
         reg.p_const, reg.p_lin = p_const, p_lin
@@ -286,12 +287,17 @@ class PiecewiseSolver:
 
     # -- closed forms ------------------------------------------------------------------------
     @staticmethod
-    def _zp(reg: _Regime, t: np.ndarray) -> np.ndarray:
-        """Particular (periodic) modal response to the sine inputs at times t: (len(t), n)."""
+    def _zp(reg: _Regime, t: np.ndarray, with_rate: bool = False):
+        """Particular (periodic) modal response to the sine inputs at times t: (len(t), n), and
+        its time derivative when ``with_rate``."""
         out = np.zeros((t.size, reg.lam.size))
+        rate = np.zeros_like(out) if with_rate else None
         for cz, om in reg.cz:
-            out += (np.exp(1j * om * t)[:, None] * cz[None, :]).imag
-        return out
+            ph = np.exp(1j * om * t)[:, None]
+            out += (ph * cz[None, :]).imag
+            if with_rate:
+                rate += (ph * (1j * om * cz)[None, :]).imag
+        return (out, rate) if with_rate else out
 
     @staticmethod
     def _zp_integral(reg: _Regime, t0: np.ndarray, t1: np.ndarray) -> np.ndarray:
@@ -356,7 +362,12 @@ class PiecewiseSolver:
             FL = wL[j:j_end] @ reg.Ein.T + rL[j:j_end] @ reg.Nm.T + reg.cm
             dF = FL - FR
             starts, (e0, e1, e2, e3) = self._phi_rows(reg, j, j_end, h)
-            zp = self._zp(reg, s) if reg.cz else None
+            zp = dzp = None
+            if reg.cz:
+                if reg.dev.size:
+                    zp, dzp = self._zp(reg, s, with_rate=True)
+                else:
+                    zp = self._zp(reg, s)
             G = h[:, None] * (e1 * FR + e2 * dF)
             if zp is not None:
                 G += zp[1:] - e0 * zp[:-1]
@@ -364,11 +375,16 @@ class PiecewiseSolver:
             Z = _scan(e0, starts, G, z0)
             Hs = Z @ reg.V.T
             fired_at = m
+            dips = None
             if reg.dev.size:
                 vals = Hs @ reg.Cev.T + reg.dev
                 hit = np.flatnonzero((vals > 0.0).any(axis=1))
                 if hit.size:
                     fired_at = int(hit[0])
+                # a function may also rise above zero and fall back between two grid points
+                dips = self._dips(reg, s, h, z0, Z, FR, FL, zp, dzp, vals, min(fired_at, m - 1))
+                if dips is not None and dips[0] < fired_at:
+                    fired_at = dips[0]
             # accept the intervals before the event
             k = fired_at
             zprev = np.vstack([z0[None, :], Z[:k]])[:k] if k else np.empty((0, n))
@@ -383,7 +399,8 @@ class PiecewiseSolver:
             chunk = MAX_RUN if hints is not None else max(64, 4 * (k + 1))
             # locate the first event inside interval k of this run
             zk = z0 if k == 0 else Z[k - 1]
-            t_hit, which = self._locate(reg, s[k], h[k], zk, FR[k], dF[k], vals[k])
+            t_hit, which = self._locate(reg, s[k], h[k], zk, FR[k], dF[k], vals[k],
+                                        dips[1] if dips is not None and dips[0] == k else None)
             tau = t_hit - s[k]
             Iz, z_hit = self._partial(reg, s[k], tau, h[k], zk, FR[k], dF[k])
             self._accumulate(reg, (Iz @ reg.V.T)[None, :], np.array([tau]), j + k, IntT, IntP)
@@ -493,20 +510,68 @@ class PiecewiseSolver:
                 - tau * e1 * zp[0]
         return Iz, z
 
-    def _locate(self, reg, t0, h, z0, FR, dF, vals_end):
-        """Earliest time in (t0, t0 + h] where an event function turns positive.
+    def _dips(self, reg, s, h, z0, Z, FR, FL, zp, dzp, vals, upto):
+        """The first interval (index <= ``upto``) in which an event function that is not positive
+        at either end rises above zero in between, with {event: time of its peak estimate}; or
+        None.
 
-        The time returned lies just past the crossing (within 1e-5 of the interval), on
+        Candidates are humps: the function climbs at the interval's start and falls at its end
+        (derivatives from the closed form), and the two end tangents meet above zero (an upper
+        bound of a concave hump). Each is then checked on 32 points and at that meeting point.
+        """
+        if upto < 0:
+            return None
+        lam, CV, dev = reg.lam, reg.CevV, reg.dev
+        zs = np.vstack([z0[None, :], Z[:upto + 1]])              # states at s[0..upto+1]
+        d_start = -lam * zs[:-1] + FR[:upto + 1]
+        d_end = -lam * zs[1:] + FL[:upto + 1]
+        if zp is not None:
+            fp = dzp[:upto + 2] + lam * zp[:upto + 2]             # modal sine forcing
+            d_start += fp[:-1]
+            d_end += fp[1:]
+        v1 = vals[:upto + 1]
+        v0 = np.vstack([(CV @ z0 + dev)[None, :], vals[:upto]])
+        g0 = d_start @ CV.T
+        g1 = d_end @ CV.T
+        cand = (v0 < 0.0) & (v1 <= 0.0) & (g0 > 0.0) & (g1 < 0.0)
+        if not cand.any():
+            return None
+        hh = h[:upto + 1, None]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            tx = np.clip((v1 - v0 - g1 * hh) / (g0 - g1), 0.0, hh)
+        cand &= v0 + g0 * tx > 0.0
+        for i in np.flatnonzero(cand.any(axis=1)):
+            found = {}
+            for e in np.flatnonzero(cand[i]):
+                taus = np.union1d(h[i] * np.arange(1, 33) / 32.0, [tx[i, e]])
+                st = self._state_at(reg, s[i], taus, h[i], zs[i], FR[i], FL[i] - FR[i])
+                if np.any(st @ CV[e] + dev[e] > 0.0):
+                    found[int(e)] = float(tx[i, e])
+            if found:
+                return int(i), found
+        return None
+
+    def _locate(self, reg, t0, h, z0, FR, dF, vals_end, dips=None):
+        """Earliest time in (t0, t0 + h] where an event function turns positive (those positive
+        at the end, and those of ``dips`` that rise above zero and fall back inside).
+
+        The time returned lies just past the crossing (within 1e-6 of the interval), on
         the side where the function is positive, so the new regime starts strictly inside.
         """
-        xtol = 1e-5 * max(1.0, h)
+        xtol = 1e-6 * max(1.0, h)
         fired = np.flatnonzero(vals_end > 0.0)
-        rows = reg.Cev[fired] @ reg.V
+        probe = np.full(fired.size, np.nan)
+        if dips:
+            fired = np.concatenate([fired, list(dips)]).astype(np.int64)
+            probe = np.concatenate([probe, list(dips.values())])
+        rows = reg.CevV[fired]
         f0 = rows @ z0 + reg.dev[fired]
         if (f0 > 0.0).any():  # already past at the start (rounding): switch at once
             return t0 + min(h, xtol), int(fired[int(np.argmax(f0))])
-        # most likely first: the crossing of the straight line between the interval's ends
-        guess = f0 / (f0 - vals_end[fired])
+        # most likely first: the crossing of the straight line between the interval's ends (or
+        # the peak of a hump)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            guess = np.where(np.isnan(probe), f0 / (f0 - vals_end[fired]), probe / h)
         best_t, best_e = None, None
         for k in np.argsort(guess):
             row, d = rows[k], reg.dev[fired[k]]
@@ -519,12 +584,15 @@ class PiecewiseSolver:
                 hi = best_t - t0 - xtol
                 if hi <= 0.0 or f(hi) <= 0.0:
                     continue   # not earlier than the best so far by more than the tolerance
-            # bracket on 32 points at once, then Brent's method inside the bracket
+            # bracket on 32 points at once (and the peak of a hump), then regula falsi in it
             taus = hi * np.arange(1, 33) / 32.0
+            if not np.isnan(probe[k]) and probe[k] < hi:
+                taus = np.union1d(taus, [probe[k]])
             vals = self._state_at(reg, t0, taus, h, z0, FR, dF) @ row + d
             i = int(np.argmax(vals > 0.0))
-            if vals[i] > 0.0:
-                lo, hi = (taus[i - 1] if i else 0.0), taus[i]
+            if vals[i] <= 0.0:
+                continue       # a hump that stays below zero up to the best time so far
+            lo, hi = (taus[i - 1] if i else 0.0), taus[i]
             root = _root_in_bracket(f, lo, hi, float(vals[i - 1]) if i else float(f0[k]),
                                     float(vals[i]), 0.25 * xtol)
             t_hi = min(hi, root + 0.5 * xtol)

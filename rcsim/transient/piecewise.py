@@ -114,6 +114,7 @@ class PiecewiseSolver:
         self._base_grid = np.union1d(self.t_out, allk) if allk.size else self.t_out.copy()
         self.history: list = []          # (grid points, residual [K]) per sweep
         self._event_hints = np.empty(0)  # event times of the last sweep
+        self._kinks = np.empty(0)        # grid points placed at events
         self.stats = {"sweeps": 0, "regimes": 0, "events": 0, "refinements": 0, "runs": 0}
         self._set_reference(np.zeros(self.n_nl))
 
@@ -330,7 +331,8 @@ class PiecewiseSolver:
         npcm = len(self.pcm)
         # runs end a little past where the previous sweep met its events: later samples would be
         # recomputed after the event anyway
-        hints = np.searchsorted(grid, self._event_hints) if self._event_hints.size else None
+        hints = np.unique(np.searchsorted(grid, self._event_hints)) if self._event_hints.size \
+            else None
         hit_times = []
         pending = []
         chunk = 1024 if hints is None else MAX_RUN
@@ -346,7 +348,7 @@ class PiecewiseSolver:
             # of the previous sweep
             j_end = min(J, j + chunk)
             if hints is not None:
-                nxt = hints[hints > j]
+                nxt = hints[hints > j + 1]
                 if nxt.size:
                     j_end = min(j_end, int(nxt[0]) + 4)
             s = np.concatenate([[t_c], grid[j + 1:j_end + 1]])
@@ -522,33 +524,41 @@ class PiecewiseSolver:
         if upto < 0:
             return None
         lam, CV, dev = reg.lam, reg.CevV, reg.dev
-        zs = np.vstack([z0[None, :], Z[:upto + 1]])              # states at s[0..upto+1]
-        d_start = -lam * zs[:-1] + FR[:upto + 1]
-        d_end = -lam * zs[1:] + FL[:upto + 1]
-        if zp is not None:
-            fp = dzp[:upto + 2] + lam * zp[:upto + 2]             # modal sine forcing
-            d_start += fp[:-1]
-            d_end += fp[1:]
         v1 = vals[:upto + 1]
         v0 = np.vstack([(CV @ z0 + dev)[None, :], vals[:upto]])
+        # only intervals whose ends lie within twice the largest step of the function from zero
+        # can hold a hump above it
+        reach = 2.0 * np.abs(v1 - v0).max(axis=0)
+        near = np.flatnonzero((np.maximum(v0, v1) > -reach).any(axis=1))
+        if near.size == 0:
+            return None
+        zs = np.vstack([z0[None, :], Z[:upto + 1]])              # states at s[0..upto+1]
+        d_start = -lam * zs[near] + FR[near]
+        d_end = -lam * zs[near + 1] + FL[near]
+        if zp is not None:
+            fp = dzp + lam * zp                                   # modal sine forcing
+            d_start += fp[near]
+            d_end += fp[near + 1]
+        v0, v1 = v0[near], v1[near]
         g0 = d_start @ CV.T
         g1 = d_end @ CV.T
         cand = (v0 < 0.0) & (v1 <= 0.0) & (g0 > 0.0) & (g1 < 0.0)
         if not cand.any():
             return None
-        hh = h[:upto + 1, None]
+        hh = h[near, None]
         with np.errstate(divide="ignore", invalid="ignore"):
             tx = np.clip((v1 - v0 - g1 * hh) / (g0 - g1), 0.0, hh)
         cand &= v0 + g0 * tx > 0.0
-        for i in np.flatnonzero(cand.any(axis=1)):
+        for r in np.flatnonzero(cand.any(axis=1)):
+            i = int(near[r])
             found = {}
-            for e in np.flatnonzero(cand[i]):
-                taus = np.union1d(h[i] * np.arange(1, 33) / 32.0, [tx[i, e]])
+            for e in np.flatnonzero(cand[r]):
+                taus = np.union1d(h[i] * np.arange(1, 33) / 32.0, [tx[r, e]])
                 st = self._state_at(reg, s[i], taus, h[i], zs[i], FR[i], FL[i] - FR[i])
                 if np.any(st @ CV[e] + dev[e] > 0.0):
-                    found[int(e)] = float(tx[i, e])
+                    found[int(e)] = float(tx[r, e])
             if found:
-                return int(i), found
+                return i, found
         return None
 
     def _locate(self, reg, t0, h, z0, FR, dF, vals_end, dips=None):
@@ -736,7 +746,17 @@ class PiecewiseSolver:
         h = np.diff(old)
         idx = np.flatnonzero(pieces > 1)
         new_pts = [old[j] + h[j] * np.arange(1, pieces[j]) / pieces[j] for j in idx]
-        new_grid = np.union1d(old, np.concatenate(new_pts))
+        # the last sweep's events become grid points too: the links' flows bend sharply there
+        # (a pack starts melting, a heater switches), which linear pieces then follow
+        ev = self._event_hints
+        ev = ev[(ev > old[0]) & (ev < old[-1])]
+        if ev.size:
+            pos = np.searchsorted(old, ev)
+            gap = np.minimum(ev - old[pos - 1], old[pos] - ev)
+            ev = ev[gap > 1e-3 * h[pos - 1]]
+            self._kinks = np.union1d(self._kinks, ev)
+            new_pts.append(ev)
+        new_grid = np.union1d(old, np.concatenate(new_pts)) if new_pts else old
         if new_grid.size * max(1, self.n) > PIECEWISE_ELEMENTS:
             raise NotSuitable("the grid the nonlinear links need is too fine")
         # each new interval lies inside one old interval: interpolate its end values there
@@ -767,6 +787,8 @@ class PiecewiseSolver:
         # curvature from consecutive slopes where the remainder is continuous
         slope = (rL - rR) / h[:, None]
         cont = np.abs(rR[1:] - rL[:-1]) <= 1e-12 * (1.0 + np.abs(rR[1:]))
+        if self._kinks.size:   # event points: the flows may bend there, linear on each side
+            cont[np.isin(self.grid[1:-1], self._kinks)] = False
         d2 = np.where(cont, np.abs(slope[1:] - slope[:-1]), 0.0) / (0.5 * (h[1:] + h[:-1]))[:, None]
         # interpolation error ~ h^2/8 |r''| on each side of an interior point
         err = np.zeros_like(rR)
@@ -777,7 +799,10 @@ class PiecewiseSolver:
         if worst.max(initial=0.0) <= 1.0:
             return None
         # the error falls as h^2: split each interval enough to meet the tolerance (and then some)
-        return np.where(worst > 1.0, np.clip(np.ceil(1.5 * np.sqrt(worst)), 2, 64), 1).astype(int)
+        # (the much larger errors sit where the flows are not smooth, e.g. a film at a vanishing
+        # temperature difference, and fall more slowly: those get more pieces)
+        n = np.where(worst > 100.0, 1.5 * worst ** 0.75, 1.5 * np.sqrt(worst))
+        return np.where(worst > 1.0, np.clip(np.ceil(n), 2, 128), 1).astype(int)
 
 
 def _root_in_bracket(f, lo, hi, f_lo, f_hi, xtol, max_iter=60):

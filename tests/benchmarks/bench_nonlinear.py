@@ -66,7 +66,7 @@ def own_rhs_fd(net, t_eval, rtol=1e-6, atol=1e-6):
         return solve_ivp(model.rhs, (0.0, t_eval[-1]), y0, method="BDF", t_eval=t_eval,
                          rtol=rtol, atol=atol_v)
 
-    seconds, sol = best_of(1, run)
+    seconds, sol = best_of(3, run)
     pos = list(model.ss.massive).index(list(asm.node_names).index("payload"))
     Tm = np.array([model.temperatures(y[:model.n])[0][pos] for y in sol.y.T])
     return seconds, Tm, sol.status
@@ -90,7 +90,7 @@ def main():
     T_ref = ref.y[0] / c_pay
     h_ref = hold(t, T_ref)
     t_own, T_own, status = own_rhs_fd(sc.network, t)
-    t_hand, sol_hand = best_of(1, lambda: solve_ivp(rhs, (0.0, t[-1]), y_hand, method="BDF",
+    t_hand, sol_hand = best_of(3, lambda: solve_ivp(rhs, (0.0, t[-1]), y_hand, method="BDF",
                                                     t_eval=t, rtol=1e-6, atol=1e-6 * scale))
     T_hand = sol_hand.y[0] / c_pay
     st = res.meta["stats"]

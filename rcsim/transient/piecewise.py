@@ -34,7 +34,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .exact import linear_recurrence, phi_functions
+from .exact import linear_recurrence, linear_recurrence_times, phi_functions
 
 __all__ = ["NotSuitable", "PiecewiseSolver", "run_piecewise_network", "PIECEWISE_STATES"]
 
@@ -374,7 +374,7 @@ class PiecewiseSolver:
             if zp is not None:
                 G += zp[1:] - e0 * zp[:-1]
             z0 = reg.Vi @ H_c
-            Z = _scan(e0, starts, G, z0)
+            Z = _scan(e0, starts, G, z0, reg.lam, s)
             Hs = Z @ reg.V.T
             fired_at = m
             dips = None
@@ -835,10 +835,13 @@ def _root_in_bracket(f, lo, hi, f_lo, f_hi, xtol, max_iter=60):
     return root
 
 
-def _scan(e0, starts, G, z0):
+def _scan(e0, starts, G, z0, lam=None, s=None):
     """States after each interval of ``z[k+1] = e0[k] z[k] + G[k]``, one vectorised recurrence
-    per stretch of equal decay factors."""
+    per stretch of equal decay factors (``e0 = exp(-lam h)``; on a grid of mostly unequal
+    intervals, given ``lam`` and the times ``s``, one recurrence over the whole grid)."""
     m = G.shape[0]
+    if lam is not None and m > 32 and starts.size > m // 4:
+        return linear_recurrence_times(lam, s, G, z0)
     out = np.empty_like(G)
     bounds = np.append(starts, m)
     z = z0

@@ -13,8 +13,7 @@ from scipy.integrate import solve_ivp
 from scipy.optimize import brentq
 
 import rcsim
-
-from shipper_by_hand import hand_written_box
+from shipper_by_hand import hand_written_box   # tests/: an independent statement of the shipper
 from test_invariants import networks
 
 HERE = os.path.dirname(os.path.abspath(__file__))

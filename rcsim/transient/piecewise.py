@@ -9,16 +9,19 @@ the stored energy H of each massive node; in one *regime* the temperatures are a
 
     dH/dt = A H + c + E' w(t) + N r(t),      A = -K' diag(b) (+ a proportional thermostat)
 
-Event functions are affine in H, so crossings are found on the output grid and then located
-inside their interval by a bracketing root search on the closed-form state; the regime changes
-there and integration restarts.
+Event functions are affine in H, so crossings are found on the grid (and, for a function that
+rises above zero and falls back between two grid points, by a hump test on its closed-form
+derivatives) and then located inside their interval by a bracketing root search on the
+closed-form state; the regime changes there and integration restarts.
 
 The smooth nonlinear links (radiation, film correlations) are split into a reference conductance
 g, built into K' and E', and a remainder r = q(T_a, T_b) - g (T_a - T_b). The remainder is taken
 piecewise linear in time between grid points, from the previous trajectory (waveform
-relaxation), and the whole run is repeated until the trajectory stops changing; Anderson
-mixing speeds this fixed-point iteration up. The grid (output times and input knots) is refined
-where the remainder bends too much for linear interpolation. Every sweep over the time axis is
+relaxation), and the whole run is repeated until the remainder a trajectory implies matches the
+one it was computed with (the mismatch, mapped to a temperature through the network's steady
+gain, below the tolerance); Anderson mixing speeds this fixed-point iteration up. The grid
+(output times and input knots) is refined where the remainder bends too much for linear
+interpolation, and takes the events' times as points. Every sweep over the time axis is
 vectorised: a Python loop runs only over regimes and events, never over time steps.
 
 Energy accounting uses the same closed forms: the time integral of the state over each interval
@@ -26,8 +29,9 @@ comes from its own kernel, and the energy through boundary links, sources and th
 from it, so the energy balance closes to rounding whatever the grid.
 
 When the method does not suit a network (complex modes from a proportional thermostat heating one
-node and sensing another, too many states or samples, no convergence) :class:`NotSuitable` is
-raised and the driver falls back to the stiff integrator.
+node and sensing another, too many states or samples, no convergence, frequent switching next to
+nonlinear links) :class:`NotSuitable` is raised and the driver falls back to the stiff
+integrator.
 """
 
 from __future__ import annotations
@@ -73,8 +77,8 @@ class PiecewiseSolver:
     t_out : array
         Output times [s], starting at 0.
     rtol, atol : float
-        Tolerances in the sense of the stiff path: waveform relaxation stops when no temperature
-        changes by more than ``atol + rtol * T_scale`` [K] between sweeps (T_scale the largest
+        Tolerances in the sense of the stiff path: waveform relaxation stops when the remainder
+        mismatch, as a temperature, is below ``atol + rtol * T_scale`` [K] (T_scale the largest
         temperature magnitude of the start and the inputs), and the grid is refined until the
         estimated interpolation error of the nonlinear remainder is below three times that.
     """
@@ -309,12 +313,13 @@ class PiecewiseSolver:
         return out
 
     # -- one sweep over the time axis --------------------------------------------------------
-    def sweep(self, grid, rR, rL, H0, record=False):
+    def sweep(self, grid, rR, rL, H0):
         """Integrate over ``grid`` with the remainder given at the grid points.
 
         ``rR[j]``/``rL[j]`` are the remainder flows (per nonlinear segment) at the start/end of
-        interval j. Returns the states H at the grid points and, per interval, the integrals of
-        the state temperatures and of the thermostat powers.
+        interval j. Returns the states H at the grid points, the arrays that
+        :meth:`_finish_integrals` completes with the integrals of the state temperatures and
+        thermostat powers per interval, and the switching times of each on/off thermostat.
         """
         n = self.n
         J = grid.size - 1
@@ -691,7 +696,7 @@ class PiecewiseSolver:
         for _ in range(MAX_SWEEPS):
             for c, o in zip(self.ctrl, on0):
                 c.on = o
-            Hg, IntT, IntP, switches = self.sweep(self.grid, rR, rL, H0)
+            Hg, _, _, switches = self.sweep(self.grid, rR, rL, H0)   # integrals: see the end
             self.stats["sweeps"] += 1
             if not nnl:
                 return (self.grid, Hg, *self._finish_integrals(), rR, rL, switches)

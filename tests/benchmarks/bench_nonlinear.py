@@ -125,7 +125,8 @@ def main():
     print(f"  -> at equal accuracy (the same model in solve_ivp at rtol = atol = {tol:.0e}: "
           f"{t_eq:.3f}s, max |dT| {err_eq:.1e} K): {t_eq / t_pw:.1f}x")
 
-    text = open(SCENARIO, encoding="utf-8").read()
+    with open(SCENARIO, encoding="utf-8") as fh:
+        text = fh.read()
     old = 'thickness = "50 mm", area = "1.05 m^2" }'
     assert old in text
     sliced = rcsim.scenario.loads(text.replace(old, old[:-2] + ", slices = 10 }"),

@@ -3,6 +3,7 @@ independent integrations and analytic solutions; the same checks on the stiff pa
 
 from __future__ import annotations
 
+import functools
 import math
 import os
 
@@ -192,3 +193,37 @@ def test_random_nonlinear_networks_agree_with_scipy_bdf(net):
     scale = 1.0 + np.abs(T_ref).max()
     assert np.abs(T - T_ref).max() <= 2e-5 * scale
     assert res.energy_balance < 1e-9
+
+
+def _radiating_box():
+    net = rcsim.Network()
+    net.add_node("inside", capacity=4e4, initial=10.0)
+    net.add_node("shell", capacity=5e3, initial=10.0)
+    net.add_boundary("yard", temperature=rcsim.Sine(mean=25.0, amplitude=8.0, period="24 h",
+                                                    peak="15 h"))
+    net.add_link("inside", "shell", resistance=0.5)
+    net.add_link("shell", "yard", parts=[{"radiation": {"emissivity": 0.9, "area": 1.5}}])
+    net.add_link("shell", "yard", name="film", parts=[{"convection": {
+        "correlation": "vertical-plate", "height": "0.6 m", "area": "1.5 m^2"}}])
+    return net
+
+
+@functools.lru_cache(maxsize=None)
+def _radiating_box_last_day():
+    # scipy's BDF (the stiff path) from an arbitrary start for 15 days (the slowest time
+    # constant is near 7 h): the last day is the periodic regime
+    long = _radiating_box().simulate("15 d", "10 min", solver="stiff", rtol=1e-9, atol=1e-9)
+    return long.temperatures.iloc[-145:].to_numpy()
+
+
+@pytest.mark.parametrize("solver", ["auto", "stiff"])
+def test_periodic_start_of_a_network_grounded_only_through_radiation(solver):
+    # a box whose shell reaches its surroundings only by radiation and a correlation film (no
+    # linear path, so no linear steady state to start from), under a daily sine: the periodic
+    # start must give the day that a long integration settles into
+    res = _radiating_box().simulate("24 h", "10 min", initial="periodic", solver=solver)
+    last_day = _radiating_box_last_day()
+    np.testing.assert_allclose(res.temperatures.to_numpy(), last_day, atol=2e-4)
+    # periodic: the day ends where it began
+    T = res.temperatures.to_numpy()
+    assert np.abs(T[-1] - T[0]).max() < 1e-4

@@ -691,7 +691,7 @@ class PiecewiseSolver:
         refreshed = False
         refinements = 0
         grid_ok = False
-        mixer = _Anderson(5)
+        mixer = Anderson(5)
         res = res_prev = np.inf
         for _ in range(MAX_SWEEPS):
             for c, o in zip(self.ctrl, on0):
@@ -719,7 +719,7 @@ class PiecewiseSolver:
                     return (self.grid, Hg, *self._finish_integrals(), rR, rL, switches)
                 grid_ok = False
             if res > 0.7 * res_prev:         # Anderson mixing stalls or lost its way: restart
-                mixer = _Anderson(5)
+                mixer = Anderson(5)
             res_prev = res
             x = np.concatenate([rR.ravel(), rL.ravel()])
             fx = np.concatenate([nR.ravel(), nL.ravel()])
@@ -739,7 +739,7 @@ class PiecewiseSolver:
                     if refinements > MAX_REFINEMENTS:
                         raise NotSuitable("the grid could not be refined enough")
                     rR, rL = self._refine(pieces)(rR, rL)
-                    mixer = _Anderson(5)    # its history does not carry over to new points
+                    mixer = Anderson(5)    # its history does not carry over to new points
                     res_prev = np.inf
         raise NotSuitable(f"no convergence in {MAX_SWEEPS} relaxation sweeps (last residual "
                           f"{res:.2g} K)")
@@ -862,7 +862,7 @@ def _scan(e0, starts, G, z0, lam=None, s=None):
     return out
 
 
-class _Anderson:
+class Anderson:
     """Anderson mixing for the fixed point x = F(x) (type II, small memory)."""
 
     def __init__(self, m: int):
@@ -898,6 +898,7 @@ def run_piecewise_network(network, asm, t_out, T0, mode, recorder, out_nodes, bo
     Raises :class:`NotSuitable` before anything is recorded when the path cannot take it.
     """
     from ..nonlinear import build_terms
+    from ..profiles import common_period
     from .stiff import (OutputMap, StiffModel, chunk_from_states, extras_of, periodic_start,
                         thermostat_table)
 
@@ -906,12 +907,25 @@ def run_piecewise_network(network, asm, t_out, T0, mode, recorder, out_nodes, bo
     ss = model.ss
     solver = PiecewiseSolver(model, t_out, rtol=rtol, atol=atol)
     if mode == "periodic":
-        Tm0 = periodic_start(network, model, asm, rtol, atol)
+        period = common_period(model.profiles, "simulation.initial")
+
+        def period_map(H):
+            one = PiecewiseSolver(model, np.linspace(0.0, period, 289), rtol=0.1 * rtol,
+                                  atol=0.1 * atol)
+            for c in model.controllers:
+                c.reset(0.0, model.temperatures(H)[0])
+            return one.solve(H)[1][-1]
+
+        try:
+            H0 = periodic_start(network, model, asm, rtol, atol, period_map=period_map)
+        except NotSuitable:
+            H0 = periodic_start(network, model, asm, rtol, atol)
+        Tm0 = model.temperatures(H0)[0]
     else:
         Tm0 = T0[ss.massive]
+        H0 = model.energy_of(Tm0)
     for c in model.controllers:
         c.reset(0.0, Tm0)
-    H0 = model.energy_of(Tm0)
     grid, Hg, IntT, IntP, rR, rL, switches = solver.solve(H0)
     for c, sw in zip(model.controllers, switches):
         if c.control == "on-off":

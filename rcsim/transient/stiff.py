@@ -13,13 +13,15 @@ output at the requested times, chunk by chunk.
 
 from __future__ import annotations
 
+import warnings
+
 import numpy as np
 import scipy.sparse as sp
 from numpy.polynomial import chebyshev as cheb
 from scipy.integrate import BDF
 from scipy.optimize import brentq
 
-from ..errors import SolverError
+from ..errors import RcsimError, SolverError
 from ..results import Chunk
 from ..statespace import state_space
 
@@ -237,8 +239,9 @@ class StiffModel:
 
 
 def run_stiff(model: StiffModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol: float,
-              atol: float, progress=None, record_every: int | None = None) -> dict:
-    """Integrate from ``Tm0`` over ``t_out`` and hand chunks of samples to ``emit``.
+              atol: float, progress=None, record_every: int | None = None, H0=None) -> dict:
+    """Integrate from ``Tm0`` (or the stored energies ``H0``, which also say how far a pack at
+    its melting point has melted) over ``t_out`` and hand chunks of samples to ``emit``.
 
     ``emit(t, Y)`` receives consecutive samples (rows of full solver states). Returns solver
     statistics.
@@ -246,7 +249,7 @@ def run_stiff(model: StiffModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol:
     T_end = float(t_out[-1])
     if record_every is None:  # keep the buffer of full states near 40 MB at most
         record_every = int(max(1, min(2000, 5_000_000 // max(1, model.ny))))
-    y = model.y0(Tm0)
+    y = model.y0(Tm0) if H0 is None else np.concatenate([H0, np.zeros(model.ny - model.n)])
     atol_vec = np.concatenate([atol * model.C,
                                np.full(model.ny - model.n, atol * float(model.C.sum()))])
     stops = np.union1d(jump_times(model.profiles, 0.0, T_end), [T_end])
@@ -468,10 +471,12 @@ def run_stiff_network(network, asm, t_out, T0, mode, recorder, out_nodes, bounda
     model = StiffModel(asm, terms, phase, controllers)
     ss = model.ss
     if mode == "periodic":
-        Tm0 = periodic_start(network, model, asm, rtol, atol)
+        H0 = periodic_start(network, model, asm, rtol, atol)
+        Tm0 = model.temperatures(H0)[0]
     else:
         Tm0 = T0[ss.massive]
-    H0_sum = float(model.energy_of(Tm0).sum())
+        H0 = model.energy_of(Tm0)
+    H0_sum = float(H0.sum())
     out_map = OutputMap(model, np.asarray(out_nodes))
 
     extras_fn = extras_of(model)
@@ -482,7 +487,7 @@ def run_stiff_network(network, asm, t_out, T0, mode, recorder, out_nodes, bounda
     def emit(t, Y):
         recorder.add(chunk_from_states(model, t, Y, H0_sum, out_map, extras_fn))
 
-    stats = run_stiff(model, t_out, Tm0, emit, rtol, atol, progress)
+    stats = run_stiff(model, t_out, Tm0, emit, rtol, atol, progress, H0=H0)
     stats.update(model.stats)
     if model.controllers:
         recorder.tables["thermostats"] = thermostat_table(model.controllers, t_out, recorder)
@@ -511,47 +516,66 @@ def thermostat_table(controllers, t_out, recorder):
 
 
 def periodic_start(network, model: StiffModel, asm, rtol, atol, max_periods: int = 200,
-                   tol: float = 1e-6) -> np.ndarray:
-    """State at t = 0 of the periodic regime, by repeating one period until it repeats itself.
+                   tol: float = 1e-6, period_map=None) -> np.ndarray:
+    """Stored energies H at t = 0 of the periodic regime: the fixed point of the period map
+    (integrate one period from H), found with Anderson mixing from the steady state under the
+    period-mean inputs. ``period_map(H) -> H`` defaults to the stiff integrator.
 
-    A linear network uses the exact modal solution instead.
+    A linear network uses the exact modal solution instead; constant inputs the steady state.
     """
     from ..modes import DENSE_LIMIT
+    from ..nonlinear import steady_newton
     from ..profiles import common_period
     from .exact import ExactPropagator
+    from .piecewise import Anderson
 
     period = common_period(model.profiles, "simulation.initial")
     ss = model.ss
     if not model.terms and not model.phase and not model.controllers and ss.n <= DENSE_LIMIT:
         prop = ExactPropagator(asm)
         z0, _ = prop.periodic_state(period if period > 0 else 1.0, None)
-        return prop.V @ z0
+        return model.energy_of(prop.V @ z0)
     if period == 0.0:
-        from ..nonlinear import steady_newton
-
-        return steady_newton(asm, asm.boundary_values(0.0), asm.source_values(0.0))[ss.massive]
-    # start from the steady state of the period-mean inputs when it exists
+        return model.energy_of(steady_newton(asm, asm.boundary_values(0.0),
+                                             asm.source_values(0.0))[ss.massive])
+    # start: the steady state under the inputs averaged over one period (Newton: radiation and
+    # films included; a network grounded only through them has no linear steady state)
+    tt = np.linspace(0.0, period, 96, endpoint=False)
+    w = np.column_stack([p.value(tt) for p in model.profiles]).mean(axis=0)
     try:
-        from ..steady import steady_temperatures
-
-        Tm = steady_temperatures(asm, asm.boundary_values(0.0), asm.source_values(0.0))[ss.massive]
-    except Exception:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            Tm = steady_newton(asm, w[:model.M], w[model.M:])[ss.massive]
+    except (RcsimError, np.linalg.LinAlgError, ValueError):
         Tm = np.nan_to_num(asm.initial[ss.massive], nan=20.0)
-    t = np.array([0.0, period])
-    for k in range(max_periods):
-        last = {}
+    if period_map is None:
+        t = np.array([0.0, period])
 
-        def emit(tt, Y, last=last):
-            last["y"] = Y[-1]
+        def period_map(H):
+            last = {}
 
-        for c in model.controllers:
-            c.reset(0.0, Tm)
-        run_stiff(model, t, Tm, emit, rtol * 0.1, atol * 0.1)
-        Tn, _ = model.temperatures(last["y"][:model.n])
-        change = float(np.max(np.abs(Tn - Tm)))
-        Tm = Tn
+            def emit(tt, Y, last=last):
+                last["y"] = Y[-1]
+
+            for c in model.controllers:
+                c.reset(0.0, model.temperatures(H)[0])
+            run_stiff(model, t, None, emit, rtol * 0.1, atol * 0.1, H0=H)
+            return last["y"][:model.n]
+
+    H = model.energy_of(Tm)
+    mixer = Anderson(min(model.n, 8))
+    change = np.inf
+    for _ in range(max_periods):
+        Hn = period_map(H)
+        Tn = model.temperatures(Hn)[0]
+        change = float(np.max(np.abs(Tn - model.temperatures(H)[0])))
         if change < max(tol, 10 * atol):
-            return Tm
+            return Hn
+        H_next = mixer.step(H, Hn)
+        if not np.all(np.isfinite(H_next)):
+            mixer = Anderson(min(model.n, 8))
+            H_next = Hn
+        H = H_next
     raise SolverError(f"no periodic regime after {max_periods} periods (last change "
                       f"{change:.3g} K per period)", time=period * max_periods,
                       hint="start from given temperatures and simulate longer")

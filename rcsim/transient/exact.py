@@ -76,6 +76,27 @@ def _series3(x):
     return out
 
 
+_FACTORS: dict = {}
+
+
+def _block_factors(a: np.ndarray, L: int):
+    """Powers a^0..a^L and the lower-triangular Toeplitz blocks of a^(m-j), kept for reuse: the
+    same decay factors recur run after run (one interval length, one set of modes)."""
+    key = (a.tobytes(), L)
+    out = _FACTORS.get(key)
+    if out is None:
+        powers = a[None, :] ** np.arange(L + 1)[:, None]        # (L+1, n): a^m
+        lag = np.arange(L)[:, None] - np.arange(L)[None, :]      # m - j
+        toeplitz = np.where(lag[None, :, :] >= 0,
+                            powers[np.clip(lag, 0, None)].transpose(2, 0, 1), 0.0)  # (n, L, L)
+        out = (powers, toeplitz)
+        if a.size <= 64:                                         # at most ~16 MB kept
+            if len(_FACTORS) >= 128:
+                _FACTORS.clear()
+            _FACTORS[key] = out
+    return out
+
+
 def linear_recurrence(a: np.ndarray, G: np.ndarray, z0: np.ndarray) -> np.ndarray:
     """Solve ``z[k+1] = a * z[k] + G[k]`` for k = 0..N-1 (a per column); return z[1..N].
 
@@ -91,10 +112,7 @@ def linear_recurrence(a: np.ndarray, G: np.ndarray, z0: np.ndarray) -> np.ndarra
     nb = -(-N // L)
     if nb * L != N:
         G = np.vstack([G, np.zeros((nb * L - N, n))])
-    powers = a[None, :] ** np.arange(L + 1)[:, None]            # (L+1, n): a^m
-    lag = np.arange(L)[:, None] - np.arange(L)[None, :]          # m - j
-    toeplitz = np.where(lag[None, :, :] >= 0,
-                        powers[np.clip(lag, 0, None)].transpose(2, 0, 1), 0.0)  # (n, L, L)
+    powers, toeplitz = _block_factors(a, L)                     # (L+1, n), (n, L, L)
     Gb = G.reshape(nb, L, n).transpose(2, 1, 0)                  # (n, L, nb)
     Y = np.matmul(toeplitz, Gb)                                  # (n, L, nb) from zero start
     if nb == 1:

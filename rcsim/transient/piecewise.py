@@ -49,7 +49,7 @@ PIECEWISE_ELEMENTS = 6_000_000
 #: Waveform-relaxation sweeps before giving up.
 MAX_SWEEPS = 60
 #: Grid refinements before giving up.
-MAX_REFINEMENTS = 8
+MAX_REFINEMENTS = 12
 #: Longest run (grid intervals advanced in one closed-form pass).
 MAX_RUN = 8192
 #: Events per sweep before giving up (a chattering model belongs to the stiff path).
@@ -692,7 +692,8 @@ class PiecewiseSolver:
         refinements = 0
         grid_ok = False
         mixer = Anderson(5)
-        res = res_prev = np.inf
+        res = res_prev = best = np.inf
+        best_at = 0
         for _ in range(MAX_SWEEPS):
             for c, o in zip(self.ctrl, on0):
                 c.on = o
@@ -714,6 +715,11 @@ class PiecewiseSolver:
             # it was computed with, as a temperature (steady gain of the network)
             res = self._as_temperature(np.maximum(np.abs(nR - rR), np.abs(nL - rL)))
             self.history.append((self.grid.size, res))
+            if res < 0.5 * best:
+                best, best_at = res, len(self.history)
+            elif len(self.history) - best_at >= 10:   # ten sweeps without halving the residual
+                raise NotSuitable(f"the relaxation stalls (residual {res:.2g} K after "
+                                  f"{len(self.history)} sweeps)")
             if res <= self.tol:
                 if self._refine_where(nR, nL) is None:
                     return (self.grid, Hg, *self._finish_integrals(), rR, rL, switches)

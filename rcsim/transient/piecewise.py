@@ -679,15 +679,14 @@ class PiecewiseSolver:
         nnl = self.n_nl
         J = grid.size - 1
         on0 = [c.on for c in self.ctrl]
-        if nnl:
-            # first reference: tangents at the starting state and the inputs at t = 0
-            T0 = self._temperatures(H0[None, :])
-            Tg0 = np.repeat(T0, J + 1, axis=0)
-            self._set_reference(self._tangent_reference(Tg0))
         rR = np.zeros((J, nnl))
         rL = np.zeros((J, nnl))
         if nnl:
-            rR, rL, _ = self._flows(np.repeat(self._temperatures(H0[None, :]), J + 1, axis=0))
+            # first guess: the network held at its starting temperatures under the inputs; the
+            # reference is the mid-range of the tangents along that, replaced after one sweep
+            Tg0 = np.repeat(T0, J + 1, axis=0)
+            self._set_reference(self._tangent_reference(Tg0))
+            rR, rL, _ = self._flows(Tg0)
         refreshed = False
         refinements = 0
         grid_ok = False

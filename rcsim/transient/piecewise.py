@@ -83,8 +83,9 @@ class PiecewiseSolver:
         estimated interpolation error of the nonlinear remainder is below three times that.
     """
 
-    def __init__(self, model, t_out, rtol: float = 1e-6, atol: float = 1e-6):
+    def __init__(self, model, t_out, rtol: float = 1e-6, atol: float = 1e-6, progress=None):
         self.model = model
+        self.progress = progress         # called with a fraction that only grows, below 1
         n = self.n = model.n
         if n > PIECEWISE_STATES:
             raise NotSuitable(f"{n} states (the piecewise path takes up to {PIECEWISE_STATES})")
@@ -399,6 +400,9 @@ class PiecewiseSolver:
                 # the integrals are needed from the last sweep only: kept as a task till then
                 pending.append((reg, k, j, s, h, zprev, FR, dF, e1, e2, e3, zp))
                 Hg[j + 1:j + k + 1] = Hs[:k]
+            if self.progress is not None:    # sweep k of an unknown number: 1 - 0.6^k onwards
+                done = 1.0 - 0.6 ** self.stats["sweeps"]
+                self.progress(done + (1.0 - done) * 0.4 * float(s[min(k, m)]) / float(grid[-1]))
             if k == m:
                 t_c, H_c, j = float(grid[j_end]), Hs[-1].copy(), j_end
                 chunk = min(MAX_RUN, 2 * chunk)
@@ -910,7 +914,7 @@ def run_piecewise_network(network, asm, t_out, T0, mode, recorder, out_nodes, bo
     terms, phase, controllers = build_terms(network, asm, thermostats)
     model = StiffModel(asm, terms, phase, controllers)
     ss = model.ss
-    solver = PiecewiseSolver(model, t_out, rtol=rtol, atol=atol)
+    solver = PiecewiseSolver(model, t_out, rtol=rtol, atol=atol, progress=progress)
     if mode == "periodic":
         period = common_period(model.profiles, "simulation.initial")
 
@@ -973,8 +977,8 @@ def run_piecewise_network(network, asm, t_out, T0, mode, recorder, out_nodes, bo
         sel = rows[k0:k0 + step]
         recorder.add(chunk_from_states(model, t_out[k0:k0 + step], Y[sel], H0_sum, out_map,
                                        extras_fn))
-        if progress is not None:
-            progress(min(1.0, (k0 + step) / rows.size))
+    if progress is not None:
+        progress(1.0)
     if model.controllers:
         recorder.tables["thermostats"] = thermostat_table(model.controllers, t_out, recorder)
     stats = dict(solver.stats)

@@ -68,12 +68,12 @@ def _describe_dims(dims) -> str:
     return text if text else "a plain number"
 
 
-def _parse_string(text: str, where: str | None):
-    """(number, pint units or None) of a string; parsed once per distinct string."""
-    try:
-        return _parse_cached(text)
-    except UnitError as err:
-        raise UnitError(err.message, where, err.hint) from None
+@lru_cache(maxsize=8192)
+def _string_to_si(text: str, kind: str) -> float:
+    """A string such as '50 mm' in the SI unit of ``kind`` (no key in errors: the caller adds
+    it). Scenario rebuilds in sweeps and fits meet the same strings again and again."""
+    number, units = _parse_cached(text)
+    return number if units is None else _convert(number, units, kind, text, None)
 
 
 @lru_cache(maxsize=4096)
@@ -147,7 +147,10 @@ def to_si(value, kind: str, where: str | None = None, *, finite: bool = True) ->
         number = float(value)
         units = None
     elif isinstance(value, str):
-        number, units = _parse_string(value, where)
+        try:
+            number, units = _string_to_si(value, kind), None   # parsed and converted once
+        except UnitError as err:
+            raise UnitError(err.message, where, err.hint) from None
     elif isinstance(value, pint.Quantity):
         number, units = float(value.magnitude), value.units
     else:

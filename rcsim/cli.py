@@ -749,6 +749,8 @@ def format_run_summary(sc, res, all_nodes: bool = False) -> str:
     lines.append(f"  {_fmt_time(res.meta.get('duration'))} at {_fmt_time(res.meta.get('step'))} "
                  f"steps, {len(res.time)} samples, start {res.meta.get('initial')}, "
                  f"solver {res.solver}, {st.get('wall_time [s]', float('nan')):.3g} s")
+    if st.get("piecewise_declined"):
+        lines.append(f"  (the piecewise path declined: {st['piecewise_declined']})")
     lines.append("")
     nodes = res.nodes
     width = max([len(str(n)) for n in nodes["node"]] + [4]) if len(nodes) else 4

@@ -193,6 +193,8 @@ class Recorder:
         self.out_nodes = np.asarray(out_nodes, dtype=np.int64)
         pos = {int(i): p for p, i in enumerate(self.out_nodes)}
         self.rec_cols = np.asarray([pos[int(i)] for i in record], dtype=np.int64)
+        # every output column recorded, in order: the chunk's array goes to the sink as it is
+        self._rec_all = np.array_equal(self.rec_cols, np.arange(len(out_nodes)))
         self.rec_names = [asm.node_names[int(i)] for i in record]
         self.links = np.asarray(links, dtype=np.int64)
         n = asm.n_nodes
@@ -245,9 +247,12 @@ class Recorder:
         if c.t.size == 0:
             return
         T = c.T
-        self._check_physical(c.t, T)
+        cmin, cmax = T.min(axis=0), T.max(axis=0)       # NaN and infinities show in these too
+        if not (np.isfinite(cmin).all() and np.isfinite(cmax).all()) or \
+                (cmin.size and cmin.min() < -273.15):
+            self._check_physical(c.t, T)
         self.sink.append("time", c.t)
-        self.sink.append("temperature", T[:, self.rec_cols])
+        self.sink.append("temperature", T if self._rec_all else T[:, self.rec_cols])
         if self.links.size:
             points = np.hstack([T, c.u])
             with np.errstate(invalid="ignore"):
@@ -265,8 +270,8 @@ class Recorder:
         self.sink.append("energy/sources", c.e_sources)
         for key in self.extra_names:
             self.sink.append(key, c.extras[key])
-        self.tmin = np.minimum(self.tmin, T.min(axis=0))
-        self.tmax = np.maximum(self.tmax, T.max(axis=0))
+        self.tmin = np.minimum(self.tmin, cmin)
+        self.tmax = np.maximum(self.tmax, cmax)
         self.tlast = T[-1].copy()
         if self.tracker is not None:
             self.tracker.update(c.t, T[:, self.limit_cols])

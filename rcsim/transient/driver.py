@@ -349,7 +349,7 @@ def _run_exact(asm, t_out, T0, mode, overrides, recorder, out_nodes, boundary_li
         cum_src = e_src[None, :] + np.cumsum(U[:, M:], axis=0)
         if S:
             e_src = cum_src[-1].copy()
-        stored = (Z - z0[None, :]) @ q_store
+        stored = Z @ q_store - float(z0 @ q_store)
         recorder.add(Chunk(tt[1:], T, w[:, :M], w[:, M:], cum_links, cum_src, stored))
         z = Z[-1].copy()
         k0 = k1

@@ -324,7 +324,7 @@ class PiecewiseSolver:
         """
         n = self.n
         J = grid.size - 1
-        h_all = np.diff(grid)
+        h_all = self._h_all
         wR, wL = self._wR, self._wL
         Hg = np.empty((J + 1, n))
         Hg[0] = H0
@@ -725,10 +725,14 @@ class PiecewiseSolver:
             elif len(self.history) - best_at >= 10:   # ten sweeps without halving the residual
                 raise NotSuitable(f"the relaxation stalls (residual {res:.2g} K after "
                                   f"{len(self.history)} sweeps)")
-            if res <= self.tol:
-                if self._refine_where(nR, nL) is None:
+            # is the grid fine enough for a linear remainder? (each sweep until it is, and again
+            # at convergence)
+            pieces = None
+            if res <= self.tol or not grid_ok:
+                pieces = self._refine_where(nR, nL)
+                grid_ok = pieces is None
+                if grid_ok and res <= self.tol:
                     return (self.grid, Hg, *self._finish_integrals(), rR, rL, switches)
-                grid_ok = False
             if res > 0.7 * res_prev:         # Anderson mixing stalls or lost its way: restart
                 mixer = Anderson(5)
             res_prev = res
@@ -739,19 +743,14 @@ class PiecewiseSolver:
                 raise NotSuitable("the relaxation diverged")
             rR = xn[:rR.size].reshape(rR.shape)
             rL = xn[rR.size:].reshape(rL.shape)
-            if not grid_ok:
-                # nearly converged: is the grid fine enough for a linear remainder?
-                pieces = self._refine_where(nR, nL)
-                if pieces is None:
-                    grid_ok = True
-                else:
-                    refinements += 1
-                    self.stats["refinements"] = refinements
-                    if refinements > MAX_REFINEMENTS:
-                        raise NotSuitable("the grid could not be refined enough")
-                    rR, rL = self._refine(pieces)(rR, rL)
-                    mixer = Anderson(5)    # its history does not carry over to new points
-                    res_prev = np.inf
+            if pieces is not None:
+                refinements += 1
+                self.stats["refinements"] = refinements
+                if refinements > MAX_REFINEMENTS:
+                    raise NotSuitable("the grid could not be refined enough")
+                rR, rL = self._refine(pieces)(rR, rL)
+                mixer = Anderson(5)    # its history does not carry over to new points
+                res_prev = np.inf
         raise NotSuitable(f"no convergence in {MAX_SWEEPS} relaxation sweeps (last residual "
                           f"{res:.2g} K)")
 

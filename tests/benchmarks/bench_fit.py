@@ -17,7 +17,6 @@ Ratios are measured in one run on the same machine; absolute times are only indi
 from __future__ import annotations
 
 import argparse
-import time
 import warnings
 
 import numpy as np
@@ -26,6 +25,7 @@ import scipy.signal as sig
 from scipy.optimize import curve_fit, least_squares
 
 import rcsim
+from timing import best_of  # tests/benchmarks/timing.py
 
 BLOCK = """
 [nodes.block]
@@ -80,13 +80,6 @@ def naive_fit(sc, log):
     return np.exp(out.x[0]), np.exp(out.x[1]), out.x[2], out.nfev + out.njev * 3
 
 
-def best_of(repeats, func):
-    times, out = [], None
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        out = func()
-        times.append(time.perf_counter() - t0)
-    return min(times), out
 
 
 def main():
@@ -99,9 +92,9 @@ def main():
     sc, log = heated_block_log(days)
     print(f"1. heated block, {len(log)} one-minute rows ({days:g} days), free: "
           + ", ".join(FREE))
-    t_fit1, res1 = best_of(2, lambda: rcsim.fit(sc, log, FREE, starts=1))
-    t_fit4, res4 = best_of(1, lambda: rcsim.fit(sc, log, FREE, starts=4))
-    t_naive, naive = best_of(1, lambda: naive_fit(sc, log))
+    t_fit1, res1 = best_of(2, lambda: rcsim.fit(sc, log, FREE, starts=1), warmup=False)
+    t_fit4, res4 = best_of(1, lambda: rcsim.fit(sc, log, FREE, starts=4), warmup=False)
+    t_naive, naive = best_of(1, lambda: naive_fit(sc, log), warmup=False)
     est = res1.estimates["value"]
     print(f"   rcsim.fit, 1 start : {t_fit1:7.2f} s  ({res1.n_evaluations} model runs, "
           f"{res1.n_decompositions} decompositions)")
@@ -122,12 +115,12 @@ def main():
                                                                     f"capacity = {C}"))
     free2 = ["links.skin.resistance", "boundaries.room.temperature", "nodes.block.initial"]
     log2 = pd.DataFrame({"time": t, "block": y})
-    t_r, res2 = best_of(3, lambda: rcsim.fit(sc2, log2, free2, starts=1))
+    t_r, res2 = best_of(3, lambda: rcsim.fit(sc2, log2, free2, starts=1), warmup=False)
 
     def closed(tt, r, ta, t0):
         return ta + (t0 - ta) * np.exp(-tt / (r * C))
 
-    t_c, (p, _) = best_of(3, lambda: curve_fit(closed, t, y, p0=[1.0, 20.0, 55.0]))
+    t_c, (p, _) = best_of(3, lambda: curve_fit(closed, t, y, p0=[1.0, 20.0, 55.0]), warmup=False)
     print(f"2. Newton cooling, {len(t)} rows, free: " + ", ".join(free2))
     print(f"   rcsim.fit: {t_r:.3f} s ({res2.n_evaluations} model runs, "
           f"{res2.n_decompositions} decompositions);  curve_fit on the closed form: {t_c:.4f} s;"

@@ -23,7 +23,6 @@ from __future__ import annotations
 
 import os
 import sys
-import time
 
 import numpy as np
 from scipy.integrate import solve_ivp
@@ -37,18 +36,11 @@ from rcsim.transient.stiff import StiffModel
 HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, os.path.join(HERE, ".."))
 from shipper_by_hand import hand_written_box  # noqa: E402  (tests/shipper_by_hand.py)
+from timing import best_of  # noqa: E402  (tests/benchmarks/timing.py)
 
 SCENARIO = os.path.join(HERE, "..", "..", "scenarios", "cold-box.toml")
 
 
-def best_of(repeats, func):
-    func()
-    times, out = [], None
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        out = func()
-        times.append(time.perf_counter() - t0)
-    return min(times), out
 
 
 def own_rhs_fd(net, t_eval, rtol=1e-6, atol=1e-6):

@@ -17,9 +17,10 @@ import argparse
 import json
 import subprocess
 import sys
-import time
 
 import numpy as np
+
+from timing import best_of  # tests/benchmarks/timing.py
 
 
 def wall_network(n_slices_concrete=30, n_slices_insulation=18):
@@ -44,15 +45,6 @@ def wall_network(n_slices_concrete=30, n_slices_insulation=18):
     return net
 
 
-def best_of(repeats, func):
-    """Best wall time of ``repeats`` calls (after one warm-up call) and the last result."""
-    func()
-    times, out = [], None
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        out = func()
-        times.append(time.perf_counter() - t0)
-    return min(times), out
 
 
 def bench_wall(quick: bool):

@@ -555,9 +555,11 @@ class _Model:
             prof.check_span(self.offset, self.offset + float(self.t[-1]))
         nonlinear = not asm.is_linear or bool(getattr(net, "thermostats", None))
         n_states = state_space(asm).n
-        if solver not in ("auto", "exact", "piecewise", "stiff"):
-            raise InputError(f"solver must be 'auto', 'exact', 'piecewise' or 'stiff', got "
-                             f"{solver!r}", "solver")
+        from .transient.driver import SOLVERS  # the one list of solver names
+
+        if solver not in SOLVERS:
+            raise InputError(f"solver must be one of {', '.join(map(repr, SOLVERS))}, got "
+                             f"{solver!r}", "solver", suggest(str(solver), list(SOLVERS)))
         if solver == "exact" and (nonlinear or n_states > min(DENSE_LIMIT, EXACT_LIMIT)):
             raise InputError("the exact path needs a linear network of at most "
                              f"{min(DENSE_LIMIT, EXACT_LIMIT)} states", "solver",

@@ -358,9 +358,12 @@ def _settings(sim: dict) -> Settings:
                                 f"{sim['initial']!r}", "simulation.initial")
         st.initial = sim["initial"]
     if "solver" in sim:
-        if sim["solver"] not in ("auto", "exact", "piecewise", "stiff"):
-            raise ScenarioError(f"solver must be 'auto', 'exact', 'piecewise' or 'stiff', got "
-                                f"{sim['solver']!r}", "simulation.solver")
+        from .transient.driver import SOLVERS  # the one list of solver names
+
+        if sim["solver"] not in SOLVERS:
+            raise ScenarioError(f"solver must be one of {', '.join(map(repr, SOLVERS))}, got "
+                                f"{sim['solver']!r}", "simulation.solver",
+                                suggest(str(sim["solver"]), list(SOLVERS)))
         st.solver = sim["solver"]
     if "record" in sim:
         rec = sim["record"]

@@ -8,12 +8,12 @@ nearest valid names.
 from __future__ import annotations
 
 import csv
-import difflib
 import math
 from dataclasses import dataclass
 from functools import lru_cache
 from importlib import resources
 
+from .base import suggest  # noqa: F401  (re-exported: older imports)
 from .errors import InputError
 
 __all__ = ["Material", "get_material", "material_names", "materials_table", "suggest"]
@@ -80,17 +80,6 @@ def _table() -> dict[str, Material]:
                 raise RuntimeError(f"materials.csv: bad row for {m.name}")
         out[m.name] = m
     return out
-
-
-def suggest(name: str, valid) -> str:
-    """Return a hint naming the nearest valid names, or listing them all when few."""
-    valid = list(valid)
-    close = difflib.get_close_matches(str(name), valid, n=3, cutoff=0.5)
-    if close:
-        return "did you mean " + " or ".join(repr(c) for c in close) + "?"
-    if len(valid) <= 12:
-        return "valid: " + ", ".join(valid)
-    return f"{len(valid)} names are valid; `rcsim materials` lists them"
 
 
 def material_names() -> list[str]:

@@ -20,7 +20,7 @@ import pint
 
 from .errors import UnitError
 
-__all__ = ["ureg", "KINDS", "to_si", "to_si_array", "format_quantity", "format_duration"]
+__all__ = ["ureg", "KINDS", "to_si", "to_si_array", "si_unit", "format_quantity", "format_duration"]
 
 ureg = pint.UnitRegistry()
 ureg.formatter.default_format = "~P"
@@ -210,10 +210,20 @@ def to_si_array(values, kind: str, where: str | None = None):
     return np.asarray(out, dtype=float)
 
 
+def si_unit(kind: str, *, display: bool = False) -> str:
+    """The unit rcsim works in for ``kind`` (degC for an absolute temperature, K for a
+    difference); ``display=True`` writes powers with ``^`` for people.
+
+    >>> si_unit("area"), si_unit("area", display=True), si_unit("temperature")
+    ('m**2', 'm^2', 'degC')
+    """
+    unit = KINDS[kind][0]
+    return unit.replace("**", "^") if display else unit
+
+
 def format_quantity(value: float, kind: str, digits: int = 4) -> str:
     """Format an SI float for display with its unit, e.g. ``"2.5 K/W"``."""
-    unit = {"temperature": "degC", "temperature_difference": "K"}.get(kind, KINDS[kind][0])
-    unit = unit.replace("**", "^")
+    unit = si_unit(kind, display=True)
     return f"{value:.{digits}g} {unit}".strip()
 
 

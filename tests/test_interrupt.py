@@ -83,7 +83,7 @@ def test_killed_writer_leaves_the_previous_file(tmp_path):
 
 def test_file_larger_than_memory_is_refused(tmp_path, monkeypatch):
     import rcsim
-    import rcsim.profiles as profiles
+    import rcsim.profiles.timeseries as profiles  # where the memory check lives
 
     path = tmp_path / "log.csv"
     path.write_text("time,t\n" + "".join(f"{i},{i * 0.1}\n" for i in range(2000)))
@@ -95,7 +95,7 @@ def test_file_larger_than_memory_is_refused(tmp_path, monkeypatch):
 
 def test_history_larger_than_memory_is_refused(tmp_path, monkeypatch):
     import rcsim
-    import rcsim.profiles as profiles
+    import rcsim.profiles.timeseries as profiles  # where the memory check lives
 
     net = rcsim.Network()
     net.add_node("a", capacity=1000.0, initial=0.0)

@@ -147,3 +147,26 @@ def test_strings_with_units_in_profiles():
     assert q.value(3600) == 1500.0
     assert math.isclose(q.integral(0, 7200), 1500.0 * 3600)
     assert np.allclose(q.value([0.0, 3600.0]), [0.0, 1500.0])
+
+
+def test_importing_profiles_loads_neither_pandas_nor_pint():
+    # the command line's quick start needs light imports: pandas is loaded where a CSV is read,
+    # pint where a unit is parsed. The package root is stood in for by an empty module, so that
+    # only what rcsim.profiles itself imports is counted (the root may import more).
+    import subprocess
+    import sys
+
+    code = """
+import importlib.util, sys, types
+root = types.ModuleType("rcsim")   # found, not run
+root.__path__ = list(importlib.util.find_spec("rcsim").submodule_search_locations)
+sys.modules["rcsim"] = root
+import rcsim.profiles as profiles
+p = profiles.Repeat(profiles.Table([0, 10], [0.0, 5.0]), 10)
+assert p.value(14.0) == 2.0
+print(sorted({n.split(".")[0] for n in sys.modules} & {"pandas", "pint"}))
+profiles.Constant("5 degC").bind("temperature", "x")      # a unit parsed: now pint is there
+print("pint" in sys.modules)
+"""
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.split("\n")[:2] == ["[]", "True"], out.stdout + out.stderr

@@ -1,0 +1,129 @@
+"""A table profile: linear interpolation between (time, value) points, also read from a CSV."""
+
+from __future__ import annotations
+
+import math
+import os
+
+import numpy as np
+
+from ..errors import ProfileError
+from .base import LEVEL_KIND, Profile, check_points, to_si, to_si_array
+from .timeseries import read_time_series
+
+
+class Table(Profile):
+    """Linear interpolation between (time, value) points.
+
+    Parameters
+    ----------
+    times, values : sequence
+        Increasing times [s] and the values there.
+    outside : {'error', 'hold'}
+        Outside the covered span: an error (default) or hold the end value.
+    unit : str, optional
+        Unit of plain-number ``values`` (e.g. ``"degF"``); by default SI (degC for temperatures).
+
+    >>> Table([0, 10], [0.0, 5.0]).value(4.0)
+    2.0
+    """
+
+    def __init__(self, times, values, outside="error", unit=None, source=None):
+        self.raw = dict(times=times, values=values, outside=outside, unit=unit)
+        self.source = source
+        try:
+            t = np.asarray(times, dtype=float)
+            v = np.asarray(values, dtype=float)
+        except (TypeError, ValueError):
+            return
+        if unit is None:
+            self._set(t, v, outside, None)
+
+    def _set(self, times, values, outside, where):
+        check_points(times, values, outside, where, 2, "a table")
+        self.times, self.values, self.outside = times, values, outside
+
+    def _bind(self, kind, where):
+        out = Table.__new__(Table)
+        out.raw, out.source = self.raw, self.source
+        w = f"{where}." if where else ""
+        unit = self.raw["unit"]
+        times = to_si_array(self.raw["times"], "time", w + "times")
+        if unit is not None:
+            values = convert_array(np.asarray(self.raw["values"], dtype=float), unit,
+                                   LEVEL_KIND[kind], w + "unit")
+        else:
+            values = to_si_array(self.raw["values"], LEVEL_KIND[kind], w + "values")
+        out._set(times, values, self.raw["outside"], where)
+        return out
+
+    def _pl(self, t, side):
+        return np.interp(t, self.times, self.values)
+
+    def knots(self, t0, t1):
+        return self.times[(self.times > t0) & (self.times < t1)]
+
+    def span(self):
+        if self.outside == "hold":
+            return (-math.inf, math.inf)
+        return (float(self.times[0]), float(self.times[-1]))
+
+    def _ready(self) -> bool:
+        return hasattr(self, "times")
+
+    def describe(self) -> str:
+        origin = f" from {self.source}" if self.source else ""
+        return f"table of {self.times.size} points{origin}"
+
+    def __repr__(self):
+        return f"Table(<{len(self.raw['times'])} points>)"
+
+    @classmethod
+    def from_csv(cls, path, column, time=None, start=None, unit=None, time_unit="s",
+                 missing="error", outside="error", where=None) -> "Table":
+        """Read one column of a CSV file as a table profile.
+
+        Parameters
+        ----------
+        path : str or path
+            CSV file with a header row.
+        column : str
+            Name of the value column.
+        time : str, optional
+            Name of the time column; default the first column.
+        start : str or datetime, optional
+            When time is given as ISO-8601 timestamps, the time that counts as t = 0;
+            default the first timestamp.
+        unit : str, optional
+            Unit of the values (e.g. ``"degF"``, ``"kW"``); default SI (degC, W).
+        time_unit : str
+            Unit of a numeric time column (default seconds).
+        missing : {'error', 'interpolate'}
+            Empty or non-numeric values: an error naming the row (default), or skip the row and
+            interpolate across it.
+        """
+        series = read_time_series(path, [column], time=time, start=start, time_unit=time_unit,
+                                  missing=missing, where=where)
+        times = series.index.to_numpy(dtype=float)
+        values = series[column].to_numpy(dtype=float)
+        if missing == "interpolate":
+            keep = np.isfinite(values)
+            times, values = times[keep], values[keep]
+        name = os.path.basename(str(path))
+        return cls(times, values, outside=outside, unit=unit, source=f"{name}:{column}")
+
+
+def convert_array(values: np.ndarray, unit: str, kind: str, where: str | None) -> np.ndarray:
+    """Plain numbers in ``unit`` to the SI unit of ``kind`` (degC for temperatures), at once.
+
+    The dimension (and absolute temperature against difference) is checked on ``1 unit`` first,
+    so a wrong unit gives the usual one-line error naming ``where``.
+    """
+    to_si(f"1 {unit}", kind, where)  # checks the dimension (and absolute vs difference)
+    from ..units import si_unit, ureg  # pint only when a table has a unit of its own
+
+    try:
+        q = ureg.Quantity(values, ureg.parse_units(unit))
+        return np.asarray(q.to(si_unit(kind)).magnitude, dtype=float)
+    except Exception as exc:  # pint raises many types; report as a unit error at the key
+        raise ProfileError(f"cannot convert values from {unit!r}: {exc}", where) from None

@@ -1,0 +1,176 @@
+"""Reading CSV time series (a time column and value columns), with a memory check first.
+
+pandas is imported inside the readers, so importing profiles does not load it.
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..base import suggest
+from ..errors import DataError
+from .base import to_si
+
+
+@dataclass
+class TimeParse:
+    """A time column read: seconds from the origin, and whether it held timestamps."""
+
+    seconds: np.ndarray
+    is_datetime: bool
+
+
+def read_time_series(path, columns=None, time=None, start=None, time_unit="s", missing="error",
+                     where=None, max_bytes=None):
+    """Read a CSV time series: a time column and numeric value columns.
+
+    Returns a pandas DataFrame indexed by time [s] (float), one column per requested column (or
+    every column but the time column). Times in seconds (or ``time_unit``) or ISO-8601 timestamps;
+    timestamps are counted from ``start`` (default the first one).
+
+    Raises
+    ------
+    DataError
+        Missing file or column, unreadable or non-increasing times, non-numeric values (unless
+        ``missing='interpolate'``, which turns them into NaN for the caller to skip).
+    """
+    import pandas as pd
+
+    label = os.path.basename(str(path)) if where is None else where
+    path = os.fspath(path)
+    if os.path.isdir(path):
+        raise DataError("is a directory, not a CSV file", label)
+    if not os.path.exists(path):
+        raise DataError("file not found", label, f"looked for {os.path.abspath(path)}")
+    size = os.path.getsize(path)
+    if max_bytes is not None and size > max_bytes:
+        raise DataError(f"file is {size / 1e9:.2f} GB, more than the "
+                        f"{max_bytes / 1e9:.2f} GB allowed", label)
+    df = read_csv_text(path, label)
+    if len(set(df.columns)) != len(df.columns):
+        raise DataError("has duplicate column names", label)
+    tcol = time if time is not None else df.columns[0]
+    if tcol not in df.columns:
+        raise DataError(f"no time column {tcol!r}", label,
+                        "columns are: " + ", ".join(map(repr, df.columns)))
+    if columns is None:
+        columns = [c for c in df.columns if c != tcol]
+    for c in columns:
+        if c not in df.columns:
+            raise DataError(f"no column {c!r}", label, suggest(c, [x for x in df.columns if x != tcol]))
+    parsed = parse_times(df[tcol], tcol, label, start, time_unit)
+    t = parsed.seconds
+    d = np.diff(t)
+    if (d <= 0).any():
+        i = int(np.argmax(d <= 0)) + 1
+        raise DataError(f"time does not increase at line {i + 2} ({df[tcol].iloc[i]!r} after "
+                        f"{df[tcol].iloc[i - 1]!r})", label, "sort the rows and remove duplicates")
+    out = {}
+    for c in columns:
+        text = df[c].str.strip()
+        values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float, copy=True)
+        bad = ~np.isfinite(values)
+        if bad.any() and missing != "interpolate":
+            i = int(np.argmax(bad))
+            what = "empty" if text.iloc[i] == "" else f"not a finite number ({text.iloc[i]!r})"
+            raise DataError(f"column {c!r} line {i + 2} is {what}", label,
+                            "fix the row or set missing = 'interpolate'")
+        if np.isfinite(values).sum() == 0:
+            raise DataError(f"column {c!r} has no numeric values", label)
+        values[bad] = np.nan
+        out[c] = values
+    frame = pd.DataFrame(out, index=pd.Index(t, name="time"))
+    frame.attrs["is_datetime"] = parsed.is_datetime
+    return frame
+
+
+def read_csv_text(path, label: str):
+    """Read a CSV file with a header as a DataFrame of stripped strings, or raise DataError.
+
+    Checks that it fits in memory, is UTF-8, parses as CSV and has data rows.
+    """
+    import pandas as pd
+
+    # pandas holds a CSV read as text at about 11-15 times its size on disk (measured for
+    # 1,000,000 rows, tests/benchmarks/bench_transient.py --large)
+    check_fits_in_memory(os.path.getsize(path) * 15, label, "reading it")
+    try:
+        df = pd.read_csv(path, skipinitialspace=True, dtype=str, keep_default_na=False,
+                         encoding="utf-8")
+    except UnicodeDecodeError:
+        raise DataError("is not UTF-8 text", label) from None
+    except pd.errors.EmptyDataError:
+        raise DataError("is empty", label, "a header row and data rows are needed") from None
+    except pd.errors.ParserError as exc:
+        raise DataError(f"cannot be read as CSV: {str(exc).strip().splitlines()[-1]}",
+                        label) from None
+    df.columns = [str(c).strip() for c in df.columns]
+    if df.shape[0] == 0:
+        raise DataError("has a header but no data rows", label)
+    return df
+
+
+def memory_available() -> int | None:
+    """Bytes of memory available to this process (Linux /proc/meminfo), or None if unknown."""
+    try:
+        with open("/proc/meminfo", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("MemAvailable:"):
+                    return int(line.split()[1]) * 1024
+    except OSError:  # pragma: no cover - not Linux
+        pass
+    return None
+
+
+def check_fits_in_memory(needed_bytes: float, where: str, doing: str) -> None:
+    """Refuse work that would need more than 80 % of the available memory."""
+    avail = memory_available()
+    if avail is not None and needed_bytes > 0.8 * avail:
+        raise DataError(f"{doing} needs about {needed_bytes / 1e9:.1f} GB but only "
+                        f"{avail / 1e9:.1f} GB of memory is available", where,
+                        "split the file, or use a machine with more memory")
+
+
+def parse_times(col, name, label, start, time_unit) -> TimeParse:
+    """A CSV time column (strings) to seconds: numbers in ``time_unit``, or ISO-8601
+    timestamps counted from ``start`` (default the first); the first row decides which."""
+    import pandas as pd
+
+    text = col.str.strip()
+    numeric = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
+    if np.isfinite(numeric).all():
+        factor = to_si(f"1 {time_unit}", "time", "time_unit")
+        with np.errstate(over="ignore"):
+            seconds = numeric * factor
+        if not np.isfinite(seconds).all():  # e.g. 1e306 min: a number, but not a time
+            i = int(np.argmax(~np.isfinite(seconds)))
+            raise DataError(f"time column {name!r} line {i + 2} is too large to be a time "
+                            f"({text.iloc[i]!r} {time_unit})", label,
+                            "check the column's unit and values")
+        return TimeParse(seconds, False)
+    if np.isfinite(numeric[0]):  # the first row decides: seconds, or timestamps
+        i = int(np.argmax(~np.isfinite(numeric)))
+        raise DataError(f"time column {name!r} line {i + 2} is not a number ({text.iloc[i]!r})",
+                        label)
+    stamps = pd.to_datetime(text, errors="coerce", format="ISO8601")
+    if stamps.isna().any():
+        i = int(np.argmax(stamps.isna().to_numpy()))
+        raise DataError(f"time column {name!r} line {i + 2} is neither seconds nor an ISO-8601 "
+                        f"timestamp ({text.iloc[i]!r})", label)
+    if start is None:
+        origin = stamps.iloc[0]
+    else:
+        try:
+            origin = pd.Timestamp(start)
+        except (ValueError, TypeError):
+            raise DataError(f"start {start!r} is not an ISO-8601 timestamp", label) from None
+    tz_data = stamps.dt.tz is not None
+    tz_origin = origin.tzinfo is not None
+    if tz_data != tz_origin:
+        raise DataError("timestamps and start time disagree on time zones (one has an offset, "
+                        "the other not)", label, "give both with or both without a UTC offset")
+    seconds = (stamps - origin).dt.total_seconds().to_numpy(dtype=float)
+    return TimeParse(seconds, True)

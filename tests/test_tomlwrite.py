@@ -1,8 +1,11 @@
-"""The TOML writer, read back by the standard library's tomllib (an independent parser)."""
+"""The TOML writer (tomlkit), read back by the standard library's tomllib (an independent parser):
+new documents from data, and the user's own text edited to hold new values with its comments and
+layout kept."""
 
 import datetime as dt
 import math
 import os
+import re
 import tomllib
 
 import pytest
@@ -10,7 +13,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from rcsim import loads
-from rcsim.tomlwrite import dumps
+from rcsim.tomlwrite import dumps, same, update
 
 from conftest import SCENARIOS
 
@@ -67,3 +70,153 @@ def test_bundled_scenarios_round_trip():
         assert again.data == sc.data
         assert again.network.assemble().K.toarray().tolist() == \
             sc.network.assemble().K.toarray().tolist()
+
+
+# -- the user's own text, edited ------------------------------------------------------------
+# comments everywhere, dotted keys, tables out of order, a super-table, literal strings, an
+# inline table spread over lines in an array, odd spacing and Windows line ends in one place
+ODD = """\
+# cold box, first guess   (a comment before anything)
+title = 'box'        # literal string
+
+[nodes.payload]   # the load
+capacity   =   "8 kJ/K"    # from the data sheet
+initial = 5.0
+
+[links]
+skin.between = ["payload", "room"]
+skin.resistance = 0.5  # K/W, a guess
+
+  [links.wall]     # indented header
+  between = [ "payload", "room" ]
+  parts = [
+    { conduction = { k = 0.03, thickness = "50 mm" } },   # foam
+    # a comment inside the array
+    { contact = { resistance = "0.01 m^2*K/W" } },
+  ]
+  area = "1.2 m^2"\r
+[nodes.other]   # a table after [links]: out of order
+capacity = 1200
+initial = 20
+"""
+
+# (key path as tokens, new value, old value text, new value text)
+CHANGES = [
+    (["nodes", "payload", "capacity"], "8.43 kJ/K", '"8 kJ/K"', '"8.43 kJ/K"'),
+    (["links", "skin", "resistance"], 0.61, "0.5", "0.61"),
+    (["links", "wall", "parts", 0, "conduction", "thickness"], "55.5 mm", '"50 mm"', '"55.5 mm"'),
+    (["nodes", "other", "initial"], 18.25, "20", "18.25"),
+    (["title"], "box 2", "'box'", "'box 2'"),
+]
+
+
+def _set(data, tokens, value):
+    for t in tokens[:-1]:
+        data = data[t]
+    data[tokens[-1]] = value
+
+
+def test_edit_keeps_comments_and_layout_and_changes_only_the_values():
+    data = tomllib.loads(ODD)
+    for tokens, value, _, _ in CHANGES:
+        _set(data, tokens, value)
+    out = update(ODD, data)
+    assert tomllib.loads(out) == data  # the values read back (tomllib, an independent parser)
+    old_lines, new_lines = ODD.split("\n"), out.split("\n")
+    assert len(old_lines) == len(new_lines)
+    changed = 0
+    for old, new in zip(old_lines, new_lines):
+        if old == new:
+            continue
+        # a changed line differs in its value only: comment, key and spacing are the same
+        hits = [(a, b) for _, _, a, b in CHANGES if a in old and old.replace(a, b, 1) == new]
+        assert hits, (old, new)
+        changed += 1
+    assert changed == len(CHANGES)
+    assert "# a comment inside the array" in out and "\r\n" in out
+
+
+def test_edit_without_changes_returns_the_text_as_it_was():
+    assert update(ODD, tomllib.loads(ODD)) == ODD
+
+
+def test_edit_adds_and_removes_keys_and_reads_back():
+    data = tomllib.loads(ODD)
+    del data["nodes"]["other"]["initial"]
+    data["nodes"]["payload"]["mass"] = "6 kg"
+    data["links"]["wall"]["parts"].append({"film": {"h": 8}})
+    out = update(ODD, data)
+    assert tomllib.loads(out) == data
+    assert "# from the data sheet" in out and "# foam" in out
+
+
+def test_edit_refuses_text_that_is_not_toml():
+    with pytest.raises(ValueError, match="not TOML"):
+        update("a = = 1", {"a": 1})
+
+
+@settings(max_examples=150, deadline=None)
+@given(documents, st.data())
+def test_any_document_edited_reads_back_as_the_new_data(doc, draw):
+    # start from a generated document, replace some values (any type), edit the text
+    text = dumps(doc)
+    new = tomllib.loads(text)
+    leaves = []
+
+    def walk(node, path):
+        items = node.items() if isinstance(node, dict) else enumerate(node)
+        for k, v in items:
+            if isinstance(v, (dict, list)) and v:
+                walk(v, path + [k])
+            else:
+                leaves.append(path + [k])
+
+    walk(new, [])
+    for tokens in leaves:
+        if draw.draw(st.booleans()):
+            _set(new, tokens, draw.draw(scalars))
+    assert tomllib.loads(update(text, new)) == new
+
+
+NUMBER = re.compile(r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?")
+
+
+def test_bundled_scenarios_keep_their_text_when_every_quantity_changes():
+    # every number of every bundled scenario changed (plain numbers and numbers with units):
+    # each line reads the same once numbers are blanked out, so comments, keys, units, spacing
+    # and order are kept, and the file reads back as the new data
+    for name in sorted(os.listdir(SCENARIOS)):
+        if not name.endswith(".toml"):
+            continue
+        text = open(os.path.join(SCENARIOS, name), encoding="utf-8").read()
+        data = tomllib.loads(text)
+        count = 0
+
+        def bump(node):
+            nonlocal count
+            items = list(node.items()) if isinstance(node, dict) else list(enumerate(node))
+            for k, v in items:
+                if isinstance(v, (dict, list)):
+                    bump(v)
+                elif isinstance(v, float) or (isinstance(v, int) and not isinstance(v, bool)):
+                    node[k] = v * 1.5 + 0.25
+                    count += 1
+                elif isinstance(v, str) and re.fullmatch(r"\s*" + NUMBER.pattern + r"\s*[^\d\s].*", v):
+                    node[k] = NUMBER.sub(lambda m: repr(float(m.group()) * 1.5 + 0.25), v, 1)
+                    count += 1
+
+        bump(data)
+        out = update(text, data)
+        assert tomllib.loads(out) == data, name
+        old_lines, new_lines = text.splitlines(), out.splitlines()
+        assert len(old_lines) == len(new_lines), name
+        for old, new in zip(old_lines, new_lines):
+            assert NUMBER.sub("N", old) == NUMBER.sub("N", new), (name, old, new)
+        assert count > 3 and out != text, name
+
+
+def test_same_tells_toml_types_apart():
+    # Python calls 1 == 1.0 == True; TOML writes them differently
+    assert not same(1, 1.0) and not same(True, 1) and not same(0.0, -0.0)
+    assert same(math.nan, math.nan) and same({"a": [1, "x"]}, {"a": [1, "x"]})
+    assert not same(dt.date(2024, 1, 1), dt.datetime(2024, 1, 1))

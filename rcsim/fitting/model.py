@@ -1,0 +1,294 @@
+"""The model of a fit: temperatures of the measured nodes at the log's times, for given values.
+
+This is the only module of the fitting package that uses the transient engine, and the only one
+that touches its internals; the rest of the package sees this interface::
+
+    model = Model(scenario, log, parameters, solver)   # checks the solver name and the start
+    model.outputs(values)            # (n_times, n_measured) at the log's times, values in SI
+    model.outputs(values, times=t)   # the same at other times (0 .. end of the log)
+    model.fast                       # True on the exact modal path (see below)
+    model.stats                      # ModelStats: solver, evaluations, decompositions
+
+Inputs: log columns that drive boundaries become tables (linear between samples, held at the
+ends); the scenario's own profiles are read on the log's clock (:func:`log_offset`, wrapped in
+:class:`rcsim.profiles.Shifted`).
+
+Paths. On a linear network (given or steady start, within the exact path's size) the model runs
+the exact modal propagation (``transient.exact.ExactPropagator``) at the log's times, whatever
+their spacing. Freed initial temperatures (``transient.initial.given_temperatures`` overrides)
+and constant boundary temperatures or source powers (constant profiles swapped into a
+``dataclasses.replace``d assembly) leave capacities and conductances alone, so the reduced
+system and the modes computed for the structure are handed to the new assembly (the cached
+``_state_space`` and ``_modes``); only values that need a rebuild get a new decomposition
+(cached per set of values, least recently used first out). Networks the exact path cannot take
+run through :meth:`rcsim.Network.simulate` per evaluation.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import warnings
+from collections import OrderedDict
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from ..base import suggest
+from ..errors import InputError, ScenarioError
+from ..profiles import Constant, Shifted, Table
+from ..scenario import Scenario
+from .logs import Log
+from .parameters import ParameterSet
+
+__all__ = ["Model", "ModelStats", "log_offset"]
+
+#: Elements (times x (modes + inputs)) of one block of the exact propagation; bounds memory on
+#: long logs.
+CHUNK_ELEMENTS = 400_000
+#: Structures (network, assembly, decomposition) kept for values that need a rebuild.
+CACHED_STRUCTURES = 16
+
+
+@dataclass
+class ModelStats:
+    """How the model was run: the path, model evaluations, eigen-decompositions computed."""
+
+    solver: str
+    evaluations: int = 0
+    decompositions: int = 0
+
+
+@dataclass
+class Structure:
+    """A network built for one set of rebuild values, and its assembly (which caches the
+    reduced system and modes on the exact path)."""
+
+    network: object
+    assembled: object
+
+
+def log_offset(sc: Scenario, log: Log, varies: bool = True) -> float:
+    """Where the log's first row lies on the scenario's clock [s after its t = 0].
+
+    Without ``simulation.start`` the scenario's t = 0 is the log's first row (0.0). With a start,
+    a log with timestamps begins (first timestamp - start) after it; a log with numeric times
+    must begin at 0 (then both readings of its numbers agree). When nothing of the scenario
+    varies in time (``varies`` False) the placement does not matter and is 0.0.
+
+    Raises
+    ------
+    ScenarioError
+        A log that begins before the start, numeric log times that do not begin at 0, or
+        timestamps and start that disagree on time zones (one has a UTC offset, the other not).
+    """
+    start = sc.settings.start
+    if start is None or not varies:
+        return 0.0
+    where = f"{sc.name}: simulation.start"
+    if log.start_time is None:
+        if log.first_time == 0.0:
+            return 0.0
+        raise ScenarioError(f"the times of {log.name} are numbers starting at "
+                            f"{log.first_time:g} s, which cannot be placed against the start "
+                            f"{start}", where, "give the log ISO-8601 timestamps, or let its "
+                            "times start at 0, meaning the start")
+    origin = pd.Timestamp(start)
+    if (origin.tzinfo is None) != (log.start_time.tzinfo is None):
+        raise ScenarioError(f"the start {start} and the timestamps of {log.name} disagree on "
+                            "time zones (one has a UTC offset, the other not)", where,
+                            "give both with or both without a UTC offset")
+    offset = (log.start_time - origin).total_seconds()
+    if offset < 0:
+        raise ScenarioError(f"{log.name} begins at {log.start_time}, before the start {start} "
+                            "where the scenario's profiles begin", where,
+                            "set simulation.start at or before the log's first time, or leave "
+                            "out the earlier rows")
+    return float(offset)
+
+
+class Model:
+    """Model temperatures at the log's times, as a function of the free values (SI)."""
+
+    def __init__(self, sc: Scenario, log: Log, params: ParameterSet, solver: str):
+        self.sc, self.log, self.params = sc, log, params
+        self.t = log.time
+        asm = sc.network.assemble()
+        self.node_idx = np.array([asm.node_index(log.targets[c]) for c in log.measured])
+        self.measured_nodes = [log.targets[c] for c in log.measured]
+        self.tables = _log_tables(log)
+        own = [p for nm, p in zip(asm.boundary_names, asm.boundary_profiles)
+               if nm not in self.tables] + list(asm.source_profiles)
+        self.offset = log_offset(sc, log, varies=any(not p.is_constant for p in own))
+        for prof in own:
+            prof.check_span(self.offset, self.offset + float(self.t[-1]))
+        self.fast, path = _choose_path(sc, asm, solver)
+        if sc.settings.initial == "periodic" and not self.fast and self.tables:
+            raise ScenarioError("a periodic start is not defined when a boundary follows a log",
+                                f"{sc.name}: simulation.initial",
+                                "use initial = 'given' (and free the starting temperatures)")
+        self.stats = ModelStats(path)
+        self._cache: OrderedDict = OrderedDict()
+
+    @property
+    def solver(self) -> str:
+        return self.stats.solver
+
+    # -- building blocks ---------------------------------------------------------------------
+    def _shift(self, prof):
+        """A scenario profile read on the log's clock (t = 0 at the log's first row)."""
+        return Shifted(prof, self.offset) if self.offset else prof
+
+    def _rebuild_values(self, values) -> dict:
+        return {p.key: v for p, v in zip(self.params, values) if p.tier == "rebuild"}
+
+    def _structure(self, values) -> Structure:
+        """The network and assembly for the values that need a rebuild; cached (LRU)."""
+        from ..modes import modal_decomposition
+
+        rv = self._rebuild_values(values)
+        key = tuple(sorted(rv.items()))
+        hit = self._cache.get(key)
+        if hit is not None:
+            self._cache.move_to_end(key)
+            return hit
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # warnings of trial values are not the user's
+            sc = self.sc.with_values(rv) if rv else self.sc
+            net = sc.network
+            asm = net.assemble()
+        if self.fast:
+            modal_decomposition(asm)  # computed once per structure, cached on asm
+            self.stats.decompositions += 1
+        structure = Structure(net, asm)
+        self._cache[key] = structure
+        if len(self._cache) > CACHED_STRUCTURES:
+            self._cache.popitem(last=False)
+        return structure
+
+    def outputs(self, values, times=None) -> np.ndarray:
+        """Model temperatures (n_times, n_measured) for the free values (SI).
+
+        At the log's times, or at ``times`` (increasing, from 0 to the log's end).
+        """
+        self.stats.evaluations += 1
+        values = [float(v) for v in values]
+        t = self.t if times is None else np.asarray(times, dtype=float)
+        if not self.fast:
+            return self._outputs_general(values, t)
+        return self._outputs_exact(values, t)
+
+    def _inputs(self, asm0, values):
+        """Boundary and source profiles on the log's clock, with the freed constants swapped
+        in, and the freed initial temperatures {node: degC}."""
+        bprof = [self.tables[nm] if nm in self.tables else self._shift(p)
+                 for nm, p in zip(asm0.boundary_names, asm0.boundary_profiles)]
+        sprof = [self._shift(p) for p in asm0.source_profiles]
+        overrides = {}
+        for p, v in zip(self.params, values):
+            if p.tier == "initial":
+                overrides[p.target] = v
+            elif p.tier == "constant" and p.key.startswith("boundaries."):
+                bprof[asm0.boundary_names.index(p.target)] = Constant(v).bind("temperature", p.key)
+            elif p.tier == "constant":
+                sprof[asm0.source_names.index(p.target)] = Constant(v).bind("power", p.key)
+        return bprof, sprof, overrides
+
+    def _outputs_exact(self, values, t) -> np.ndarray:
+        from ..modes import modal_decomposition
+        from ..statespace import state_space
+        from ..steady import steady_temperatures
+        from ..transient.exact import ExactPropagator
+        from ..transient.initial import given_temperatures
+
+        structure = self._structure(values)
+        asm0 = structure.assembled
+        bprof, sprof, overrides = self._inputs(asm0, values)
+        asm = dataclasses.replace(asm0, boundary_profiles=bprof, source_profiles=sprof)
+        # the inputs changed, not K or C: hand the cached reduced system and modes over
+        asm._state_space = state_space(asm0)
+        asm._modes = modal_decomposition(asm0)
+        prop = ExactPropagator(asm)
+        ss = prop.ss
+        u0 = asm.boundary_values(0.0)
+        if self.sc.settings.initial == "steady":
+            T0 = steady_temperatures(asm, u0, asm.source_values(0.0))
+        else:
+            T0 = given_temperatures(structure.network, asm, overrides, u0)
+        z0 = prop.z_from_temperatures(T0[ss.massive])
+        A, D = prop.output_maps(self.node_idx)
+        n = prop.lam.size + prop.n_inputs
+        chunk = max(512, CHUNK_ELEMENTS // max(1, n))
+        Z = np.empty((t.size, prop.lam.size))
+        Z[0] = z0
+        k0, z = 0, z0
+        while k0 < t.size - 1:  # chunks bound memory on long logs; no loop over time steps
+            k1 = min(t.size - 1, k0 + chunk)
+            Zc, _, _ = prop.propagate(t[k0:k1 + 1], z)
+            Z[k0 + 1:k1 + 1] = Zc
+            z = Zc[-1]
+            k0 = k1
+        w = prop.inputs_at(t)
+        return Z @ A.T + w @ D.T
+
+    def _outputs_general(self, values, t) -> np.ndarray:
+        subst = {p.key: v for p, v in zip(self.params, values)}
+        for b, tab in self.tables.items():
+            subst[f"boundaries.{b}.temperature"] = {"table": {
+                "times": tab.times.tolist(), "values": tab.values.tolist(), "outside": "hold"}}
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            sc = self.sc.with_values(subst)
+            if self.offset:  # the scenario's own profiles, read on the log's clock
+                for item in [b for b in sc.network.boundaries.values()
+                             if b.name not in self.tables] + list(sc.network.sources.values()):
+                    item.profile = self._shift(item.profile)
+                sc.network._changed()
+            res = sc.network.simulate(float(t[-1]), float(t[-1]), times=t,
+                                      record=sorted(set(self.measured_nodes)),
+                                      initial=sc.settings.initial,
+                                      solver=self.solver if self.solver in ("stiff", "piecewise")
+                                      else "auto",
+                                      rtol=min(sc.settings.rtol, 1e-7),
+                                      atol=min(sc.settings.atol, 1e-7))
+        temps = res.temperatures
+        return temps[self.measured_nodes].to_numpy(dtype=float)
+
+
+def _log_tables(log: Log) -> dict:
+    """Boundary name -> a table of its log column (finite values; held outside the log)."""
+    tables = {}
+    for c in log.inputs:
+        vals = log.values[c].to_numpy()
+        ok = np.isfinite(vals)
+        tables[log.targets[c]] = Table(log.time[ok], vals[ok], outside="hold").bind(
+            "temperature", f"{log.name}: column {c!r}")
+    return tables
+
+
+def _choose_path(sc: Scenario, asm, solver: str) -> tuple[bool, str]:
+    """(fast, solver name): whether the exact modal path runs the model, and the path named in
+    the result ('exact', or the solver asked for when the general path runs).
+
+    Raises
+    ------
+    InputError
+        An unknown solver name, or 'exact' for a network the exact path cannot take.
+    """
+    from ..modes import DENSE_LIMIT
+    from ..statespace import state_space
+    from ..transient.driver import EXACT_LIMIT, SOLVERS  # the one list of solver names
+
+    nonlinear = not asm.is_linear or bool(getattr(sc.network, "thermostats", None))
+    n_states = state_space(asm).n
+    limit = min(DENSE_LIMIT, EXACT_LIMIT)
+    if solver not in SOLVERS:
+        raise InputError(f"solver must be one of {', '.join(map(repr, SOLVERS))}, got "
+                         f"{solver!r}", "solver", suggest(str(solver), list(SOLVERS)))
+    if solver == "exact" and (nonlinear or n_states > limit):
+        raise InputError(f"the exact path needs a linear network of at most {limit} states",
+                         "solver", "use solver='auto' or 'stiff'")
+    fast = (solver != "stiff" and not nonlinear and sc.settings.initial in ("given", "steady")
+            and n_states <= limit)
+    path = "exact" if fast else (solver if solver in ("stiff", "piecewise") else "auto")
+    return fast, path

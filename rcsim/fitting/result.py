@@ -1,0 +1,258 @@
+"""What a fit found (:class:`FitResult`), and writing it: the estimates as CSV, the fitted
+scenario as TOML.
+
+The fitted scenario is the user's own scenario text with the fitted values changed in place
+(:func:`rcsim.tomlwrite.update`): comments, key order and layout stay, and a comment header gives
+the estimates. It is read back before it is written (under a temporary name, renamed when
+complete).
+"""
+
+from __future__ import annotations
+
+import copy
+import math
+import os
+import warnings
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from ..errors import DataError, SolverError
+from ..scenario import Scenario, loads
+from ..units import si_unit, to_si
+from .notes import FitWarning
+
+__all__ = ["FitResult"]
+
+#: First words of the comment header of a fitted scenario, and of its last line.
+HEADER_FIRST = "# Fitted to "
+HEADER_LAST = "# A fitted model supports, and never replaces, qualification testing and " \
+              "professional judgement."
+
+
+@dataclass
+class FitResult:
+    """What a fit found.
+
+    Attributes
+    ----------
+    estimates : DataFrame
+        Index: key path; columns ``value``, ``std_error``, ``ci_low``, ``ci_high`` (SI; degC for
+        temperatures, K for their standard errors). The interval is 95 %.
+    correlation : DataFrame
+        Correlation matrix of the estimates.
+    covariance : DataFrame
+        Covariance of the fitted coordinates (log of positive values, the value itself for
+        temperatures and powers).
+    rmse : float
+        Root mean square of measured - fitted over every measured value [K].
+    rmse_by_column : Series
+        The same per log column [K].
+    autocorrelation : Series
+        Lag-1 autocorrelation of the residuals per log column.
+    warnings : list of str
+        What the fit warned about (also issued as :class:`FitWarning`).
+    residuals, measured, fitted : DataFrame
+        Measured - fitted, measured and fitted temperatures at the log's times (index time [s],
+        one column per measured log column).
+    curve : DataFrame
+        The fitted model on an even grid over the log's span (joined with the log's times), so
+        that it can be drawn across gaps.
+    inputs : DataFrame
+        The log columns that drove boundaries.
+    fitted_scenario : rcsim.Scenario
+        The scenario with the estimates written in.
+    starts : DataFrame
+        Each start: its values, final cost and status.
+    units : dict
+        Key path -> quantity kind of the value.
+    targets : dict
+        Log column -> node or boundary.
+    n_points, dof : int
+        Measured values fitted, and degrees of freedom (n_points - free values).
+    solver : str
+        How the model ran ('exact' on the exact modal path).
+    n_evaluations, n_decompositions : int
+        Model evaluations, and eigen-decompositions computed.
+    wall_time : float
+        Seconds the fit took.
+    gaps : DataFrame
+        Spans of the log without values (see :class:`rcsim.fitting.Log`).
+    time_constants : ndarray
+        Time constants of the fitted network [s].
+    """
+
+    estimates: pd.DataFrame
+    correlation: pd.DataFrame
+    covariance: pd.DataFrame
+    rmse: float
+    rmse_by_column: pd.Series
+    autocorrelation: pd.Series
+    warnings: list
+    residuals: pd.DataFrame
+    measured: pd.DataFrame
+    fitted: pd.DataFrame
+    curve: pd.DataFrame
+    inputs: pd.DataFrame
+    fitted_scenario: Scenario
+    starts: pd.DataFrame
+    units: dict = field(default_factory=dict)
+    targets: dict = field(default_factory=dict)
+    log_name: str = ""
+    start_time: pd.Timestamp | None = None
+    n_points: int = 0
+    dof: int = 0
+    solver: str = ""
+    n_evaluations: int = 0
+    n_decompositions: int = 0
+    wall_time: float = 0.0
+    gaps: pd.DataFrame | None = None
+    time_constants: np.ndarray | None = None
+    _categories: list = field(default_factory=list, repr=False)
+
+    @property
+    def time(self) -> np.ndarray:
+        """Times of the log's rows [s] from the first row."""
+        return self.measured.index.to_numpy(dtype=float)
+
+    def table(self) -> pd.DataFrame:
+        """The estimates with their display unit and the starting values (for printing/CSV)."""
+        out = self.estimates.copy()
+        out["unit"] = [_display_unit(self.units.get(k, "")) for k in out.index]
+        out["start"] = self.starts.iloc[0][list(out.index)].to_numpy(dtype=float) \
+            if len(self.starts) else np.nan
+        return out
+
+    def to_csv(self, path) -> str:
+        """Write :meth:`table` to a CSV file (temporary name, renamed when complete)."""
+        text = self.table().to_csv(index_label="key")
+        return _write_text_atomic(path, text)
+
+    def _header(self) -> str:
+        """The comment lines that open a fitted scenario: the log, the estimates with their
+        standard errors and intervals, the warnings."""
+        lines = [f"{HEADER_FIRST}{self.log_name} by rcsim fit: {self.n_points} measured values, "
+                 f"RMSE {self.rmse:.4g} K.", "# estimate +- standard error (95 % interval):"]
+        for k, row in self.estimates.iterrows():
+            u = _display_unit(self.units.get(k, ""))
+            lines.append(f"#   {k} = {row['value']:.6g} +- {row['std_error']:.3g} "
+                         f"({row['ci_low']:.6g} .. {row['ci_high']:.6g}) {u}".rstrip())
+        for w in self.warnings:
+            lines.append(f"# warning: {w}")
+        lines.append(HEADER_LAST)
+        return "\n".join(lines)
+
+    def to_toml(self) -> str:
+        """The fitted scenario as TOML text, with a comment header giving the estimates.
+
+        The scenario's own text with the fitted values changed in place: comments, key order
+        and layout are kept (a header left by an earlier fit is replaced).
+        """
+        sc = self.fitted_scenario
+        return _with_header(self._header(), scenario_text(sc, sc.data))
+
+    def write_scenario(self, path) -> str:
+        """Write the fitted scenario to ``path`` (TOML), checked by reading it back.
+
+        Relative CSV file paths in the scenario are rewritten relative to the new folder.
+        """
+        path = os.fspath(path)
+        folder = os.path.dirname(os.path.abspath(path))
+        sc = self.fitted_scenario
+        data = _relocate_csv_paths(sc.data, sc.base_dir, folder)
+        text = _with_header(self._header(), scenario_text(sc, data))
+        check = loads(text, name=os.path.basename(path), base_dir=folder,
+                      allow_absolute_paths=sc.allow_absolute_paths)
+        from ..tomlwrite import same
+
+        if not same(check.data, data):  # pragma: no cover - a bug if reached
+            raise SolverError("the written scenario does not read back as the fitted one")
+        for k, row in self.estimates.iterrows():
+            got = to_si(check.value(k), self.units[k], k)
+            if not math.isclose(got, row["value"], rel_tol=1e-9, abs_tol=1e-9):
+                raise SolverError(f"the written scenario reads back {k} = {got!r}, not "
+                                  f"{row['value']!r}")  # pragma: no cover - a bug if reached
+        return _write_text_atomic(path, text)
+
+    def plot(self, **kwargs):
+        """Measured vs fitted with residuals below (see :func:`rcsim.plotting.plot_fit`)."""
+        from ..plotting import plot_fit
+
+        return plot_fit(self, **kwargs)
+
+
+def scenario_text(sc: Scenario, data: dict) -> str:
+    """TOML text that reads as ``data``: the scenario's own text edited (its comments, order
+    and layout kept, a header of an earlier fit left out), or, when that text cannot be edited
+    into ``data``, a new document (with a :class:`FitWarning`)."""
+    from .. import tomlwrite
+
+    body = _without_header(sc.text or "")
+    if body.strip():
+        try:
+            return tomlwrite.update(body, data)
+        except ValueError as exc:
+            warnings.warn(f"{sc.name}: its text could not be edited ({exc}), so the fitted "
+                          "scenario is written as a new document without its comments",
+                          FitWarning, stacklevel=3)
+    return tomlwrite.dumps(data)
+
+
+def _without_header(text: str) -> str:
+    """``text`` without the comment header a fit put at its top (so a refit has one header)."""
+    lines = text.splitlines(keepends=True)
+    if not lines or not lines[0].startswith(HEADER_FIRST):
+        return text
+    for i, line in enumerate(lines):
+        if not line.startswith("#"):
+            return text  # not a header of ours: keep every line
+        if line.rstrip("\r\n") == HEADER_LAST:
+            rest = lines[i + 1:]
+            while rest and not rest[0].strip():
+                rest = rest[1:]
+            return "".join(rest)
+    return text
+
+
+def _with_header(header: str, body: str) -> str:
+    newline = "\r\n" if "\r\n" in body else "\n"
+    return header.replace("\n", newline) + newline + newline + body
+
+
+def _display_unit(kind: str) -> str:
+    return si_unit(kind, display=True) if kind else ""
+
+
+def _relocate_csv_paths(data, old_dir, new_dir):
+    """A copy of ``data`` whose relative ``csv.file`` paths point to the same files from
+    ``new_dir``."""
+    data = copy.deepcopy(data)
+
+    def walk(node):
+        if isinstance(node, dict):
+            for k, v in node.items():
+                if k == "csv" and isinstance(v, dict) and isinstance(v.get("file"), str) \
+                        and not os.path.isabs(v["file"]):
+                    full = os.path.normpath(os.path.join(old_dir, v["file"]))
+                    v["file"] = os.path.relpath(full, new_dir).replace(os.sep, "/")
+                else:
+                    walk(v)
+        elif isinstance(node, list):
+            for v in node:
+                walk(v)
+
+    if os.path.abspath(old_dir) != os.path.abspath(new_dir):
+        walk(data)
+    return data
+
+
+def _write_text_atomic(path, text: str) -> str:
+    from ..atomic import atomic_path
+
+    try:
+        with atomic_path(path) as tmp, open(tmp, "w", encoding="utf-8", newline="\n") as fh:
+            fh.write(text)
+    except OSError as exc:
+        raise DataError(f"cannot write ({exc.strerror})", os.fspath(path)) from None
+    return os.fspath(path)

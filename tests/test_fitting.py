@@ -460,6 +460,96 @@ power = { csv = { file = "power.csv", column = "p" } }
     assert back.si_value("boundaries.room.temperature") == pytest.approx(25.0, abs=1e-6)
 
 
+# the heated block written as a person might: comments everywhere, dotted keys, a table out of
+# order, odd spacing, an indented sub-table whose array spans lines with a comment inside
+COMMENTED_BLOCK = """\
+# heated block on the bench, first guesses
+[nodes.block]      # 2 kg of aluminium
+capacity   =   "1.2 kJ/K"    # a guess from the mass
+initial = "10 degC"  # fridge-cold, roughly
+
+[links]
+skin.between = ["block", "room"]
+skin.resistance = "1 K/W"   # convection and radiation, guessed
+
+[sources.resistor]
+node = "block"
+  [sources.resistor.power.table]   # 10 W from 2 h to 5 h
+  times = [0.0, 7200.0, 7320.0,    # switched on
+           18000.0, 18120.0, 28800.0]
+  values = [0.0, 0.0, 10.0, 10.0, 0.0, 0.0]
+
+[boundaries.room]   # after the sources: out of the usual order
+temperature = "20 degC"
+"""
+# the text of each freed value in COMMENTED_BLOCK (the fit writes each back in the same unit)
+WRITTEN = {"nodes.block.capacity": ('"1.2 kJ/K"', "kJ/K", 1e3),
+           "links.skin.resistance": ('"1 K/W"', "K/W", 1.0),
+           "nodes.block.initial": ('"10 degC"', "degC", None)}
+
+
+def test_written_scenario_is_the_users_text_with_only_the_fitted_values_changed(tmp_path):
+    import re
+    import tomllib
+
+    span, dt = 8 * 3600.0, 120.0
+    src = tmp_path / "block.toml"
+    src.write_text(COMMENTED_BLOCK)
+    res = quiet_fit(rcsim.load(src), lsim_log(dt, span, seed=3), FREE)
+    text = open(res.write_scenario(tmp_path / "fitted.toml"), encoding="utf-8").read()
+    header, body = text.split("\n\n", 1)
+    assert all(line.startswith("#") for line in header.splitlines())
+    # every line outside the fitted values is as the user wrote it; a fitted line differs in
+    # its number only (key, unit, spacing and comment kept)
+    old_lines, new_lines = COMMENTED_BLOCK.splitlines(), body.splitlines()
+    assert len(old_lines) == len(new_lines)
+    changed = set()
+    for old, new in zip(old_lines, new_lines):
+        if old == new:
+            continue
+        key = next(k for k, (was, _, _) in WRITTEN.items() if was in old)
+        number = r'"[-+0-9.eE]+ ' + re.escape(WRITTEN[key][1]) + '"'
+        assert re.sub(number, "V", old) == re.sub(number, "V", new), (old, new)
+        changed.add(key)
+    assert changed == set(FREE)
+    # read back by tomllib (independent of the writer): the estimates, in the units written
+    data = tomllib.loads(text)
+    for k in FREE:
+        tokens = k.split(".")
+        raw = data[tokens[0]][tokens[1]][tokens[2]]
+        number, unit = raw.split(" ", 1)
+        factor = WRITTEN[k][2]
+        assert unit == WRITTEN[k][1]
+        value = float(number) * factor if factor else float(number)
+        assert value == pytest.approx(res.estimates.loc[k, "value"], rel=1e-10)
+    assert data == res.fitted_scenario.data
+
+
+def test_a_refitted_scenario_has_one_header(tmp_path):
+    span, dt = 8 * 3600.0, 120.0
+    src = tmp_path / "block.toml"
+    src.write_text(COMMENTED_BLOCK)
+    log = lsim_log(dt, span, seed=3)
+    first = quiet_fit(rcsim.load(src), log, FREE)
+    path = first.write_scenario(tmp_path / "fitted.toml")
+    second = quiet_fit(rcsim.load(path), log, FREE, starts=1)
+    text = second.to_toml()
+    assert text.count("by rcsim fit") == 1
+    assert text.split("\n\n", 1)[1].startswith("# heated block on the bench")
+    assert rcsim.loads(text).data == second.fitted_scenario.data
+
+
+def test_a_scenario_without_text_is_written_as_a_new_document(tmp_path):
+    # a Scenario built in code has no text of its own to edit: a new document, read back
+    import dataclasses
+
+    span, dt = 8 * 3600.0, 120.0
+    res = quiet_fit(block_scenario(dt, span), lsim_log(dt, span, seed=3), FREE, starts=1)
+    res.fitted_scenario = dataclasses.replace(res.fitted_scenario, text="")
+    back = rcsim.load(res.write_scenario(tmp_path / "fitted.toml"))
+    assert back.data == res.fitted_scenario.data
+
+
 # -- bad logs: one clear error naming the column or line -------------------------------------
 SIMPLE = """
 [nodes.block]

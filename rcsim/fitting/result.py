@@ -186,17 +186,17 @@ def scenario_text(sc: Scenario, data: dict) -> str:
     """TOML text that reads as ``data``: the scenario's own text edited (its comments, order
     and layout kept, a header of an earlier fit left out), or, when that text cannot be edited
     into ``data``, a new document (with a :class:`FitWarning`)."""
-    from .. import tomlwrite
+    from ..tomlwrite import dumps, update
 
     body = _without_header(sc.text or "")
     if body.strip():
         try:
-            return tomlwrite.update(body, data)
+            return update(body, data)
         except ValueError as exc:
             warnings.warn(f"{sc.name}: its text could not be edited ({exc}), so the fitted "
                           "scenario is written as a new document without its comments",
                           FitWarning, stacklevel=3)
-    return tomlwrite.dumps(data)
+    return dumps(data)
 
 
 def _without_header(text: str) -> str:

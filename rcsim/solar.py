@@ -156,7 +156,13 @@ def extraterrestrial_normal(times) -> np.ndarray:
     """
     index = _times(times)
     pvlib = _pvlib()
-    return np.asarray(pvlib.irradiance.get_extra_radiation(index, method="spencer"), dtype=float)
+    return np.asarray(pvlib.irradiance.get_extra_radiation(_day_of_year(index), method="spencer"),
+                      dtype=float)
+
+
+def _day_of_year(index) -> np.ndarray:
+    """Day of the year (1..366) of each instant, counted in UTC."""
+    return np.asarray(index.tz_convert("UTC").day_of_year, dtype=float)
 
 
 def decompose_global(ghi, zenith, times, model: str = "erbs"):
@@ -187,8 +193,7 @@ def decompose_global(ghi, zenith, times, model: str = "erbs"):
     ghi = np.broadcast_to(np.asarray(ghi, dtype=float), (index.size,))
     zenith = np.broadcast_to(np.asarray(zenith, dtype=float), (index.size,))
     pvlib = _pvlib()
-    split = getattr(pvlib.irradiance, model)(pd.Series(ghi, index=index),
-                                             pd.Series(zenith, index=index), index)
+    split = getattr(pvlib.irradiance, model)(ghi, zenith, _day_of_year(index))
     return pd.DataFrame({"direct_normal": np.asarray(split["dni"], dtype=float),
                          "diffuse_horizontal": np.asarray(split["dhi"], dtype=float),
                          "clearness_index": np.asarray(split["kt"], dtype=float)}, index=index)

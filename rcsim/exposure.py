@@ -24,7 +24,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .base import suggest
+from .arguments import bounded, check_name, kelvin
 from .errors import InputError
 
 __all__ = ["STEFAN_BOLTZMANN", "FILM_MODELS", "film_coefficient", "radiative_coefficient",
@@ -33,7 +33,6 @@ __all__ = ["STEFAN_BOLTZMANN", "FILM_MODELS", "film_coefficient", "radiative_coe
 
 #: Stefan-Boltzmann constant [W/(m^2 K^4)] (CODATA 2018, exact)
 STEFAN_BOLTZMANN = 5.670374419e-8
-KELVIN = 273.15
 #: Outside film relations: name -> (a, b) in h = a + b v [W/(m^2 K)], description
 FILM_MODELS = {
     "iso6946": ((4.0, 4.0), "h_c = 4 + 4 v, convection at exposed external surfaces "
@@ -44,28 +43,6 @@ FILM_MODELS = {
                             "Beckman section 3.15)"),
     "fixed": (None, "a fixed coefficient h"),
 }
-
-
-def _choose(name, registry, what) -> None:
-    if name not in registry:
-        close = suggest(name, registry)
-        hint = f"valid: {', '.join(registry)}"
-        raise InputError(f"unknown {what} {name!r}", None,
-                         f"{close}; {hint}" if close.startswith("did you") else hint)
-
-
-def _bounded(value, name, *, low=0.0, high=1.0):
-    array = np.asarray(value, dtype=float)
-    if not np.all(np.isfinite(array)) or np.any(array < low) or np.any(array > high):
-        raise InputError(f"{name} must be between {low:g} and {high:g}, got {value!r}", name)
-    return array
-
-
-def _kelvin(celsius, name) -> np.ndarray:
-    kelvin = np.asarray(celsius, dtype=float) + KELVIN
-    if not np.all(np.isfinite(kelvin)) or np.any(kelvin <= 0):
-        raise InputError(f"{name} must be finite and above absolute zero", name)
-    return kelvin
 
 
 def film_coefficient(wind_speed=None, *, model: str = "iso6946", h=None):
@@ -89,19 +66,19 @@ def film_coefficient(wind_speed=None, *, model: str = "iso6946", h=None):
     """
     if h is not None and model == "iso6946":
         model = "fixed"
-    _choose(model, FILM_MODELS, "outside film model")
+    check_name(model, FILM_MODELS, "outside film model")
     if model == "fixed":
         if h is None:
             raise InputError("a fixed outside film needs h", "film.h",
                              "give h, e.g. 25 W/(m^2*K)")
-        return _bounded(h, "film.h", low=1e-9, high=1e6)
+        return bounded(h, "film.h", low=1e-9, high=1e6)
     if h is not None:
         raise InputError(f"the {model} film follows the wind: give h or a wind model, not both",
                          "film")
     if wind_speed is None:
         raise InputError(f"the {model} film needs the wind speed", "film",
                          "map a weather column to wind_speed, or give a fixed h")
-    speed = _bounded(wind_speed, "wind speed", high=np.inf)
+    speed = bounded(wind_speed, "wind speed", high=np.inf)
     a, b = FILM_MODELS[model][0]
     return a + b * speed
 
@@ -117,11 +94,11 @@ def radiative_coefficient(emissivity, temperature, other=None):
     >>> round(float(radiative_coefficient(1.0, 10.0)), 2)
     5.15
     """
-    eps = _bounded(emissivity, "emissivity")
-    t1 = _kelvin(temperature, "temperature")
+    eps = bounded(emissivity, "emissivity")
+    t1 = kelvin(temperature, "temperature")
     if other is None:
         return 4.0 * eps * STEFAN_BOLTZMANN * t1 ** 3
-    t2 = _kelvin(other, "temperature")
+    t2 = kelvin(other, "temperature")
     return eps * STEFAN_BOLTZMANN * (t1 ** 2 + t2 ** 2) * (t1 + t2)
 
 
@@ -144,7 +121,7 @@ def sky_view_of_tilt(tilt):
     >>> sky_view_of_tilt(0.0), sky_view_of_tilt(90.0), sky_view_of_tilt(180.0)
     (1.0, 0.5, 0.0)
     """
-    tilt = _bounded(tilt, "tilt", high=180.0)
+    tilt = bounded(tilt, "tilt", high=180.0)
     value = np.round(0.5 * (1.0 + np.cos(np.radians(tilt))), 15)
     return float(value) if value.ndim == 0 else value
 
@@ -158,9 +135,9 @@ def long_wave_deficit(air, sky_temperature, sky_view):
     Handbook - Fundamentals, sol-air temperature; it quotes about 63 W/m^2 for a horizontal
     surface under a clear sky, 0 for vertical ones when surroundings are at air temperature).
     """
-    t_air = _kelvin(air, "air temperature")
-    t_sky = _kelvin(sky_temperature, "sky temperature")
-    view = _bounded(sky_view, "sky_view")
+    t_air = kelvin(air, "air temperature")
+    t_sky = kelvin(sky_temperature, "sky temperature")
+    view = bounded(sky_view, "sky_view")
     return view * STEFAN_BOLTZMANN * (t_air ** 4 - t_sky ** 4)
 
 
@@ -190,9 +167,9 @@ def sol_air_temperature(air, irradiance, *, absorptance, h_outside, emissivity=0
     ...                                 emissivity=1.0, long_wave=63.0)), 6)  # 30 + 720/17 - 63/17
     68.647059
     """
-    alpha = _bounded(absorptance, "absorptance")
-    eps = _bounded(emissivity, "emissivity")
-    h_o = _bounded(h_outside, "h_outside", low=1e-9, high=np.inf)
+    alpha = bounded(absorptance, "absorptance")
+    eps = bounded(emissivity, "emissivity")
+    h_o = bounded(h_outside, "h_outside", low=1e-9, high=np.inf)
     return (np.asarray(air, dtype=float) + alpha * np.asarray(irradiance, dtype=float) / h_o
             - eps * np.asarray(long_wave, dtype=float) / h_o)
 
@@ -203,9 +180,9 @@ def absorbed_solar_power(area, absorptance, irradiance, shading=0.0):
     ``shading`` s (0..1, may vary in time) is the fraction of the surface's irradiance blocked;
     negative irradiance (pyranometer offsets at night) counts as 0.
     """
-    area = _bounded(area, "area", low=0.0, high=np.inf)
-    alpha = _bounded(absorptance, "absorptance")
-    shade = _bounded(shading, "shading")
+    area = bounded(area, "area", low=0.0, high=np.inf)
+    alpha = bounded(absorptance, "absorptance")
+    shade = bounded(shading, "shading")
     return area * alpha * (1.0 - shade) * np.clip(np.asarray(irradiance, dtype=float), 0.0, None)
 
 
@@ -246,9 +223,9 @@ class ExposureTerms:
     def heat_flow(self, surface) -> np.ndarray:
         """Heat flow into the surface [W] at surface temperature ``surface`` [degC] (the module's
         balance, radiation not linearised)."""
-        t_s = _kelvin(surface, "surface temperature")
-        t_air = _kelvin(self.air, "air temperature")
-        t_sky = _kelvin(self.sky_temperature, "sky temperature")
+        t_s = kelvin(surface, "surface temperature")
+        t_air = kelvin(self.air, "air temperature")
+        t_sky = kelvin(self.sky_temperature, "sky temperature")
         return (self.absorbed_power + self.film_conductance * (t_air - t_s)
                 + STEFAN_BOLTZMANN * self.sky_radiation * (t_sky ** 4 - t_s ** 4)
                 + STEFAN_BOLTZMANN * self.ground_radiation * (t_air ** 4 - t_s ** 4))
@@ -302,18 +279,18 @@ def exposure_terms(*, area, absorptance, emissivity, irradiance, air, sky_temper
         if tilt is None:
             raise InputError("an exposed surface needs its sky_view or its tilt", "sky_view")
         sky_view = sky_view_of_tilt(tilt)
-    view = float(_bounded(sky_view, "sky_view"))
-    area = float(_bounded(area, "area", low=1e-30, high=np.inf))
-    alpha = float(_bounded(absorptance, "absorptance"))
-    eps = float(_bounded(emissivity, "emissivity"))
+    view = float(bounded(sky_view, "sky_view"))
+    area = float(bounded(area, "area", low=1e-30, high=np.inf))
+    alpha = float(bounded(absorptance, "absorptance"))
+    eps = float(bounded(emissivity, "emissivity"))
     h_c = film_coefficient(wind_speed, model=film_model, h=h)
     air = np.asarray(air, dtype=float)
-    shade = _bounded(shading, "shading")
+    shade = bounded(shading, "shading")
     on_plane = (1.0 - shade) * np.clip(np.asarray(irradiance, dtype=float), 0.0, None)
     shape = np.broadcast_shapes(air.shape, on_plane.shape, np.shape(sky_temperature),
                                 np.shape(h_c))
     grid = lambda v: np.broadcast_to(np.asarray(v, dtype=float), shape).copy()  # noqa: E731
-    _kelvin(sky_temperature, "sky temperature")
+    kelvin(sky_temperature, "sky temperature")
     return ExposureTerms(absorbed_power=grid(area * alpha * on_plane),
                          sky_temperature=grid(sky_temperature),
                          sky_radiation=eps * area * view,

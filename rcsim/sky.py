@@ -14,13 +14,12 @@ from __future__ import annotations
 
 import numpy as np
 
-from .base import suggest
+from .arguments import KELVIN, bounded, check_name, kelvin
 from .errors import InputError
 
 __all__ = ["SKY_MODELS", "CLOUD_CORRECTIONS", "sky_temperature", "clear_sky_emissivity",
            "cloudy_sky_emissivity", "dew_point_from_humidity", "DEFAULT_SKY_DEPRESSION"]
 
-KELVIN = 273.15
 #: Clear-sky models: name -> (needs the dew point, description)
 SKY_MODELS = {
     "swinbank": (False, "T_sky = 0.0552 T_air^1.5 (Swinbank 1963)"),
@@ -41,21 +40,6 @@ CLOUD_CORRECTIONS = {
 #: Average depression of the sky temperature below the air temperature in intermediate climates
 #: [K] (ISO 13790:2008 section 11.4.6; 9 K in the tropics, 13 K in sub-polar regions).
 DEFAULT_SKY_DEPRESSION = 11.0
-
-
-def _choose(name, registry, what) -> None:
-    if name not in registry:
-        close = suggest(name, registry)
-        hint = f"valid: {', '.join(registry)}"
-        raise InputError(f"unknown {what} {name!r}", None,
-                         f"{close}; {hint}" if close.startswith("did you") else hint)
-
-
-def _kelvin(celsius, name) -> np.ndarray:
-    kelvin = np.asarray(celsius, dtype=float) + KELVIN
-    if not np.all(np.isfinite(kelvin)) or np.any(kelvin <= 0):
-        raise InputError(f"{name} must be finite and above absolute zero", name)
-    return kelvin
 
 
 def clear_sky_emissivity(air, dew_point=None, *, model: str = "berdahl_martin", hour=None,
@@ -89,8 +73,8 @@ def clear_sky_emissivity(air, dew_point=None, *, model: str = "berdahl_martin", 
     depression : float
         See ``depression`` [K].
     """
-    _choose(model, SKY_MODELS, "sky temperature model")
-    t_air = _kelvin(air, "air temperature")
+    check_name(model, SKY_MODELS, "sky temperature model")
+    t_air = kelvin(air, "air temperature")
     if SKY_MODELS[model][0] and dew_point is None:
         raise InputError(f"the {model} sky model needs the dew point", None,
                          "give the dew point or relative humidity, or choose model 'swinbank'")
@@ -100,7 +84,7 @@ def clear_sky_emissivity(air, dew_point=None, *, model: str = "berdahl_martin", 
         return 1.0 - 0.261 * np.exp(-7.77e-4 * (273.0 - t_air) ** 2)
     if model == "depression":
         return ((t_air - float(depression)) / t_air) ** 4
-    t_dp = _kelvin(dew_point, "dew point")
+    t_dp = kelvin(dew_point, "dew point")
     if model == "clark_allen":
         return 0.787 + 0.764 * np.log(t_dp / 273.0)
     x = (t_dp - KELVIN) / 100.0
@@ -129,12 +113,9 @@ def cloudy_sky_emissivity(clear, sky_cover, correction: str = "clark_allen"):
     sky_cover : array_like
         Cloud cover fraction 0..1.
     """
-    _choose(correction, CLOUD_CORRECTIONS, "cloud correction")
+    check_name(correction, CLOUD_CORRECTIONS, "cloud correction")
     clear = np.asarray(clear, dtype=float)
-    cover = np.asarray(sky_cover, dtype=float)
-    if not np.all((cover >= 0.0) & (cover <= 1.0)):
-        raise InputError("sky cover must be a fraction between 0 and 1", "sky_cover",
-                         "convert tenths or oktas to a fraction")
+    cover = bounded(sky_cover, "sky_cover")
     if correction == "none":
         return clear + 0.0 * cover
     if correction == "clark_allen":
@@ -159,8 +140,8 @@ def sky_temperature(air, *, model: str = "berdahl_martin", dew_point=None, sky_c
     if sky_cover is not None:
         eps = cloudy_sky_emissivity(eps, sky_cover, cloud)
     else:
-        _choose(cloud, CLOUD_CORRECTIONS, "cloud correction")
-    return np.asarray(eps, dtype=float) ** 0.25 * _kelvin(air, "air temperature") - KELVIN
+        check_name(cloud, CLOUD_CORRECTIONS, "cloud correction")
+    return np.asarray(eps, dtype=float) ** 0.25 * kelvin(air, "air temperature") - KELVIN
 
 
 def dew_point_from_humidity(air, relative_humidity):

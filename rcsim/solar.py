@@ -26,7 +26,7 @@ import math
 
 import numpy as np
 
-from .base import suggest
+from .arguments import check_name
 from .errors import InputError
 
 __all__ = ["SKY_MODELS", "DECOMPOSITION_MODELS", "solar_position", "decompose_global",
@@ -52,21 +52,14 @@ _PVLIB_HINT = "pip install 'rcsim[outdoors]' (it installs pvlib)"
 
 def _pvlib():
     try:
-        import pvlib  # noqa: F401 - heavy (about 1 s): imported only when the sun is needed
-        from pvlib import irradiance, solarposition  # noqa: F401
+        # heavy (1-3 s with its dependencies): imported only when the sun is needed
+        import pvlib.atmosphere
+        import pvlib.irradiance
+        import pvlib.solarposition
     except ImportError:
         raise InputError("sun geometry needs the pvlib package, which is not installed", None,
                          _PVLIB_HINT) from None
     return pvlib
-
-
-def _choose(name, registry, what: str) -> str:
-    if name not in registry:
-        close = suggest(name, registry)
-        hint = f"valid: {', '.join(registry)}"
-        raise InputError(f"unknown {what} {name!r}", None,
-                         f"{close}; {hint}" if close.startswith("did you") else hint)
-    return name
 
 
 def _times(times, where="times"):
@@ -188,7 +181,7 @@ def decompose_global(ghi, zenith, times, model: str = "erbs"):
     """
     import pandas as pd
 
-    _choose(model, DECOMPOSITION_MODELS, "decomposition model")
+    check_name(model, DECOMPOSITION_MODELS, "decomposition model")
     index = _times(times)
     ghi = np.broadcast_to(np.asarray(ghi, dtype=float), (index.size,))
     zenith = np.broadcast_to(np.asarray(zenith, dtype=float), (index.size,))
@@ -272,7 +265,7 @@ def tilted_irradiance(tilt, azimuth, zenith, sun_azimuth, dni, ghi, dhi, *,
     """
     import pandas as pd
 
-    _choose(model, SKY_MODELS, "sky model")
+    check_name(model, SKY_MODELS, "sky model")
     tilt = _angle(tilt, 0.0, 180.0, "tilt")
     azimuth = _angle(azimuth, 0.0, 360.0, "azimuth")
     albedo_array = np.asarray(albedo, dtype=float)
@@ -319,8 +312,8 @@ def surface_irradiance(times, latitude, longitude, tilt, azimuth, *, ghi=None, d
         ``zenith`` and ``azimuth`` [degrees], indexed by ``times``.
     """
     index = _times(times)
-    _choose(model, SKY_MODELS, "sky model")
-    _choose(decomposition, DECOMPOSITION_MODELS, "decomposition model")
+    check_name(model, SKY_MODELS, "sky model")
+    check_name(decomposition, DECOMPOSITION_MODELS, "decomposition model")
     sun = solar_position(index, latitude, longitude, elevation)
     zenith = sun["zenith"].to_numpy()
     ghi, dni, dhi = complete_components(zenith, ghi=ghi, dni=dni, dhi=dhi, times=index,

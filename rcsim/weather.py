@@ -39,6 +39,7 @@ from typing import Mapping
 
 import numpy as np
 
+from .arguments import check_name
 from .base import suggest
 from .clock import line_of, parse_time_zone, parse_timestamps, to_instant
 from .errors import DataError, InputError, UnitError
@@ -190,9 +191,7 @@ def read_weather(path, columns: Mapping, *, time: str | None = None, time_unit: 
         One line naming the file with its line or column, and what would fix it.
     """
     label = where if where is not None else os.path.basename(str(path))
-    if irradiance_period not in _PERIODS:
-        raise InputError(f"irradiance_period {irradiance_period!r} is not one of "
-                         f"{', '.join(_PERIODS)}", label, suggest(irradiance_period, _PERIODS))
+    check_name(irradiance_period, _PERIODS, "irradiance_period", f"{label}: irradiance_period")
     zone = parse_time_zone(time_zone, f"{label}: time_zone")
     gap_limit = None if max_gap is None else _positive_time(max_gap, f"{label}: max_gap")
     frame = _read_text(path, label)
@@ -208,9 +207,8 @@ def read_weather(path, columns: Mapping, *, time: str | None = None, time_unit: 
 
     flags = np.asarray([float(v) for v in missing_values], dtype=float)
     values, filled = {}, {}
-    for quantity, (column, unit, kind) in specs.items():
+    for quantity, (column, (offset, factor), kind) in specs.items():
         raw = _numbers(frame[column], flags, label, column)
-        offset, factor = unit
         converted = offset + factor * raw   # one conversion per column, as an array
         _check_range(converted, kind, frame[column], label, column, quantity)
         values[quantity], filled[quantity] = _fill(converted, seconds, gap_limit, label, column)
@@ -276,8 +274,8 @@ def _find_time_column(time, headers, label) -> str:
     return _lookup(str(time), headers, label, "the time column")
 
 
-def _column_specs(columns, headers, tcol, label) -> dict[str, tuple[str, str | None, str]]:
-    """quantity -> (header, unit or None, kind), every name checked."""
+def _column_specs(columns, headers, tcol, label) -> dict[str, tuple]:
+    """quantity -> (header, (offset, factor) to SI, kind), every name checked."""
     if not isinstance(columns, Mapping) or not columns:
         raise InputError("columns must map quantities to column names, e.g. "
                          "{'air_temperature': 'T_air'}", f"{label}: columns")
@@ -289,7 +287,8 @@ def _column_specs(columns, headers, tcol, label) -> dict[str, tuple[str, str | N
         elif isinstance(spec, Mapping):
             unknown = [k for k in spec if k not in _SPEC_KEYS]
             if unknown:
-                raise InputError(f"unknown key {unknown[0]!r}", key, suggest(unknown[0], _SPEC_KEYS))
+                raise InputError(f"unknown key {unknown[0]!r}", key,
+                                 suggest(unknown[0], _SPEC_KEYS))
             if "column" not in spec:
                 raise InputError("needs the column's name: column = '...'", key)
             column, unit, kind = spec["column"], spec.get("unit"), spec.get("kind")

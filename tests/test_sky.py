@@ -126,7 +126,7 @@ def test_bad_inputs_are_refused_with_the_valid_names():
     assert "did you mean 'swinbank'" in str(err.value) and "berdahl_martin" in str(err.value)
     with pytest.raises(InputError, match="valid: none, clark_allen, unsworth_monteith"):
         sky.sky_temperature(10.0, model="swinbank", cloud="x")
-    with pytest.raises(InputError, match="fraction"):
+    with pytest.raises(InputError, match="sky_cover must be between 0 and 1"):
         sky.sky_temperature(10.0, model="swinbank", sky_cover=8.0)
     with pytest.raises(InputError, match="absolute zero"):
         sky.sky_temperature(-300.0, model="swinbank")

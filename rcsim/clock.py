@@ -129,6 +129,11 @@ def parse_timestamps(text, zone: tzinfo | None, label: str, column: str):
 
     parts = text.str.extract(_STAMP)
     unmatched = parts["clock"].isna().to_numpy()
+    if unmatched.any():   # no time of day: a date alone, or not a timestamp at all
+        dates = pd.to_datetime(text[unmatched], format="ISO8601", errors="coerce")
+        bad = dates.isna().to_numpy()
+        if bad.any():
+            _refuse_row(int(np.flatnonzero(unmatched)[np.argmax(bad)]), text, label, column)
     offset_text = parts["offset"]
     has_offset = offset_text.notna().to_numpy()
     if has_offset.any() and not has_offset.all():
@@ -160,10 +165,13 @@ def parse_timestamps(text, zone: tzinfo | None, label: str, column: str):
 def _refuse_unparsed(stamps, text, label, column) -> None:
     bad = stamps.isna().to_numpy()
     if bad.any():
-        i = int(np.argmax(bad))
-        raise DataError(f"time column {column!r}: {text.iloc[i]!r} is not an ISO-8601 timestamp",
-                        f"{label} line {line_of(i)}",
-                        "write e.g. 2021-07-01T12:00, 2021-07-01T12:00+02:00 or 2021-07-01T10:00Z")
+        _refuse_row(int(np.argmax(bad)), text, label, column)
+
+
+def _refuse_row(i, text, label, column) -> None:
+    raise DataError(f"time column {column!r}: {text.iloc[i]!r} is not an ISO-8601 timestamp",
+                    f"{label} line {line_of(i)}",
+                    "write e.g. 2021-07-01T12:00, 2021-07-01T12:00+02:00 or 2021-07-01T10:00Z")
 
 
 def _offset_seconds(offset_text, label) -> np.ndarray:

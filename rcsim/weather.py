@@ -205,7 +205,7 @@ def read_weather(path, columns: Mapping, *, time: str | None = None, time_unit: 
     step = float(np.median(np.diff(seconds))) if seconds.size > 1 else 0.0
     _check_time_gaps(seconds, step, gap_limit, frame[tcol], label)
 
-    flags = np.asarray([float(v) for v in missing_values], dtype=float)
+    flags = _flags(missing_values, f"{label}: missing_values")
     values, filled = {}, {}
     for quantity, (column, (offset, factor), kind) in specs.items():
         raw = _numbers(frame[column], flags, label, column)
@@ -239,10 +239,23 @@ def _read_text(path, label):
     except pd.errors.ParserError as exc:
         raise DataError(f"cannot be read as CSV: {str(exc).strip().splitlines()[-1]}",
                         label) from None
-    frame.columns = [str(c).strip() for c in frame.columns]
+    frame.columns = _header_of(path, label)
     if frame.shape[0] == 0:
         raise DataError("has a header but no data rows", label)
     return frame.apply(lambda col: col.str.strip())
+
+
+def _header_of(path, label) -> list[str]:
+    """The header row as written (pandas renames duplicated names; they are refused here)."""
+    import csv
+
+    with open(path, encoding="utf-8", newline="") as fh:
+        names = [name.strip() for name in next(csv.reader(fh, skipinitialspace=True))]
+    for i, name in enumerate(names):
+        if name in names[:i]:
+            raise DataError(f"has two columns named {name!r}", f"{label} line 1",
+                            "rename one of them")
+    return names
 
 
 def _split_headers(names, label) -> dict[str, tuple[str, str | None]]:
@@ -392,6 +405,14 @@ def _read_times(text, header, time_unit, zone, start, label, tcol):
                          "give the site's time_zone, or offsets in both")
     seconds = (stamps - origin).total_seconds().to_numpy(dtype=float)
     return seconds, stamps, origin
+
+
+def _flags(missing_values, where) -> np.ndarray:
+    try:
+        return np.asarray([float(v) for v in missing_values], dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"missing_values must be a list of numbers, got {missing_values!r}",
+                         where, "e.g. [-9999, 9999]") from None
 
 
 def _check_increasing(seconds, text, label, tcol) -> None:

@@ -390,3 +390,22 @@ def test_a_real_typical_year_gives_a_sky_of_the_standards_order(tmp_path):
     depression = values["air_temperature"] - cloudy
     assert 8.0 < depression.mean() < 16.0
     assert np.all(cloudy >= clear - 1e-9)                       # clouds never cool the sky
+
+
+def test_malformed_files_and_arguments(tmp_path):
+    twice = _write(tmp_path, "time [h],T,T\n0,1,2\n1,2,3")
+    err = _error(DataError, twice, {"air_temperature": "T"})
+    assert err.where == "record.csv line 1" and "two columns named 'T'" in err.message
+    same_name = _write(tmp_path, "time [h],T [degC],T [degF]\n0,1,2\n1,2,3")
+    err = _error(DataError, same_name, {"air_temperature": "T"})
+    assert "the same name" in err.message
+    path = _write(tmp_path, "time [h],T\n0,1\n1,2")
+    err = _error(InputError, path, {"air_temperature": "T"}, missing_values="none")
+    assert err.where == "record.csv: missing_values"
+    err = _error(InputError, path, {"air_temperature": "T"}, irradiance_period="hourly")
+    assert "valid: instant, ending, beginning" in err.hint
+    err = _error(DataError, tmp_path / "absent.csv", {"air_temperature": "T"})
+    assert "file not found" in err.message
+    stamp = _write(tmp_path, "time,T\n2021-07-01T10:00Z,1\nlater,2")
+    err = _error(DataError, stamp, {"air_temperature": "T"})
+    assert err.where == "record.csv line 3" and "not an ISO-8601 timestamp" in err.message

@@ -336,7 +336,7 @@ def test_palette_stays_apart_for_colour_blind_readers_and_in_grey():
     # neighbours in the order differ in lightness, so they differ in grey-scale print
     assert all(abs(a - b) >= 20 for a, b in zip(lightness, lightness[1:]))
     # every series of the first twelve has its own colour, style and marker combination
-    styles = [plotting._style(i) for i in range(12)]
+    styles = [plotting.series_style(i) for i in range(12)]
     combos = {(s["color"], str(s["linestyle"]), s.get("marker")) for s in styles}
     assert len(combos) == 12 and len({str(s["linestyle"]) for s in styles[:6]}) == 6
 

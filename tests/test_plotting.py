@@ -341,6 +341,23 @@ def test_palette_stays_apart_for_colour_blind_readers_and_in_grey():
     assert len(combos) == 12 and len({str(s["linestyle"]) for s in styles[:6]}) == 6
 
 
+def test_importing_plotting_imports_no_matplotlib_and_every_name_resolves():
+    import subprocess
+    import sys
+
+    # the command line's fast start needs `import rcsim.plotting` to stay light; names load when
+    # first used (matplotlib itself only when something is drawn)
+    script = ("import sys, rcsim.plotting as p; p.PALETTE, p.KINDS, p.save_figure, p.plot_history; "
+              "print('matplotlib' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                         check=True).stdout
+    assert out.strip().splitlines()[-1] == "False"
+    for name in plotting.__all__:
+        assert getattr(plotting, name) is not None, name
+    with pytest.raises(AttributeError, match="no attribute 'plot_nothing'"):
+        plotting.plot_nothing  # noqa: B018
+
+
 # -- the command ---------------------------------------------------------------------------------
 @pytest.fixture(scope="module")
 def result_file(tmp_path_factory):

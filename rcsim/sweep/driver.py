@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import os
-
 import pandas as pd
 
 from .design import MAX_RUNS, check_design_values, make_design, scenario_of

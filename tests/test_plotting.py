@@ -459,6 +459,10 @@ def test_gallery_build_picks_up_scenarios_and_drops_stale_figures(tmp_path):
                                        "shipper-response.png"]
     assert written[-1] == str(out / "README.md")
     assert "![shipper response](shipper-response.png)" in (out / "README.md").read_text()
+    empty = tmp_path / "empty"
+    empty.mkdir()
+    with pytest.raises(InputError, match="no \\*.toml scenario in"):
+        build_gallery(str(empty), str(out))
 
 
 def test_no_response_figure_for_a_node_that_swings_about_its_final_value():

@@ -340,9 +340,7 @@ def _draw_edges(ax, g, pos, labels):
                             arrowprops=dict(arrowstyle="-|>", color=colour, lw=0.9,
                                             mutation_scale=7, shrinkA=0, shrinkB=0))
             # the label on the outer side of a bowed link, else to the right
-            side = normal if normal[0] >= 0 else -normal
-            if bend < 0:
-                side = -side
+            side = np.sign(bend) * normal if bend else (normal if normal[0] >= 0 else -normal)
             text = _edge_label(d)
             labels[("link", d["link"], i)] = text
             ha = "left" if side[0] > 0.2 else ("right" if side[0] < -0.2 else "center")

@@ -36,7 +36,7 @@ def purpose_of(scenario) -> str:
     if isinstance(data.get("description"), str) and data["description"].strip():
         return data["description"].strip()
     lines = []
-    for line in (getattr(scenario, "text", "") or "").splitlines():
+    for line in (getattr(scenario, "text", "") or "").lstrip().splitlines():
         if not line.startswith("#"):
             break
         lines.append(line[1:])

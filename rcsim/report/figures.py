@@ -197,5 +197,5 @@ def network_figure(scenario, expand_layers: bool = False) -> Figure:
     if not expand_layers:
         caption += " A sliced layer is drawn as one block."
     svg = network_svg(scenario, expand_layers=expand_layers)
-    return Figure(caption, inline_svg(svg, "network", "picture of the network", zoom=1.6),
-                  "network")
+    return Figure(caption, inline_svg(svg, "net", "picture of the network", zoom=1.6),
+                  "network-picture")

@@ -108,17 +108,12 @@ def parallel_rectangles_aligned(length_x, length_y, distance):
 
 
 def _parallel_term(dx, dy, c):
-    """Howell's primitive for parallel rectangles (see :func:`parallel_rectangles`)."""
+    """Howell's primitive G(u, v) for parallel rectangles (see :func:`parallel_rectangles`);
+    c > 0, so no term is singular."""
     ux = np.sqrt(dx * dx + c * c)
     uy = np.sqrt(dy * dy + c * c)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t1 = np.where(ux > 0, dy * ux * np.arctan(np.divide(dy, ux, where=ux > 0,
-                                                            out=np.zeros_like(ux))), 0.0)
-        t2 = np.where(uy > 0, dx * uy * np.arctan(np.divide(dx, uy, where=uy > 0,
-                                                            out=np.zeros_like(uy))), 0.0)
-        s2 = dx * dx + dy * dy + c * c
-        t3 = np.where(s2 > 0, -0.5 * c * c * np.log(np.where(s2 > 0, s2, 1.0)), 0.0)
-    return t1 + t2 + t3
+    return (dy * ux * np.arctan(dy / ux) + dx * uy * np.arctan(dx / uy)
+            - 0.5 * c * c * np.log(dx * dx + dy * dy + c * c))
 
 
 def parallel_rectangles(first, second, distance):

@@ -104,9 +104,9 @@ def check_emissivity(value, where: str = "emissivity") -> float:
     except (TypeError, ValueError):
         raise InputError(f"emissivity must be a number, got {value!r}", where) from None
     if not (0.0 < e <= 1.0):
-        raise InputError(f"emissivity must be in (0, 1], got {value!r}", where,
-                         "a grey surface has 0 < emissivity <= 1 (polished metal ~0.05, paint "
-                         "and foam ~0.9)")
+        raise InputError(f"emissivity must be in (0, 1], got {e:g}", where,
+                         "a grey surface has 0 < emissivity <= 1: polished metal about 0.05, "
+                         "paint and foam about 0.9")
     return e
 
 

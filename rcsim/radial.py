@@ -21,7 +21,8 @@ volume-halving radius, see tests/test_radial.py). A solid core
 (inner radius 0) has no inner face: its node joins the outer face through the resistance between
 the mean temperature of a core with uniform heating and its surface, 1/(8 pi k L) for a cylinder
 and 1/(20 pi k b) for a sphere (closed form derived here from T(r) - T(b) = q'''(b^2 - r^2)/(4k)
-and q'''(b^2 - r^2)/(6k)), and ``inner_half[0]`` is infinite.
+and q'''(b^2 - r^2)/(6k)), and ``inner_half[0]`` is infinite; ``nodes[0]`` is the radius where
+that profile equals its mean (b/sqrt 2 and b sqrt 0.6).
 
 Slicing: ``"thickness"`` gives slices of equal thickness; ``"resistance"`` slices of equal
 resistance (cylinder radii in geometric progression, sphere radii with 1/r in arithmetic

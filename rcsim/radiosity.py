@@ -288,6 +288,15 @@ class Enclosure:
                     out.append((int(i), int(j), s))
         return out
 
+    def linearised_conductances(self, temperatures):
+        """Pair conductances [W/K] linearised at ``temperatures`` [degC]: (..., K, K) for the
+        active surfaces, G_ij = S_ij sigma (T_i^2 + T_j^2)(T_i + T_j), zero diagonal (see
+        :func:`linearised_conductance`); G_ij (T_i - T_j) is the exact pair flow there."""
+        Tk = self._active_kelvin(temperatures)
+        Ti, Tj = Tk[..., :, None], Tk[..., None, :]
+        S = self.exchange_areas[np.ix_(self.active, self.active)]
+        return S * STEFAN_BOLTZMANN * (Ti * Ti + Tj * Tj) * (Ti + Tj)
+
     def heat_flows_through(self, node_temperatures, series_resistances, *, tol: float = 1e-9,
                            iterations: int = 50):
         """Flows when each active surface sits behind a linear resistance from its node.
@@ -508,5 +517,6 @@ def linearised_conductance(exchange_area, first_temperature, second_temperature)
     6.0131
     """
     T1, T2 = _kelvin(first_temperature), _kelvin(second_temperature)
-    out = np.asarray(exchange_area, dtype=float) * STEFAN_BOLTZMANN * (T1 * T1 + T2 * T2) * (T1 + T2)
+    s = np.asarray(exchange_area, dtype=float)
+    out = s * STEFAN_BOLTZMANN * (T1 * T1 + T2 * T2) * (T1 + T2)
     return float(out) if out.ndim == 0 else out

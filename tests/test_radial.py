@@ -11,7 +11,7 @@ from rcsim import radial
 from rcsim.errors import InputError
 
 
-# -- sums ---------------------------------------------------------------------------------------
+# -- sums -----------------------------------------------------------------------------------------
 @pytest.mark.parametrize("spacing", ["thickness", "resistance"])
 @pytest.mark.parametrize("n", [1, 3, 17])
 def test_cylinder_slices_add_up_to_the_shell(spacing, n):
@@ -56,7 +56,7 @@ def test_solid_core_has_no_inner_face():
         radial.cylinder_slices(0.0, 0.02, 0.5, 1.0, 4, spacing="resistance")
 
 
-# -- transient: a solid cylinder and a sphere suddenly exposed to convection -------------------------
+# -- transient: a solid cylinder and a sphere suddenly exposed to convection ----------------------
 K_, RHO, CP, H, R0 = 0.5, 1000.0, 4000.0, 25.0, 0.02        # Bi = h r0 / k = 1
 ALPHA = K_ / (RHO * CP)
 BI = H * R0 / K_
@@ -158,7 +158,7 @@ def test_one_term_solution_agrees_at_late_times():
     assert T[0, 0] == pytest.approx(one_term, abs=3e-3)
 
 
-# -- radii from diameters and bad input ----------------------------------------------------------
+# -- radii from diameters and bad input -----------------------------------------------------------
 def test_radii_from_diameters_and_thickness():
     assert radial.radii_from(inner_diameter=0.06, outer_diameter=0.1) == (0.03, 0.05)
     assert radial.radii_from(outer_radius=0.05, thickness=0.02) == pytest.approx((0.03, 0.05))

@@ -27,7 +27,7 @@ def radiosity_equations(T, areas, eps, F):
     return np.asarray(areas) * (J - F @ J), J
 
 
-# -- one surface, several surroundings (issue 18's sky/ground case) ----------------------------------
+# -- one surface, several surroundings (issue 18's sky/ground case) -------------------------------
 SKY, GROUND, POWER, AREA = -10.0, 10.0, 100.0, 1.0
 
 
@@ -85,13 +85,14 @@ def test_surroundings_exchange_areas_rebuild_the_flows_and_derivatives():
 
 
 def test_linearised_conductance_is_exact_at_its_temperatures():
-    # h_r = sigma (T1^2 + T2^2)(T1 + T2) makes G (T1 - T2) = sigma S (T1^4 - T2^4) (Incropera eq. 1.9)
+    # h_r = sigma (T1^2 + T2^2)(T1 + T2) makes G (T1 - T2) = sigma S (T1^4 - T2^4)
+    # (Incropera eq. 1.9)
     g = rad.linearised_conductance(0.7, 80.0, 15.0)
     assert g * 65.0 == pytest.approx(0.7 * SIGMA * (kelvin(80.0) ** 4 - kelvin(15.0) ** 4),
                                      rel=1e-12)
 
 
-# -- enclosures against textbook worked examples ------------------------------------------------------
+# -- enclosures against textbook worked examples --------------------------------------------------
 def test_two_plates_in_a_large_room():
     # Holman, Heat Transfer, 10th ed., ch. 8, worked example (from memory): plates 0.5 m x 1.0 m,
     # 0.5 m apart, at 1000 degC (e = 0.2) and 500 degC (e = 0.5), in a room at 27 degC;
@@ -140,7 +141,7 @@ def test_triangular_oven_with_a_reradiating_wall():
     assert q_direct[2] == pytest.approx(0.0, abs=1e-6 * q[0])
 
 
-# -- general enclosures against the direct radiosity equations -------------------------------------
+# -- general enclosures against the direct radiosity equations ------------------------------------
 def test_a_shipper_interior_against_the_radiosity_equations_with_the_rules_of_exchange():
     rng = np.random.default_rng(3)
     areas, F, names = vf.enclosure_view_factors("box_interior", length=0.5, width=0.4, height=0.3)
@@ -219,7 +220,7 @@ def test_flows_through_series_resistances_against_fsolve():
         assert np.allclose(dq[:, :, j], fd, rtol=1e-5, atol=1e-8)
 
 
-# -- bad input --------------------------------------------------------------------------------
+# -- bad input ------------------------------------------------------------------------------------
 def test_bad_enclosures_and_surfaces_are_refused_in_one_line():
     F = [[0.0, 1.0], [1.0, 0.0]]
     with pytest.raises(InputError, match=r"emissivities\[1\] \('lid'\).*emissivity must be in "
@@ -241,3 +242,13 @@ def test_bad_enclosures_and_surfaces_are_refused_in_one_line():
         rad.surface_to_surroundings(20.0, [0.0], 0.9, -1.0, [0.6])
     with pytest.raises(InputError, match=r"sees\[0\].view_factor: view factor -0.1"):
         rad.surface_to_surroundings(20.0, [0.0], 0.9, 1.0, [-0.1])
+
+
+def test_linearised_pair_conductances_give_the_exact_flows_at_their_temperatures():
+    areas, F, _ = vf.enclosure_view_factors("cylinder_cavity", radius=0.1, length=0.3)
+    enc = rad.Enclosure(areas, [0.2, 0.8, 0.5], F)
+    T = np.array([70.0, -10.0, 25.0])
+    G = enc.linearised_conductances(T)
+    # sum_j G_ij (T_i - T_j) = q_i by the identity (a^4 - b^4) = (a^2 + b^2)(a + b)(a - b)
+    assert np.allclose((G * (T[:, None] - T[None, :])).sum(axis=1), enc.heat_flows(T),
+                       rtol=1e-12)

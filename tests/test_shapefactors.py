@@ -1,5 +1,6 @@
 """Box edges and corners: the shape-factor table against a worked example and against our own
-finite-volume solutions (2-D edge, 3-D box octant, scipy.sparse), the validity warning, bad input."""
+finite-volume solutions (2-D edge, 3-D box octant, scipy.sparse), the validity warning and bad
+input."""
 
 import warnings
 
@@ -87,7 +88,7 @@ def extrapolated(inside_half, thickness, coarse, fine):
     return q2 + (q2 - q1) / (2 ** ORDER - 1)
 
 
-# -- the table against a worked example and our own numerical solutions ------------------------------
+# -- the table against a worked example and our own numerical solutions ---------------------------
 def test_cubical_furnace_worked_example():
     # Holman, Heat Transfer, 10th ed., section 3-4, worked example (from memory): a 50 cm cube
     # inside, 10 cm fireclay brick walls, k = 1.04 W/(m K), 500 degC inside and 50 degC outside:
@@ -148,7 +149,7 @@ def test_thick_walls_warn_where_the_factors_over_predict():
         assert sf.box_conduction([0.1, 0.1, 0.1], 1.0, thickness=0.1).valid
 
 
-# -- bad input --------------------------------------------------------------------------------
+# -- bad input ------------------------------------------------------------------------------------
 def test_bad_box_input_is_refused_in_one_line():
     with pytest.raises(InputError, match="give the wall thickness or the outside dimensions"):
         sf.box_conduction([0.3, 0.3, 0.3], 0.03)

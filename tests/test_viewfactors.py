@@ -62,7 +62,7 @@ def gauss_parallel(x, y, c, order=24):
     return total / (x * y)
 
 
-# -- published values (Incropera Table 13.2 charts / Howell's catalogue; from memory) ----------------
+# -- published values (Incropera Table 13.2 charts / Howell's catalogue; from memory) -------------
 def test_published_values_of_unit_squares_and_discs():
     # unit squares one unit apart: 0.1998; at a right angle with a common edge: 0.2000;
     # equal coaxial discs with r = L: (3 - sqrt 5)/2 = 0.382 (Howell catalogue, from memory)
@@ -185,7 +185,7 @@ def test_cylinder_and_strip_and_row_of_cylinders_against_monte_carlo_in_two_dime
     assert vf.plane_and_row_of_cylinders(D, s) == pytest.approx(hit.mean(), abs=3e-3)
 
 
-# -- enclosures: summation and reciprocity ------------------------------------------------------
+# -- enclosures: summation and reciprocity --------------------------------------------------------
 @pytest.mark.parametrize("shape, dims", [
     ("box_interior", dict(length=0.4, width=0.3, height=0.2)),
     ("cylinder_cavity", dict(radius=0.0375, length=0.15)),
@@ -223,7 +223,7 @@ def test_the_registry_lists_itself_and_calls_shapes_by_name():
         pytest.approx(np.sqrt(2) - 1, rel=1e-12)  # (sqrt 8 - 2)/2, closed form by hand
 
 
-# -- bad input ------------------------------------------------------------------------------
+# -- bad input ------------------------------------------------------------------------------------
 def test_a_row_summing_above_one_is_refused_naming_the_row():
     with pytest.raises(InputError, match=r"row 1 \('lid'\): view factors sum to 1.1 > 1"):
         vf.check_view_factors([1.0, 1.0], [[0.0, 1.0], [1.0, 0.1]], names=["floor", "lid"])
@@ -246,7 +246,7 @@ def test_negative_area_and_out_of_range_factor_and_open_enclosure_are_refused():
 
 
 def test_unknown_shape_and_parameter_and_bad_dimension_are_refused():
-    with pytest.raises(InputError, match="unknown view-factor shape 'coaxial_disks'.*coaxial_discs"):
+    with pytest.raises(InputError, match="shape 'coaxial_disks'.*did you mean 'coaxial_discs'"):
         vf.view_factor("coaxial_disks", radius_from=1, radius_to=1, distance=1)
     with pytest.raises(InputError, match="unknown parameter 'radius'.*radius_from"):
         vf.view_factor("coaxial_discs", radius=1, radius_to=1, distance=1)

@@ -58,6 +58,7 @@ __all__ = [
     "surface_to_surroundings",
     "SurroundingsExchange",
     "separate_links_flow",
+    "separate_links_excess",
     "linearised_conductance",
     "check_emissivity",
 ]
@@ -491,9 +492,10 @@ def separate_links_flow(surface_temperature, surroundings_temperatures, emissivi
 
     .. math:: q = \sum_j \frac{\sigma (T^4 - T_j^4)}{(1-\varepsilon)/(\varepsilon A) + 1/(A F_j)}
 
-    This counts the surface resistance once per link, so it is too small whenever e < 1 and
-    F_j < 1 (the error this module's exact relation removes); kept to measure that error and to
-    warn about it.
+    Each link carries the whole surface resistance, and the links sit in parallel, so the
+    surface's own resistance is in effect divided among them: the flow comes out too large (the
+    surface too close to its surroundings) whenever e < 1 and F_j < 1. Kept to measure that
+    error and to warn about it (see :func:`separate_links_excess`).
 
     >>> round(float(separate_links_flow(20.0, [-10.0, 10.0], 0.5, 1.0, [0.5, 0.5])), 2)
     67.05
@@ -504,6 +506,23 @@ def separate_links_flow(surface_temperature, surroundings_temperatures, emissivi
     e, a = float(emissivity), float(area)
     r = (1.0 - e) / (e * a) + 1.0 / (a * F)
     return (STEFAN_BOLTZMANN * (Ts[..., None] ** 4 - Tj ** 4) / r).sum(axis=-1)
+
+
+def separate_links_excess(emissivity, view_factors) -> float:
+    r"""How much too large separate links make the flow, as a fraction, when every surrounding
+    has the same temperature:
+
+    .. math:: \frac{\sum_j F_j / (\varepsilon + (1-\varepsilon) F_j)}{\sum_j F_j} - 1
+
+    (each link's conductance e A F_j / (e + (1 - e) F_j) against e A F_j; closed form derived
+    here). Zero for a black surface or a single link with F = 1.
+
+    >>> round(separate_links_excess(0.5, [0.5, 0.5]), 4)
+    0.3333
+    """
+    e = float(emissivity)
+    F = np.asarray(view_factors, dtype=float)
+    return float((F / (e + (1.0 - e) * F)).sum() / F.sum() - 1.0)
 
 
 def linearised_conductance(exchange_area, first_temperature, second_temperature):

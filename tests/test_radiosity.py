@@ -252,3 +252,10 @@ def test_linearised_pair_conductances_give_the_exact_flows_at_their_temperatures
     # sum_j G_ij (T_i - T_j) = q_i by the identity (a^4 - b^4) = (a^2 + b^2)(a + b)(a - b)
     assert np.allclose((G * (T[:, None] - T[None, :])).sum(axis=1), enc.heat_flows(T),
                        rtol=1e-12)
+
+
+def test_separate_links_excess_matches_the_flows_at_one_surroundings_temperature():
+    for eps, F in [(0.1, [0.5, 0.5]), (0.5, [0.2, 0.3, 0.4]), (1.0, [0.5, 0.5]), (0.3, [1.0])]:
+        exact = rad.surface_to_surroundings(40.0, [5.0] * len(F), eps, 1.0, F).surface
+        links = rad.separate_links_flow(40.0, [5.0] * len(F), eps, 1.0, F)
+        assert rad.separate_links_excess(eps, F) == pytest.approx(links / exact - 1, abs=1e-12)

@@ -46,6 +46,7 @@ import numpy as np
 
 from .elements import STEFAN_BOLTZMANN
 from .errors import InputError
+from .viewfactors.enclosures import check_view_factors
 
 __all__ = [
     "STEFAN_BOLTZMANN",
@@ -117,7 +118,8 @@ class Enclosure:
     Parameters
     ----------
     areas : sequence of float
-        Surface areas [m^2]; ``inf`` for large surroundings (black).
+        Surface areas [m^2]; ``inf`` for large surroundings (black whatever the emissivity;
+        their row of view factors is 0 apart from 1 on the diagonal).
     emissivities : sequence of float
         Emissivities in (0, 1]; ignored (may be NaN) for reradiating surfaces.
     view_factors : (N, N) array
@@ -154,8 +156,6 @@ class Enclosure:
 
     def __init__(self, areas, emissivities, view_factors, *, names=None, reradiating=None,
                  where: str = "enclosure", tolerance: float = 0.01):
-        from .viewfactors import check_view_factors
-
         A, F = check_view_factors(areas, view_factors, names=names, closed=True,
                                   tolerance=tolerance, where=f"{where}.view_factors")
         n = A.size
@@ -194,6 +194,20 @@ class Enclosure:
         np.fill_diagonal(g, 0.0)
         return g
 
+    def _check_reradiating_reach(self, g, where: str) -> None:
+        """Every reradiating surface must see, directly or through others, a surface with a
+        temperature; otherwise its radiosity is undefined (a singular network)."""
+        from scipy.sparse.csgraph import connected_components
+
+        _, label = connected_components(g > 0, directed=False)
+        anchored = set(label[self.active].tolist())
+        stuck = [self.names[i] for i in np.flatnonzero(self.reradiating)
+                 if label[i] not in anchored]
+        if stuck:
+            raise InputError(f"reradiating surfaces {', '.join(map(repr, stuck[:4]))} see no "
+                             "surface with a temperature", f"{where}.view_factors",
+                             "a reradiating surface needs a view to a heated or cooled one")
+
     def _reduce(self, where: str) -> None:
         n = self.areas.size
         g = self._space_conductances()
@@ -212,11 +226,7 @@ class Enclosure:
             rhs = np.zeros((unknown.size, n))
             rhs[np.arange(unknown.size), unknown] = gs[unknown]
             rhs[:, known] = -L[np.ix_(unknown, known)]
-            if np.linalg.cond(a_uu) > 1e12:
-                stuck = [self.names[i] for i in unknown if self.reradiating[i]]
-                raise InputError(f"surfaces {', '.join(map(repr, stuck[:4]))} see no surface "
-                                 "with a temperature", f"{where}.view_factors",
-                                 "a reradiating surface needs a view to a heated or cooled one")
+            self._check_reradiating_reach(g, where)
             X[unknown] = np.linalg.solve(a_uu, rhs)
         M = np.zeros((n, n))
         M[grey] = gs[grey, None] * (np.eye(n)[grey] - X[grey])

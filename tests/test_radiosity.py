@@ -259,3 +259,15 @@ def test_separate_links_excess_matches_the_flows_at_one_surroundings_temperature
         exact = rad.surface_to_surroundings(40.0, [5.0] * len(F), eps, 1.0, F).surface
         links = rad.separate_links_flow(40.0, [5.0] * len(F), eps, 1.0, F)
         assert rad.separate_links_excess(eps, F) == pytest.approx(links / exact - 1, abs=1e-12)
+
+
+def test_a_reradiating_surface_that_sees_nothing_with_a_temperature_is_refused():
+    # surfaces 0 and 1 see each other only; 2 and 3 (reradiating) see each other only
+    F = [[0, 1, 0, 0], [1, 0, 0, 0], [0, 0, 0, 1], [0, 0, 1, 0]]
+    with pytest.raises(InputError, match=r"reradiating surfaces 'c', 'd' see no surface"):
+        rad.Enclosure([1.0] * 4, [0.5, 0.5, 0.5, 0.5], F, names=list("abcd"),
+                      reradiating=[False, False, True, True])
+    # and a tiny surface beside a huge one is fine (no conditioning test involved)
+    enc = rad.Enclosure([1e-6, np.inf], [0.999999, 1.0], [[0, 1], [0, 1]])
+    assert enc.heat_flows([100.0, 0.0])[0] == pytest.approx(
+        0.999999 * 1e-6 * SIGMA * (kelvin(100.0) ** 4 - kelvin(0.0) ** 4), rel=1e-9)

@@ -271,3 +271,40 @@ def test_a_reradiating_surface_that_sees_nothing_with_a_temperature_is_refused()
     enc = rad.Enclosure([1e-6, np.inf], [0.999999, 1.0], [[0, 1], [0, 1]])
     assert enc.heat_flows([100.0, 0.0])[0] == pytest.approx(
         0.999999 * 1e-6 * SIGMA * (kelvin(100.0) ** 4 - kelvin(0.0) ** 4), rel=1e-9)
+
+
+# -- the wiring plan, tried on today's network: an enclosure as pairwise radiation laws --------------
+@pytest.mark.parametrize("solver", ["stiff", "piecewise"])
+def test_enclosure_pairs_as_radiation_links_follow_the_radiosity_equations(solver):
+    # a closed can (bottom and lid are nodes with capacity, the side wall a boundary at 20 degC);
+    # each pair of surfaces becomes one grey-body radiation law with surface_factor = S_ij.
+    # Reference: scipy's solve_ivp of C dT/dt = -q(T), q from the radiosity equations above.
+    import rcsim
+    from scipy.integrate import solve_ivp
+
+    from rcsim.laws import RadiationLaw
+    from rcsim.parts import Part
+
+    areas, F, names = vf.enclosure_view_factors("cylinder_cavity", radius=0.15, length=0.3)
+    eps = np.array([0.8, 0.3, 0.9])
+    enc = rad.Enclosure(areas, eps, F, names=names)
+    capacity = {"bottom": 3000.0, "top": 1500.0}
+    net = rcsim.Network()
+    net.add_node("bottom", capacity=capacity["bottom"], initial=90.0)
+    net.add_node("top", capacity=capacity["top"], initial=-5.0)
+    net.add_boundary("side", temperature=20.0)
+    for i, j, s in enc.pairs():
+        law = RadiationLaw(s)
+        net.add_link(names[i], names[j], name=f"{names[i]}-{names[j]}",
+                     parts=[Part("radiation", float("nan"), None, 0.0, 0,
+                                 {"surface_factor": s}, "", law=law)])
+    res = net.simulate("3 h", "10 min", solver=solver, rtol=1e-8, atol=1e-8)
+
+    def rhs(t, y):
+        q, _ = radiosity_equations(np.array([y[0], y[1], 20.0]), areas, eps, F)
+        return [-q[0] / capacity["bottom"], -q[1] / capacity["top"]]
+
+    ref = solve_ivp(rhs, (0.0, 3 * 3600.0), [90.0, -5.0], method="Radau", t_eval=res.time,
+                    rtol=1e-10, atol=1e-10)
+    got = res.temperatures[["bottom", "top"]].to_numpy()
+    assert np.abs(got - ref.y.T).max() < 2e-3

@@ -308,3 +308,28 @@ def test_enclosure_pairs_as_radiation_links_follow_the_radiosity_equations(solve
                     rtol=1e-10, atol=1e-10)
     got = res.temperatures[["bottom", "top"]].to_numpy()
     assert np.abs(got - ref.y.T).max() < 2e-3
+
+
+def test_sky_and_ground_as_pairwise_radiation_links_give_the_exact_steady_plate():
+    # the plate seeing sky and ground wired as two radiation laws of e A F_j each (the pair
+    # between the two boundaries changes no node and is left out); steady state against brentq
+    # on the exact relation (Incropera eq. 13.21 split by view factor)
+    import rcsim
+    from rcsim.laws import RadiationLaw
+    from rcsim.parts import Part
+
+    eps = 0.3
+    to, _ = rad.surroundings_exchange_areas(eps, AREA, [0.5, 0.5])
+    net = rcsim.Network()
+    net.add_node("plate", capacity=1000.0, initial=20.0)
+    net.add_boundary("sky", temperature=SKY)
+    net.add_boundary("ground", temperature=GROUND)
+    net.add_source("plate", POWER)
+    for other, s in zip(("sky", "ground"), to):
+        net.add_link("plate", other, name=f"plate-{other}",
+                     parts=[Part("radiation", float("nan"), None, 0.0, 0, {}, "",
+                                 law=RadiationLaw(float(s)))])
+    t_exact = brentq(lambda t: eps * SIGMA * AREA * 0.5 * (
+        2 * kelvin(t) ** 4 - kelvin(SKY) ** 4 - kelvin(GROUND) ** 4) - POWER, -5, 500,
+        xtol=1e-12)
+    assert float(net.steady().temperatures["plate"]) == pytest.approx(t_exact, abs=1e-6)

@@ -273,7 +273,7 @@ def test_a_reradiating_surface_that_sees_nothing_with_a_temperature_is_refused()
         0.999999 * 1e-6 * SIGMA * (kelvin(100.0) ** 4 - kelvin(0.0) ** 4), rel=1e-9)
 
 
-# -- the wiring plan, tried on today's network: an enclosure as pairwise radiation laws --------------
+# -- the wiring plan, tried on the network of today: enclosures as pairwise radiation laws ---
 @pytest.mark.parametrize("solver", ["stiff", "piecewise"])
 def test_enclosure_pairs_as_radiation_links_follow_the_radiosity_equations(solver):
     # a closed can (bottom and lid are nodes with capacity, the side wall a boundary at 20 degC);

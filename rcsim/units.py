@@ -118,8 +118,10 @@ def _si_tables():
     units = {kind: ureg.parse_units(unit) for kind, (unit, _) in KINDS.items()}
     return units, {kind: ureg.Quantity(1.0, u).dimensionality for kind, u in units.items()}
 
+
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?inf|nan)\s*(.*?)\s*$",
                      re.IGNORECASE)
+#: pint's temperature units with a nonzero offset (its definitions file): absolute only
 _OFFSET_UNITS = {"degree_Celsius", "degree_Fahrenheit", "degree_Reaumur"}
 
 
@@ -246,12 +248,13 @@ def _convert(number: float, units, kind: str, original, where) -> float:
     _, dimensions = _si_tables()
     q = ureg.Quantity(number, units)
     dims = q.dimensionality
-    is_offset = not q._is_multiplicative
+    names = [str(name) for name, _ in q.unit_items()]
+    is_offset = any(name in _OFFSET_UNITS for name in names)
     if kind == "temperature":
         if dims != dimensions["temperature"]:
             raise UnitError(f"expected a temperature, got {_short(original)} "
                             f"({_describe_dims(dims)})", where)
-        if any(str(name).startswith("delta_") for name in q._units):
+        if any(name.startswith("delta_") for name in names):
             raise UnitError(f"expected an absolute temperature, got a temperature difference "
                             f"{_short(original)}", where, "write e.g. '25 degC' or '298.15 K'")
         return float(q.to(ureg.degC).magnitude)

@@ -24,7 +24,8 @@ def modes(scenario, top, max_rows):
     table = modes_table(sc.network, top=top)
     click.echo(f"{sc.name}: {len(table)} mode(s)")
     click.echo("")
-    click.echo(f"  {'mode':>4}  {'time constant':>14}  nodes taking part (share of the mode's energy)")
+    click.echo(f"  {'mode':>4}  {'time constant':>14}  "
+               "nodes taking part (share of the mode's energy)")
     for k, row in table.head(max_rows).iterrows():
         click.echo(f"  {k:>4}  {format_time(row['time_constant [s]']):>14}  {row['nodes']}")
     if len(table) > max_rows:

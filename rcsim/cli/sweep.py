@@ -232,6 +232,6 @@ def _one_at_a_time(oat, width) -> list[str]:
             continue
         lines.append(f"    {out} (base {_fmt_output(out, rows['base'].iloc[0], duration)})")
         for _, r in rows.iterrows():
-            lines.append(f"      {r['input']:<{width}}  {_fmt_output(out, r['at_low'], duration):>10}"
-                         f" .. {_fmt_output(out, r['at_high'], duration)}")
+            low, high = (_fmt_output(out, r[end], duration) for end in ("at_low", "at_high"))
+            lines.append(f"      {r['input']:<{width}}  {low:>10} .. {high}")
     return lines

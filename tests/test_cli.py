@@ -148,3 +148,34 @@ def test_short_job_and_disabled_bar_print_nothing(clock, monkeypatch):
         off.runs(3, 4)
         assert off._bar is None
     assert err.getvalue() == ""
+
+
+def test_summary_formatters_stay_importable_from_rcsim_cli():
+    # names the single-file cli module had; they now live beside their commands
+    from rcsim.cli import CAUTION, format_fit_summary, format_run_summary, format_sweep_summary
+    from rcsim.cli.fit import format_fit_summary as fit_summary
+    from rcsim.cli.run import format_run_summary as run_summary
+    from rcsim.cli.sweep import format_sweep_summary as sweep_summary
+
+    assert (format_run_summary, format_fit_summary, format_sweep_summary) == (
+        run_summary, fit_summary, sweep_summary)
+    assert CAUTION.startswith("caution: a simulation supports")
+
+
+def test_internal_nodes_are_hidden_unless_asked(cli, tmp_path):
+    # a sliced layer's internal nodes are named <link>.<i> (README, part kinds)
+    text = open(COLD_BOX).read().replace(
+        '{ conduction = { material = "polyurethane-foam", thickness = "50 mm", '
+        'area = "1.05 m^2" } },',
+        '{ conduction = { material = "polyurethane-foam", thickness = "50 mm", '
+        'area = "1.05 m^2", slices = 3 } },')
+    assert text != open(COLD_BOX).read()
+    p = tmp_path / "sliced.toml"
+    p.write_text(text)
+    r = cli("run", p)
+    assert r.exit_code == 0, r.output
+    assert "(3 internal nodes of sliced layers not shown; --all-nodes lists them)" in r.output
+    r = cli("run", p, "--all-nodes")
+    assert r.exit_code == 0, r.output
+    assert "internal nodes" not in r.output
+    assert sum(line.lstrip().startswith("foam.") for line in r.output.splitlines()) == 3

@@ -76,9 +76,10 @@ def __getattr__(name: str):
         value = package_version()
     elif name in _HOME:
         module = _importlib.import_module(f".{_HOME[name]}", __name__)
-        value = getattr(module, name)
-        if name == "sweep":
-            value = _sweep_function(value)
+        if name == "sweep":  # the function; or the sweep package, when that is callable itself
+            value = _sweep_function(getattr(module, "sweep", module))
+        else:
+            value = getattr(module, name)
     else:
         raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
     globals()[name] = value

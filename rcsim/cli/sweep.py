@@ -101,11 +101,9 @@ def sweep_command(scenario, vary_items, samples, seed, executor, workers, schedu
 
 def _check_table_path(path) -> None:
     """The sweep's own check of a table path (suffix, folder, pyarrow for .parquet)."""
-    import importlib
+    from ..sweep.tables import check_table_path
 
-    tables = importlib.import_module("rcsim.sweep")   # the module: ``rcsim.sweep`` is the function
-    check = getattr(tables, "check_table_path", None) or tables._check_table_path
-    check(path)
+    check_table_path(path)
 
 
 def _where(places) -> str:

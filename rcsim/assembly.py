@@ -23,6 +23,7 @@ import dataclasses
 import math
 import warnings
 from dataclasses import dataclass, field
+from typing import NamedTuple
 
 import numpy as np
 import scipy.sparse as sp
@@ -32,8 +33,19 @@ from . import elements
 from .base import suggest
 from .errors import LumpedWarning, NetworkError
 
-__all__ = ["Assembled", "AssemblyCache", "StructureCache", "assemble_network",
-           "conductance_matrices"]
+__all__ = ["Assembled", "AssemblyCache", "StructureCache", "BoundarySegments",
+           "assemble_network", "conductance_matrices"]
+
+
+class BoundarySegments(NamedTuple):
+    """The segments that touch a boundary, for energy accounting (one entry per segment, apart
+    from ``links``)."""
+
+    links: list                 # indices of the links that touch a boundary, in link order
+    link_column: np.ndarray     # the column of each segment's link in ``links``
+    node: np.ndarray            # its node (point index below N)
+    boundary: np.ndarray        # its boundary column (0..M-1)
+    conductance: np.ndarray     # its conductance [W/K]
 
 
 @dataclass
@@ -183,13 +195,8 @@ class Assembled:
         grounded[labels[self.seg_b[bmask]]] = True
         return [np.flatnonzero(labels == c).tolist() for c in np.flatnonzero(~grounded)]
 
-    def boundary_segments(self):
-        """Segments touching a boundary, for energy accounting.
-
-        Returns (links, seg_link_col, node, boundary, g): ``links`` is the list of link indices
-        that touch a boundary (in link order); for each boundary segment, the column of its link
-        in ``links``, its node index, its boundary column and its conductance.
-        """
+    def boundary_segments(self) -> BoundarySegments:
+        """Segments touching a boundary, for energy accounting (see :class:`BoundarySegments`)."""
         n = self.n_nodes
         is_b = (self.seg_a >= n) | (self.seg_b >= n)
         segs = np.flatnonzero(is_b)
@@ -199,8 +206,8 @@ class Assembled:
         a, b = self.seg_a[segs], self.seg_b[segs]
         node = np.where(a >= n, b, a)
         bnd = np.where(a >= n, a, b) - n
-        return (links, np.asarray([col[li] for li in seg_link], dtype=np.int64), node, bnd,
-                self.seg_g[segs])
+        return BoundarySegments(links, np.asarray([col[li] for li in seg_link], dtype=np.int64),
+                                node, bnd, self.seg_g[segs])
 
     def link_ends(self, links) -> tuple[np.ndarray, np.ndarray]:
         """(first point, second point) of the first segment of each of ``links``."""
@@ -303,8 +310,19 @@ def _link_chains(network, nodes: _Nodes) -> list:
     return chains
 
 
-def _segments(network, chains, point_index):
-    """Segments of every link: (seg_a, seg_b, seg_r, first, last, nonlinear segments)."""
+class _Segments(NamedTuple):
+    """Segments of every link as assembly collects them."""
+
+    a: list                     # first point of each segment
+    b: list                     # second point
+    r: list                     # resistance [K/W] (inf for a nonlinear segment)
+    first: list                 # first segment of each link
+    last: list                  # last segment of each link
+    nonlinear: list             # (segment index, law, R before, R after) of nonlinear segments
+
+
+def _segments(network, chains, point_index) -> _Segments:
+    """Segments of every link."""
     seg_a, seg_b, seg_r, first, last = [], [], [], [], []
     nl_segments = []  # (segment index, law, R before, R after)
     for link, chain in zip(network.links.values(), chains):
@@ -333,7 +351,7 @@ def _segments(network, chains, point_index):
                 acc, law = 0.0, None
                 start = val
         last.append(len(seg_a) - 1)
-    return seg_a, seg_b, seg_r, first, last, nl_segments
+    return _Segments(seg_a, seg_b, seg_r, first, last, nl_segments)
 
 
 def assemble_network(network) -> Assembled:
@@ -355,10 +373,10 @@ def assemble_network(network) -> Assembled:
     point_index = {nm: i for i, nm in enumerate(nodes.names[:n_user])}
     for j, nm in enumerate(boundary_names):
         point_index[nm] = n_nodes + j
-    seg_a, seg_b, seg_r, first, last, nl_segments = _segments(network, chains, point_index)
-    seg_a = np.asarray(seg_a, dtype=np.int64)
-    seg_b = np.asarray(seg_b, dtype=np.int64)
-    seg_g = 1.0 / np.asarray(seg_r, dtype=float)
+    segments = _segments(network, chains, point_index)
+    seg_a = np.asarray(segments.a, dtype=np.int64)
+    seg_b = np.asarray(segments.b, dtype=np.int64)
+    seg_g = 1.0 / np.asarray(segments.r, dtype=float)
     K, B = conductance_matrices(seg_a, seg_b, seg_g, n_nodes, len(boundary_names))
     src_nodes = np.asarray([point_index[s.node] for s in network.sources.values()],
                            dtype=np.int64)
@@ -367,10 +385,10 @@ def assemble_network(network) -> Assembled:
     phase = {point_index[n.name]: n.phase_change for n in network.nodes.values()
              if n.phase_change is not None}
     nl = None
-    if nl_segments:
+    if segments.nonlinear:
         from .laws import SegmentLaws
 
-        nl = SegmentLaws(nl_segments)
+        nl = SegmentLaws(segments.nonlinear)
     return Assembled(
         node_names=nodes.names,
         capacity=np.asarray(nodes.capacity, dtype=float),
@@ -382,8 +400,8 @@ def assemble_network(network) -> Assembled:
         source_profiles=[s.profile for s in network.sources.values()],
         seg_a=seg_a, seg_b=seg_b, seg_g=seg_g,
         link_names=list(network.links),
-        link_first_seg=np.asarray(first, dtype=np.int64),
-        link_last_seg=np.asarray(last, dtype=np.int64),
+        link_first_seg=np.asarray(segments.first, dtype=np.int64),
+        link_last_seg=np.asarray(segments.last, dtype=np.int64),
         K=K, B=B, P=P,
         internal_of=nodes.internal_of,
         phase_change=phase,

@@ -411,20 +411,22 @@ class Network:
             Initial state: the nodes' own initial temperatures (default), the steady state at
             t = 0, the periodic regime of periodic inputs, or a {node: temperature} mapping.
         solver : 'auto', 'exact', 'piecewise' or 'stiff'
-            'exact' (modal, closed form) for linear networks; 'piecewise' (closed form between
-            phase-change and thermostat events, waveform relaxation for radiation and film
-            correlations) for nonlinear networks of up to 200 states; 'stiff' (solve_ivp with an
-            analytic sparse Jacobian) for any network; 'auto' picks 'exact' for linear networks
-            and 'piecewise' for nonlinear ones, falling back to 'stiff' where 'piecewise' does not
-            suit (the reason is kept in ``meta['stats']['piecewise_declined']``).
+            The transient paths of :data:`rcsim.transient.registry.PATHS`: 'exact' (modal,
+            closed form) for linear networks of up to 2000 states; 'piecewise' (closed form
+            between phase-change and thermostat events, waveform relaxation for radiation and
+            film correlations) for networks of up to 200 states; 'stiff' (BDF with an analytic
+            sparse Jacobian) for any network; 'auto' takes the first of them that takes the run,
+            falling back to the next where one does not suit. The reasons of the paths that
+            declined are kept in ``result.run_info.declined`` (and the piecewise path's in
+            ``meta['stats']['piecewise_declined']``).
         record : list of str, optional
             Nodes whose histories are kept (default all).
         output : str or path, optional
             Stream the histories to this HDF5 file in chunks (bounded memory).
         rtol, atol : float
-            Tolerances of the stiff path.
+            Tolerances of the piecewise and stiff paths.
         progress : callable, optional
-            Called with the fraction done (0..1).
+            Called with the fraction done (0..1), a growing number.
         times : array, optional
             Output at these times [s] (any spacing) instead of every ``step``; t = 0 and the
             end are always included.

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import dataclasses
 import warnings
+from typing import NamedTuple
 
 import numpy as np
 import scipy.sparse as sp
@@ -28,7 +29,7 @@ from .thermostat import (THERMOSTAT_KEYS, Thermostat, ThermostatState,  # noqa: 
 
 __all__ = ["SegmentTerm", "Thermostat", "ThermostatState", "make_thermostat", "build_terms",
            "steady_newton", "add_thermostats_from_scenario", "THERMOSTAT_KEYS", "linearised",
-           "segment_jacobian"]
+           "segment_jacobian", "BoundTerms"]
 
 
 # -- nonlinear segments on the stiff path ------------------------------------------------------
@@ -125,7 +126,15 @@ class SegmentTerm:
 
 
 # -- binding to the states ------------------------------------------------------------------------
-def build_terms(network, asm, thermostats=()):
+class BoundTerms(NamedTuple):
+    """The nonlinear parts of a network bound to the states of its reduced system."""
+
+    terms: list          # SegmentTerm of the nonlinear segments (empty without any)
+    phase: dict          # state index -> PhaseChange
+    controllers: list    # a fresh ThermostatState per thermostat
+
+
+def build_terms(network, asm, thermostats=()) -> BoundTerms:
     """Nonlinear terms, phase-change map (state index -> PhaseChange) and fresh thermostat run
     states (:class:`ThermostatState`; the network's thermostats are not changed).
 
@@ -136,9 +145,8 @@ def build_terms(network, asm, thermostats=()):
     phase = {pos[i]: pc for i, pc in asm.phase_change.items()}
     terms = []
     if asm.nl is not None:
-        terms.append(SegmentTerm(asm, asm.boundary_segments()[0]))
-    controllers = [t.bind(asm, ss) for t in thermostats]
-    return terms, phase, controllers
+        terms.append(SegmentTerm(asm, asm.boundary_segments().links))
+    return BoundTerms(terms, phase, [t.bind(asm, ss) for t in thermostats])
 
 
 # -- steady state ----------------------------------------------------------------------------

@@ -211,7 +211,7 @@ def plan_recording(asm, record=None, limits=(), thermostat_names=()) -> Recordin
         a, b = asm.link_ends(np.arange(len(asm.link_names)))
         links = [li for li in range(len(asm.link_names))
                  if all(p >= asm.n_nodes or int(p) in avail for p in (a[li], b[li]))]
-    plan = RecordingPlan([], rec_idx, links, asm.boundary_segments()[0])
+    plan = RecordingPlan([], rec_idx, links, asm.boundary_segments().links)
     for lim in limits:
         if lim.node not in names:
             raise NetworkError(f"unknown node {lim.node!r}", lim.where, suggest(lim.node, names))

@@ -117,7 +117,7 @@ def test_doubling_capacities_doubles_time_constants(net):
         for link in net.links.values():
             for part in link.parts:
                 part.capacity *= 2
-        net._changed()
+        net.mark_changed()
         tau2 = net.time_constants()
     np.testing.assert_allclose(tau2, 2 * tau, rtol=1e-8)
 

@@ -18,7 +18,7 @@ def __getattr__(name):
 
         return simulate
     if name == "trajectory":
-        from .trajectory import trajectory
+        from .trajectories import trajectory
 
         return trajectory
     raise AttributeError(f"module 'rcsim.transient' has no attribute {name!r}")

@@ -60,7 +60,7 @@ class EnergyModel:
         self.phase = dict(phase or {})           # state index -> PhaseChange
         self.controllers = list(controllers)
         self.phase_idx = np.asarray(sorted(self.phase), dtype=np.int64)
-        self.boundary_links = asm.boundary_segments()[0]
+        self.boundary_links = asm.boundary_segments().links
         self._setup_link_energy()
         self.nb = len(self.boundary_links)
         self.nc = len(self.controllers)
@@ -81,7 +81,8 @@ class EnergyModel:
     def _setup_link_energy(self):
         """Maps giving, per boundary segment, g*(u_b - T_node), summed into its link."""
         asm, ss = self.asm, self.ss
-        _, seg_col, nodes, bnd, g = asm.boundary_segments()
+        bseg = asm.boundary_segments()
+        seg_col, nodes, bnd, g = bseg.link_column, bseg.node, bseg.boundary, bseg.conductance
         pos_m, pos_z = ss.state_of, ss.eliminated_of
         n_seg = seg_col.size
         rows, cols, vals = [], [], []

@@ -22,6 +22,7 @@ within a block it is a product with a small lower-triangular Toeplitz matrix of 
 from __future__ import annotations
 
 import math
+from typing import NamedTuple
 
 import numpy as np
 
@@ -29,8 +30,8 @@ from ..modes import modal_decomposition
 from ..statespace import state_space
 from .inputs import input_values, linear_parts
 
-__all__ = ["phi_functions", "linear_recurrence", "linear_recurrence_times", "ExactPropagator",
-           "CHUNK_ELEMENTS"]
+__all__ = ["phi_functions", "linear_recurrence", "linear_recurrence_times", "scan_stretches",
+           "ExactPropagator", "CHUNK_ELEMENTS"]
 
 #: Samples x (modes + inputs) per chunk of propagation: bounds memory, keeps arrays in cache.
 CHUNK_ELEMENTS = 200_000
@@ -167,6 +168,38 @@ def linear_recurrence_times(lam: np.ndarray, t: np.ndarray, G: np.ndarray,
     decay = np.exp(-lam[None, None, :] * (T - block_start[:, None])[:, :, None])  # (nb, L, n)
     Z = Y.transpose(1, 2, 0) + decay * starts[:, None, :]
     return Z.reshape(nb * L, n)[:N]
+
+
+def scan_stretches(e0, starts, G, z0, lam=None, s=None):
+    """States after each interval of ``z[k+1] = e0[k] z[k] + G[k]``, one vectorised recurrence
+    per stretch of equal decay factors (``e0 = exp(-lam h)``; on a grid of mostly unequal
+    intervals, given ``lam`` and the times ``s``, one recurrence over the whole grid)."""
+    m = G.shape[0]
+    if lam is not None and m > 32 and starts.size > m // 4:
+        return linear_recurrence_times(lam, s, G, z0)
+    out = np.empty_like(G)
+    bounds = np.append(starts, m)
+    z = z0
+    for a, b in zip(bounds[:-1].tolist(), bounds[1:].tolist()):
+        if b - a <= 12:  # short stretches (refined spots): step by step is cheaper
+            decay = e0[a]
+            for i in range(a, b):
+                z = decay * z + G[i]
+                out[i] = z
+        else:
+            out[a:b] = linear_recurrence(np.ascontiguousarray(e0[a]), G[a:b], z)
+            z = out[b - 1]
+    return out
+
+
+class PropagatedChunk(NamedTuple):
+    """States over the output intervals t[k0]..t[k1] (see :meth:`ExactPropagator.chunks`)."""
+
+    k0: int
+    k1: int
+    Z: np.ndarray       # modal states at t[k0+1..k1]
+    Zint: np.ndarray    # integral of the modal states over each interval
+    U: np.ndarray       # integral of each input over each interval
 
 
 class ExactPropagator:
@@ -398,8 +431,8 @@ class ExactPropagator:
         """Propagate from ``z0`` at t[0] over the grid ``t`` (any increasing times) chunk by
         chunk, so that memory stays bounded on long grids.
 
-        Yields (k0, k1, Z, Zint, U) for the intervals t[k0]..t[k1]: the states at t[k0+1..k1]
-        and the integrals of the states and of the inputs over each interval (see
+        Yields a :class:`PropagatedChunk` for the intervals t[k0]..t[k1]: the states at
+        t[k0+1..k1] and the integrals of the states and of the inputs over each interval (see
         :meth:`propagate`).
         """
         length = self.chunk_length() if length is None else int(length)
@@ -408,7 +441,7 @@ class ExactPropagator:
         while k0 < N:
             k1 = min(N, k0 + length)
             Z, Zint, U = self.propagate(t[k0:k1 + 1], z)
-            yield k0, k1, Z, Zint, U
+            yield PropagatedChunk(k0, k1, Z, Zint, U)
             z = Z[-1].copy()
             k0 = k1
 

@@ -55,7 +55,8 @@ class ExactPath(TransientPath):
         M = asm.n_boundaries
         A_out, D_out = prop.output_maps(np.asarray(recorder.out_nodes))
         # energy through boundary links: sum over their boundary segments of g (int u_b - int T)
-        _, seg_col, e_nodes, e_b, e_g = asm.boundary_segments()
+        bseg = asm.boundary_segments()
+        seg_col, e_nodes, e_b, e_g = bseg.link_column, bseg.node, bseg.boundary, bseg.conductance
         A_e, D_e = prop.output_maps(e_nodes)
         nb = len(recorder.boundary_links)
         to_links = np.zeros((seg_col.size, nb))

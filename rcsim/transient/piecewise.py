@@ -38,9 +38,10 @@ import numpy as np
 
 from ..runinfo import RunStats
 from .base import PIECEWISE_STATES, NotSuitable
-from .exact import linear_recurrence, linear_recurrence_times, phi_functions
+from .exact import phi_functions, scan_stretches
 from .inputs import linear_parts
 from .mixing import Anderson
+from .piecewise_grid import refined_grid, refinement_pieces
 from .piecewise_events import find_dips, locate_event
 from .piecewise_regimes import Regime, Regimes
 
@@ -224,9 +225,9 @@ class PiecewiseSolver:
         """Integrate over ``grid`` with the remainder given at the grid points.
 
         ``rR[j]``/``rL[j]`` are the remainder flows (per nonlinear segment) at the start/end of
-        interval j. Returns the states H at the grid points, the arrays that
-        :meth:`_finish_integrals` completes with the integrals of the state temperatures and
-        thermostat powers per interval, and the switching times of each on/off thermostat.
+        interval j. Returns the states H at the grid points and the switching times of each
+        on/off thermostat; :meth:`_finish_integrals` then gives the integrals of the state
+        temperatures and thermostat powers per interval.
         """
         n = self.n
         J = grid.size - 1
@@ -293,7 +294,7 @@ class PiecewiseSolver:
         self.stats.events = events
         self._pending = (pending, IntT, IntP)
         self._event_hints = np.asarray(hit_times)
-        return Hg, IntT, IntP, switches
+        return Hg, switches
 
     def _stretch(self, reg, j, j_end, t_c, H_c, rR, rL) -> _Stretch:
         """Advance regime ``reg`` in closed form from (t_c, H_c) over grid intervals
@@ -320,7 +321,7 @@ class PiecewiseSolver:
         if zp is not None:
             G += zp[1:] - e0 * zp[:-1]
         z0 = reg.Vi @ H_c
-        Z = _scan(e0, starts, G, z0, reg.lam, s)
+        Z = scan_stretches(e0, starts, G, z0, reg.lam, s)
         Hs = Z @ reg.V.T
         fired_at, vals, dips = m, None, None
         if reg.dev.size:
@@ -514,7 +515,7 @@ class PiecewiseSolver:
         for _ in range(MAX_SWEEPS):
             for c, o in zip(self.ctrl, on0):
                 c.on = o
-            Hg, _, _, switches = self.sweep(self.grid, rR, rL, H0)   # integrals: see the end
+            Hg, switches = self.sweep(self.grid, rR, rL, H0)   # integrals: see the end
             self.stats.sweeps += 1
             if not self.n_nl:
                 return self._solution(Hg, rR, rL, switches)
@@ -570,34 +571,13 @@ class PiecewiseSolver:
         return xn[:rR.size].reshape(rR.shape), xn[rR.size:].reshape(rL.shape)
 
     def _refine(self, pieces):
-        """Split intervals into the given numbers of pieces; returns the map that carries a
-        remainder (start and end values per interval) over to the new grid, linearly."""
-        old = self.grid
-        h = np.diff(old)
-        idx = np.flatnonzero(pieces > 1)
-        new_pts = [old[j] + h[j] * np.arange(1, pieces[j]) / pieces[j] for j in idx]
-        # the last sweep's events become grid points too: the links' flows bend sharply there
-        # (a pack starts melting, a heater switches), which linear pieces then follow
-        ev = self._event_hints
-        ev = ev[(ev > old[0]) & (ev < old[-1])]
-        if ev.size:
-            pos = np.searchsorted(old, ev)
-            gap = np.minimum(ev - old[pos - 1], old[pos] - ev)
-            ev = ev[gap > 1e-3 * h[pos - 1]]
-            self._kinks = np.union1d(self._kinks, ev)
-            new_pts.append(ev)
-        new_grid = np.union1d(old, np.concatenate(new_pts)) if new_pts else old
+        """Split intervals into the given numbers of pieces (and put the last sweep's events on
+        the grid); returns the map that carries a remainder over to the new grid."""
+        new_grid, lift, self._kinks = refined_grid(self.grid, pieces, self._event_hints,
+                                                   self._kinks)
         if new_grid.size * max(1, self.n) > PIECEWISE_ELEMENTS:
             raise NotSuitable("the grid the nonlinear links need is too fine")
-        # each new interval lies inside one old interval: interpolate its end values there
-        k = np.searchsorted(old, new_grid[:-1], side="right") - 1
-        frac0 = ((new_grid[:-1] - old[k]) / h[k])[:, None]
-        frac1 = ((new_grid[1:] - old[k]) / h[k])[:, None]
         self._set_grid(new_grid)
-
-        def lift(rR, rL):
-            return rR[k] + frac0 * (rL[k] - rR[k]), rR[k] + frac1 * (rL[k] - rR[k])
-
         return lift
 
     def _as_temperature(self, dr: np.ndarray) -> float:
@@ -611,47 +591,7 @@ class PiecewiseSolver:
     def _refine_where(self, rR, rL):
         """Pieces to split each interval into where the remainder bends too much for linear
         interpolation (None when no interval needs it)."""
-        if self._Kp_inv is None or rR.shape[0] < 2:
+        if self._Kp_inv is None:
             return None
-        h = np.diff(self.grid)
-        # curvature from consecutive slopes where the remainder is continuous
-        slope = (rL - rR) / h[:, None]
-        cont = np.abs(rR[1:] - rL[:-1]) <= 1e-12 * (1.0 + np.abs(rR[1:]))
-        if self._kinks.size:   # event points: the flows may bend there, linear on each side
-            cont[np.isin(self.grid[1:-1], self._kinks)] = False
-        d2 = np.where(cont, np.abs(slope[1:] - slope[:-1]), 0.0) / (0.5 * (h[1:] + h[:-1]))[:, None]
-        # interpolation error ~ h^2/8 |r''| on each side of an interior point
-        err = np.zeros_like(rR)
-        err[1:] = np.maximum(err[1:], d2 * (h[1:, None] ** 2) / 8.0)
-        err[:-1] = np.maximum(err[:-1], d2 * (h[:-1, None] ** 2) / 8.0)
-        dT = np.abs(err @ self.N.T) @ self._Kp_inv.T            # K'^-1 |flow error|
-        worst = dT.max(axis=1) / self.grid_tol
-        if worst.max(initial=0.0) <= 1.0:
-            return None
-        # the error falls as h^2: split each interval enough to meet the tolerance (and then some)
-        # (the much larger errors sit where the flows are not smooth, e.g. a film at a vanishing
-        # temperature difference, and fall more slowly: those get more pieces)
-        n = np.where(worst > 100.0, 1.5 * worst ** 0.75, 1.5 * np.sqrt(worst))
-        return np.where(worst > 1.0, np.clip(np.ceil(n), 2, 128), 1).astype(int)
-
-
-def _scan(e0, starts, G, z0, lam=None, s=None):
-    """States after each interval of ``z[k+1] = e0[k] z[k] + G[k]``, one vectorised recurrence
-    per stretch of equal decay factors (``e0 = exp(-lam h)``; on a grid of mostly unequal
-    intervals, given ``lam`` and the times ``s``, one recurrence over the whole grid)."""
-    m = G.shape[0]
-    if lam is not None and m > 32 and starts.size > m // 4:
-        return linear_recurrence_times(lam, s, G, z0)
-    out = np.empty_like(G)
-    bounds = np.append(starts, m)
-    z = z0
-    for a, b in zip(bounds[:-1].tolist(), bounds[1:].tolist()):
-        if b - a <= 12:  # short stretches (refined spots): step by step is cheaper
-            decay = e0[a]
-            for i in range(a, b):
-                z = decay * z + G[i]
-                out[i] = z
-        else:
-            out[a:b] = linear_recurrence(np.ascontiguousarray(e0[a]), G[a:b], z)
-            z = out[b - 1]
-    return out
+        return refinement_pieces(self.grid, rR, rL, self.N, self._Kp_inv, self._kinks,
+                                 self.grid_tol)

@@ -7,6 +7,7 @@
 """
 
 import numpy as np
+import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
 import rcsim
@@ -122,6 +123,7 @@ def test_doubling_capacities_doubles_time_constants(net):
     np.testing.assert_allclose(tau2, 2 * tau, rtol=1e-8)
 
 
+@pytest.mark.slow
 @SET
 @given(networks(sources=True, nonlinear=True), st.sampled_from(["auto", "stiff"]))
 def test_energy_balance_closes(net, solver):

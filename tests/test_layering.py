@@ -11,6 +11,7 @@ strongly connected component of more than one module (Tarjan's algorithm).
 from __future__ import annotations
 
 import ast
+import functools
 import os
 from collections import defaultdict
 
@@ -106,8 +107,9 @@ class _Imports(ast.NodeVisitor):
         self.found.append((self._where(), target, [a.name for a in node.names]))
 
 
+@functools.lru_cache(maxsize=1)
 def _graph():
-    """(edges {(a, b): [where, ...]}, private imports [(a, b, name)])."""
+    """(edges {(a, b): [where, ...]}, private imports [(a, b, name)]), built once."""
     files = _module_files()
     edges = defaultdict(list)
     private = []

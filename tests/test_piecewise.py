@@ -168,6 +168,7 @@ def test_a_heater_started_on_above_its_cut_out_switches_off(solver):
     assert res.temperatures["room"].max() <= T0 + 1e-9
 
 
+@pytest.mark.slow
 @settings(max_examples=40, deadline=None,
           suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
 @given(networks(nonlinear=True))
@@ -248,6 +249,7 @@ def _radiating_box_last_day():
     return long.temperatures.iloc[-145:].to_numpy()
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("solver", ["auto", "stiff"])
 def test_periodic_start_of_a_network_grounded_only_through_radiation(solver):
     # a box whose shell reaches its surroundings only by radiation and a correlation film (no

@@ -54,10 +54,14 @@ class TransientPath:
         One line for help texts (from the registry).
     description : str
         What ``Result.solver`` says of a run made on this path.
+    may_decline_while_running : bool
+        Whether :meth:`run` may raise :class:`NotSuitable` after :meth:`accepts` took the run
+        (then the next path is kept ready).
     """
 
     name = ""
     description = ""
+    may_decline_while_running = False
 
     @property
     def summary(self) -> str:
@@ -71,6 +75,16 @@ class TransientPath:
         """Integrate ``problem`` from ``problem.start`` over its output times into
         ``recorder``; raise :class:`NotSuitable` (before recording anything) when it cannot."""
         raise NotImplementedError
+
+    def temperatures_at(self, problem, nodes):
+        """Temperatures [degC] of ``nodes`` (node indices) at every output time of ``problem``,
+        shape (times, nodes): a run that records those nodes only. A path may do it faster."""
+        from ..recording import MemorySink, Recorder
+
+        sink = MemorySink()
+        self.run(problem, Recorder(problem.asm, problem.plan, sink), Progress())
+        cols = [problem.plan.record.index(i) for i in nodes]
+        return sink.arrays()["temperature"][:, cols]
 
     def period_map(self, problem):
         """A map H -> H over one period of the inputs (stored energies of the states) used to

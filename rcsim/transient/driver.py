@@ -11,8 +11,6 @@ from __future__ import annotations
 import datetime as _dt
 import time as _time
 
-import numpy as np
-
 from ..base import package_version
 from ..errors import Interrupted, SolverError
 from ..modes import DENSE_LIMIT, time_constants_at  # noqa: F401 (DENSE_LIMIT: older imports)
@@ -26,12 +24,14 @@ from .periodic import periodic_start
 from .problem import MAX_SAMPLES, build_problem
 from .registry import AUTO, EXACT_LIMIT, PATHS, SOLVERS, load_path
 
-__all__ = ["simulate", "choose_paths", "run_problem", "EXACT_LIMIT", "MAX_SAMPLES", "SOLVERS"]
+__all__ = ["simulate", "choose_paths", "run_first", "run_problem", "EXACT_LIMIT", "MAX_SAMPLES",
+           "SOLVERS"]
 
 
 def choose_paths(problem, solver: str = AUTO):
     """The paths that take ``problem``, in the order to try them, and {name: reason} of those
-    that decline. A path asked for by name that declines raises its refusal."""
+    that decline. The list ends at the first path that cannot decline once running (later ones
+    are not even imported). A path asked for by name that declines raises its refusal."""
     names = list(PATHS) if solver == AUTO else [solver]
     candidates, declined = [], {}
     for name in names:
@@ -43,29 +43,43 @@ def choose_paths(problem, solver: str = AUTO):
             declined[name] = reason
             continue
         candidates.append(path)
-        if name == "exact":
-            break               # nothing beats the closed form where it applies
+        if not path.may_decline_while_running:
+            break
     return candidates, declined
 
 
-def run_problem(problem, candidates, declined: dict, recorder, progress: Progress,
-                solver: str = AUTO):
-    """Run ``problem`` on the first candidate that does not decline while running; returns
-    (path, RunStats). ``declined`` gains the reasons of those that do; a path asked for by name
-    (``solver``) that declines raises its refusal."""
+def run_first(problem, candidates, declined: dict, attempt, solver: str = AUTO):
+    """``attempt(path)`` on the first candidate that does not decline while running (raising
+    :class:`NotSuitable`); returns (path, what ``attempt`` returned). The periodic start is
+    found once, for the first path tried. ``declined`` gains the reasons of the paths that
+    decline; a path asked for by name (``solver``) that declines raises its refusal."""
     for k, path in enumerate(candidates):
-        if problem.start is None:             # a periodic start, found once for the run
+        if problem.start is None:
             problem.start = periodic_start(problem, path.period_map(problem))
         try:
-            return path, path.run(problem, recorder, progress)
+            return path, attempt(path)
         except NotSuitable as exc:
-            if recorder.n_samples:           # pragma: no cover - a path's contract
-                raise SolverError(f"the {path.name} path declined after recording: {exc}") \
-                    from None
             if solver != AUTO or k == len(candidates) - 1:
                 raise path.refusal(str(exc)) from None
             declined[path.name] = str(exc)
     raise SolverError("no transient path takes this run")  # pragma: no cover - stiff takes all
+
+
+def run_problem(problem, candidates, declined: dict, recorder, progress: Progress,
+                solver: str = AUTO):
+    """Run ``problem`` into ``recorder`` on the first candidate that takes it (see
+    :func:`run_first`); returns (path, RunStats)."""
+
+    def attempt(path):
+        try:
+            return path.run(problem, recorder, progress)
+        except NotSuitable as exc:
+            if recorder.n_samples:           # pragma: no cover - a path's contract
+                raise SolverError(f"the {path.name} path declined after recording: {exc}") \
+                    from None
+            raise
+
+    return run_first(problem, candidates, declined, attempt, solver)
 
 
 def simulate(network, duration, step, *, initial=None, solver="auto", record=None, output=None,

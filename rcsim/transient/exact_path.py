@@ -46,12 +46,24 @@ class ExactPath(TransientPath):
     def refusal(self, reason: str) -> Exception:
         return InputError(f"the exact solver {reason}", "solver", "use solver = 'stiff' or 'auto'")
 
+    @staticmethod
+    def _modal_start(problem) -> np.ndarray:
+        start, prop = problem.start, problem.propagator
+        if start.modal is not None:
+            return start.modal
+        return prop.z_from_temperatures(start.temperatures)
+
+    def temperatures_at(self, problem, nodes) -> np.ndarray:
+        """The modes propagated straight to the output times (no flows, energies or limits)."""
+        prop = problem.propagator
+        A, D = prop.output_maps(np.asarray(nodes))
+        Z = prop.states_at(problem.times, self._modal_start(problem))
+        return Z @ A.T + prop.inputs_at(problem.times) @ D.T
+
     def run(self, problem, recorder, progress: Progress) -> RunStats:
         prop = problem.propagator
         asm, ss, t_out = problem.asm, prop.ss, problem.times
-        start = problem.start
-        z0 = start.modal if start.modal is not None else prop.z_from_temperatures(
-            start.temperatures)
+        z0 = self._modal_start(problem)
         M = asm.n_boundaries
         A_out, D_out = prop.output_maps(np.asarray(recorder.out_nodes))
         # energy through boundary links: sum over their boundary segments of g (int u_b - int T)

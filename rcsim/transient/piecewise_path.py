@@ -23,6 +23,7 @@ class PiecewisePath(TransientPath):
 
     name = "piecewise"
     description = "piecewise exact (events, waveform relaxation)"
+    may_decline_while_running = True      # no convergence, too many events, complex modes
 
     def accepts(self, problem) -> str | None:
         n = problem.ss.n

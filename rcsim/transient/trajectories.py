@@ -12,10 +12,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import InputError
-from ..recording import MemorySink, Recorder
-from .base import Progress
-from .driver import choose_paths, run_problem
-from .periodic import periodic_start
+from .driver import choose_paths, run_first
 from .problem import build_problem
 from .registry import AUTO
 
@@ -57,28 +54,10 @@ def trajectory(network, times, nodes, *, assembled=None, initial=None, solver: s
     problem = build_problem(network, float(t[-1]), float(t[-1]), initial=initial,
                             solver=solver, record=sorted(set(names), key=names.index),
                             rtol=rtol, atol=atol, times=t, assembled=asm, limits=False)
-    rows = np.searchsorted(problem.times, t)
     candidates, declined = choose_paths(problem, solver)
-    if candidates[0].name == "exact":
-        return _exact(problem, idx)[rows]
-    sink = MemorySink()
-    recorder = Recorder(asm, problem.plan, sink)
-    run_problem(problem, candidates, declined, recorder, Progress(), solver)
-    recorded = sink.arrays()["temperature"]
-    cols = [problem.plan.record.index(i) for i in idx]
-    return recorded[rows][:, cols]
-
-
-def _exact(problem, idx) -> np.ndarray:
-    """Temperatures of nodes ``idx`` at every output time of a linear ``problem``."""
-    if problem.start is None:
-        problem.start = periodic_start(problem)
-    prop = problem.propagator
-    start = problem.start
-    z0 = start.modal if start.modal is not None else prop.z_from_temperatures(start.temperatures)
-    A, D = prop.output_maps(np.asarray(idx))
-    Z = prop.states_at(problem.times, z0)
-    return Z @ A.T + prop.inputs_at(problem.times) @ D.T
+    _, T = run_first(problem, candidates, declined,
+                     lambda path: path.temperatures_at(problem, idx), solver)
+    return T[np.searchsorted(problem.times, t)]
 
 
 def _node_index(asm, node) -> int:

@@ -58,10 +58,13 @@ class StructureCache:
         The reduced system (massless nodes eliminated), once built.
     modes : rcsim.modes.Modes or None
         The modal decomposition of the reduced system, once computed.
+    boundary_segments : BoundarySegments or None
+        The segments that touch a boundary, once listed.
     """
 
     state_space: object | None = None
     modes: object | None = None
+    boundary_segments: object | None = None
 
 
 @dataclass
@@ -197,6 +200,12 @@ class Assembled:
 
     def boundary_segments(self) -> BoundarySegments:
         """Segments touching a boundary, for energy accounting (see :class:`BoundarySegments`)."""
+        cached = self.cache.structure.boundary_segments
+        if cached is None:
+            cached = self.cache.structure.boundary_segments = self._list_boundary_segments()
+        return cached
+
+    def _list_boundary_segments(self) -> BoundarySegments:
         n = self.n_nodes
         is_b = (self.seg_a >= n) | (self.seg_b >= n)
         segs = np.flatnonzero(is_b)

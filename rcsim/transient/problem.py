@@ -148,7 +148,11 @@ def given_times(times, duration: float) -> np.ndarray:
         raise InputError(f"times must increase (times[{i}] = {t[i]:g} s)", "times")
     if t[0] < 0 or t[-1] > duration * (1 + 1e-12):
         raise InputError(f"times must lie within 0 and the duration ({duration:g} s)", "times")
-    return np.unique(np.concatenate([[0.0], t, [duration]]))
+    if t[-1] > duration:            # within rounding of the end: both kept, in order
+        return np.unique(np.concatenate([[0.0], t, [duration]]))
+    head = [[0.0]] if t[0] > 0 else []
+    tail = [[duration]] if t[-1] < duration else []
+    return np.concatenate(head + [t] + tail) if head or tail else t.copy()
 
 
 def check_settings(duration, step, solver, rtol, atol) -> tuple[float, float]:

@@ -22,6 +22,8 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
+import numpy as np
+
 from . import elements
 from .assembly import Assembled, assemble_network, conductance_matrices
 from .base import suggest

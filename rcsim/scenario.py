@@ -19,11 +19,13 @@ import tomllib
 from dataclasses import dataclass, field
 from typing import Any
 
+from .base import suggest
 from .errors import InputError, ScenarioError
-from .materials import suggest
 from .network import Network
 from .parts import check_keys
 from .profiles import Constant, Profile, Repeat, Sine, Steps, Table
+from .thermostat import add_thermostats_from_scenario
+from .transient.registry import check_solver
 from .units import to_si
 
 __all__ = ["Scenario", "Settings", "load", "loads", "parse_key_path", "format_key_path",
@@ -328,12 +330,10 @@ def _build(data, text, path, base_dir, allow_abs, name) -> Scenario:
         net.add_limit(nm, spec.get("min"), spec.get("max"), where=w)
     extras = {}
     if "thermostats" in data:
-        from .nonlinear import add_thermostats_from_scenario  # noqa: PLC0415
-
         add_thermostats_from_scenario(net, _table(data["thermostats"], "thermostats"))
     if settings.record is not None:
         for i, r in enumerate(settings.record):
-            if r not in net.nodes and not net._is_internal_name(r):
+            if r not in net.nodes and not net.is_internal_name(r):
                 raise ScenarioError(f"unknown node {r!r}", f"simulation.record[{i}]",
                                     suggest(r, list(net.nodes)))
     net.source_text = text
@@ -358,13 +358,7 @@ def _settings(sim: dict) -> Settings:
                                 f"{sim['initial']!r}", "simulation.initial")
         st.initial = sim["initial"]
     if "solver" in sim:
-        from .transient.driver import SOLVERS  # the one list of solver names
-
-        if sim["solver"] not in SOLVERS:
-            raise ScenarioError(f"solver must be one of {', '.join(map(repr, SOLVERS))}, got "
-                                f"{sim['solver']!r}", "simulation.solver",
-                                suggest(str(sim["solver"]), list(SOLVERS)))
-        st.solver = sim["solver"]
+        st.solver = check_solver(sim["solver"], "simulation.solver", ScenarioError)
     if "record" in sim:
         rec = sim["record"]
         if not isinstance(rec, list) or not all(isinstance(r, str) for r in rec) or not rec:

@@ -14,7 +14,7 @@ from ..units import format_duration, to_si
 from .evaluate import Evaluator
 from .requirement import parse_requirements
 from .result import SizingResult
-from .search import SCAN_POINTS, ends_direction, last_crossing, search_continuous, \
+from .search import CHECK_POINTS, SCAN_POINTS, ends_direction, last_crossing, search_continuous, \
     search_discrete
 from .uncertain import check_confidence, draw_uncertain, wilson_interval
 from .variable import parse_vary
@@ -35,7 +35,7 @@ class SizingWarning(RcsimWarning):
 def size(scenario, vary, require, *, vary_uncertain=None, samples=None, confidence=None,
          seed=None, tolerance=None, executor=None, workers=None, scheduler=None,
          dask_workers=None, batch_size=None, progress=None,
-         scan_points=SCAN_POINTS) -> SizingResult:
+         scan_points=SCAN_POINTS, check_points=CHECK_POINTS) -> SizingResult:
     """Find the value of a scenario's key that just meets one or more requirements.
 
     Parameters
@@ -68,6 +68,9 @@ def size(scenario, vary, require, *, vary_uncertain=None, samples=None, confiden
         Called after each batch of runs with an estimate of the share of the search done.
     scan_points : int
         Values scanned over the range when the response turns out not to be monotone.
+    check_points : int
+        Values run after the search between the answer and the end of the range that meets the
+        requirements (a check that they all do; 0 to skip).
 
     Returns
     -------
@@ -107,9 +110,9 @@ def size(scenario, vary, require, *, vary_uncertain=None, samples=None, confiden
         if ends_direction(low, high) is None:
             raise _ends_error(sized, requirements, low, high, duration, conf)
         if sized.discrete:
-            outcome = search_discrete(ev, low, high, len(sized.choices))
+            outcome = search_discrete(ev, low, high, len(sized.choices), check_points)
         else:
-            outcome = search_continuous(ev, low, high, xtol, scan_points)
+            outcome = search_continuous(ev, low, high, xtol, scan_points, check_points)
     found_warnings += _search_warnings(outcome, sized, requirements, scan_points)
     result = _result(sc, sized, requirements, ev, outcome, tol, design, conf, info, notes,
                      found_warnings, layout)
@@ -242,7 +245,7 @@ def _search_warnings(outcome, sized, requirements, scan_points) -> list[str]:
     text = (f"the response is not monotone in {sized.key} over {sized.describe()}: "
             + "; ".join(parts))
     if outcome.scanned:
-        near = ", ".join(sized.format(0, 0.5 * (sized.at(a.x)[0] + sized.at(b.x)[0]))
+        near = ", ".join(sized.format(0, 0.5 * (sized.at(a.x)[0] + sized.at(b.x)[0]), digits=4)
                          for a, b in outcome.crossings[:6])
         scanned = len(sized.choices) if sized.discrete else scan_points
         text += (f"; a scan of {scanned} values finds them changing over "

@@ -33,11 +33,12 @@ def format_report(res) -> str:
     sized = res.sized
     for i, key in enumerate(res.values):
         lines.append(f"  searched: {key} over {sized.describe(i)}"
-                     + (f" (tolerance {sized.format(0, res.tolerance)})"
+                     + (f" (tolerance {sized.format(0, res.tolerance, digits=3)})"
                         if i == 0 and res.tolerance else ""))
     if res.uncertain:
-        lines.append(f"  uncertain: {res.samples} draws (seed {res.seed}) of "
-                     + "; ".join(f"{k} {d}" for k, d in res.uncertain.items()))
+        lines.append(f"  uncertain: {res.samples} draws (seed {res.seed}) of")
+        width = max(len(k) for k in res.uncertain)
+        lines += [f"    {k:<{width}}  {d}" for k, d in res.uncertain.items()]
     lines.append("")
     for key, text in res.value_texts.items():
         lines.append(f"  answer: {key} = {text} ({res.direction})")

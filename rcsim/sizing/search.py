@@ -15,11 +15,15 @@ Over choices (:func:`search_discrete`): bisection on the index of the sorted cho
 the response is monotone: the answer is the first choice meeting the requirement next to one
 that does not.
 
-Both then check what they evaluated (:func:`monotonicity`): every requirement's slack should move
-one way only as the value grows, and met and not met should change over once. If not, the whole
-range is scanned on a grid (every choice, for choices), and the answer is the value past which
-every value run meets the requirement (the *last* change from not met to met, seen from the end
-that meets it); the caller warns and lists where the changes are.
+Both then run a few *check points* between the answer and the end of the range that meets the
+requirement (a quarter, half and three quarters of the way; for choices, up to three of the
+choices in between), all at once, and check everything evaluated (:func:`monotonicity`): every
+requirement's slack should move one way only as the value grows, and met and not met should
+change over once. If not, the whole range is scanned on a grid (every choice, for choices), and
+the answer is the value past which every value run meets the requirement (the *last* change from
+not met to met, seen from the end that meets it); the caller warns and lists where the changes
+are. The check sees only the values run: a narrow dip between them goes unseen (a sweep over the
+range shows the whole response).
 """
 
 from __future__ import annotations
@@ -31,10 +35,12 @@ import numpy as np
 from ..errors import SolverError
 
 __all__ = ["SearchOutcome", "ends_direction", "last_crossing", "monotonicity",
-           "search_continuous", "search_discrete", "SCAN_POINTS"]
+           "search_continuous", "search_discrete", "SCAN_POINTS", "CHECK_POINTS"]
 
 #: Points of the scan over the range when the response is not monotone.
 SCAN_POINTS = 17
+#: Check points between the answer and the end of the range that meets the requirement.
+CHECK_POINTS = 3
 #: Most candidates a search may evaluate.
 MAX_EVALUATIONS = 120
 #: A slack may go back by this much (relative to its spread, plus this absolute amount in its
@@ -160,9 +166,15 @@ def _narrow(evaluate, direction, xtol, count) -> tuple:
         evaluate([0.5 * (answer.x + other.x)])
 
 
-def search_continuous(evaluate, low, high, xtol, scan_points=SCAN_POINTS) -> SearchOutcome:
+def _check_points(answer, end, checks) -> list[float]:
+    return [answer + (end - answer) * (k + 1) / (checks + 1) for k in range(checks)]
+
+
+def search_continuous(evaluate, low, high, xtol, scan_points=SCAN_POINTS,
+                      checks=CHECK_POINTS) -> SearchOutcome:
     """Search the range [0, 1] of the search coordinate; ``low`` and ``high`` are the evaluated
-    ends (one meets the requirements, the other does not); ``xtol`` the tolerance in x.
+    ends (one meets the requirements, the other does not); ``xtol`` the tolerance in x;
+    ``checks`` the check points run after the search.
 
     ``evaluate(xs)`` returns the candidates at ``xs`` and keeps them in ``evaluate.candidates``.
     """
@@ -170,6 +182,9 @@ def search_continuous(evaluate, low, high, xtol, scan_points=SCAN_POINTS) -> Sea
     count = lambda: len(evaluate.candidates)  # noqa: E731
     _brent(evaluate, low.x, high.x, xtol)
     other, answer = _narrow(evaluate, direction, xtol, count)
+    if checks:
+        met_end = high.x if direction == "at least" else low.x
+        evaluate(_check_points(answer.x, met_end, checks))
     n_req = len(answer.slack)
     bad, flips = monotonicity(evaluate.candidates, n_req, direction)
     outcome = SearchOutcome(answer, other, direction, bad, flips)
@@ -186,8 +201,9 @@ def search_continuous(evaluate, low, high, xtol, scan_points=SCAN_POINTS) -> Sea
                          crossings(evaluate.candidates), True)
 
 
-def search_discrete(evaluate, low, high, n) -> SearchOutcome:
-    """Bisect the choices 0..n-1 (``low``, ``high``: the evaluated first and last)."""
+def search_discrete(evaluate, low, high, n, checks=CHECK_POINTS) -> SearchOutcome:
+    """Bisect the choices 0..n-1 (``low``, ``high``: the evaluated first and last), then run up
+    to ``checks`` of the choices between the answer and the end that meets the requirement."""
     direction = ends_direction(low, high)
     other, answer = (low, high) if direction == "at least" else (high, low)
     while abs(answer.x - other.x) > 1:
@@ -196,6 +212,11 @@ def search_discrete(evaluate, low, high, n) -> SearchOutcome:
             answer = mid
         else:
             other = mid
+    if checks:
+        met_end = high.x if direction == "at least" else low.x
+        between = sorted({round(x) for x in _check_points(answer.x, met_end, checks)}
+                         - {answer.x, met_end})
+        evaluate([float(i) for i in between])
     n_req = len(answer.slack)
     bad, flips = monotonicity(evaluate.candidates, n_req, direction)
     outcome = SearchOutcome(answer, other, direction, bad, flips)

@@ -116,9 +116,10 @@ class Sized:
         return 0.0 if self.discrete else float(self.highs[0] - self.lows[0])
 
     def format(self, i: int, value: float, round_to: float | None = None,
-               up: bool | None = None) -> str:
-        """Key ``i``'s ``value`` (SI) in its display unit; with ``round_to`` (SI) rounded to a
-        power of ten no coarser than it, up (``up=True``) or down."""
+               up: bool | None = None, digits: int = 6) -> str:
+        """Key ``i``'s ``value`` (SI) in its display unit, to ``digits`` significant digits;
+        with ``round_to`` (SI) rounded to a power of ten no coarser than it, up (``up=True``) or
+        down (``up=False``)."""
         factor, unit = self.units[i]
         v = value * factor
         if round_to is not None and round_to > 0:
@@ -129,7 +130,7 @@ class Sized:
             decimals = max(0, -int(math.floor(math.log10(step))))
             text = f"{v:.{decimals}f}"
         else:
-            text = f"{v:.6g}"
+            text = f"{v:.{digits}g}"
         return f"{text} {unit}".strip()
 
     def describe(self, i: int = 0) -> str:

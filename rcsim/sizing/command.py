@@ -57,7 +57,8 @@ def size_command(scenario, vary_items, require_items, *, vary_uncertain_items=()
                  confidence=None, seed=None, tolerance=None, executor=None, workers=None,
                  scheduler=None, dask_workers=None, output=None, write_scenario=None,
                  plots_dir=None, allow_absolute_paths=False, quiet=False, progress=None) -> str:
-    """Run ``rcsim size`` with parsed options; returns the text to print (empty when quiet).
+    """Run ``rcsim size`` with parsed options; returns the text to print (with ``quiet``, only
+    the files written).
 
     Parameters are the command's options (see the module docstring); ``progress`` is a
     ``callable(fraction, detail)`` for a progress bar.
@@ -94,5 +95,4 @@ def size_command(scenario, vary_items, require_items, *, vary_uncertain_items=()
     if plots_dir is not None:
         written += sizing_figures(res, plots_dir, stem=os.path.splitext(sc.name)[0])
     lines = [] if quiet else [res.report()]
-    lines += [f"wrote {p}" for p in written] if not quiet else []
-    return "\n".join(lines)
+    return "\n".join(lines + [f"wrote {p}" for p in written])

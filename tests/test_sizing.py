@@ -136,7 +136,8 @@ def test_a_choice_from_a_catalogue_of_thicknesses():
     # smallest catalogue thickness that holds is 40 mm (derived by hand). Bisection of six
     # choices: the two ends, then 30 mm (fails) and 40 mm (holds), and 50 mm as a check (the
     # one choice between the answer and the end): five runs.
-    wall = 'parts = [ { conduction = { k = "0.04 W/(m*K)", thickness = "25 mm", area = "1 m^2" } } ]'
+    wall = ('parts = [ { conduction = { k = "0.04 W/(m*K)", thickness = "25 mm", '
+            'area = "1 m^2" } } ]')
     res = size(box(wall=wall), vary={"links.wall.parts[0].conduction.thickness":
                                      ["60 mm", "10 mm", "20 mm", "30 mm", "40 mm", "50 mm"]},
                require="hold_time.box >= 15 h")
@@ -176,7 +177,8 @@ def test_95_percent_confidence_under_a_normal_ambient():
     ambient_equivalent = (T_MAX * q - T_I) / (q - 1)
     assert abs(ambient_equivalent - true_q) < 3 * se
     # the share met at the answer, counted from the closed form, and Wilson's interval
-    # (Wilson 1927: centre (p + z^2/2n)/(1 + z^2/n), half-width z/(1 + z^2/n) sqrt(p(1-p)/n + z^2/4n^2))
+    # (Wilson 1927: centre (p + z^2/2n)/(1 + z^2/n),
+    #  half-width z/(1 + z^2/n) sqrt(p(1-p)/n + z^2/4n^2))
     k = int(np.sum(needed(drawn) <= res.value))
     assert res.share == pytest.approx(k / n) and k >= 95
     p, z2 = k / n, 1.959963984540054
@@ -186,8 +188,10 @@ def test_95_percent_confidence_under_a_normal_ambient():
     assert res.confidence == 0.95 and res.samples == n and res.seed == seed
 
 
-def test_processes_give_the_same_answer_as_this_process():
+def test_processes_and_dask_give_the_same_answer_as_this_process():
     # the executor decides where the runs go, not what they give (same draws, same rows)
+    from dask.distributed import Client, LocalCluster
+
     kwargs = dict(vary={"nodes.box.capacity": ("1000 kJ/K", "6000 kJ/K")},
                   require="hold_time.box >= 10 h",
                   vary_uncertain={"boundaries.room.temperature": "normal(25 degC, 2 K)"},
@@ -196,6 +200,12 @@ def test_processes_give_the_same_answer_as_this_process():
     pooled = size(box(duration="12 h", step="10 min"), executor="processes", workers=2, **kwargs)
     assert pooled.value == serial.value and pooled.n_runs == serial.n_runs
     assert pooled.executor["name"] == "processes"
+    # a Dask cluster in this process (threads: quick to start); the job is scattered once
+    with LocalCluster(n_workers=1, threads_per_worker=2, processes=False,
+                      dashboard_address=None) as cluster, Client(cluster) as client:
+        dask = size(box(duration="12 h", step="10 min"), executor="dask", scheduler=client,
+                    **kwargs)
+    assert dask.value == serial.value and dask.runs.equals(serial.runs)
 
 
 def test_a_response_that_is_not_monotone_is_scanned_and_warned_about():

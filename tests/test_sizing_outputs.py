@@ -148,8 +148,13 @@ def test_the_command_body_prints_the_answer_and_writes_what_was_asked(tmp_path):
 def test_the_evaluations_table_and_the_figure_show_the_runs(tmp_path):
     path = tmp_path / "box.toml"
     path.write_text(BOX, encoding="utf-8")
+    calls = []
     res = size(str(path), vary={"nodes.box.capacity": ("1000 kJ/K", "8000 kJ/K")},
-               require="hold_time.box >= 20 h")
+               require="hold_time.box >= 20 h", progress=lambda f, d: calls.append((f, d)))
+    # progress: the share of the bracket closed (log scale), 1 once it is within the tolerance
+    fractions = [f for f, _ in calls]
+    assert all(0.0 <= f <= 1.0 for f in fractions) and max(fractions) == 1.0
+    assert calls[-1][1].startswith(f"{res.n_runs} runs")
     out = res.write_runs(tmp_path / "runs.h5")
     back = read_table(out)
     assert back.attrs["requirements"] == ["hold_time.box >= 20 h"]

@@ -293,10 +293,11 @@ def _result(sc, sized, requirements, ev, outcome, tol, design, conf, info, notes
 
 
 def _add_uncertain(result, design, conf, answer, ev) -> None:
-    from ..sweep.tables import unit_of
+    from ..units import si_unit
 
     kinds = dict(zip(design.keys, design.kinds))
-    result.uncertain = design.describe(lambda k: unit_of(k, kinds))
+    result.uncertain = design.describe(
+        lambda k: si_unit(kinds[k], display=True) if kinds[k] != "dimensionless" else "")
     result.confidence, result.samples, result.seed = conf, design.samples, design.seed
     result.share = answer.share
     result.share_interval = wilson_interval(answer.n_met, answer.n_runs)

@@ -149,7 +149,8 @@ def parse_requirement(text, nodes, limit_nodes, where="require") -> Requirement:
     m = _PATTERN.match(text)
     if not m:
         raise InputError("cannot read this requirement", here,
-                         "write OUTPUT >= VALUE or OUTPUT <= VALUE, e.g. 'hold_time.payload >= 72 h'")
+                         "write OUTPUT >= VALUE or OUTPUT <= VALUE, "
+                         "e.g. 'hold_time.payload >= 72 h'")
     output, op, value = m.group("output"), m.group("op"), m.group("value")
     if op not in _OPS:
         raise InputError(f"the comparison {op!r} cannot be sized for", here,

@@ -158,8 +158,11 @@ class SizingResult:
         req = "; ".join(r.text for r in self.requirements)
         lines = [f"{HEADER_FIRST}{req}"]
         if self.confidence is not None:
-            lines.append(f"# in {100 * self.confidence:g} % of {self.samples} draws of: "
-                         + "; ".join(f"{k} {d}" for k, d in self.uncertain.items()))
+            lo, hi = self.share_interval
+            lines.append(f"# in {100 * self.confidence:g} % of {self.samples} draws (seed "
+                         f"{self.seed}; met in {100 * self.share:.1f} %, 95 % Wilson interval "
+                         f"{100 * lo:.1f}..{100 * hi:.1f} %) of:")
+            lines += [f"#   {k} {d}" for k, d in self.uncertain.items()]
         for k, text in self.value_texts.items():
             lines.append(f"#   {k} = {text} ({self.direction}; searched "
                          f"{self.sized.describe(list(self.values).index(k))})")

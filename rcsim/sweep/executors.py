@@ -11,7 +11,9 @@ order they finish; the caller closes it on Ctrl-C, which cancels what has not st
   ``broadcast=True``. dask is imported only here.
 
 :func:`run_rows` runs every row of a design through one of them and stores the results by run
-index, so the table does not depend on the order of arrival.
+index, so the table does not depend on the order of arrival. :class:`RowRunner` does the same for
+a caller that runs rows of one job a few at a time, call after call (a search): the pool or the
+cluster starts once and the job travels once.
 """
 
 from __future__ import annotations
@@ -29,7 +31,7 @@ from ..errors import InputError, RcsimWarning, SolverError
 from .worker import run_batch
 
 __all__ = ["EXECUTORS", "ExecutorInfo", "RowResults", "check_executor", "batches", "run_rows",
-           "relay_warnings"]
+           "relay_warnings", "RowRunner"]
 
 EXECUTORS = ("serial", "processes", "dask")
 
@@ -252,3 +254,116 @@ def _caller_level() -> int:
     while frame is not None and frame.f_code.co_filename.startswith(_PACKAGE_DIR + os.sep):
         frame, level = frame.f_back, level + 1
     return level
+
+
+class RowRunner:
+    """Rows of one job run on one executor, call after call, the executor kept open in between.
+
+    For a caller that decides its next rows from the last ones (a search): the process pool or
+    the Dask client starts at the first call and the job travels to the workers once, so each
+    call costs its runs only. Use as a context manager (or call :meth:`close`); Ctrl-C during a
+    call cancels what has not started and propagates as ``KeyboardInterrupt``.
+
+    Parameters
+    ----------
+    job_of : callable(ship) -> Job
+        Makes the :class:`~rcsim.sweep.worker.Job` (``ship``: for other processes).
+    n_out : int
+        Outputs per run.
+    info : ExecutorInfo
+        From :func:`check_executor`.
+    scheduler : str or dask.distributed.Client, optional
+    batch_size : int, optional
+        Runs per task (default as :func:`batches`).
+    """
+
+    def __init__(self, job_of, n_out, info: ExecutorInfo, *, scheduler=None, batch_size=None):
+        self.job_of, self.n_out, self.info = job_of, n_out, info
+        self.scheduler, self.batch_size = scheduler, batch_size
+        self.runs = 0  # rows run so far, over every call
+        self._job = None
+        self._pool = None
+        self._client = None
+        self._closers: list = []
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, exc_type, exc, tb):
+        self.close(wait=exc_type is None)
+
+    def run(self, values) -> RowResults:
+        """Run every row of ``values`` (shape (rows, keys)); results by row, as :func:`run_rows`
+        gives them (``warnings``: counts of this call's runs)."""
+        values = np.asarray(values, dtype=float)
+        n = len(values)
+        found = RowResults(np.full((n, self.n_out), np.nan), np.full(n, "", dtype=object),
+                           np.zeros(n, dtype=bool), {})
+        if n == 0:
+            return found
+        todo = batches(values, self.info.workers, self.batch_size)
+        for idx, out, errors, seen in self._results(todo):
+            found.outputs[idx] = out
+            found.errors[idx] = errors
+            found.done[idx] = True
+            for text, count in seen.items():
+                found.warnings[text] = found.warnings.get(text, 0) + count
+        self.runs += n
+        return found
+
+    def _results(self, todo):
+        if self.info.name == "serial":
+            if self._job is None:
+                self._job = self.job_of(False)
+            for b in todo:
+                yield run_batch(self._job, b)
+            return
+        if self.info.name == "processes":
+            yield from self._on_pool(todo)
+            return
+        yield from self._on_dask(todo)
+
+    def _on_pool(self, todo):
+        import concurrent.futures as cf
+
+        if self._pool is None:
+            self._pool = cf.ProcessPoolExecutor(max_workers=self.info.workers,
+                                                initializer=_init_worker,
+                                                initargs=(self.job_of(True),))
+        futures = [self._pool.submit(_run_batch_here, b) for b in todo]
+        try:
+            for fut in cf.as_completed(futures):
+                yield _worker_result(fut)
+        finally:
+            for fut in futures:
+                fut.cancel()
+
+    def _on_dask(self, todo):
+        if self._client is None:
+            client, own, cluster = _dask_client(self.scheduler, self.info.workers)
+            self._client = client
+            if cluster is not None:
+                self._closers.append(cluster.close)
+            if own:
+                self._closers.insert(0, client.close)
+            self._job = client.scatter(self.job_of(True), broadcast=True)
+        from dask.distributed import as_completed
+
+        futures = [self._client.submit(run_batch, self._job, b, pure=False) for b in todo]
+        try:
+            for fut in as_completed(futures):
+                yield _worker_result(fut)
+        finally:
+            pending = [f for f in futures if not f.done()]
+            if pending:
+                self._client.cancel(pending)
+
+    def close(self, wait: bool = True) -> None:
+        """Stop the pool or close the Dask client (and a local cluster) this runner started;
+        ``wait=False`` (after Ctrl-C) does not wait for batches already running."""
+        if self._pool is not None:
+            self._pool.shutdown(wait=wait, cancel_futures=True)
+            self._pool = None
+        for close in self._closers:
+            close()
+        self._closers, self._client, self._job = [], None, None

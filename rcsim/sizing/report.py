@@ -8,7 +8,11 @@ from __future__ import annotations
 import math
 
 from .requirement import format_output
-from .result import CAUTION
+
+#: The caution printed with every sizing.
+CAUTION = ("caution: sizing supports, and never replaces, qualification testing, local codes and "
+           "licensed professional judgement; the answer is only as good as the model and its "
+           "inputs.")
 
 __all__ = ["format_report", "evaluations_lines"]
 

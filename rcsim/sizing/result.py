@@ -20,6 +20,7 @@ import pandas as pd
 from ..errors import DataError, SolverError
 from ..scenario import Scenario, loads
 from ..units import to_si
+from .report import CAUTION, format_report
 from .requirement import format_output
 
 __all__ = ["SizingResult", "HEADER_FIRST", "HEADER_LAST", "CAUTION"]
@@ -28,10 +29,6 @@ __all__ = ["SizingResult", "HEADER_FIRST", "HEADER_LAST", "CAUTION"]
 HEADER_FIRST = "# Sized by rcsim for "
 HEADER_LAST = ("# Sizing supports, and never replaces, qualification testing and professional "
                "judgement.")
-#: The caution printed with every sizing.
-CAUTION = ("caution: sizing supports, and never replaces, qualification testing, local codes and "
-           "licensed professional judgement; the answer is only as good as the model and its "
-           "inputs.")
 
 
 @dataclass
@@ -138,8 +135,6 @@ class SizingResult:
 
     def report(self) -> str:
         """The text ``rcsim size`` prints (see :func:`rcsim.sizing.report.format_report`)."""
-        from .report import format_report
-
         return format_report(self)
 
     def write_runs(self, path) -> str:

@@ -9,7 +9,7 @@ import click
 from ..errors import InputError
 from .format import CAUTION, format_time
 from .guard import guard
-from .options import (SOLVERS, allow_absolute_paths_option, check_output, load_scenario,
+from .options import (SOLVERS, solver_help, allow_absolute_paths_option, check_output, load_scenario,
                       scenario_argument)
 
 __all__ = ["fit", "format_fit_summary"]
@@ -39,7 +39,7 @@ __all__ = ["fit", "format_fit_summary"]
 @click.option("--starts", default=4, show_default=True, type=click.IntRange(1, 50),
               help="Number of starting points (against local minima).")
 @click.option("--solver", type=click.Choice(SOLVERS), default="auto",
-              show_default=True, help="How the model is run at each evaluation.")
+              show_default=True, help="How the model is run at each evaluation: " + solver_help())
 @click.option("-o", "--output", type=click.Path(), help="Write the estimates table to this CSV "
               "file.")
 @click.option("--write-scenario", type=click.Path(), help="Write the fitted scenario to this "

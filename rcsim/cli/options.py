@@ -12,12 +12,12 @@ import click
 
 from ..errors import InputError
 
-__all__ = ["SOLVERS", "scenario_argument", "allow_absolute_paths_option", "quiet_option",
+__all__ = ["SOLVERS", "solver_help", "scenario_argument", "allow_absolute_paths_option", "quiet_option",
            "check_output", "check_folder", "load_scenario", "names"]
 
-#: the transient paths a run may be given (``auto`` chooses); the engine's registry holds the
-#: same names, but reading it here would import the engine for ``--help``
-SOLVERS = ("auto", "exact", "piecewise", "stiff")
+#: the transient paths a run may be given (``auto`` chooses): the engine's registry, which
+#: imports nothing heavy, so ``--help`` stays light
+from ..transient.registry import SOLVERS, solver_help  # noqa: E402
 
 scenario_argument = click.argument("scenario", type=click.Path(dir_okay=True))
 allow_absolute_paths_option = click.option(

@@ -11,7 +11,7 @@ import click
 from ..errors import InputError
 from .format import CAUTION, format_energy, format_time
 from .guard import guard
-from .options import (SOLVERS, allow_absolute_paths_option, check_folder, check_output,
+from .options import (SOLVERS, solver_help, allow_absolute_paths_option, check_folder, check_output,
                       load_scenario, quiet_option, scenario_argument)
 from .progress import Progress
 
@@ -25,7 +25,7 @@ __all__ = ["run", "format_run_summary"]
 @click.option("--plots", "plots_dir", type=click.Path(), help="Write the standard figures "
               "into this folder.")
 @click.option("--solver", type=click.Choice(SOLVERS), default=None,
-              help="Override the scenario's solver.")
+              help="Override the scenario's solver: " + solver_help())
 @click.option("--record", multiple=True, help="Keep the history of this node only "
               "(repeatable).")
 @allow_absolute_paths_option
@@ -81,13 +81,14 @@ def _is_internal(network, name: str) -> bool:
 
 def _header(sc, res) -> list[str]:
     title = f' "{sc.title}"' if sc.title else ""
-    st = res.stats
+    info = res.run_info
     lines = [f"{sc.name}{title}",
              f"  {format_time(res.meta.get('duration'))} at {format_time(res.meta.get('step'))} "
              f"steps, {len(res.time)} samples, start {res.meta.get('initial')}, "
-             f"solver {res.solver}, {st.get('wall_time [s]', float('nan')):.3g} s"]
-    if st.get("piecewise_declined"):
-        lines.append(f"  (the piecewise path declined: {st['piecewise_declined']})")
+             f"solver {res.solver}, {info.wall_time:.3g} s"]
+    for path, why in info.declined.items():
+        if path != "exact":   # a nonlinear network is not news
+            lines.append(f"  (the {path} path declined: {why})")
     return lines
 
 
@@ -171,10 +172,6 @@ def _thermostats(res) -> list[str]:
 
 def _energy(res) -> list[str]:
     terms = res.meta.get("energy_terms", {})
-    if isinstance(terms, str):
-        import json
-
-        terms = json.loads(terms)
     return ["", f"  energy: stored change {format_energy(terms.get('stored [J]', 0.0))}, in "
                 f"through boundary links {format_energy(terms.get('in through links [J]', 0.0))}"
                 f", from sources {format_energy(terms.get('from sources [J]', 0.0))}; balance "

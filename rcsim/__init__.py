@@ -43,6 +43,9 @@ __all__ = [
     "Table",
     "Repeat",
     "sweep",
+    "size",
+    "SizingResult",
+    "solar_position",
     "errors",
     "RcsimError",
     "InputError",
@@ -64,6 +67,9 @@ _HOME = {
     "Steps": "profiles",
     "Table": "profiles",
     "Repeat": "profiles",
+    "size": "sizing",
+    "SizingResult": "sizing",
+    "solar_position": "solar",
     "sweep": "sweep",  # the function (helpers: ``from rcsim.sweep import Normal, ...``)
 }
 

@@ -194,3 +194,26 @@ def test_the_command_body_refuses_bad_options_in_one_line(tmp_path, kwargs, word
         size_command(str(path), vary_items, require_items, **options)
     assert words in str(err.value) and "\n" not in str(err.value)
     assert sorted(os.listdir(tmp_path)) == ["box.toml"]  # nothing written
+
+
+def test_the_size_command_answers_and_refuses_through_the_command_line(tmp_path):
+    """`rcsim size` through click: the answer against the lumped-capacitance closed form
+    t = R C ln((T_a - T_i)/(T_a - T_max)) (standard heat-transfer texts), and exit 2 with one
+    line when neither end of the range meets the requirement."""
+    from click.testing import CliRunner
+
+    from rcsim.cli import main
+
+    path = tmp_path / "box.toml"
+    path.write_text(BOX, encoding="utf-8")
+    runner = CliRunner()
+    ok = runner.invoke(main, ["size", str(path), "--vary", "nodes.box.capacity=1000kJ/K..8000kJ/K",
+                              "--require", "hold_time.box >= 20 h", "--tolerance", "1 kJ/K"])
+    assert ok.exit_code == 0, ok.output
+    line = next(x for x in ok.output.splitlines() if "answer:" in x)
+    value_kj = float(line.split("=")[1].split()[0])
+    assert value_kj == pytest.approx(72000.0 / (0.1 * LOG_RATIO) / 1e3, abs=1.0)
+    bad = runner.invoke(main, ["size", str(path), "--vary", "nodes.box.capacity=1kJ/K..2kJ/K",
+                               "--require", "hold_time.box >= 20 h"])
+    assert bad.exit_code == 2
+    assert len(bad.output.strip().splitlines()) == 1 and "Traceback" not in bad.output

@@ -9,12 +9,12 @@ from __future__ import annotations
 
 import click
 
-from . import check, fit, materials, modes, plot, run, steady, sweep
+from . import check, fit, materials, modes, plot, run, size, steady, sweep
 
 __all__ = ["main", "COMMANDS"]
 
 COMMANDS = (check.check, steady.steady, modes.modes, materials.materials, run.run, plot.plot,
-            fit.fit, sweep.sweep_command)
+            fit.fit, sweep.sweep_command, size.size_command)
 
 
 def _print_version(ctx, _param, value) -> None:

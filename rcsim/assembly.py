@@ -108,6 +108,8 @@ class Assembled:
     internal_of: dict = field(default_factory=dict)  # internal node name -> link name
     phase_change: dict = field(default_factory=dict)  # node index -> PhaseChange
     nl: object | None = None  # rcsim.laws.SegmentLaws of the nonlinear segments, if any
+    #: rcsim.varying.VaryingSegments of the segments whose conductance varies in time, if any
+    varying: object | None = None
     #: derived results; a new, empty one for every copy made with ``dataclasses.replace``
     cache: AssemblyCache = field(default_factory=AssemblyCache, init=False, repr=False,
                                  compare=False)
@@ -127,7 +129,17 @@ class Assembled:
 
     @property
     def is_linear(self) -> bool:
-        return not self.phase_change and self.nl is None
+        return not self.phase_change and self.nl is None and self.varying is None
+
+    def at_time(self, t: float) -> "Assembled":
+        """This assembly with every conductance that varies in time at its value at ``t`` [s]
+        (itself when none does): the network as it stands at that instant."""
+        if self.varying is None:
+            return self
+        seg_g = self.varying.conductances_at(self.seg_g, t)
+        K, B = conductance_matrices(self.seg_a, self.seg_b, seg_g, self.n_nodes,
+                                    self.n_boundaries)
+        return dataclasses.replace(self, seg_g=seg_g, K=K, B=B, varying=None)
 
     @property
     def profiles(self) -> list:
@@ -290,7 +302,8 @@ class _Nodes:
 
 def _link_chains(network, nodes: _Nodes) -> list:
     """Per link, its parts in series as ('R', resistance), ('N', node index) for the internal
-    nodes of massive layers, or ('X', part) for a nonlinear part."""
+    nodes of massive layers, ('X', part) for a nonlinear part or ('V', part) for a conductance
+    that varies in time."""
     chains = []
     for link in network.links.values():
         chain = []
@@ -298,6 +311,9 @@ def _link_chains(network, nodes: _Nodes) -> list:
         for part in link.parts:
             if part.is_nonlinear:
                 chain.append(("X", part))
+                continue
+            if part.varying is not None:
+                chain.append(("V", part))
                 continue
             if not part.is_massive:
                 chain.append(("R", part.resistance))
@@ -328,21 +344,34 @@ class _Segments(NamedTuple):
     first: list                 # first segment of each link
     last: list                  # last segment of each link
     nonlinear: list             # (segment index, law, R before, R after) of nonlinear segments
+    varying: list               # (segment index, profile, series R, link) of varying segments
 
 
 def _segments(network, chains, point_index) -> _Segments:
     """Segments of every link."""
     seg_a, seg_b, seg_r, first, last = [], [], [], [], []
     nl_segments = []  # (segment index, law, R before, R after)
+    var_segments = []  # (segment index, conductance profile, series resistance, link name)
     for link, chain in zip(network.links.values(), chains):
         start = point_index[link.a]
         acc = 0.0
-        law = None
+        law = vary = None
         first.append(len(seg_a))
         for kind, val in chain + [("N", point_index[link.b])]:
             if kind == "R":
                 acc += val
+            elif kind == "V":
+                if law is not None or vary is not None:
+                    raise NetworkError("a conductance that varies in time in series with "
+                                       "another varying or nonlinear part, with no node between "
+                                       "them", link.where, "split the link at a node")
+                vary = val
+                acc += val.resistance
             elif kind == "X":
+                if vary is not None:
+                    raise NetworkError("a conductance that varies in time in series with a "
+                                       "nonlinear part, with no node between them", link.where,
+                                       "split the link at a node")
                 if law is not None:
                     raise NetworkError("two nonlinear parts in series with no node between "
                                        "them", link.where, "split the link at a node (a "
@@ -357,10 +386,13 @@ def _segments(network, chains, point_index) -> _Segments:
                 else:
                     seg_r.append(np.inf)            # excluded from the linear conductance matrix
                     nl_segments.append((len(seg_a) - 1, law[0], law[1], acc))
-                acc, law = 0.0, None
+                if vary is not None:                # its value at t = 0 is in K
+                    var_segments.append((len(seg_a) - 1, vary.varying, acc - vary.resistance,
+                                         link.name))
+                acc, law, vary = 0.0, None, None
                 start = val
         last.append(len(seg_a) - 1)
-    return _Segments(seg_a, seg_b, seg_r, first, last, nl_segments)
+    return _Segments(seg_a, seg_b, seg_r, first, last, nl_segments, var_segments)
 
 
 def assemble_network(network) -> Assembled:
@@ -393,11 +425,15 @@ def assemble_network(network) -> Assembled:
                       shape=(n_nodes, len(src_nodes)))
     phase = {point_index[n.name]: n.phase_change for n in network.nodes.values()
              if n.phase_change is not None}
-    nl = None
+    nl = varying = None
     if segments.nonlinear:
         from .laws import SegmentLaws
 
         nl = SegmentLaws(segments.nonlinear)
+    if segments.varying:
+        from .varying import VaryingSegments
+
+        varying = VaryingSegments(segments.varying, seg_g)
     return Assembled(
         node_names=nodes.names,
         capacity=np.asarray(nodes.capacity, dtype=float),
@@ -415,6 +451,7 @@ def assemble_network(network) -> Assembled:
         internal_of=nodes.internal_of,
         phase_change=phase,
         nl=nl,
+        varying=varying,
     )
 
 

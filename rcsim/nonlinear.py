@@ -146,6 +146,10 @@ def build_terms(network, asm, thermostats=()) -> BoundTerms:
     terms = []
     if asm.nl is not None:
         terms.append(SegmentTerm(asm, asm.boundary_segments().links))
+    if asm.varying is not None:       # conductances that vary in time (a time-dependent term)
+        from .varying import VaryingTerm
+
+        terms.append(VaryingTerm(asm, asm.boundary_segments().links))
     return BoundTerms(terms, phase, [t.bind(asm, ss) for t in thermostats])
 
 

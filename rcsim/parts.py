@@ -26,7 +26,8 @@ from .errors import InputError
 from .materials import get_material, suggest
 from .units import to_si
 
-__all__ = ["Part", "make_part", "part_kinds", "PART_KINDS", "check_keys"]
+__all__ = ["Part", "make_part", "part_kinds", "PART_KINDS", "check_keys",
+           "varying_conductance_part"]
 
 
 @dataclass
@@ -59,6 +60,9 @@ class Part:
     params: dict = field(default_factory=dict)
     where: str = ""
     law: object | None = None  # a rcsim.laws law when the part is nonlinear
+    #: conductance profile [W/K] of a part whose conductance varies in time (resistance then
+    #: holds its value at t = 0); see :mod:`rcsim.varying`
+    varying: object | None = None
 
     @property
     def is_massive(self) -> bool:
@@ -74,6 +78,8 @@ class Part:
         keys = ", ".join(x for x in (names, keys) if x)
         extra = f", {self.slices} slice(s), C={self.capacity:.4g} J/K" if self.slices else ""
         r = "nonlinear" if self.is_nonlinear else f"R={self.resistance:.4g} K/W"
+        if self.varying is not None:
+            r += " at t = 0, varying in time"
         return f"{self.kind}({keys}) {r}{extra}"
 
 
@@ -299,8 +305,28 @@ def _resistance(value: Any, where: str) -> Part:
 
 
 def _conductance(value: Any, where: str) -> Part:
+    from .profiles import Profile
+
+    if isinstance(value, Profile):
+        if not value.is_constant:
+            return varying_conductance_part(value, where)
+        value = value.bind("conductance", where).value(0.0)
     g = _positive(value, "conductance", where)
     return Part("conductance", 1.0 / g, None, 0.0, 0, {"conductance": g}, where)
+
+
+def varying_conductance_part(profile, where: str) -> Part:
+    """A part whose conductance [W/K] follows ``profile`` (bound here as a conductance); see
+    :mod:`rcsim.varying`. Its ``resistance`` is 1/G(0), the value built into the conductance
+    matrix."""
+    bound = profile.bind("conductance", where)
+    start, end = bound.span()
+    g0 = float(bound.value(0.0)) if start <= 0.0 <= end else math.nan
+    if not (math.isfinite(g0) and g0 > 0):
+        raise InputError(f"a conductance must be positive at t = 0, got {g0:g} W/K", where,
+                         "a link that can close entirely needs a small conductance left")
+    return Part("conductance", 1.0 / g0, None, 0.0, 0, {"conductance": g0}, where,
+                varying=bound)
 
 
 #: kind name -> builder(spec, where) -> Part

@@ -290,6 +290,13 @@ class Recorder:
                                          for p in asm.seg_a[asm.nl.seg]], dtype=np.int64)
                 self._nl_b = np.asarray([pos[int(p)] if p < n else m + int(p - n)
                                          for p in asm.seg_b[asm.nl.seg]], dtype=np.int64)
+        # links whose first segment's conductance varies in time: G_eff(t) at each sample
+        self._var_links = self._var_cols = np.empty(0, dtype=np.int64)
+        if asm.varying is not None and self.links.size:
+            var_pos = {int(sg): k for k, sg in enumerate(asm.varying.seg)}
+            which = [(j, var_pos[int(sg)]) for j, sg in enumerate(seg) if int(sg) in var_pos]
+            self._var_links = np.asarray([j for j, _ in which], dtype=np.int64)
+            self._var_cols = np.asarray([k for _, k in which], dtype=np.int64)
         self.tracker = plan.tracker(asm)
         self.limit_cols = np.asarray([pos[int(i)] for i in plan.limit_nodes], dtype=np.int64)
         self.sink = sink
@@ -330,6 +337,10 @@ class Recorder:
             if self._nl_links.size:
                 q = self.asm.nl.flows(points[:, self._nl_a], points[:, self._nl_b])
                 flows[:, self._nl_links] = q[:, self._nl_cols]
+            if self._var_links.size:
+                j = self._var_links
+                g = self.asm.varying.conductance(c.t)[:, self._var_cols]
+                flows[:, j] = g * (points[:, self._a_col[j]] - points[:, self._b_col[j]])
             self.sink.append("heat_flow", flows)
         else:
             self.sink.append("heat_flow", np.zeros((c.t.size, 0)))

@@ -55,7 +55,7 @@ class SteadyResult:
 
 def solve_steady(network, at: float = 0.0) -> SteadyResult:
     """Steady state of ``network`` with boundaries and sources at their values at time ``at``."""
-    asm = network.assemble()
+    asm = network.assemble().at_time(float(at))   # conductances that vary: their value at `at`
     u = asm.boundary_values(float(at))
     s = asm.source_values(float(at))
     solver = "linear"

@@ -15,8 +15,11 @@ import numpy as np
 
 from ..errors import ProfileError
 
-LEVEL_KIND = {"temperature": "temperature", "power": "power"}
-DELTA_KIND = {"temperature": "temperature_difference", "power": "power"}
+LEVEL_KIND = {"temperature": "temperature", "power": "power", "conductance": "conductance",
+              "heat_flux": "heat_flux", "velocity": "velocity", "fraction": "dimensionless"}
+DELTA_KIND = {"temperature": "temperature_difference", "power": "power",
+              "conductance": "conductance", "heat_flux": "heat_flux", "velocity": "velocity",
+              "fraction": "dimensionless"}
 
 
 def to_si(value, kind: str, where: str | None = None) -> float:
@@ -72,7 +75,8 @@ class Profile:
 
     # -- shared ------------------------------------------------------------------------------
     def bind(self, kind: str, where: str | None = None) -> "Profile":
-        """Return a copy with every value converted to SI for ``kind`` ('temperature' or 'power')."""
+        """Return a copy with every value converted to SI for ``kind`` (a key of ``LEVEL_KIND``:
+        'temperature', 'power', 'conductance', 'heat_flux', 'velocity' or 'fraction')."""
         if kind not in LEVEL_KIND:
             raise KeyError(kind)
         bound = self._bind(kind, where)

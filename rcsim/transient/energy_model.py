@@ -42,7 +42,9 @@ class EnergyModel:
 
     Nonlinear physics plugs in through ``terms``: objects with ``flows(Tm, w) -> q`` (W into each
     state) and ``jacobian(Tm, w) -> sparse (n x n)`` (d q / d Tm), plus optional ``link_energy``
-    contributions. Phase-change nodes plug in through ``phase`` (state index -> PhaseChange).
+    contributions; a term whose ``timed`` is true takes the time too (``flows(Tm, w, t)``: a
+    conductance that varies in time). Phase-change nodes plug in through ``phase`` (state index
+    -> PhaseChange).
     """
 
     def __init__(self, asm, terms=(), phase=None, controllers=()):
@@ -54,6 +56,8 @@ class EnergyModel:
         self.K = ss.K.tocsr()
         self.E = ss.E.tocsr()
         self.profiles = list(asm.boundary_profiles) + list(asm.source_profiles)
+        #: conductance profiles of the links that vary in time (not inputs: they scale flows)
+        self.varying_profiles = [] if asm.varying is None else list(asm.varying.profiles)
         self.M = asm.n_boundaries
         self.S = len(asm.source_profiles)
         self.terms = list(terms)
@@ -140,7 +144,7 @@ class EnergyModel:
         dH = -(self.K @ Tm) + self.E @ w
         link_extra = np.zeros(self.nb)
         for term in self.terms:
-            q, e_links = term.flows(Tm, w)
+            q, e_links = _call(term, "flows", t, Tm, w)
             dH += q
             if e_links is not None:
                 link_extra += e_links
@@ -165,7 +169,7 @@ class EnergyModel:
         dq = -self.K.copy()
         e_block = -(self.to_links * self.g_end[None, :]) @ self.A_end if nb else np.zeros((0, n))
         for term in self.terms:
-            jq, je = term.jacobian(Tm, w)
+            jq, je = _call(term, "jacobian", t, Tm, w)
             dq += jq.toarray()
             if je is not None:
                 e_block = e_block + je.toarray()
@@ -200,7 +204,7 @@ class EnergyModel:
         dq = -self.K_sparse
         e_rows = None
         for term in self.terms:
-            jq, je = term.jacobian(Tm, w)
+            jq, je = _call(term, "jacobian", t, Tm, w)
             dq = dq + jq
             if je is not None:
                 e_rows = je if e_rows is None else e_rows + je
@@ -230,6 +234,13 @@ class EnergyModel:
         if self.is_static:
             self._static_jac = J
         return J
+
+
+def _call(term, method: str, t, Tm, w):
+    """A term's ``flows`` or ``jacobian``; a time-dependent one (``timed``) takes the time."""
+    if getattr(term, "timed", False):
+        return getattr(term, method)(Tm, w, t)
+    return getattr(term, method)(Tm, w)
 
 
 #: the name the model had when only the stiff path used it

@@ -23,9 +23,14 @@ _NONLINEAR = ("needs a linear network (this one has radiation, film correlations
 def exact_declines(asm, thermostats=()) -> str | None:
     """Why the exact path does not take the assembled network ``asm`` (None when it does).
 
-    The one exact-or-not decision, for runs and fits alike: a linear network (no radiation,
-    film correlation, phase change or thermostat) of at most :data:`EXACT_LIMIT` states.
+    The one exact-or-not decision, for runs and fits alike: a linear, time-invariant network (no
+    radiation, film correlation, phase change, thermostat or conductance that varies in time) of
+    at most :data:`EXACT_LIMIT` states.
     """
+    if asm.varying is not None and asm.nl is None and not asm.phase_change and not thermostats:
+        links = ", ".join(repr(name) for name in dict.fromkeys(asm.varying.links))
+        return (f"needs a network that does not change with time (the conductance of link(s) "
+                f"{links} varies in time)")
     if not asm.is_linear or thermostats:
         return _NONLINEAR
     n = state_space(asm).n

@@ -39,7 +39,7 @@ def periodic_start(problem, period_map=None, max_periods: int = 200,
     from .stiff import StiffPath
 
     model = problem.energy_model
-    period = common_period(model.profiles, "simulation.initial")
+    period = common_period(model.profiles + model.varying_profiles, "simulation.initial")
     asm, ss = problem.asm, problem.ss
     if period == 0.0:        # constant inputs: the steady state
         H = model.energy_of(steady_newton(asm, asm.boundary_values(0.0),

@@ -10,7 +10,8 @@ are found on the grid (and, for a function that rises above zero and falls back 
 points, by a hump test on its closed-form derivatives) and then located inside their interval
 (:mod:`.piecewise_events`); the regime changes there and integration restarts.
 
-The smooth nonlinear links (radiation, film correlations) are split into a reference conductance
+The smooth nonlinear links (radiation, film correlations), and links whose conductance varies in
+time (:mod:`.piecewise_links`), are split into a reference conductance
 g, built into K' and E', and a remainder r = q(T_a, T_b) - g (T_a - T_b). The remainder is taken
 piecewise linear in time between grid points, from the previous trajectory (waveform
 relaxation), and the whole run is repeated until the remainder a trajectory implies matches the
@@ -43,6 +44,7 @@ from .inputs import linear_parts
 from .mixing import Anderson
 from .piecewise_grid import refined_grid, refinement_pieces
 from .piecewise_events import find_dips, locate_event
+from .piecewise_links import remainder_links
 from .piecewise_regimes import Regime, Regimes
 
 __all__ = ["NotSuitable", "PiecewiseSolver", "PiecewiseSolution", "PIECEWISE_STATES",
@@ -171,10 +173,10 @@ class PiecewiseSolver:
         self.I = len(self.profiles)
         self.sines = [(i, amp, om, ph) for i, p in enumerate(self.profiles)
                       for amp, om, ph in p.sines()]
-        # nonlinear segments
-        seg = model.terms[0] if model.terms else None
+        # nonlinear and time-varying segments, carried as remainders
+        seg = remainder_links(model)
         self.seg = seg
-        self.n_nl = 0 if seg is None else len(seg.nl)
+        self.n_nl = 0 if seg is None else len(seg)
         self.N = np.zeros((n, self.n_nl))
         if seg is not None:
             k = np.arange(self.n_nl)
@@ -186,7 +188,7 @@ class PiecewiseSolver:
         self.regimes = Regimes(model, self.N, self.sines)
         # the grid: output times and every knot of the inputs
         T_end = float(self.t_out[-1])
-        knots = [p.knots(0.0, T_end) for p in self.profiles]
+        knots = [p.knots(0.0, T_end) for p in self.profiles + model.varying_profiles]
         allk = np.concatenate(knots) if knots else np.empty(0)
         self.base_grid = np.union1d(self.t_out, allk) if allk.size else self.t_out.copy()
         self.history: list[SweepRecord] = []
@@ -458,17 +460,14 @@ class PiecewiseSolver:
         seg = self.seg
         ta_r, tb_r = seg.ends(Tg[:-1], self._WR)
         ta_l, tb_l = seg.ends(Tg[1:], self._WL)
-        qR = seg.nl.flows(ta_r, tb_r)
-        qL = seg.nl.flows(ta_l, tb_l)
+        qR = seg.flows(ta_r, tb_r, self.grid[:-1], "right")
+        qL = seg.flows(ta_l, tb_l, self.grid[1:], "left")
         return qR - self.g * (ta_r - tb_r), qL - self.g * (ta_l - tb_l)
 
     def _tangent_reference(self, Tg: np.ndarray) -> np.ndarray:
         """Mid-range of each segment's tangent conductance along the trajectory."""
-        seg = self.seg
-        ta, tb = seg.ends(Tg[:-1], self._WR)
-        _, da, db = seg.nl.solve(ta, tb)
-        g = 0.5 * (da - db)
-        return np.maximum(0.5 * (g.min(axis=0) + g.max(axis=0)), 1e-12)
+        ta, tb = self.seg.ends(Tg[:-1], self._WR)
+        return self.seg.reference(ta, tb, self.grid[:-1])
 
     # -- the whole run -----------------------------------------------------------------------
     def solve(self, H0: np.ndarray) -> PiecewiseSolution:

@@ -94,7 +94,7 @@ class PiecewisePath(TransientPath):
     def period_map(self, problem):
         """One period on the piecewise path (289 grid points), at a tenth of the tolerances."""
         model = problem.energy_model
-        period = common_period(model.profiles, "simulation.initial")
+        period = common_period(model.profiles + model.varying_profiles, "simulation.initial")
         grid = np.linspace(0.0, period, 289)
 
         def one_period(H):

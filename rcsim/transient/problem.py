@@ -187,6 +187,8 @@ def build_problem(network, duration, step, *, initial=None, solver="auto", recor
     t_out = output_times(duration, step) if times is None else given_times(times, duration)
     for p in asm.profiles:
         p.check_span(0.0, duration)
+    if asm.varying is not None:     # conductances that vary: covered and positive over the run
+        asm.varying.check(0.0, duration)
     ss = state_space(asm)
     thermostats = tuple(network.thermostats.values())
     plan = plan_recording(asm, record, network.limits.values() if limits else (),

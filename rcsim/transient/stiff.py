@@ -41,7 +41,7 @@ def run_stiff(model: EnergyModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol
     y = model.y0(Tm0) if H0 is None else np.concatenate([H0, np.zeros(model.ny - model.n)])
     atol_vec = np.concatenate([atol * model.C,
                                np.full(model.ny - model.n, atol * float(model.C.sum()))])
-    stops = np.union1d(jump_times(model.profiles, 0.0, T_end), [T_end])
+    stops = np.union1d(jump_times(model.profiles + model.varying_profiles, 0.0, T_end), [T_end])
     buf_t, buf_y = [float(t_out[0])], [y.copy()]
     k_next = 1
     t = float(t_out[0])
@@ -227,7 +227,8 @@ class StiffPath(TransientPath):
     def period_map(self, problem):
         """One period of stiff integration, at a tenth of the run's tolerances."""
         model = problem.energy_model
-        t = np.array([0.0, common_period(model.profiles, "simulation.initial")])
+        t = np.array([0.0, common_period(model.profiles + model.varying_profiles,
+                                         "simulation.initial")])
         rtol, atol = 0.1 * problem.rtol, 0.1 * problem.atol
 
         def one_period(H):

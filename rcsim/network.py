@@ -144,6 +144,7 @@ class Network:
         self.sources: dict[str, Source] = {}
         self.limits: dict[str, Limit] = {}
         self.thermostats: dict[str, Thermostat] = {}   # settings; a run never changes them
+        self.surfaces: dict = {}   # exposed surfaces (rcsim.surfaces.Surface) by name
         self._assembled: Assembled | None = None
         self.source_text: str | None = None  # scenario text, when built from a file
 
@@ -360,6 +361,27 @@ class Network:
         self.thermostats[name] = make_thermostat(name, spec, where, self.nodes)
         self.mark_changed()
         return name
+
+    def add_surface(self, name: str, node: str, *, area, absorptance, emissivity, air,
+                    irradiance=0.0, sky_temperature=None, tilt=None, sky_view=None, film=None,
+                    shading=0.0, ground_temperature=None, linearise_radiation=None, sky=None,
+                    where: str | None = None) -> str:
+        """An exposed surface of ``node``: absorbed sun, long-wave exchange with the sky and the
+        ground, and an outside film to the boundary ``air`` (fixed h, or following the wind).
+
+        ``film`` is ``{"h": "20 W/(m^2*K)"}`` or ``{"wind": <wind speed profile [m/s]>,
+        "model": "iso6946"}``; ``irradiance`` [W/m^2 on the plane], ``sky_temperature`` [degC]
+        and ``shading`` (0..1) are numbers, strings with units or profiles; ``sky`` names an
+        existing sky boundary instead. Runs record the surface's sol-air temperature
+        (``Result.sol_air``). See :func:`rcsim.surfaces.add_surface`.
+        """
+        from .surfaces import add_surface   # the model's own floor: builds parts of this network
+
+        return add_surface(self, name, node, area=area, absorptance=absorptance,
+                           emissivity=emissivity, air=air, irradiance=irradiance,
+                           sky_temperature=sky_temperature, tilt=tilt, sky_view=sky_view,
+                           film=film, shading=shading, ground_temperature=ground_temperature,
+                           linearise_radiation=linearise_radiation, sky=sky, where=where)
 
     def is_internal_name(self, name: str) -> bool:
         """Whether ``name`` is that of an internal node of a massive layer (``<link>.<i>``)."""

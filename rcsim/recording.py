@@ -169,6 +169,7 @@ class RecordingPlan:
         temperature [degC].
     extra_names : {series key: names} of extra histories (liquid fraction, thermostat power).
     extra_sources : names of energy sources after the network's sources (thermostats).
+    derived : series computed from the recorded temperatures and inputs (sol-air temperatures).
     """
 
     out_nodes: list
@@ -180,6 +181,9 @@ class RecordingPlan:
     limit_values: list = field(default_factory=list)
     extra_names: dict = field(default_factory=dict)
     extra_sources: list = field(default_factory=list)
+    #: series computed from each chunk (e.g. rcsim.surfaces.SolAirSeries): objects with ``key``,
+    #: ``names``, ``nodes`` (node indices) and ``values(t, T of those nodes, u, s)``
+    derived: list = field(default_factory=list)
 
     def tracker(self, asm):
         """A fresh excursion tracker of the limits (None without limits)."""
@@ -189,7 +193,8 @@ class RecordingPlan:
                                 self.limit_values)
 
 
-def plan_recording(asm, record=None, limits=(), thermostat_names=()) -> RecordingPlan:
+def plan_recording(asm, record=None, limits=(), thermostat_names=(),
+                   derived=()) -> RecordingPlan:
     """What to record for ``record`` (node names, one name, or None for every node), the
     network's ``limits`` (:class:`rcsim.network.Limit`) and thermostats.
 
@@ -227,12 +232,16 @@ def plan_recording(asm, record=None, limits=(), thermostat_names=()) -> Recordin
         if asm.nl is not None:   # the flows of nonlinear links need both ends of their segments
             ends |= {int(p) for p in np.concatenate([asm.seg_a[asm.nl.seg],
                                                      asm.seg_b[asm.nl.seg]]) if p < asm.n_nodes}
+    plan.derived = list(derived)
+    ends |= {int(i) for d in plan.derived for i in d.nodes}
     plan.out_nodes = sorted(set(rec_idx) | set(plan.limit_nodes) | ends)
     if asm.phase_change:
         plan.extra_names["liquid_fraction"] = [names[i] for i in sorted(asm.phase_change)]
     if thermostat_names:
         plan.extra_names["thermostat_power"] = list(thermostat_names)
         plan.extra_sources = list(thermostat_names)
+    for d in plan.derived:
+        plan.extra_names[d.key] = list(d.names)
     return plan
 
 
@@ -299,6 +308,8 @@ class Recorder:
             self._var_cols = np.asarray([k for _, k in which], dtype=np.int64)
         self.tracker = plan.tracker(asm)
         self.limit_cols = np.asarray([pos[int(i)] for i in plan.limit_nodes], dtype=np.int64)
+        self._derived = [(d, np.asarray([pos[int(i)] for i in d.nodes], dtype=np.int64))
+                         for d in plan.derived]
         self.sink = sink
         self.boundary_links = list(plan.boundary_links)
         self.extra_names = dict(plan.extra_names)
@@ -349,6 +360,8 @@ class Recorder:
         self.sink.append("energy/stored", c.e_stored)
         self.sink.append("energy/links", c.e_links)
         self.sink.append("energy/sources", c.e_sources)
+        for d, cols in self._derived:
+            c.extras[d.key] = d.values(c.t, T[:, cols], c.u, c.s)
         for key in self.extra_names:
             self.sink.append(key, c.extras[key])
         self.tmin = np.minimum(self.tmin, cmin)

@@ -11,6 +11,8 @@ File layout (HDF5)::
     /energy/links           time x boundary link [J], heat that entered the nodes through it
     /energy/sources         time x source [J]
     /liquid_fraction        time x phase-change node [-] (when there are any)
+    /sol_air                time x exposed surface [degC] (when there are any; root attr
+                            surfaces: JSON {surface: node})
     /limits/<column>        one dataset per column of the limit table
     /nodes/<column>         per-node min, max, final
     root attrs: rcsim_version, scenario (source text), solver, energy_balance, created,
@@ -40,10 +42,10 @@ __all__ = ["Result", "Recorder", "MemorySink", "H5Sink", "Chunk", "h5_attributes
 
 _SERIES = ["temperature", "heat_flow", "boundary_temperature", "source_power",
            "energy/stored", "energy/links", "energy/sources", "liquid_fraction",
-           "thermostat_power"]
+           "thermostat_power", "sol_air"]
 
 #: metadata kept as JSON text in a result file and as Python objects in memory
-_JSON_META = ("stats", "energy_terms", "time_constants")
+_JSON_META = ("stats", "energy_terms", "time_constants", "surfaces")
 
 
 # -- the result ------------------------------------------------------------------------------
@@ -73,6 +75,8 @@ class Result:
         proportional control), on_time [s], switches, energy [J].
     liquid_fraction, thermostat_power : DataFrame
         histories of phase-change nodes [-] and thermostat powers [W, into the node].
+    sol_air : DataFrame
+        sol-air temperature of each exposed surface [degC]; ``surfaces`` maps each to its node.
     solver : str
     run_info : rcsim.runinfo.RunInfo
         How the run was made: the path, why others declined, counts, wall time [s].
@@ -187,6 +191,18 @@ class Result:
     @property
     def thermostat_power(self) -> pd.DataFrame:
         return self._frame("thermostat_power")
+
+    @property
+    def sol_air(self) -> pd.DataFrame:
+        """Sol-air temperature [degC] of each exposed surface (one column per surface; empty
+        without any): the air temperature that would give the same heat flow into the surface
+        without sun and with the sky at air temperature (see :mod:`rcsim.surfaces`)."""
+        return self._frame("sol_air")
+
+    @property
+    def surfaces(self) -> dict:
+        """{exposed surface: its node} of the network that made the run."""
+        return dict(self.meta.get("surfaces") or {})
 
     @property
     def energy(self) -> pd.DataFrame:

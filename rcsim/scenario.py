@@ -22,6 +22,7 @@ from typing import Any
 from .base import suggest
 from .errors import InputError, ScenarioError
 from .network import Network
+from .outdoors import add_surfaces, csv_reader, read_outdoors, weather_profile
 from .parts import check_keys
 from .profiles import Constant, Profile, Repeat, Sine, Steps, Table
 from .thermostat import add_thermostats_from_scenario
@@ -32,7 +33,7 @@ __all__ = ["Scenario", "Settings", "load", "loads", "parse_key_path", "format_ke
            "profile_from_spec"]
 
 _TOP = {"title", "description", "simulation", "nodes", "boundaries", "links", "sources", "limits",
-        "thermostats"}
+        "thermostats", "site", "weather", "surfaces"}
 _SIM = {"duration", "step", "initial", "solver", "record", "start", "rtol", "atol"}
 _NODE = {"capacity", "initial", "mass", "specific_heat", "material", "volume", "density",
          "phase_change"}
@@ -195,6 +196,9 @@ _KIND_BY_KEY = {
     "resistance": "resistance", "conductance": "conductance", "view_factor": "dimensionless",
     "band": "temperature_difference", "setpoint": "temperature", "height": "length",
     "width": "length", "diameter": "length", "velocity": "velocity",
+    "absorptance": "dimensionless", "sky_view": "dimensionless", "albedo": "dimensionless",
+    "tilt": "dimensionless", "azimuth": "dimensionless", "latitude": "dimensionless",
+    "longitude": "dimensionless", "elevation": "length",
 }
 
 
@@ -290,6 +294,7 @@ def _build(data, text, path, base_dir, allow_abs, name) -> Scenario:
     ctx = _Context(base_dir, allow_abs, data.get("simulation", {}).get("start")
                    if isinstance(data.get("simulation"), dict) else None)
     settings = _settings(_table(data.get("simulation", {}), "simulation"))
+    ctx.outdoors = read_outdoors(data, settings.start, base_dir, allow_abs)  # [site], [weather]
     net = Network(title or None)
 
     nodes = _table(data["nodes"], "nodes")
@@ -314,6 +319,9 @@ def _build(data, text, path, base_dir, allow_abs, name) -> Scenario:
             raise ScenarioError("between must list two names, e.g. between = [\"payload\", "
                                 "\"outdoor\"]", f"{w}.between")
         kwargs = {k: spec[k] for k in ("resistance", "conductance", "parts", "area") if k in spec}
+        if isinstance(kwargs.get("conductance"), dict):   # a conductance that varies in time
+            kwargs["conductance"] = profile_from_spec(kwargs["conductance"], f"{w}.conductance",
+                                                      ctx)
         net.add_link(between[0], between[1], name=nm, where=w, **kwargs)
     for nm, spec in _table(data.get("sources", {}), "sources").items():
         w = f"sources.{nm}"
@@ -323,6 +331,8 @@ def _build(data, text, path, base_dir, allow_abs, name) -> Scenario:
             raise ScenarioError("node must be a node name", f"{w}.node")
         net.add_source(spec["node"], profile_from_spec(spec["power"], f"{w}.power", ctx),
                        name=nm, where=w)
+    add_surfaces(net, data.get("surfaces"), ctx.outdoors,
+                 lambda spec, where: profile_from_spec(spec, where, ctx))
     for nm, spec in _table(data.get("limits", {}), "limits").items():
         w = f"limits.{nm}"
         spec = _table(spec, w)
@@ -388,6 +398,7 @@ class _Context:
     base_dir: str
     allow_absolute: bool
     start: Any = None
+    outdoors: Any = None   # rcsim.outdoors.Outdoors: site, clock and weather record
 
 
 _PROFILE_KEYS = {
@@ -397,6 +408,7 @@ _PROFILE_KEYS = {
     "table": ({"times", "values", "outside", "unit", "repeat"}, ["times", "values"]),
     "csv": ({"file", "column", "time", "unit", "time_unit", "missing", "outside", "repeat"},
             ["file", "column"]),
+    "weather": None,
 }
 
 
@@ -404,7 +416,8 @@ def profile_from_spec(spec, where: str, ctx: _Context | None = None) -> Profile:
     """Build an (unbound) profile from its scenario form.
 
     ``"30 degC"`` or a number is a constant; otherwise a table with one key: ``constant``,
-    ``sine``, ``steps``, ``table`` or ``csv``, each optionally with ``repeat = "<period>"``.
+    ``sine``, ``steps``, ``table`` or ``csv``, each optionally with ``repeat = "<period>"``, or
+    ``weather`` (a column of the scenario's weather record, :func:`rcsim.outdoors.weather_profile`).
     """
     ctx = ctx or _Context(".", False)
     if isinstance(spec, (int, float, str)) and not isinstance(spec, bool):
@@ -416,6 +429,8 @@ def profile_from_spec(spec, where: str, ctx: _Context | None = None) -> Profile:
     if kind not in _PROFILE_KEYS:
         raise ScenarioError(f"unknown profile kind {kind!r}", where, suggest(kind, _PROFILE_KEYS))
     w = f"{where}.{kind}"
+    if kind == "weather":                     # a column of the [weather] record
+        return weather_profile(body, w, ctx.outdoors)
     if kind == "constant":
         if isinstance(body, dict):
             raise ScenarioError("constant takes a value, e.g. constant = \"30 degC\"", w)
@@ -449,7 +464,8 @@ def profile_from_spec(spec, where: str, ctx: _Context | None = None) -> Profile:
         column = body["column"]
         if not isinstance(column, str):
             raise ScenarioError("column must be a column name", f"{w}.column")
-        prof = Table.from_csv(full, column, time=_opt_str(body, "time", w), start=ctx.start,
+        read_csv = csv_reader(ctx.outdoors)   # Table.from_csv, or on the site's clock
+        prof = read_csv(full, column, time=_opt_str(body, "time", w), start=ctx.start,
                               unit=_opt_str(body, "unit", w),
                               time_unit=_opt_str(body, "time_unit", w) or "s",
                               missing=missing, outside=_outside(body, w),

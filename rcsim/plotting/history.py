@@ -1,4 +1,5 @@
-"""The history figure: node temperatures against time, boundaries, limit bands and hold times."""
+"""The history figure: node temperatures against time, boundaries, limit bands and hold times,
+and the sol-air temperature of exposed surfaces beside their nodes."""
 
 from __future__ import annotations
 
@@ -11,6 +12,11 @@ from .common import (Drawn, begin, check_names, default_nodes, end_time_axis, fm
                      note, result_title)
 from .style import (BOUNDARY_COLOURS, BOUNDARY_STYLES, BOUNDARY_WIDTH, NODE_WIDTH, STYLE,
                     series_style)
+
+#: Line style and width of a sol-air curve: thin and solid, under its node's own (thicker,
+#: styled) curve, in the node's colour
+SOL_AIR_STYLE = "-"
+SOL_AIR_WIDTH = 0.9
 
 __all__ = ["plot_history"]
 
@@ -55,6 +61,22 @@ def _draw_lines(ax, drawn, x, temps, bnd, node_list, bnd_list) -> dict:
                           label=f"{name} (boundary)", zorder=2)
         drawn.lines[name] = line
     return colour
+
+
+def _draw_sol_air(ax, drawn, x, res, node_list, colour) -> list:
+    """The sol-air temperature of each exposed surface whose node is drawn, thin, in the node's
+    colour; returns the values drawn."""
+    sol = res.sol_air
+    drawn_values = []
+    for surface, node in res.surfaces.items():
+        if node not in node_list or surface not in sol.columns:
+            continue
+        values = sol[surface].to_numpy()
+        (line,) = ax.plot(x, values, lw=SOL_AIR_WIDTH, color=colour[node], alpha=0.85,
+                          linestyle=SOL_AIR_STYLE, label=f"{surface} sol-air", zorder=2)
+        drawn.lines[f"{surface}:sol-air"] = line
+        drawn_values.append(values)
+    return drawn_values
 
 
 def _y_range(ax, values, lim_rows) -> tuple[float, float]:
@@ -114,7 +136,7 @@ def _hold_marker(ax, drawn, ta, t0, node, rows, colour) -> None:
 
 
 def plot_history(res, nodes=None, *, boundaries=True, limits=True, ax=None, title=None,
-                 dates=True) -> Drawn:
+                 dates=True, sol_air=True) -> Drawn:
     """Node temperatures against time, with boundaries, limit bands and hold times.
 
     Parameters
@@ -131,6 +153,9 @@ def plot_history(res, nodes=None, *, boundaries=True, limits=True, ax=None, titl
     title : str, optional
     dates : bool
         Use dates on the time axis when the result has a start time.
+    sol_air : bool
+        Draw the sol-air temperature of each exposed surface whose node is drawn (thin and solid,
+        in the node's colour; ``drawn.lines["<surface>:sol-air"]``).
     """
     temps = res.temperatures
     bnd = res.boundary_temperatures
@@ -144,6 +169,8 @@ def plot_history(res, nodes=None, *, boundaries=True, limits=True, ax=None, titl
         drawn, ax, ta, x, own = begin(res, ax, "history", dates)
         colour = _draw_lines(ax, drawn, x, temps, bnd, node_list, bnd_list)
         values = [temps[n].to_numpy() for n in node_list] + [bnd[n].to_numpy() for n in bnd_list]
+        if sol_air:
+            values += _draw_sol_air(ax, drawn, x, res, node_list, colour)
         lim_rows = lim[lim["node"].isin(node_list)] if len(lim) else lim
         ylo, yhi = _y_range(ax, values, lim_rows)
         for node in dict.fromkeys(lim_rows["node"] if len(lim_rows) else []):

@@ -113,6 +113,7 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
             "initial": problem.initial,
             "time_constants": [] if tau is None else [float(x) for x in tau],
             "period": _period_or_none(problem),
+            "surfaces": {name: s.node for name, s in getattr(network, "surfaces", {}).items()},
             "created": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
         }
         return _result(recorder, sink, meta, info, output)

@@ -19,6 +19,7 @@ from ..errors import InputError
 from ..nonlinear import build_terms, steady_newton
 from ..recording import RecordingPlan, plan_recording
 from ..statespace import state_space
+from ..surfaces import sol_air_series
 from ..units import to_si
 from .initial import given_temperatures, resolve_initial_option
 from .registry import check_solver
@@ -192,7 +193,7 @@ def build_problem(network, duration, step, *, initial=None, solver="auto", recor
     ss = state_space(asm)
     thermostats = tuple(network.thermostats.values())
     plan = plan_recording(asm, record, network.limits.values() if limits else (),
-                          [t.name for t in thermostats])
+                          [t.name for t in thermostats], sol_air_series(network, asm))
     mode, overrides = resolve_initial_option(initial)
     problem = Problem(network, asm, ss, t_out, thermostats, mode, overrides, plan,
                       rtol=float(rtol), atol=float(atol), step=step)

@@ -5,8 +5,8 @@ Azimuths (of the sun and of a surface) are measured from north, clockwise (east 
 a surface's tilt is its angle from horizontal (0 = facing up, 90 = a wall, 180 = facing down) and
 its azimuth the direction its outward normal points to.
 
-The geometry and the sky models are those of the pvlib library (imported only when a function
-here is called; it is the optional extra ``rcsim[outdoors]``):
+The geometry and the sky models are those of the pvlib library (a dependency of rcsim, imported
+only when a function here is called):
 
 * sun position: the NREL solar position algorithm (Reda & Andreas 2004, Solar Energy 76(5),
   577-589), topocentric, with atmospheric refraction;
@@ -47,7 +47,7 @@ DECOMPOSITION_MODELS = {
     "boland": "logistic diffuse fraction (Boland, Ridley & Brown 2008)",
 }
 _NEEDS_EXTRATERRESTRIAL = {"hay_davies", "perez", "reindl"}
-_PVLIB_HINT = "pip install 'rcsim[outdoors]' (it installs pvlib)"
+_PVLIB_HINT = "pip install pvlib (a dependency of rcsim: reinstall rcsim to get it)"
 
 
 def _pvlib():

@@ -406,7 +406,10 @@ def add_surfaces(network, table, outdoors: Outdoors | None,
             if key in spec:
                 kwargs[key] = profile_of(spec[key], f"{w}.{key}")
         if "irradiance" not in spec:
-            tilt = degrees(spec.get("tilt", 0.0), f"{w}.tilt", 0.0, 180.0)
+            if "tilt" not in spec:
+                raise ScenarioError("missing key 'tilt': the sun's geometry needs it", w,
+                                    "give tilt (and azimuth), or irradiance = <profile>")
+            tilt = degrees(spec["tilt"], f"{w}.tilt", 0.0, 180.0)
             azimuth = degrees(spec.get("azimuth", 180.0), f"{w}.azimuth", 0.0, 360.0)
             if "azimuth" not in spec and tilt > 0:
                 raise ScenarioError("missing key 'azimuth' (degrees from north, clockwise)", w)

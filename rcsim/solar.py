@@ -47,7 +47,7 @@ DECOMPOSITION_MODELS = {
     "boland": "logistic diffuse fraction (Boland, Ridley & Brown 2008)",
 }
 _NEEDS_EXTRATERRESTRIAL = {"hay_davies", "perez", "reindl"}
-_PVLIB_HINT = "pip install pvlib (a dependency of rcsim: reinstall rcsim to get it)"
+_PVLIB_HINT = "pvlib is a dependency of rcsim: reinstall rcsim, or pip install 'rcsim[outdoors]'"
 
 
 def _pvlib():

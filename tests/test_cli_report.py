@@ -282,6 +282,14 @@ def test_run_csv_without_a_clock_starts_with_seconds(cli, tmp_path):
         "time [s],block [degC],room [degC],skin [W]"
 
 
+def test_run_refuses_a_spreadsheet_too_long_for_a_sheet_before_running(cli, tmp_path, no_run):
+    # 24 h every 0.05 s: 1,728,001 samples; a sheet holds 1,048,576 rows (the format's limit)
+    path = tmp_path / "b.toml"
+    path.write_text(BLOCK.replace('step = "15 min"', 'step = "0.05 s"'), encoding="utf-8")
+    one_line_refusal(cli("run", path, "--xlsx", tmp_path / "run.xlsx"), "1728001 samples")
+    assert sorted(os.listdir(tmp_path)) == ["b.toml"]
+
+
 @pytest.mark.parametrize("option, name, words", [
     ("--xlsx", "run.xls", ("--xlsx", ".xlsx")),
     ("--xlsx", "no/run.xlsx", ("--xlsx", "does not exist")),

@@ -44,6 +44,10 @@ def run(scenario, output, csv_path, xlsx_path, plots_dir, solver, record, allow_
     check_output(xlsx_path, (".xlsx",), "--xlsx")
     check_folder(plots_dir, "--plots")
     sc = load_scenario(scenario, allow_absolute_paths)
+    if xlsx_path and sc.settings.duration and sc.settings.step:
+        from ..exports import check_xlsx_rows
+
+        check_xlsx_rows(int(sc.settings.duration / sc.settings.step) + 1, xlsx_path)
     with Progress(sys.stderr.isatty() and not quiet) as progress:
         res = sc.run(output=output, progress=progress, solver=solver,
                      record=list(record) if record else None)

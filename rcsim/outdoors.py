@@ -176,6 +176,7 @@ def _read_weather(spec: dict, out: Outdoors, base_dir: str, allow_absolute: bool
                                   CLOUD_CORRECTIONS, "cloud correction",
                                   "weather.cloud_correction"),
         "repeat": None,
+        "file": os.path.basename(file),
     }
     if "repeat" in spec:
         options["repeat"] = to_si(spec["repeat"], "time", "weather.repeat")
@@ -243,7 +244,7 @@ def _kind_text(kind: str) -> str:
 
 def _record_profile(outdoors: Outdoors, times, values, quantity: str, kind: str, scale=None):
     """A profile of record values (repeated with ``[weather] repeat`` when given)."""
-    source = f"{outdoors.record.source}:{quantity}"
+    source = f"{outdoors.weather.get('file', outdoors.record.source)}:{quantity}"
     period = outdoors.repeat
     if period is None:
         return RecordSeries(times, values, quantity, kind, scale, source)

@@ -69,7 +69,8 @@ class Scaled(Profile):
         return True
 
     def describe(self) -> str:
-        return f"{self.scale:g} x ({self.inner.describe()}) + {self.offset:g}"
+        shift = f" + {self.offset:g}" if self.offset else ""
+        return f"{self.scale:g} x ({self.inner.describe()}){shift}"
 
     def __repr__(self):
         return f"Scaled({self.inner!r}, {self.scale!r}, {self.offset!r})"

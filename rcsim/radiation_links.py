@@ -98,6 +98,16 @@ def _point(network, name, where: str) -> str:
     return name
 
 
+def _free_names(network, element: str, links, where: str) -> None:
+    """Refuse an element whose name or link names are in use (before adding any link)."""
+    if element in network.exchanges:
+        raise NetworkError(f"duplicate radiation element name {element!r}", where)
+    taken = next((n for n in links if n in network.links), None)
+    if taken is not None:
+        raise NetworkError(f"link name {taken!r} is taken", where,
+                           "give the element another name")
+
+
 def _temperature(value, where: str) -> float:
     t = to_si(value, "temperature", where)
     if t <= -273.15:
@@ -186,6 +196,9 @@ def add_radiation(network, name: str, surface: str, area, emissivity, sees, *,
         raise NetworkError("the surface and everything it sees are boundaries: the exchange "
                            "changes no node", where, "make the surface a node")
     at = _linearise_surroundings(temperatures, len(points), f"{where}.temperatures")
+    _free_names(network, name, [f"{name}:{p}" for p in points]
+                + [f"{name}:{p}-{q}" for j, p in enumerate(points) for q in points[j + 1:]],
+                where)
     made = RadiationExchange(name, "surroundings", [surface] + points)
     for j, p in enumerate(points):
         made.exchange_areas[(surface, p)] = float(to[j])
@@ -401,6 +414,7 @@ def _wire_pairs(network, name, enc, labels, point_of, at, where) -> RadiationExc
     if all(p in network.boundaries for p in points):
         raise NetworkError("every surface of the enclosure is a boundary: it changes no node",
                            where, "make at least one surface a node")
+    _free_names(network, name, [f"{name}:{a}-{b}" for a, b in total], where)
     made = RadiationExchange(name, "enclosure", points, dict(total), enclosure=enc,
                              labels=labels)
     for (pa, pb), s in total.items():

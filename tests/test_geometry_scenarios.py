@@ -481,3 +481,30 @@ def test_key_paths_reach_the_new_sections():
     # one inside length doubled: walls 2 (0.18 + 0.09 + 0.18)/0.05 = 18, edges 0.54 x 4 x 1.2
     assert bigger.network.links["walls"].parts[0].box.total == pytest.approx(
         18.0 + 0.54 * 4 * 1.2 + 8 * 0.15 * 0.05, rel=1e-12)
+
+
+def test_a_fit_recovers_the_emissivity_of_a_radiation_element(tmp_path):
+    # a log made by the same model at e = 0.75 (with noise-free samples): the fit started at 0.4
+    # recovers the value that made it
+    import pandas as pd
+
+    text = PLATE.replace('[sources.sun]\nnode = "plate"\npower = "100 W"\n', "").replace(
+        'initial = "20 degC"', 'initial = "60 degC"') + """
+[simulation]
+duration = "6 h"
+step = "20 min"
+[radiation.plate]
+surface = "plate"
+area = "1 m^2"
+emissivity = 0.4
+sees = [{ node = "sky", view_factor = 0.5 }, { node = "ground", view_factor = 0.5 }]
+"""
+    made = rcsim.loads(text.replace("emissivity = 0.4", "emissivity = 0.75")).run()
+    log = tmp_path / "log.csv"
+    pd.DataFrame({"time": made.time, "plate": made.temperatures["plate"].to_numpy()}).to_csv(
+        log, index=False)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")       # exact data: residuals are round-off
+        fit = rcsim.fit(rcsim.loads(text), str(log), free=["radiation.plate.emissivity"])
+    assert fit.estimates.loc["radiation.plate.emissivity", "value"] == pytest.approx(0.75,
+                                                                                     rel=1e-4)

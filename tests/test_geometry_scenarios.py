@@ -207,6 +207,27 @@ reradiating = ["wall"]
     assert wall == pytest.approx(1102.0, abs=1.0)
 
 
+def test_a_linearised_enclosure_is_exact_at_its_temperatures():
+    # heated by the flows the radiosity equations (solved directly; Incropera eqs. 13.13-13.15)
+    # give at 80, 30 degC and a 10 degC boundary, the pairs linearised there
+    # (h_r = sigma (T_i^2 + T_j^2)(T_i + T_j), Incropera eq. 1.9) hold exactly those temperatures
+    areas, F = vf.cylinder_cavity(0.1, 0.25)
+    eps = [0.7, 0.4, 0.9]
+    q, _ = radiosity_equations([80.0, 30.0, 10.0], areas, eps, F)
+    net = rcsim.Network()
+    net.add_node("bottom", capacity=100.0, initial=20.0)
+    net.add_node("top", capacity=100.0, initial=20.0)
+    net.add_boundary("side", temperature=10.0)
+    net.add_source("bottom", float(q[0]))
+    net.add_source("top", float(q[1]))
+    net.add_enclosure("can", ["bottom", "top", "side"], eps, areas=list(areas),
+                      view_factors=F.tolist(), temperatures=[80.0, 30.0, 10.0])
+    assert net.assemble().is_linear
+    steady = net.steady().temperatures
+    assert float(steady["bottom"]) == pytest.approx(80.0, abs=1e-9)
+    assert float(steady["top"]) == pytest.approx(30.0, abs=1e-9)
+
+
 @pytest.mark.parametrize("solver", ["piecewise", "stiff"])
 def test_closed_can_from_a_shape_follows_the_radiosity_equations(solver):
     # a closed can (Incropera Table 13.2 coaxial discs): bottom and lid are nodes, the side a

@@ -249,11 +249,15 @@ def _storage(spec: dict, material, where: str) -> _Storage:
     return _Storage(slices, density, specific_heat, phase, initial)
 
 
-def _radii(spec: dict, where: str):
-    """(inner, outer radius) [m] from radii, diameters or a thickness (rcsim.radial.radii_from)."""
-    given = {key: to_si(spec[key], "length", _w(where, key))
-             for key in ("inner_radius", "outer_radius", "inner_diameter", "outer_diameter",
-                         "thickness") if key in spec}
+_RADIAL_KEYS = ("inner_radius", "outer_radius", "inner_diameter", "outer_diameter", "thickness")
+
+
+def _radii(spec: dict, where: str) -> tuple[float, float]:
+    """(inner, outer) radius [m] of a shell from any two of: the inner side (``inner_radius`` or
+    ``inner_diameter``), the outer side (``outer_radius`` or ``outer_diameter``), ``thickness``
+    (:func:`rcsim.radial.radii_from`); an inner radius of 0 is a solid core."""
+    given = {key: to_si(spec[key], "length", _w(where, key)) for key in _RADIAL_KEYS
+             if key in spec}
     if "inner_radius" in given and "outer_radius" in given and \
             given["outer_radius"] <= given["inner_radius"]:
         raise InputError(f"outer_radius must exceed inner_radius ({given['outer_radius']:g} m <= "
@@ -261,14 +265,14 @@ def _radii(spec: dict, where: str):
     return radial.radii_from(**given, where=where)
 
 
-_RADIAL_KEYS = {"k", "material", "inner_radius", "outer_radius", "inner_diameter",
-                "outer_diameter", "thickness", "density", "specific_heat", "slices", "spacing",
-                "phase_change", "initial"}
+#: keys of a cylinder or sphere part (a cylinder has ``length`` too)
+_RADIAL_PART_KEYS = {"k", "material", *_RADIAL_KEYS, "density", "specific_heat", "slices",
+                     "spacing", "phase_change", "initial"}
 
 
 def _radial(spec: dict, where: str, geometry: str) -> Part:
     """A cylinder or sphere shell; with slices (and a density) it stores heat slice by slice."""
-    keys = _RADIAL_KEYS | ({"length"} if geometry == "cylinder" else set())
+    keys = _RADIAL_PART_KEYS | ({"length"} if geometry == "cylinder" else set())
     check_keys(spec, keys, ["length"] if geometry == "cylinder" else [], where)
     k = _k_or_material(spec, where)
     material = get_material(spec["material"], _w(where, "material")) if "material" in spec \

@@ -34,14 +34,14 @@ FACADES = {
 #: the facade methods). A module is placed by its name or the name of its package.
 LAYERS = [
     ("base", ["rcsim.base", "rcsim.errors", "rcsim.units", "rcsim.atomic", "rcsim.runinfo",
-              "rcsim.arguments", "rcsim.clock"]),
+              "rcsim.arguments", "rcsim.clock", "rcsim.caution"]),
     ("physics and inputs", ["rcsim.elements", "rcsim.correlations", "rcsim.laws", "rcsim.phase",
                             "rcsim.materials", "rcsim.profiles", "rcsim.limits",
                             "rcsim.solar", "rcsim.sky", "rcsim.exposure", "rcsim.weather",
                             "rcsim.viewfactors", "rcsim.radiosity", "rcsim.radial",
                             "rcsim.shapefactors"]),
     ("model", ["rcsim.parts", "rcsim.thermostat", "rcsim.assembly", "rcsim.network",
-               "rcsim.statespace", "rcsim.steady_linear"]),
+               "rcsim.statespace", "rcsim.steady_linear", "rcsim.summaries"]),
     ("steady state, modes, records", ["rcsim.nonlinear", "rcsim.steady", "rcsim.modes",
                                       "rcsim.recording", "rcsim.results"]),
     ("transient", ["rcsim.transient"]),

@@ -2,8 +2,9 @@
 
 The table is a data file shipped in the package (``rcsim/data/materials.csv``); each row names its
 source and its basis (a standard's tabulated value, a handbook's, a textbook property of a pure
-substance, or a typical value). The values are typical, for a first model: not design values. ``material_names()`` lists what is there; an unknown name raises an error that lists the
-nearest valid names.
+substance, or a typical value). The values are typical, for a first model: not design values.
+``material_names()`` lists what is there; an unknown name raises an error that lists the nearest
+valid names.
 """
 
 from __future__ import annotations

@@ -24,7 +24,8 @@ PARAMETER_UNITS = {
     "specific_heat": "J/(kg*K)", "inner_radius": "m", "outer_radius": "m", "length": "m",
     "h": "W/(m^2*K)", "height": "m", "diameter": "m", "width": "m", "velocity": "m/s",
     "emissivity": "-", "emissivity_2": "-", "area_2": "m^2", "view_factor": "-",
-    "exchange_area": "m^2", "surface_factor": "m^2", "h_r_area": "W/K", "resistance": "K/W", "conductance": "W/K",
+    "exchange_area": "m^2", "surface_factor": "m^2", "h_r_area": "W/K", "resistance": "K/W",
+    "conductance": "W/K",
     "area_resistance": "m^2*K/W",
 }
 

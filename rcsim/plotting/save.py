@@ -58,7 +58,8 @@ def add_caution(fig) -> _Footer:
     """Write the caution line on the figure, right-aligned, small and dark grey.
 
     With a constrained layout the layout keeps a strip for it along the top, above the titles
-    (legends under the axes take the foot); otherwise it goes just below the drawing. Returns a
+    (legends under the axes take the foot), or along the foot when the figure has a title of its
+    own at the top; otherwise it goes just below the drawing. Returns a
     callable that removes it again.
     """
     from matplotlib.layout_engine import ConstrainedLayoutEngine
@@ -71,8 +72,14 @@ def add_caution(fig) -> _Footer:
     if isinstance(engine, ConstrainedLayoutEngine):
         rect = engine.get().get("rect", (0, 0, 1, 1))
         x0, y0, w, h = rect
-        engine.set(rect=(x0, y0, w, h - strip))   # a strip along the top (legends sit below)
-        text = fig.text(x0 + w - 0.005, y0 + h - 0.2 * strip, FIGURE_CAUTION, va="top", **style)
+        if fig.get_suptitle():   # the title takes the top: a strip along the foot
+            engine.set(rect=(x0, y0 + strip, w, h - strip))
+            text = fig.text(x0 + w - 0.005, y0 + 0.25 * strip, FIGURE_CAUTION, va="bottom",
+                            **style)
+        else:                    # a strip along the top (legends under the axes take the foot)
+            engine.set(rect=(x0, y0, w, h - strip))
+            text = fig.text(x0 + w - 0.005, y0 + h - 0.2 * strip, FIGURE_CAUTION, va="top",
+                            **style)
         return _Footer(text, engine, rect)
     fig.draw_without_rendering()
     box = fig.get_tightbbox(fig.canvas.get_renderer())   # inches, everything drawn

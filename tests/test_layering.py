@@ -39,7 +39,7 @@ LAYERS = [
                             "rcsim.materials", "rcsim.profiles", "rcsim.limits",
                             "rcsim.solar", "rcsim.sky", "rcsim.exposure", "rcsim.weather",
                             "rcsim.viewfactors", "rcsim.radiosity", "rcsim.radial",
-                            "rcsim.shapefactors"]),
+                            "rcsim.shapefactors", "rcsim.periodic_wall"]),
     ("model", ["rcsim.parts", "rcsim.thermostat", "rcsim.assembly", "rcsim.network",
                "rcsim.statespace", "rcsim.steady_linear", "rcsim.summaries"]),
     ("steady state, modes, records", ["rcsim.nonlinear", "rcsim.steady", "rcsim.modes",

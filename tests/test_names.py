@@ -227,3 +227,8 @@ def test_saved_figures_and_result_files_carry_the_caution(tmp_path):
         caution = h5.attrs["caution"]
     assert (caution.decode() if isinstance(caution, bytes) else caution) == CAUTION
     assert np.isfinite(rcsim.Result.load(tmp_path / "r.h5").energy_balance_error)
+    # a run streamed to its file carries it too
+    make_heated_box().simulate("2 h", "10 min", output=tmp_path / "s.h5")
+    with h5py.File(tmp_path / "s.h5", "r") as h5:
+        caution = h5.attrs["caution"]
+    assert (caution.decode() if isinstance(caution, bytes) else caution) == CAUTION

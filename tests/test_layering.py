@@ -27,6 +27,9 @@ FACADES = {
     "rcsim.network.Network.simulate",
     "rcsim.network.Network.summary",
     "rcsim.results.Result.plot",
+    "rcsim.results.Result.report",
+    "rcsim.fitting.result.FitResult.report",
+    "rcsim.sizing.result.SizingResult.report_html",
     "rcsim.profiles.base.Profile.repeat",
 }
 
@@ -41,7 +44,8 @@ LAYERS = [
                             "rcsim.viewfactors", "rcsim.radiosity", "rcsim.radial",
                             "rcsim.shapefactors", "rcsim.periodic_wall"]),
     ("model", ["rcsim.parts", "rcsim.thermostat", "rcsim.assembly", "rcsim.network",
-               "rcsim.statespace", "rcsim.steady_linear", "rcsim.summaries"]),
+               "rcsim.statespace", "rcsim.steady_linear", "rcsim.radiation_links",
+               "rcsim.summaries"]),
     ("steady state, modes, records", ["rcsim.nonlinear", "rcsim.steady", "rcsim.modes",
                                       "rcsim.recording", "rcsim.results"]),
     ("transient", ["rcsim.transient"]),

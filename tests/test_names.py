@@ -232,3 +232,11 @@ def test_saved_figures_and_result_files_carry_the_caution(tmp_path):
     with h5py.File(tmp_path / "s.h5", "r") as h5:
         caution = h5.attrs["caution"]
     assert (caution.decode() if isinstance(caution, bytes) else caution) == CAUTION
+
+
+def test_reports_show_the_time_outside_the_band_in_hours_under_either_name():
+    # the sizing report scales time outputs to hours (1/3600, closed form), whatever their name
+    from rcsim.report.sizing import output_in_report
+
+    for name in ("time_outside_band.payload", "time_out.payload"):
+        assert output_in_report(name) == (1.0 / 3600.0, "h")

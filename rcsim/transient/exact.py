@@ -222,6 +222,8 @@ class ExactPropagator:
         self.n_inputs = len(self.profiles)
         self._phi_cache: dict = {}
         self._sines = [(i, s) for i, p in enumerate(self.profiles) for s in p.sines()]
+        #: (input column, (amplitude, omega, phase)) of every sinusoid of the inputs
+        self.sines = self._sines
 
     def phi(self, h: float):
         """E0..E3 of lambda * h for one interval length (cached: chunks repeat the same h)."""

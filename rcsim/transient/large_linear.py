@@ -1,0 +1,467 @@
+"""The large-linear path: linear networks of any size, one sparse factorisation per step length.
+
+A linear network obeys ``C dT/dt = -K T + E w(t)`` with a constant, symmetric, sparse ``K``.
+Above :data:`~rcsim.transient.registry.EXACT_LIMIT` states the dense modal decomposition of the
+exact path costs too much, and the general stiff path (BDF) refactorises a Jacobian that never
+changes. This path uses the linearity instead:
+
+* **Scheme**: the three-stage, third-order, L-stable, stiffly accurate singly diagonally implicit
+  Runge-Kutta method of R. Alexander (*SIAM J. Numer. Anal.* 14 (1977) 1006-1021, the method of
+  its Table 2: gamma = 0.4358665215 the root of x^3 - 3x^2 + 3x/2 - 1/6 in (1/6, 1/2)). Every
+  stage solves with the same matrix ``C + gamma h K`` (symmetric positive definite), so one sparse
+  LU factorisation (SuperLU, symmetric mode) serves every step of length h for the whole run;
+  factorisations are kept per step length (a uniform output grid needs one or two).
+  L-stability damps the fast modes of a large network in one step: no step-size limit from
+  stiffness.
+* **Grid**: the output times and every input knot (steps, table points), so steps never straddle
+  an input jump; sines and ramps are evaluated at the stages.
+* **Error control by step doubling**: every pair of steps of length h is compared with one step
+  of 2h from the same state; the difference over (2^3 - 1) estimates the error of the pair, which
+  must be below ``atol + rtol |T|`` (the run's tolerances) at every state, else the interval is
+  redone with half the step (a new factorisation, kept). Intervals that pass by a wide margin let
+  the next one try a step twice as long (never longer than the output interval, paired over two
+  intervals of one length). The finer solution is kept (no extrapolation: that would lose
+  L-stability).
+* **Energies**: the heat through the boundary links and from the sources come from the same
+  stage quadrature as the update itself (``h * sum b_j`` over the stages), so the energy balance
+  closes to rounding, whatever the step.
+* **Between samples**: a cubic Hermite interpolant of the states on each step (values and the
+  derivatives the last stage gives for free) locates band crossings.
+
+The method and the alternatives were measured at equal accuracy
+(``tests/benchmarks/bench_large.py``): a reduced modal basis (slowest modes by shift-invert
+Lanczos, plus a static correction) loses accuracy where a network's own time constants are near
+the output step (every node of a fine mesh); Krylov exponentials (``expm_multiply``) need a number
+of products that grows with the norm of C^-1 K times the step.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import scipy.sparse as sp
+import scipy.sparse.linalg as spla
+
+from ..errors import SolverError
+from ..profiles import common_period
+from ..recording import Chunk
+from ..runinfo import RunStats
+from .base import Progress, TransientPath
+from .energy_model import jump_times
+from .inputs import input_values
+
+__all__ = ["LargeLinearPath", "LinearStepper", "SDIRK3"]
+
+_NONLINEAR = ("needs a linear network (this one has radiation, film correlations, phase change "
+              "or thermostats)")
+
+
+class _Tableau:
+    """A singly diagonally implicit, stiffly accurate Runge-Kutta method (b = last row of A)."""
+
+    def __init__(self, gamma: float, A, order: int):
+        self.gamma = gamma
+        self.A = np.asarray(A, dtype=float)
+        self.c = self.A.sum(axis=1)
+        self.b = self.A[-1]
+        self.order = order
+        self.stages = self.A.shape[0]
+
+
+def _alexander():
+    # gamma: the root in (1/6, 1/2) of gamma^3 - 3 gamma^2 + 3/2 gamma - 1/6 = 0 (L-stability
+    # and third order); tau2 = (1 + gamma)/2; b1, b2 from the order conditions (Alexander 1977)
+    roots = np.roots([1.0, -3.0, 1.5, -1.0 / 6.0])
+    gamma = float(min(r.real for r in roots if abs(r.imag) < 1e-12 and 1 / 6 < r.real < 0.5))
+    tau2 = 0.5 * (1.0 + gamma)
+    b1 = -(6 * gamma ** 2 - 16 * gamma + 1) / 4
+    b2 = (6 * gamma ** 2 - 20 * gamma + 5) / 4
+    return _Tableau(gamma, [[gamma, 0.0, 0.0], [tau2 - gamma, gamma, 0.0], [b1, b2, gamma]], 3)
+
+
+#: Alexander's L-stable SDIRK method of order 3 (three stages, stiffly accurate).
+SDIRK3 = _alexander()
+
+#: Factorisations kept (one per step length).
+_KEPT = 12
+#: Halvings of the step before giving up on an interval.
+_MAX_LEVEL = 30
+
+
+class LinearStepper:
+    """Steps ``C dT/dt = -K T + E w(t)`` with an SDIRK method, one factorisation per step length.
+
+    Parameters
+    ----------
+    C : (n,) capacities [J/K]; K : sparse (n, n); E : sparse (n, I); profiles : I inputs.
+    """
+
+    def __init__(self, C, K, E, profiles, tableau=SDIRK3):
+        self.C = np.asarray(C, dtype=float)
+        self.K = sp.csc_matrix(K)
+        self.E = sp.csr_matrix(E)
+        self.profiles = list(profiles)
+        self.tab = tableau
+        self._lu: dict = {}
+        self.factorisations = 0
+        self.solves = 0
+
+    def lu(self, h: float):
+        """The factorisation of C + gamma h K (kept per step length)."""
+        key = float(h)
+        lu = self._lu.get(key)
+        if lu is None:
+            if len(self._lu) >= _KEPT:
+                self._lu.pop(next(iter(self._lu)))
+            M = (sp.diags(self.C) + (self.tab.gamma * h) * self.K).tocsc()
+            try:
+                lu = spla.splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                               options={"SymmetricMode": True})
+            except RuntimeError as exc:       # pragma: no cover - C > 0, K >= 0: SPD
+                raise SolverError(f"the large-linear solver could not factorise: {exc}") \
+                    from None
+            self._lu[key] = lu
+            self.factorisations += 1
+        return lu
+
+    def stage_inputs(self, t0: float, h: float, count: int) -> np.ndarray:
+        """Inputs at the stages of ``count`` steps of length h from t0: (count, s, I); a stage
+        at a step's end takes the value just before it (an input jumping there acts after)."""
+        tab = self.tab
+        times = t0 + h * (np.arange(count)[:, None] + tab.c[None, :])
+        w = np.empty(times.shape + (len(self.profiles),))
+        for i, p in enumerate(self.profiles):
+            w[:, :, i] = p.value(times)
+            end = tab.c >= 1.0
+            if end.any():
+                w[:, end, i] = p.value_left(times[:, end])
+        return w
+
+    def steps(self, y, t0: float, h: float, count: int):
+        """``count`` steps of length h from ``y`` at t0.
+
+        Returns (states after each step (count, n), stage values (count, s, n), inputs at the
+        stages (count, s, I)).
+        """
+        tab = self.tab
+        s = tab.stages
+        n = self.C.size
+        w = self.stage_inputs(t0, h, count)
+        Ew = (self.E @ w.reshape(count * s, -1).T).T.reshape(count, s, n) if w.shape[2] else \
+            np.zeros((count, s, n))
+        lu = self.lu(h)
+        gh = tab.gamma * h
+        Y = np.empty((count, s, n))
+        G = np.empty((s, n))
+        for k in range(count):
+            Cy = self.C * y
+            for i in range(s):
+                rhs = Cy + gh * Ew[k, i]
+                for j in range(i):
+                    rhs += (h * tab.A[i, j]) * G[j]
+                Yi = lu.solve(rhs)
+                Y[k, i] = Yi
+                # C-weighted derivative at the stage, from the stage equation (no product by K)
+                G[i] = (self.C * Yi - rhs) / gh + Ew[k, i]
+            self.solves += s
+            y = Y[k, -1]
+        return Y[:, -1], Y, w
+
+
+class _Controller:
+    """Step doubling over the grid of output times and input knots (see the module text)."""
+
+    def __init__(self, stepper: LinearStepper, rtol: float, atol: float):
+        self.st = stepper
+        self.rtol, self.atol = rtol, atol
+        self.level = 0
+        self.steps = 0
+        self.rejected = 0
+
+    def _error(self, fine, coarse) -> float:
+        scale = self.atol + self.rtol * np.maximum(np.abs(fine), np.abs(coarse))
+        return float(np.max(np.abs(fine - coarse) / scale)) / (2 ** self.st.tab.order - 1)
+
+    def advance(self, y, t0: float, length: float, pair: bool):
+        """Advance over one grid interval, or two of this length (``pair``) at the coarsest level.
+
+        Returns (intervals covered, step times (m + 1,), states at the step ends (m, n), stage
+        values (m, s, n), stage inputs (m, s, I))."""
+        while True:
+            two = pair and self.level == 0
+            span = 2 * length if two else length
+            m = 2 if two else 2 ** max(self.level, 1)
+            h = span / m
+            fine, Y, w = self.st.steps(y, t0, h, m)
+            starts = np.vstack([y[None, :], fine[1::2][:-1]])
+            coarse = np.vstack([self.st.steps(starts[p], t0 + 2 * p * h, 2 * h, 1)[0]
+                                for p in range(m // 2)])
+            err = self._error(fine[1::2], coarse)
+            if err > 1.0 and self.level < _MAX_LEVEL:
+                self.level += 1
+                self.rejected += 1
+                continue
+            if err > 1.0:       # pragma: no cover - tolerance below rounding
+                raise SolverError("the large-linear solver cannot meet the tolerance",
+                                  time=t0, hint="loosen rtol/atol")
+            self.steps += m
+            if err * 2 ** (self.st.tab.order + 2) < 1.0 and self.level > 0:
+                self.level -= 1
+            return (2 if two else 1), t0 + h * np.arange(m + 1), fine, Y, w
+
+
+class LargeLinearPath(TransientPath):
+    """Linear networks of any size: an L-stable SDIRK method with step doubling, one sparse
+    factorisation per step length."""
+
+    name = "large-linear"
+    description = "large linear (L-stable SDIRK3, sparse, step doubling)"
+
+    def accepts(self, problem) -> str | None:
+        return None if problem.is_linear else _NONLINEAR
+
+    def run(self, problem, recorder, progress: Progress) -> RunStats:
+        return _Run(problem, recorder, progress).go()
+
+    def period_map(self, problem):
+        """One period of the large-linear integration (a linear network's period map)."""
+        model = problem.energy_model
+        period = common_period(model.profiles, "simulation.initial")
+        grid = np.union1d(np.linspace(0.0, period, 97), _knots(model.profiles, 0.0, period))
+
+        def one_period(H):
+            st = LinearStepper(model.C, model.K_sparse, model.E, model.profiles)
+            ctl = _Controller(st, 0.1 * problem.rtol, 0.1 * problem.atol)
+            y = H / model.C
+            for a, b in zip(grid[:-1], grid[1:]):
+                y = ctl.advance(y, float(a), float(b - a), False)[2][-1]
+            return y * model.C
+
+        return one_period
+
+
+def _knots(profiles, t0, t1) -> np.ndarray:
+    ks = [p.knots(t0, t1) for p in profiles]
+    ks = [k for k in ks if k.size]
+    return np.unique(np.concatenate(ks)) if ks else np.empty(0)
+
+
+class _Run:
+    """One run of the large-linear path into a recorder."""
+
+    def __init__(self, problem, recorder, progress):
+        self.problem, self.recorder, self.progress = problem, recorder, progress
+        model = self.model = problem.energy_model
+        ss = model.ss
+        self.n = ss.n
+        self.stepper = LinearStepper(model.C, model.K_sparse, model.E, model.profiles)
+        self.ctl = _Controller(self.stepper, problem.rtol, problem.atol)
+        self.M = model.M
+        # output columns: a state, or a massless node from the states and the inputs
+        pos_m, pos_z = ss.state_of, ss.eliminated_of
+        out = recorder.out_nodes
+        is_m = np.asarray([int(i) in pos_m for i in out], dtype=bool)
+        self.cols_m = np.flatnonzero(is_m)
+        self.state_m = np.asarray([pos_m[int(i)] for i in out[is_m]], dtype=np.int64)
+        self.cols_z = np.flatnonzero(~is_m)
+        rows_z = np.asarray([pos_z[int(i)] for i in out[~is_m]], dtype=np.int64)
+        self.R = ss.R[rows_z] if rows_z.size else np.zeros((0, self.n))
+        self.D = ss.D[rows_z] if rows_z.size else np.zeros((0, ss.n_inputs))
+        self.all_states = bool(is_m.all()) and np.array_equal(self.state_m, np.arange(self.n))
+        # the states the outputs read (all of them only when every node is recorded)
+        if self.all_states:
+            self.keep = np.arange(self.n)
+        else:
+            used = set(self.state_m.tolist())
+            for k in range(self.R.shape[0]):
+                used |= set(np.flatnonzero(self.R[k]).tolist())
+            self.keep = np.asarray(sorted(used), dtype=np.int64)
+        where = np.full(self.n, -1, dtype=np.int64)
+        where[self.keep] = np.arange(self.keep.size)
+        self.state_m_kept = where[self.state_m]
+        self.R_kept = self.R[:, self.keep]
+        # limit columns: the states the evaluator must keep
+        self.limit_cols = np.asarray(recorder.limit_cols, dtype=np.int64)
+        self._watch()
+
+    def _watch(self):
+        """States needed to evaluate the limit columns between samples, and their maps."""
+        lc = self.limit_cols
+        if not lc.size:
+            self.watch = np.empty(0, dtype=np.int64)
+            return
+        need = set()
+        zpos = {int(c): k for k, c in enumerate(self.cols_z)}
+        mpos = {int(c): k for k, c in enumerate(self.cols_m)}
+        for c in lc.tolist():
+            if c in mpos:
+                need.add(int(self.state_m[mpos[c]]))
+            else:
+                need |= set(np.flatnonzero(self.R[zpos[c]]).tolist())
+        self.watch = np.asarray(sorted(need), dtype=np.int64)
+        where = {int(s): k for k, s in enumerate(self.watch)}
+        self.watch_map = np.zeros((lc.size, self.watch.size))
+        self.watch_D = np.zeros((lc.size, self.D.shape[1] if self.D.size else len(
+            self.model.profiles)))
+        for r, c in enumerate(lc.tolist()):
+            if c in mpos:
+                self.watch_map[r, where[int(self.state_m[mpos[c]])]] = 1.0
+            else:
+                k = zpos[c]
+                for s_idx in np.flatnonzero(self.R[k]).tolist():
+                    self.watch_map[r, where[s_idx]] = self.R[k, s_idx]
+                self.watch_D[r] = self.D[k]
+
+    def temperatures(self, Y: np.ndarray, w: np.ndarray) -> np.ndarray:
+        """Output columns from the kept states (c, kept) and inputs (c, I)."""
+        if self.all_states:
+            return Y
+        T = np.empty((Y.shape[0], self.recorder.out_nodes.size))
+        T[:, self.cols_m] = Y[:, self.state_m_kept]
+        if self.cols_z.size:
+            T[:, self.cols_z] = Y @ self.R_kept.T + w @ self.D.T
+        return T
+
+    def go(self) -> RunStats:
+        problem, model, rec = self.problem, self.model, self.recorder
+        t_out = problem.times
+        y = np.array(problem.start.temperatures, dtype=float)
+        H0_sum = float((model.C * y).sum())
+        T_end = float(t_out[-1])
+        knots = _knots(model.profiles, 0.0, T_end)
+        jumps = jump_times(model.profiles, 0.0, T_end)
+        grid = np.union1d(t_out, knots) if knots.size else t_out
+        is_out = np.isin(grid, t_out)
+        at_jump = np.isin(grid, jumps)
+        w0 = input_values(model.profiles, t_out[:1])
+        nb, S = model.nb, model.S
+        rec.add(Chunk(t_out[:1], self.temperatures(y[None, self.keep], w0), w0[:, :self.M],
+                      w0[:, self.M:], np.zeros((1, nb)), np.zeros((1, S)), np.zeros(1)))
+        width = max(1, rec.out_nodes.size + self.n // 4)
+        chunk_rows = max(16, min(4096, 4_000_000 // width))
+        buf = _Buffer()
+        self._dense = []
+        e_links, e_src = np.zeros(nb), np.zeros(S)
+        b = self.stepper.tab.b
+        h_all = np.diff(grid)
+        j, J = 0, grid.size - 1
+        while j < J:
+            length = float(h_all[j])
+            pair = (j + 1 < J and abs(h_all[j + 1] - length) <= 1e-12 * length
+                    and not at_jump[j + 1])
+            covered, times, fine, Y, w = self.ctl.advance(y, float(grid[j]), length, pair)
+            hs = np.diff(times)
+            # energies by the stage quadrature of the update itself
+            Iy = np.einsum("k,s,ksn->kn", hs, b, Y)                # (m, n) state integrals
+            Iw = np.einsum("k,s,ksi->ki", hs, b, w)                # (m, I) input integrals
+            inc_links, inc_src = self._energies(Iy, Iw)
+            cum_links = e_links[None, :] + np.cumsum(inc_links, axis=0)
+            cum_src = e_src[None, :] + np.cumsum(inc_src, axis=0)
+            e_links, e_src = cum_links[-1].copy(), cum_src[-1].copy()
+            if self.watch.size:
+                self._keep_dense(times, y, fine, w)
+            m = fine.shape[0]
+            per = m // covered                                     # steps per grid interval
+            for c in range(covered):
+                jj = j + 1 + c
+                if is_out[jj]:
+                    k = per * (c + 1) - 1
+                    buf.add(float(grid[jj]), fine[k, self.keep], float(model.C @ fine[k]),
+                            cum_links[k], cum_src[k])
+            y = fine[-1]
+            j += covered
+            if len(buf) >= chunk_rows:
+                self._flush(buf, H0_sum)
+                self.progress(float(grid[j]) / T_end)
+        self._flush(buf, H0_sum)
+        self.progress(1.0)
+        return RunStats(samples=int(t_out.size), steps=self.ctl.steps,
+                        nlu=self.stepper.factorisations)
+
+    def _energies(self, Iy, Iw):
+        model = self.model
+        if model.nb:
+            t_end = (model.A_end_sparse @ Iy.T).T + Iw @ model.D_end.T
+            flow = model.g_end[None, :] * (Iw[:, model.bcol] - t_end)
+            inc_links = np.asarray((model.to_links_sparse @ flow.T).T)
+        else:
+            inc_links = np.zeros((Iy.shape[0], 0))
+        return inc_links, Iw[:, self.M:]
+
+    def _keep_dense(self, times, y0, fine, w):
+        """Values and derivatives of the watched states at both ends of each step (Hermite
+        pieces): the derivative at a step's start with the inputs just after it, at its end with
+        those just before."""
+        model = self.model
+        watch = self.watch
+        C = model.C[watch]
+        K = model.K_sparse[watch]
+        E = model.E[watch]
+        full = np.vstack([y0[None, :], fine])                     # (m + 1, n)
+        Ky = np.asarray((K @ full.T).T)                            # (m + 1, watched)
+        w_start = input_values(model.profiles, times[:-1])         # right values
+        w_end = w[:, -1, :]                                        # left values at step ends
+        d0 = (np.asarray((E @ w_start.T).T) - Ky[:-1]) / C[None, :]
+        d1 = (np.asarray((E @ w_end.T).T) - Ky[1:]) / C[None, :]
+        self._dense.append((times[:-1], times[1:], full[:-1, watch], full[1:, watch], d0, d1))
+
+    def _flush(self, buf, H0_sum):
+        if not len(buf):
+            return
+        model, rec = self.model, self.recorder
+        t, Yo, stored, cl, cs = buf.take()
+        w = input_values(model.profiles, t)
+        evaluate = None
+        if self.watch.size and self._dense:
+            evaluate = _HermiteEvaluator(self._dense, self.watch_map, self.watch_D,
+                                         model.profiles, self.limit_cols)
+            last = float(t[-1])                     # keep the steps after the last sample
+            self._dense = [d for d in self._dense if d[1][-1] > last]
+        rec.add(Chunk(t, self.temperatures(Yo, w), w[:, :self.M], w[:, self.M:], cl, cs,
+                      stored - H0_sum, evaluate=evaluate))
+
+
+class _Buffer:
+    """Output rows collected until a chunk is full."""
+
+    def __init__(self):
+        self.rows: list = []
+
+    def __len__(self):
+        return len(self.rows)
+
+    def add(self, t, y, stored, cl, cs):
+        self.rows.append((t, y, stored, cl, cs))
+
+    def take(self):
+        t, y, stored, cl, cs = zip(*self.rows)
+        self.rows = []
+        return (np.asarray(t), np.vstack(y), np.asarray(stored), np.vstack(cl), np.vstack(cs))
+
+
+class _HermiteEvaluator:
+    """Limit columns between samples: a cubic Hermite piece on each step of the watched
+    states (values and derivatives at both ends), mapped to the columns."""
+
+    def __init__(self, dense, watch_map, watch_D, profiles, limit_cols):
+        self.t0 = np.concatenate([d[0] for d in dense])
+        self.t1 = np.concatenate([d[1] for d in dense])
+        self.y0 = np.vstack([d[2] for d in dense])
+        self.y1 = np.vstack([d[3] for d in dense])
+        self.d0 = np.vstack([d[4] for d in dense])
+        self.d1 = np.vstack([d[5] for d in dense])
+        self.map, self.D, self.profiles = watch_map, watch_D, profiles
+        self.row_of = {int(c): r for r, c in enumerate(limit_cols)}
+
+    def __call__(self, times, columns):
+        times = np.asarray(times, dtype=float)
+        k = np.clip(np.searchsorted(self.t0, times, side="right") - 1, 0, self.t0.size - 1)
+        h = self.t1[k] - self.t0[k]
+        s = ((times - self.t0[k]) / h)[:, None]
+        Yw = ((1 + 2 * s) * (1 - s) ** 2 * self.y0[k] + s * (1 - s) ** 2 * h[:, None] * self.d0[k]
+              + s * s * (3 - 2 * s) * self.y1[k] + s * s * (s - 1) * h[:, None] * self.d1[k])
+        rows = np.asarray([self.row_of[int(c)] for c in np.asarray(columns)], dtype=np.int64)
+        out = np.einsum("qw,qw->q", Yw, self.map[rows])
+        if np.any(self.D[rows]):
+            w = input_values(self.profiles, times)
+            out += np.einsum("qi,qi->q", w, self.D[rows])
+        return out

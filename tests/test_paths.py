@@ -189,3 +189,47 @@ def test_progress_only_grows_and_reaches_one(path, heated_box):
     heated_box().simulate("2 d", "5 min", solver=path, progress=seen.append)
     assert seen and seen[-1] == 1.0
     assert all(b > a for a, b in zip(seen, seen[1:])) and 0.0 < seen[0]
+
+
+def _thermocouple(values, at):
+    # a thermocouple-like bead: R C = 5 s, at 20 degC, in a gas whose temperature steps
+    net = rcsim.Network()
+    net.add_node("bead", capacity=50.0, initial=20.0)
+    net.add_boundary("gas", temperature=rcsim.Steps(at, values))
+    net.add_link("bead", "gas", resistance=0.1)
+    net.add_limit("bead", max=60.0)
+    return net
+
+
+# tolerances tight enough that the solution itself is good to far below 1e-6 of the step on
+# the paths that integrate to a tolerance (the location is what is checked here)
+_EXACT_SETTINGS = {"stiff": {"rtol": 1e-11, "atol": 1e-11},
+                   "large-linear": {"rtol": 1e-11, "atol": 1e-11}}
+
+
+@pytest.mark.parametrize("step", [0.5, 5.0, 60.0])
+def test_hold_time_is_located_on_the_solution_whatever_the_output_step(path, step):
+    # closed form derived here: after the gas steps from 20 to 100 degC at 2 s the bead follows
+    # T = 100 - 80 exp(-(t - 2)/5), so it passes 60 degC at t = 2 + 5 ln(80/40); the hold time
+    # and the time out of band (until the end at 120 s) must not depend on the output step
+    res = _thermocouple([20.0, 100.0], [0.0, 2.0]).simulate(
+        120.0, step, solver=path, **_EXACT_SETTINGS.get(path, {}))
+    t_cross = 2.0 + 5.0 * math.log(2.0)
+    row = res.limits.iloc[0]
+    assert abs(row["hold_time [s]"] - t_cross) <= 1e-6 * step
+    assert abs(row["time_out [s]"] - (120.0 - t_cross)) <= 1e-6 * step
+
+
+@pytest.mark.parametrize("step", [0.5, 5.0])
+def test_time_out_of_band_uses_both_located_crossings(path, step):
+    # closed form derived here: the gas is at 100 degC from 2 s to 40 s, then back at 20 degC;
+    # the bead is above 60 degC from 2 + 5 ln 2 until 40 + 5 ln((T40 - 20)/40), with
+    # T40 = 100 - 80 exp(-38/5)
+    res = _thermocouple([20.0, 100.0, 20.0], [0.0, 2.0, 40.0]).simulate(
+        120.0, step, solver=path, **_EXACT_SETTINGS.get(path, {}))
+    t_up = 2.0 + 5.0 * math.log(2.0)
+    T40 = 100.0 - 80.0 * math.exp(-38.0 / 5.0)
+    t_down = 40.0 + 5.0 * math.log((T40 - 20.0) / 40.0)
+    row = res.limits.iloc[0]
+    assert abs(row["hold_time [s]"] - t_up) <= 1e-6 * step
+    assert abs(row["time_out [s]"] - (t_down - t_up)) <= 2e-6 * step

@@ -45,10 +45,10 @@ def locate_crossings(g, lo, hi, g_lo, g_hi, xtol):
     """Roots of ``g`` in the brackets [lo, hi] (arrays), with g(lo) <= 0 < g(hi) per bracket.
 
     ``g(times, which)`` evaluates the functions of the brackets ``which`` (indices) at
-    ``times``. Regula falsi with the Illinois modification (the retained end's value halved when
-    the same end is kept twice), a bisection whenever that point would not shrink the bracket;
-    all brackets advance together. Returns the roots, each within ``xtol`` (array) of the true
-    one.
+    ``times``. Regula falsi with the Illinois modification (the value at the end that stays put
+    twice in a row is halved, so both ends close in, superlinearly), all brackets together; a
+    bracket is done when it is narrower than ``xtol`` (array) or a point hits zero. Returns the
+    roots, each within ``xtol`` of the true one.
 
     >>> r = locate_crossings(lambda t, w: t ** 2 - 2.0, np.array([1.0]), np.array([2.0]),
     ...                      np.array([-1.0]), np.array([2.0]), np.array([1e-12]))
@@ -57,28 +57,25 @@ def locate_crossings(g, lo, hi, g_lo, g_hi, xtol):
     """
     lo, hi = np.array(lo, dtype=float), np.array(hi, dtype=float)
     g_lo, g_hi = np.array(g_lo, dtype=float), np.array(g_hi, dtype=float)
-    root = hi.copy()
+    root = 0.5 * (lo + hi)
     last = np.zeros(lo.size, dtype=np.int8)          # -1: lo moved last, +1: hi moved last
     hit = g_lo == 0                                  # a root found exactly
     root[hit] = lo[hit]
     active = np.flatnonzero((hi - lo > xtol) & ~hit)
-    for it in range(_MAX_ITERATIONS):
+    for _ in range(_MAX_ITERATIONS):
         if not active.size:
             break
         a, b, fa, fb = lo[active], hi[active], g_lo[active], g_hi[active]
         with np.errstate(divide="ignore", invalid="ignore"):
             x = a - fa * (b - a) / (fb - fa)
-        width = b - a
-        bisect = ~np.isfinite(x) | (x <= a + 0.01 * width) | (x >= b - 0.01 * width)
-        if it % 4 == 3:                                 # a bisection now and then: guaranteed
-            bisect[:] = True
-        x = np.where(bisect, 0.5 * (a + b), x)
+        bad = ~np.isfinite(x) | (x <= a) | (x >= b)
+        x[bad] = 0.5 * (a[bad] + b[bad])
         fx = np.asarray(g(x, active), dtype=float)
         left = fx <= 0
         i_left, i_right = active[left], active[~left]
         lo[i_left], g_lo[i_left] = x[left], fx[left]
         hi[i_right], g_hi[i_right] = x[~left], fx[~left]
-        # Illinois: the end that stayed twice in a row has its value halved
+        # Illinois: the end that stayed put twice in a row has its value halved
         g_hi[i_left[last[i_left] == -1]] *= 0.5
         g_lo[i_right[last[i_right] == 1]] *= 0.5
         last[i_left], last[i_right] = -1, 1

@@ -233,3 +233,27 @@ def test_time_out_of_band_uses_both_located_crossings(path, step):
     row = res.limits.iloc[0]
     assert abs(row["hold_time [s]"] - t_up) <= 1e-6 * step
     assert abs(row["time_out [s]"] - (t_down - t_up)) <= 2e-6 * step
+
+
+@pytest.mark.slow
+def test_large_linear_path_against_the_exact_path_on_1500_states():
+    # an independent check of the large-linear integrator (SDIRK3 with step doubling) against
+    # the exact modal closed form on the same 1,500-node chain: within 5e-5 K at the default
+    # tolerances (rtol = atol = 1e-6), and the energy balance closed by both
+    rng = np.random.default_rng(3)
+    n = 1500
+    net = rcsim.Network()
+    net.add_boundary("amb", temperature=rcsim.Sine(mean=20, amplitude=5, period=86400))
+    for i in range(n):
+        net.add_node(f"n{i}", capacity=float(rng.uniform(1e3, 1e4)), initial=20.0)
+    for i in range(n - 1):
+        net.add_link(f"n{i}", f"n{i + 1}", resistance=float(rng.uniform(0.01, 0.1)))
+    for i in range(0, n, 100):
+        net.add_link(f"n{i}", "amb", resistance=1.0, name=f"skin{i}")
+    net.add_source(f"n{n // 2}", power=rcsim.Steps([0, 3600], [0.0, 200.0]))
+    record = ["n0", f"n{n // 2}", f"n{n - 1}", "n700"]
+    exact = net.simulate("6 h", "1 min", solver="exact", record=record)
+    large = net.simulate("6 h", "1 min", solver="large-linear", record=record)
+    assert np.abs(large.temperatures.to_numpy() - exact.temperatures.to_numpy()).max() < 5e-5
+    assert large.energy_balance < 1e-11 and exact.energy_balance < 1e-9
+    assert large.run_info.stats.nlu <= 8          # a few factorisations for the whole run

@@ -59,7 +59,8 @@ class WatchedColumns:
                 for s_idx in np.flatnonzero(ss.R[k]).tolist():
                     self.map[r, where[s_idx]] = ss.R[k, s_idx]
                 self.D[r] = ss.D[k]
-        self.row_of = {int(c): r for r, c in enumerate(columns.tolist())}
+        self.row_of = np.full(int(columns.max(initial=-1)) + 1, -1, dtype=np.int64)
+        self.row_of[columns] = np.arange(columns.size)
 
     def __bool__(self) -> bool:
         return bool(self.watch.size)
@@ -67,7 +68,7 @@ class WatchedColumns:
     def columns(self, T_watch, times, columns, profiles) -> np.ndarray:
         """Temperatures of ``columns`` at ``times`` from the watched state temperatures there
         (one row per time)."""
-        rows = np.asarray([self.row_of[int(c)] for c in np.asarray(columns)], dtype=np.int64)
+        rows = self.row_of[np.asarray(columns, dtype=np.int64)]
         out = np.einsum("qw,qw->q", T_watch, self.map[rows])
         if np.any(self.D[rows]):
             out += np.einsum("qi,qi->q", input_values(profiles, times), self.D[rows])

@@ -47,12 +47,14 @@ def _block_matrix(a: np.ndarray, L: int):
     return powers, tri
 
 
-def modes_major_recurrence(a: np.ndarray, G: np.ndarray, z0: np.ndarray, cache=None):
+def modes_major_recurrence(a: np.ndarray, G: np.ndarray, z0: np.ndarray, cache=None,
+                           depth: int = 0):
     """Solve ``z[:, k+1] = a * z[:, k] + G[:, k]`` (a per row) for k = 0..N-1; returns the
     states z[:, 1..N] as an (n, N) array. ``G`` is (n, N): modes as rows.
 
     Blocks of 16 samples are one batched product with a triangular matrix of powers of ``a``
-    per mode; the block ends are chained by the same recurrence one level up.
+    per mode; the block ends are chained by the same recurrence one level up. ``cache`` (a
+    dict, emptied by the caller when ``a`` changes) keeps those matrices for every level.
 
     >>> modes_major_recurrence(np.array([0.5]), np.ones((1, 3)), np.array([0.0])).tolist()
     [[1.0, 1.5, 1.75]]
@@ -64,18 +66,18 @@ def modes_major_recurrence(a: np.ndarray, G: np.ndarray, z0: np.ndarray, cache=N
     nb = -(-N // L)
     if nb * L != N:
         G = np.concatenate([G, np.zeros((n, nb * L - N))], axis=1)
-    key = (L, a.ctypes.data, a.size)
-    if cache is not None and cache.get("key") == key and cache.get("a") is a:
-        powers, tri = cache["factors"]
-    else:
-        powers, tri = _block_matrix(a, L)
+    factors = None if cache is None else cache.get((depth, L))
+    if factors is None:
+        factors = _block_matrix(a, L)
         if cache is not None:
-            cache.update(key=key, a=a, factors=(powers, tri))
+            cache[(depth, L)] = factors
+    powers, tri = factors
     Y = np.matmul(G.reshape(n, nb, L), tri)                      # (n, nb, L) from zero start
     if nb == 1:
         starts = z0[:, None]
     else:
-        ends = modes_major_recurrence(powers[:, L].copy(), Y[:, :, L - 1], z0)   # (n, nb)
+        ends = modes_major_recurrence(powers[:, L].copy(), Y[:, :, L - 1], z0, cache,
+                                      depth + 1)                 # (n, nb)
         starts = np.concatenate([z0[:, None], ends[:, :-1]], axis=1)
     Y += powers[:, None, 1:] * starts[:, :, None]
     out = Y.reshape(n, nb * L)

@@ -46,6 +46,7 @@ from ..profiles import common_period
 from ..recording import Chunk
 from ..runinfo import RunStats
 from .base import Progress, TransientPath
+from .dense_eval import WatchedColumns
 from .energy_model import jump_times
 from .inputs import input_values
 
@@ -279,37 +280,9 @@ class _Run:
         where[self.keep] = np.arange(self.keep.size)
         self.state_m_kept = where[self.state_m]
         self.R_kept = self.R[:, self.keep]
-        # limit columns: the states the evaluator must keep
-        self.limit_cols = np.asarray(recorder.limit_cols, dtype=np.int64)
-        self._watch()
-
-    def _watch(self):
-        """States needed to evaluate the limit columns between samples, and their maps."""
-        lc = self.limit_cols
-        if not lc.size:
-            self.watch = np.empty(0, dtype=np.int64)
-            return
-        need = set()
-        zpos = {int(c): k for k, c in enumerate(self.cols_z)}
-        mpos = {int(c): k for k, c in enumerate(self.cols_m)}
-        for c in lc.tolist():
-            if c in mpos:
-                need.add(int(self.state_m[mpos[c]]))
-            else:
-                need |= set(np.flatnonzero(self.R[zpos[c]]).tolist())
-        self.watch = np.asarray(sorted(need), dtype=np.int64)
-        where = {int(s): k for k, s in enumerate(self.watch)}
-        self.watch_map = np.zeros((lc.size, self.watch.size))
-        self.watch_D = np.zeros((lc.size, self.D.shape[1] if self.D.size else len(
-            self.model.profiles)))
-        for r, c in enumerate(lc.tolist()):
-            if c in mpos:
-                self.watch_map[r, where[int(self.state_m[mpos[c]])]] = 1.0
-            else:
-                k = zpos[c]
-                for s_idx in np.flatnonzero(self.R[k]).tolist():
-                    self.watch_map[r, where[s_idx]] = self.R[k, s_idx]
-                self.watch_D[r] = self.D[k]
+        # limit columns: the states the evaluator between samples must keep
+        self.watched = WatchedColumns(ss, out, recorder.limit_cols)
+        self.watch = self.watched.watch
 
     def temperatures(self, Y: np.ndarray, w: np.ndarray) -> np.ndarray:
         """Output columns from the kept states (c, kept) and inputs (c, I)."""
@@ -412,8 +385,7 @@ class _Run:
         w = input_values(model.profiles, t)
         evaluate = None
         if self.watch.size and self._dense:
-            evaluate = _HermiteEvaluator(self._dense, self.watch_map, self.watch_D,
-                                         model.profiles, self.limit_cols)
+            evaluate = _HermiteEvaluator(self._dense, self.watched, model.profiles)
             last = float(t[-1])                     # keep the steps after the last sample
             self._dense = [d for d in self._dense if d[1][-1] > last]
         rec.add(Chunk(t, self.temperatures(Yo, w), w[:, :self.M], w[:, self.M:], cl, cs,
@@ -439,29 +411,23 @@ class _Buffer:
 
 
 class _HermiteEvaluator:
-    """Limit columns between samples: a cubic Hermite piece on each step of the watched
-    states (values and derivatives at both ends), mapped to the columns."""
+    """Watched columns between samples: a cubic Hermite piece on each step of the watched
+    states (values and derivatives at both ends)."""
 
-    def __init__(self, dense, watch_map, watch_D, profiles, limit_cols):
+    def __init__(self, dense, watched: WatchedColumns, profiles):
         self.t0 = np.concatenate([d[0] for d in dense])
         self.t1 = np.concatenate([d[1] for d in dense])
         self.y0 = np.vstack([d[2] for d in dense])
         self.y1 = np.vstack([d[3] for d in dense])
         self.d0 = np.vstack([d[4] for d in dense])
         self.d1 = np.vstack([d[5] for d in dense])
-        self.map, self.D, self.profiles = watch_map, watch_D, profiles
-        self.row_of = {int(c): r for r, c in enumerate(limit_cols)}
+        self.watched, self.profiles = watched, profiles
 
     def __call__(self, times, columns):
         times = np.asarray(times, dtype=float)
         k = np.clip(np.searchsorted(self.t0, times, side="right") - 1, 0, self.t0.size - 1)
-        h = self.t1[k] - self.t0[k]
-        s = ((times - self.t0[k]) / h)[:, None]
-        Yw = ((1 + 2 * s) * (1 - s) ** 2 * self.y0[k] + s * (1 - s) ** 2 * h[:, None] * self.d0[k]
-              + s * s * (3 - 2 * s) * self.y1[k] + s * s * (s - 1) * h[:, None] * self.d1[k])
-        rows = np.asarray([self.row_of[int(c)] for c in np.asarray(columns)], dtype=np.int64)
-        out = np.einsum("qw,qw->q", Yw, self.map[rows])
-        if np.any(self.D[rows]):
-            w = input_values(self.profiles, times)
-            out += np.einsum("qi,qi->q", w, self.D[rows])
-        return out
+        h = (self.t1[k] - self.t0[k])[:, None]
+        s = ((times - self.t0[k]) / h[:, 0])[:, None]
+        Yw = ((1 + 2 * s) * (1 - s) ** 2 * self.y0[k] + s * (1 - s) ** 2 * h * self.d0[k]
+              + s * s * (3 - 2 * s) * self.y1[k] + s * s * (s - 1) * h * self.d1[k])
+        return self.watched.columns(Yw, times, columns, self.profiles)

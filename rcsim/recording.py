@@ -79,14 +79,28 @@ class _Growing:
         self.data = np.empty(shape)          # row-major (width, rows): column-major history
         self.rows = 0
 
-    def append(self, array: np.ndarray) -> None:
-        c = array.shape[0]
+    def _room(self, c: int) -> None:
         need = self.rows + c
         cap = self.data.shape[-1]
         if need > cap:
             grown = np.empty(self.data.shape[:-1] + (max(need, 2 * cap),))
             grown[..., :self.rows] = self.data[..., :self.rows]
             self.data = grown
+
+    def slot(self, c: int) -> np.ndarray:
+        """The next ``c`` rows as a writable (c, width) view, to be filled and then appended."""
+        self._room(c)
+        return self.data[:, self.rows:self.rows + c].T
+
+    def append(self, array: np.ndarray) -> None:
+        c = array.shape[0]
+        need = self.rows + c
+        self._room(c)
+        if self.data.ndim == 2 and c and array.ndim == 2 and \
+                array.__array_interface__["data"][0] == self.data[:, self.rows:].ctypes.data \
+                and array.strides == self.data[:, self.rows:need].T.strides:
+            self.rows = need                  # filled in place through slot()
+            return
         if self.data.ndim == 1:
             self.data[self.rows:need] = array
         else:
@@ -118,6 +132,11 @@ class MemorySink:
 
     def append(self, key: str, array: np.ndarray) -> None:
         self.buffers[key].append(np.asarray(array, dtype=float))
+
+    def slot(self, key: str, rows: int) -> np.ndarray:
+        """Where the next ``rows`` samples of ``key`` go: a (rows, width) writable view that a
+        path may fill before handing it back to :meth:`append` (no copy then)."""
+        return self.buffers[key].slot(rows)
 
     @property
     def parts(self) -> dict:
@@ -170,7 +189,7 @@ class H5Sink:
 
         self.path = os.fspath(path)
         self.tmp = temporary_beside(self.path, ".h5.tmp")
-        self.file = h5py.File(self.tmp, "w")
+        self.file = h5py.File(self.tmp, "w", rdcc_nbytes=32 * 2 ** 20)
         self.names: dict[str, list[str]] = {}
         self._empty: list[str] = []
         self._rows: dict[str, int] = {}
@@ -189,8 +208,9 @@ class H5Sink:
         width = len(names)
         shape = (self.expected,) if key in _ONE_D else (self.expected, width)
         maxshape = (None,) if len(shape) == 1 else (None, width)
-        chunks = (4096,) if len(shape) == 1 else (max(1, min(4096, 2_000_000 // max(1, width))),
-                                                   max(1, min(width, 2_000_000)))
+        # chunks of about 1 MB (wide histories: a few rows each), within the chunk cache
+        chunks = (4096,) if len(shape) == 1 else (max(1, min(4096, 131_072 // max(1, width))),
+                                                   max(1, min(width, 131_072)))
         self.file.create_dataset(key, shape=shape, maxshape=maxshape, dtype="f8", chunks=chunks)
         self._rows[key] = 0
         if len(shape) == 2:
@@ -438,6 +458,14 @@ class Recorder:
         sink.declare("energy/sources", list(asm.source_names) + list(plan.extra_sources))
         for key, names in self.extra_names.items():
             sink.declare(key, names)
+
+    def output_slot(self, rows: int):
+        """A (rows, out nodes) array to compute the next chunk's temperatures into, when they
+        go to the sink as they are (every output column recorded, in memory): the chunk then
+        costs no copy. None otherwise."""
+        if self._rec_all and hasattr(self.sink, "slot"):
+            return self.sink.slot("temperature", rows)
+        return None
 
     def flows(self, T: np.ndarray, u: np.ndarray) -> np.ndarray:
         """Heat flows [W] of the recorded links for temperatures ``T`` (c, out nodes) and

@@ -178,16 +178,24 @@ class ModalRunner:
                     return None
         return h0
 
-    def chunk(self, tt: np.ndarray, z0: np.ndarray, k0: int) -> ModalChunk:
-        """Advance from ``z0`` at tt[0] over the intervals of ``tt``."""
+    def _outputs(self, Z, w, out):
+        """Temperatures (c, out nodes) = (A Z + D w^T)^T, column-major, into ``out`` if given."""
+        T_t = np.empty((self.A_out.shape[0], Z.shape[1])) if out is None else out.T
+        np.matmul(self.A_out, Z, out=T_t)
+        T_t += self.D_out @ w.T
+        return T_t.T
+
+    def chunk(self, tt: np.ndarray, z0: np.ndarray, k0: int, out=None) -> ModalChunk:
+        """Advance from ``z0`` at tt[0] over the intervals of ``tt``; the temperatures go into
+        ``out`` ((c, out nodes), column-major) when given."""
         h0 = self._uniform(tt)
         if h0 is None:
-            return self._general(tt, z0, k0)
+            return self._general(tt, z0, k0, out)
         self._set_step(h0)
         X, w, U = self._rows(tt)
         G = self.M_g @ X                                                 # (n, c)
         Z = modes_major_recurrence(self.a, G, z0, self._factors)
-        T = (self.A_out @ Z + self.D_out @ w.T).T                        # column-major
+        T = self._outputs(Z, w, out)                                     # column-major
         # integral of the boundary segments' node temperatures over each interval
         int_e = self.M_he @ X + self.D_e @ U.T
         int_e[:, 0] += self.A_he @ z0
@@ -195,12 +203,12 @@ class ModalRunner:
             int_e[:, 1:] += self.A_he @ Z[:, :-1]
         return ModalChunk(k0, k0 + tt.size - 1, T, w, int_e.T, U, self.q @ Z, Z)
 
-    def _general(self, tt, z0, k0) -> ModalChunk:
+    def _general(self, tt, z0, k0, out=None) -> ModalChunk:
         """Any grid, knots anywhere: the row-major closed form of the propagator."""
         Zr, Zint, U = self.prop.propagate(tt, z0)
         w = input_values(self.profiles, tt[1:])
         Z = np.ascontiguousarray(Zr.T)
-        T = (self.A_out @ Z + self.D_out @ w.T).T
+        T = self._outputs(Z, w, out)
         int_e = Zint @ self.A_e.T + U @ self.D_e.T
         return ModalChunk(k0, k0 + tt.size - 1, T, w, int_e, U, Zr @ self.q, Z)
 

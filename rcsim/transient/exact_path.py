@@ -90,7 +90,7 @@ class ExactPath(TransientPath):
         while k0 < N:
             k1 = min(N, k0 + length)
             tt = t_out[k0:k1 + 1]
-            ch = runner.chunk(tt, z, k0)
+            ch = runner.chunk(tt, z, k0, recorder.output_slot(k1 - k0))
             w, U = ch.w, ch.U
             if nb:
                 inc = (e_g[None, :] * (U[:, e_b] - ch.int_Te)) @ to_links

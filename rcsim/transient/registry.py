@@ -87,7 +87,7 @@ def check_solver(name, where: str = "solver", error=InputError) -> str:
     >>> check_solver("stif")
     Traceback (most recent call last):
     ...
-    rcsim.errors.InputError: solver: solver must be one of 'auto', 'exact', 'piecewise', 'stiff', got 'stif' (did you mean 'stiff'?)
+    rcsim.errors.InputError: solver: solver must be one of 'auto', 'exact', 'large-linear', 'piecewise', 'stiff', got 'stif' (did you mean 'stiff'?)
     """
     if name not in SOLVERS:
         raise error(f"solver must be one of {', '.join(map(repr, SOLVERS))}, got {name!r}",

@@ -29,8 +29,8 @@ import pandas as pd
 from .errors import InputError
 
 __all__ = ["history_table", "flow_table", "energy_table", "clock_columns", "format_number",
-           "write_csv", "write_table_csv", "write_xlsx", "summary_table", "limits_table",
-           "XLSX_MAX_ROWS"]
+           "write_csv", "write_table_csv", "write_xlsx", "check_xlsx_rows", "summary_table",
+           "limits_table", "XLSX_MAX_ROWS"]
 
 #: Rows of one worksheet (the format's limit, less the header row).
 XLSX_MAX_ROWS = 1_048_575
@@ -271,6 +271,21 @@ def _dated(table: pd.DataFrame, result) -> pd.DataFrame:
     return out
 
 
+def check_xlsx_rows(samples, path) -> None:
+    """Refuse, before a run, a spreadsheet that would need more rows than a sheet holds.
+
+    >>> check_xlsx_rows(1_048_575, "run.xlsx")
+    >>> check_xlsx_rows(1_048_576, "run.xlsx")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    rcsim.errors.InputError: run.xlsx: the run has 1048576 samples; a spreadsheet sheet holds ...
+    """
+    if samples is not None and samples > XLSX_MAX_ROWS:
+        raise InputError(f"the run has {samples} samples; a spreadsheet sheet holds at most "
+                         f"{XLSX_MAX_ROWS}", os.fspath(path),
+                         "use a longer step, or write CSV (--csv) or HDF5 (-o) instead")
+
+
 def write_xlsx(result, path, *, scenario=None) -> str:
     """Write a run to a spreadsheet: summary, nodes, limits, histories, heat flows, energy, inputs.
 
@@ -285,11 +300,7 @@ def write_xlsx(result, path, *, scenario=None) -> str:
     from .atomic import atomic_path
 
     path = _check_suffix(path, (".xlsx",), "a spreadsheet file name")
-    n = len(result.time)
-    if n > XLSX_MAX_ROWS:
-        raise InputError(f"the run has {n} samples; a spreadsheet sheet holds at most "
-                         f"{XLSX_MAX_ROWS}", path,
-                         "use a longer step, or write CSV (--csv) or HDF5 (-o) instead")
+    check_xlsx_rows(len(result.time), path)
     sheets = {"summary": summary_table(result, scenario),
               "nodes": result.nodes,
               "limits": limits_table(result),

@@ -352,6 +352,18 @@ class Result:
 
         return plotting.plot_result(self, kind=kind, **kwargs)
 
+    def report(self, path=None, *, scenario=None, **options):
+        """A self-contained HTML report of the run (see :mod:`rcsim.report`): written to ``path``
+        (.html; the path is returned), or its text when ``path`` is None.
+
+        ``scenario``: the Scenario (or Network) that gave this result, needed for its inputs and
+        its picture; ``options`` go to :func:`rcsim.report.build_run_report` (``warnings``,
+        ``figures``, ``expand_layers``, ``title``).
+        """
+        from .report.dispatch import report_page  # the report sits above results; thin hand-off
+
+        return report_page(self, path, scenario, **options)
+
     def summary(self) -> str:
         """Plain-text summary of the run."""
         lines = []

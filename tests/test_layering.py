@@ -27,6 +27,9 @@ FACADES = {
     "rcsim.network.Network.simulate",
     "rcsim.network.Network.summary",
     "rcsim.results.Result.plot",
+    "rcsim.results.Result.report",
+    "rcsim.fitting.result.FitResult.report",
+    "rcsim.sizing.result.SizingResult.report_html",
     "rcsim.profiles.base.Profile.repeat",
 }
 

@@ -196,7 +196,9 @@ def block_fit(tmp_path_factory):
     import warnings
 
     with warnings.catch_warnings():   # noise-free data: the residuals are rounding, correlated
-        warnings.simplefilter("ignore", rcsim.fitting.FitWarning)
+        from rcsim.fitting import FitWarning
+
+        warnings.simplefilter("ignore", FitWarning)
         fit = rcsim.fit(sc, path, free=["nodes.block.capacity", "nodes.block.initial"], starts=1)
     return sc, path, fit
 

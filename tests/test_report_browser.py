@@ -99,6 +99,9 @@ def pages(tmp_path_factory):
     table = rcsim.sweep(small, {"links.skin.resistance": "0.4 K/W..0.6 K/W:3"},
                         executor="serial")
     out["sweep"] = write_report(build_report(table, small), folder / "sweep.html")
+    sized = rcsim.size(small, vary={"nodes.block.capacity": ("10 kJ/K", "100 kJ/K")},
+                       require="hold_time.block >= 4 h")
+    out["size"] = sized.report_html(folder / "size.html")
     hostile = rcsim.loads(HOSTILE, name="hostile.toml")
     out["hostile"] = write_report(build_report(hostile.run(), hostile), folder / "hostile.html")
     return out
@@ -146,7 +149,7 @@ CAUTION = """var c = document.getElementById('caution'); var r = c.getBoundingCl
     return [r.width, r.height, s.display, s.visibility, s.opacity, c.textContent];"""
 
 
-@pytest.mark.parametrize("kind", ["run", "fit", "sweep", "hostile"])
+@pytest.mark.parametrize("kind", ["run", "fit", "sweep", "size", "hostile"])
 def test_report_in_the_browser(kind, pages, browser, tmp_path):
     browser.get_log("browser")                       # forget what earlier pages logged
     _width(browser, 1280)
@@ -199,3 +202,18 @@ def test_the_shipper_report_shows_the_hold_time_the_result_gives(pages, browser)
     res = box.run()
     hold = pd.to_numeric(pd.Series([row[3] for row in cells]), errors="coerce").to_numpy()
     np.testing.assert_array_equal(hold, res.limits["hold_time [s]"].to_numpy() / 3600.0)
+
+
+def test_the_sizing_report_shows_the_answer_the_result_gives(pages, browser):
+    browser.get("file://" + os.path.abspath(pages["size"]))
+    _width(browser, 1280)
+    answer = browser.execute_script("""return Array.from(document.querySelectorAll(
+        '#sizing-answer tbody td.num')).map(function (td) { return td.getAttribute('data-value'); });""")
+    small = rcsim.loads(SMALL, name="block.toml")
+    sized = rcsim.size(small, vary={"nodes.block.capacity": ("10 kJ/K", "100 kJ/K")},
+                       require="hold_time.block >= 4 h")
+    assert float(answer[0]) == sized.value
+    # R C ln((30 - 20)/(30 - 28)) = 4 h gives C = 14400 s / (0.5 K/W ln 5) (closed form); the
+    # answer meets it within the search's tolerance (0.1 % of the range, 90 J/K)
+    needed = 14400.0 / (0.5 * math.log(5.0))
+    assert needed * (1 - 1e-6) <= sized.value <= needed + 91.0

@@ -19,7 +19,8 @@ from conftest import SCENARIOS
 
 #: what a start must not import; numpy too: nothing a command's help says needs arrays
 HEAVY = ("numpy", "pandas", "scipy", "matplotlib", "h5py", "pint")
-COMMANDS = ("check", "steady", "modes", "materials", "run", "plot", "fit", "sweep")
+COMMANDS = ("check", "steady", "modes", "materials", "run", "plot", "fit", "sweep", "size",
+            "report", "draw")
 COLD_BOX = os.path.join(SCENARIOS, "cold-box.toml")
 
 

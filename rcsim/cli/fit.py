@@ -46,10 +46,14 @@ __all__ = ["fit", "format_fit_summary"]
               "TOML file.")
 @click.option("--plot", "plot_path", type=click.Path(), help="Write the measured vs fitted "
               "figure (with residuals) to this PNG, SVG or PDF file.")
+@click.option("--report", "report_path", type=click.Path(), metavar="REPORT.html",
+              help="Write the fit's report (estimates, quality, figure, fitted scenario, "
+              "warnings, provenance) to this .html file.")
 @allow_absolute_paths_option
 @guard
 def fit(scenario, log, free, mapping, ignore, bound_items, sigma_items, time_column, time_unit,
-        max_gap, starts, solver, output, write_scenario, plot_path, allow_absolute_paths):
+        max_gap, starts, solver, output, write_scenario, plot_path, report_path,
+        allow_absolute_paths):
     """Fit values of SCENARIO (capacities, resistances, starting state, ...) to LOG.csv.
 
     LOG has a time column (seconds or ISO-8601) and temperature columns named after nodes
@@ -63,6 +67,10 @@ def fit(scenario, log, free, mapping, ignore, bound_items, sigma_items, time_col
     check_output(output, (".csv",), "--output")
     check_output(write_scenario, (".toml",), "--write-scenario")
     check_output(plot_path, (".png", ".svg", ".pdf"), "--plot")
+    if report_path is not None:
+        from ..report.render import check_report_path
+
+        check_report_path(report_path, "--report")
     columns = _pairs(mapping, "--map")
     bounds = {}
     for item in bound_items:
@@ -70,10 +78,13 @@ def fit(scenario, log, free, mapping, ignore, bound_items, sigma_items, time_col
         if key in bounds:
             raise InputError(f"{key!r} is bounded twice", "--bound")
         bounds[key] = (low, high)
-    sc = load_scenario(scenario, allow_absolute_paths)
-    res = run_fit(sc, log, list(free), columns=columns, ignore=list(ignore), bounds=bounds,
-                  sigma=_sigma_option(sigma_items), time=time_column, time_unit=time_unit,
-                  max_gap=max_gap, starts=starts, solver=solver)
+    from ..report.collect import kept_warnings
+
+    with kept_warnings() as caught:          # for the report; printed as usual all the same
+        sc = load_scenario(scenario, allow_absolute_paths)
+        res = run_fit(sc, log, list(free), columns=columns, ignore=list(ignore), bounds=bounds,
+                      sigma=_sigma_option(sigma_items), time=time_column, time_unit=time_unit,
+                      max_gap=max_gap, starts=starts, solver=solver)
     written = []
     if output:
         written.append(res.to_csv(output))
@@ -81,6 +92,8 @@ def fit(scenario, log, free, mapping, ignore, bound_items, sigma_items, time_col
         written.append(res.write_scenario(write_scenario))
     if plot_path:
         written.append(_save_plot(res, plot_path))
+    if report_path:
+        written.append(res.report(report_path, scenario=sc, log_path=log, warnings=list(caught)))
     click.echo(format_fit_summary(sc, res))
     for p in written:
         click.echo(f"wrote {p}")

@@ -21,7 +21,11 @@ __all__ = ["run", "format_run_summary"]
 @click.command()
 @scenario_argument
 @click.option("-o", "--output", type=click.Path(), help="Write the result to this HDF5 file.")
-@click.option("--csv", "csv_path", type=click.Path(), help="Also write the histories as CSV.")
+@click.option("--csv", "csv_path", type=click.Path(), help="Also write the histories as CSV, "
+              "with units in the headers ('payload [degC]', 'walls [W]') and ISO-8601 times when "
+              "the scenario has a clock start.")
+@click.option("--xlsx", "xlsx_path", type=click.Path(), help="Also write a spreadsheet: summary, "
+              "nodes, limits, histories, heat flows, energy and inputs, units in the headers.")
 @click.option("--plots", "plots_dir", type=click.Path(), help="Write the standard figures "
               "into this folder.")
 @click.option("--solver", type=click.Choice(SOLVERS), default=None,
@@ -32,19 +36,29 @@ __all__ = ["run", "format_run_summary"]
 @quiet_option
 @click.option("--all-nodes", is_flag=True, help="Also list the internal nodes of sliced layers.")
 @guard
-def run(scenario, output, csv_path, plots_dir, solver, record, allow_absolute_paths, quiet,
-        all_nodes):
+def run(scenario, output, csv_path, xlsx_path, plots_dir, solver, record, allow_absolute_paths,
+        quiet, all_nodes):
     """Simulate SCENARIO and print a summary."""
     check_output(output, (".h5", ".hdf5"), "--output")
     check_output(csv_path, (".csv",), "--csv")
+    check_output(xlsx_path, (".xlsx",), "--xlsx")
     check_folder(plots_dir, "--plots")
     sc = load_scenario(scenario, allow_absolute_paths)
+    if xlsx_path and sc.settings.duration and sc.settings.step:
+        from ..exports import check_xlsx_rows
+
+        check_xlsx_rows(int(sc.settings.duration / sc.settings.step) + 1, xlsx_path)
     with Progress(sys.stderr.isatty() and not quiet) as progress:
         res = sc.run(output=output, progress=progress, solver=solver,
                      record=list(record) if record else None)
-    if csv_path:
-        res.to_csv(csv_path)
-    written = [p for p in (output, csv_path) if p]
+    if csv_path or xlsx_path:
+        from ..exports import write_csv, write_xlsx
+
+        if csv_path:
+            write_csv(res, csv_path)
+        if xlsx_path:
+            write_xlsx(res, xlsx_path, scenario=sc)
+    written = [p for p in (output, csv_path, xlsx_path) if p]
     if plots_dir:
         from ..plotting import standard_figures
 

@@ -53,12 +53,15 @@ __all__ = ["size_command"]
               help="Address of a running Dask scheduler (implies --executor dask).")
 @click.option("--dask-workers", type=click.IntRange(1),
               help="Start a local Dask cluster of this many workers (implies --executor dask).")
+@click.option("--report", "report_path", type=click.Path(), metavar="REPORT.html",
+              help="Write the sizing's report (answer, margins, values tried, figure, warnings, "
+                   "provenance) to this .html file.")
 @allow_absolute_paths_option
 @quiet_option
 @guard
 def size_command(scenario, vary_items, require_items, vary_uncertain_items, samples, confidence,
                  seed, tolerance, write_scenario, output, plots_dir, executor, workers, scheduler,
-                 dask_workers, allow_absolute_paths, quiet):
+                 dask_workers, report_path, allow_absolute_paths, quiet):
     """Find the value of a key of SCENARIO that just meets the requirements (with uncertain
     inputs: in the share of draws asked for)."""
     from ..sizing.command import size_command as run_size
@@ -69,6 +72,7 @@ def size_command(scenario, vary_items, require_items, vary_uncertain_items, samp
                         confidence=confidence, seed=seed, tolerance=tolerance, executor=executor,
                         workers=workers, scheduler=scheduler, dask_workers=dask_workers,
                         output=output, write_scenario=write_scenario, plots_dir=plots_dir,
+                        report=report_path,
                         allow_absolute_paths=allow_absolute_paths, quiet=quiet,
                         progress=lambda fraction, _detail=None: bar(fraction))
     if text:

@@ -46,13 +46,17 @@ __all__ = ["sweep_command", "format_sweep_summary"]
               "of its range (2 runs per input) and rank the inputs.")
 @click.option("--target-hold", metavar="TIME", help="Required hold time, e.g. '48 h': print the "
               "share of runs that hold it and mark it on the figures.")
+@click.option("--report", "report_path", type=click.Path(), metavar="REPORT.html",
+              help="Write the sweep's report (design, percentiles, sensitivity, figures, runs, "
+              "warnings, provenance) to this .html file.")
 @allow_absolute_paths_option
 @quiet_option
 @guard
 def sweep_command(scenario, vary_items, samples, seed, executor, workers, scheduler, dask_workers,
-                  output, plots_dir, tornado, target_hold, allow_absolute_paths, quiet):
+                  output, plots_dir, tornado, target_hold, report_path, allow_absolute_paths,
+                  quiet):
     """Run SCENARIO many times over grids or samples of its values; percentiles and sensitivity."""
-    from ..sweep import SweepInterrupted, first_order_indices, one_at_a_time, percentiles, sweep
+    from ..sweep import first_order_indices, percentiles
     from ..units import to_si
 
     vary = _parse_vary(vary_items)
@@ -65,6 +69,41 @@ def sweep_command(scenario, vary_items, samples, seed, executor, workers, schedu
     if output is not None:
         _check_table_path(output)
     check_folder(plots_dir, "--plots")
+    if report_path is not None:
+        from ..report.render import check_report_path
+
+        check_report_path(report_path, "--report")
+    from ..report.collect import kept_warnings
+
+    with kept_warnings() as caught:          # for the report; printed as usual all the same
+        table, oat, wall, sc, places = _run_sweep(scenario, vary, samples, seed, executor,
+                                                  workers, scheduler, dask_workers, output,
+                                                  tornado, allow_absolute_paths, quiet)
+    written = [output] if output else []
+    if plots_dir:
+        from ..plotting import sweep_figures
+
+        written += sweep_figures(table, plots_dir, stem=os.path.splitext(sc.name)[0], oat=oat,
+                                 target_hold=target)
+    if report_path:
+        from ..report import build_sweep_report, write_report
+
+        written.append(write_report(build_sweep_report(
+            table, sc, oat=oat, target_hold=target, warnings=list(caught)), report_path))
+    if quiet:
+        return
+    click.echo(format_sweep_summary(sc, table, percentiles(table), _where(places), wall, target,
+                                    first_order_indices(table) if samples else None, oat))
+    for p in written:
+        click.echo(f"wrote {p}")
+
+
+def _run_sweep(scenario, vary, samples, seed, executor, workers, scheduler, dask_workers, output,
+               tornado, allow_absolute_paths, quiet):
+    """Load, run the one-at-a-time runs if asked, then the sweep: (table, oat, wall time [s],
+    scenario, places). Ctrl-C writes the finished rows and leaves with status 130."""
+    from ..sweep import SweepInterrupted, one_at_a_time, sweep
+
     sc = load_scenario(scenario, allow_absolute_paths)
     places = dict(executor=executor, workers=workers, scheduler=scheduler,
                   dask_workers=dask_workers)
@@ -84,19 +123,7 @@ def sweep_command(scenario, vary_items, samples, seed, executor, workers, schedu
                      else "no table written")
             click.echo(f"interrupted after {stop.done} of {stop.planned} runs; {where}", err=True)
             sys.exit(EXIT_INTERRUPTED)
-    wall = time.perf_counter() - t0
-    written = [output] if output else []
-    if plots_dir:
-        from ..plotting import sweep_figures
-
-        written += sweep_figures(table, plots_dir, stem=os.path.splitext(sc.name)[0], oat=oat,
-                                 target_hold=target)
-    if quiet:
-        return
-    click.echo(format_sweep_summary(sc, table, percentiles(table), _where(places), wall, target,
-                                    first_order_indices(table) if samples else None, oat))
-    for p in written:
-        click.echo(f"wrote {p}")
+    return table, oat, time.perf_counter() - t0, sc, places
 
 
 def _check_table_path(path) -> None:

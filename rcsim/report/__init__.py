@@ -1,4 +1,4 @@
-"""Reports a client or QA can read: one self-contained HTML page per run, fit or sweep.
+"""Reports a client or QA can read: one self-contained HTML page per run, fit, sweep or sizing.
 
 ::
 
@@ -23,17 +23,20 @@ from __future__ import annotations
 
 import importlib
 
-__all__ = ["build_run_report", "build_fit_report", "build_sweep_report", "build_report",
-           "render_html", "write_report", "Report"]
+__all__ = ["build_run_report", "build_fit_report", "build_sweep_report", "build_sizing_report",
+           "build_report", "report_page", "render_html", "write_report", "Report", "kept_warnings"]
 
 _WHERE = {
     "build_run_report": ".run",
     "build_fit_report": ".fit",
     "build_sweep_report": ".sweep",
+    "build_sizing_report": ".sizing",
     "build_report": ".dispatch",
+    "report_page": ".dispatch",
     "render_html": ".render",
     "write_report": ".render",
     "Report": ".model",
+    "kept_warnings": ".collect",
 }
 
 

@@ -2,10 +2,10 @@
 
 A :class:`Report` is a title, a purpose, the caution, a few headline facts, sections of blocks
 (tables, figures, paragraphs, facts, preformatted text), warnings and provenance. The builders
-(:mod:`.run`, :mod:`.fit`, :mod:`.sweep`) fill one from a result; :mod:`.render` turns it into one
-self-contained HTML page through the package's Jinja2 templates. Every text here is plain text
-(escaped when rendered); only :attr:`Figure.svg`, made by :mod:`.figures` from our own drawings
-and cleaned there, is inserted as markup.
+(:mod:`.run`, :mod:`.fit`, :mod:`.sweep`, :mod:`.sizing`) fill one from a result;
+:mod:`.render` turns it into one self-contained HTML page through the package's Jinja2
+templates. Every text here is plain text (escaped when rendered); only :attr:`Figure.svg`, made
+by :mod:`.figures` from our own drawings and cleaned there, is inserted as markup.
 """
 
 from __future__ import annotations
@@ -93,7 +93,7 @@ class Section:
 
 @dataclass
 class Report:
-    kind: str                 # "run", "fit", "sweep"
+    kind: str                 # "run", "fit", "sweep", "sizing"
     title: str
     subtitle: str
     purpose: str

@@ -127,7 +127,7 @@ def build_sweep_report(table, scenario=None, *, oat=None, target_hold=None, warn
     duration = attrs.get("duration")
     glance = [("scenario", name), ("runs", str(len(table))),
               ("failed runs", str(int((~ok).sum()))),
-              ("seed", str(attrs.get("seed", ""))),
+              ("seed", "-" if attrs.get("seed") is None else str(attrs["seed"])),
               ("samples per grid point", str(attrs.get("samples", 0) or "-"))]
     if duration:
         glance.append(("run duration", f"{number_text(float(duration) / 3600.0, 4)} h"))
@@ -171,6 +171,7 @@ def build_sweep_report(table, scenario=None, *, oat=None, target_hold=None, warn
     text = getattr(scenario, "text", "") or ""
     report = Report("sweep", heading, f"Sweep report \u00b7 {name}", purpose_of(scenario),
                     glance, sections, warning_texts(warnings),
-                    provenance_items(text, name, [("seed", str(attrs.get("seed", "")))]), text)
+                    provenance_items(text, name, [("seed", "-" if attrs.get("seed") is None
+                                                       else str(attrs["seed"]))]), text)
     report.extra_caution = SWEEP_CAUTION
     return report

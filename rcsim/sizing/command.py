@@ -2,7 +2,8 @@
 
 ``rcsim size SCENARIO --vary 'KEY=LOW..HIGH' --require 'hold_time.payload >= 72 h'
 [--vary-uncertain 'KEY=normal(..)' --sample N --confidence 0.95 --seed S] [--tolerance '0.5 mm']
-[--write-scenario PATH] [-o table.csv|.h5|.parquet] [--plots DIR] [--executor ...]``
+[--write-scenario PATH] [-o table.csv|.h5|.parquet] [--plots DIR] [--report PATH.html]
+[--executor ...]``
 
 :func:`size_command` checks every output path before any run, runs :func:`rcsim.sizing.size`,
 writes what was asked for and returns the text to print (the answer, the margin, the values
@@ -34,7 +35,7 @@ def parse_items(items, option) -> dict:
     return out
 
 
-def _check_paths(output, write_scenario, plots_dir) -> None:
+def _check_paths(output, write_scenario, plots_dir, report=None) -> None:
     if output is not None:
         from ..sweep.tables import check_table_path
 
@@ -51,12 +52,17 @@ def _check_paths(output, write_scenario, plots_dir) -> None:
             raise InputError(f"{path!r} is a directory", "--write-scenario", "give a file name")
     if plots_dir is not None and os.path.exists(plots_dir) and not os.path.isdir(plots_dir):
         raise InputError(f"{plots_dir!r} exists and is not a folder", "--plots")
+    if report is not None:
+        from ..report.render import check_report_path
+
+        check_report_path(report, "--report")
 
 
 def size_command(scenario, vary_items, require_items, *, vary_uncertain_items=(), samples=None,
                  confidence=None, seed=None, tolerance=None, executor=None, workers=None,
                  scheduler=None, dask_workers=None, output=None, write_scenario=None,
-                 plots_dir=None, allow_absolute_paths=False, quiet=False, progress=None) -> str:
+                 plots_dir=None, allow_absolute_paths=False, quiet=False, progress=None,
+                 report=None) -> str:
     """Run ``rcsim size`` with parsed options; returns the text to print (with ``quiet``, only
     the files written).
 
@@ -81,12 +87,15 @@ def size_command(scenario, vary_items, require_items, *, vary_uncertain_items=()
     elif executor is not None and executor != "dask" and (scheduler or dask_workers):
         raise InputError(f"--scheduler and --dask-workers need --executor dask, not {executor}",
                          "--executor")
-    _check_paths(output, write_scenario, plots_dir)
-    sc = load(scenario, allow_absolute_paths=allow_absolute_paths)
-    res = size(sc, vary, require, vary_uncertain=uncertain, samples=samples,
-               confidence=confidence, seed=seed, tolerance=tolerance, executor=executor,
-               workers=workers, scheduler=scheduler, dask_workers=dask_workers,
-               progress=progress)
+    _check_paths(output, write_scenario, plots_dir, report)
+    from ..report.collect import kept_warnings
+
+    with kept_warnings() as caught:          # for the report; passed on all the same
+        sc = load(scenario, allow_absolute_paths=allow_absolute_paths)
+        res = size(sc, vary, require, vary_uncertain=uncertain, samples=samples,
+                   confidence=confidence, seed=seed, tolerance=tolerance, executor=executor,
+                   workers=workers, scheduler=scheduler, dask_workers=dask_workers,
+                   progress=progress)
     written = []
     if output is not None:
         written.append(res.write_runs(output))
@@ -94,5 +103,7 @@ def size_command(scenario, vary_items, require_items, *, vary_uncertain_items=()
         written.append(res.write_scenario(write_scenario))
     if plots_dir is not None:
         written += sizing_figures(res, plots_dir, stem=os.path.splitext(sc.name)[0])
+    if report is not None:
+        written.append(res.report_html(report, warnings=list(caught)))
     lines = [] if quiet else [res.report()]
     return "\n".join(lines + [f"wrote {p}" for p in written])

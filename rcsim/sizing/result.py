@@ -137,6 +137,17 @@ class SizingResult:
         """The text ``rcsim size`` prints (see :func:`rcsim.sizing.report.format_report`)."""
         return format_report(self)
 
+    def report_html(self, path=None, **options):
+        """A self-contained HTML report of the sizing (see :mod:`rcsim.report`): the answer, the
+        margins, the values tried, the figure, warnings, caution and provenance; written to
+        ``path`` (.html; the path is returned), or its text when ``path`` is None. (:meth:`report`
+        is the printed text.) ``options`` go to :func:`rcsim.report.build_sizing_report`
+        (``warnings``, ``figures``, ``title``, ``max_rows``).
+        """
+        from ..report.dispatch import report_page  # the report sits beside sizing; hand-off
+
+        return report_page(self, path, **options)
+
     def write_runs(self, path) -> str:
         """Write :attr:`runs` (.csv, .h5 or .parquet, as a sweep table), atomically."""
         from ..sweep.tables import write_table

@@ -243,7 +243,9 @@ def write_table(table: pd.DataFrame, path) -> str:
     low = path.lower()
     with atomic_path(path, os.path.splitext(path)[1] + ".tmp") as tmp:
         if low.endswith(".csv"):
-            table.to_csv(tmp, float_format="%.17g")
+            # no float_format: each number as the shortest text that reads back to the same
+            # double (0.03, never 0.029999999999999999)
+            table.to_csv(tmp, lineterminator="\n")
         elif low.endswith((".h5", ".hdf5")):
             _write_h5(table, tmp)
         else:

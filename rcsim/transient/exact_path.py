@@ -12,6 +12,7 @@ from ..errors import InputError
 from ..recording import Chunk
 from ..runinfo import RunStats
 from ..statespace import state_space
+from ..threads import kernels
 from .base import EXACT_LIMIT, Progress, TransientPath
 from .exact_chunks import ModalEvaluator, ModalRunner
 
@@ -56,10 +57,11 @@ class ExactPath(TransientPath):
 
     def temperatures_at(self, problem, nodes) -> np.ndarray:
         """The modes propagated straight to the output times (no flows, energies or limits)."""
-        prop = problem.propagator
-        A, D = prop.output_maps(np.asarray(nodes))
-        Z = prop.states_at(problem.times, self._modal_start(problem))
-        return Z @ A.T + prop.inputs_at(problem.times) @ D.T
+        with kernels():          # fits call this directly: rcsim's threads (rcsim.threads)
+            prop = problem.propagator
+            A, D = prop.output_maps(np.asarray(nodes))
+            Z = prop.states_at(problem.times, self._modal_start(problem))
+            return Z @ A.T + prop.inputs_at(problem.times) @ D.T
 
     def run(self, problem, recorder, progress: Progress) -> RunStats:
         prop = problem.propagator

@@ -13,20 +13,23 @@ changes. This path uses the linearity instead:
   factorisations are kept per step length (a uniform output grid needs one or two).
   L-stability damps the fast modes of a large network in one step: no step-size limit from
   stiffness.
-* **Grid**: the output times and every input knot (steps, table points), so steps never straddle
-  an input jump; sines and ramps are evaluated at the stages.
+* **Grid**: the input knots (steps, table points) split the run into intervals; steps never
+  straddle a knot, and are ``L / 2^l`` long in an interval of length L (so that evenly spaced
+  knots, an hourly table, share the same few factorisations). Steps are not tied to the output
+  times: output samples inside a step are read from the step's cubic Hermite interpolant
+  (values and derivatives at both ends; the last stage gives the end derivative for free), which
+  is as accurate as the third-order step itself.
 * **Error control by step doubling**: every pair of steps of length h is compared with one step
   of 2h from the same state; the difference over (2^3 - 1) estimates the error of the pair, which
-  must be below ``atol + rtol |T|`` (the run's tolerances) at every state, else the interval is
-  redone with half the step (a new factorisation, kept). Intervals that pass by a wide margin let
-  the next one try a step twice as long (never longer than the output interval, paired over two
-  intervals of one length). The finer solution is kept (no extrapolation: that would lose
-  L-stability).
+  must be below ``atol + rtol |T|`` (the run's tolerances) at every state, else the pair is
+  redone with half the step (a new factorisation, kept). A pair that passes by a wide margin
+  lets the next ones take steps twice as long. The finer solution is kept (no extrapolation:
+  that would lose L-stability).
 * **Energies**: the heat through the boundary links and from the sources come from the same
   stage quadrature as the update itself (``h * sum b_j`` over the stages), so the energy balance
-  closes to rounding, whatever the step.
-* **Between samples**: a cubic Hermite interpolant of the states on each step (values and the
-  derivatives the last stage gives for free) locates band crossings.
+  closes to rounding at every step's end, whatever the step (at samples inside a step, the
+  Hermite integral of the states and the inputs' exact integrals add the part of the step).
+* **Between samples**: the same Hermite interpolants locate band crossings.
 
 The method and the alternatives were measured at equal accuracy
 (``tests/benchmarks/bench_large.py``): a reduced modal basis (slowest modes by shift-invert
@@ -36,6 +39,8 @@ of products that grows with the norm of C^-1 K times the step.
 """
 
 from __future__ import annotations
+
+import math
 
 import numpy as np
 import scipy.sparse as sp
@@ -47,7 +52,6 @@ from ..recording import Chunk
 from ..runinfo import RunStats
 from .base import Progress, TransientPath
 from .dense_eval import WatchedColumns
-from .energy_model import jump_times
 from .inputs import input_values
 
 __all__ = ["LargeLinearPath", "LinearStepper", "SDIRK3"]
@@ -83,7 +87,7 @@ def _alexander():
 SDIRK3 = _alexander()
 
 #: Factorisations kept (one per step length).
-_KEPT = 12
+_KEPT = 16
 #: Halvings of the step before giving up on an interval.
 _MAX_LEVEL = 30
 
@@ -141,7 +145,7 @@ class LinearStepper:
         """``count`` steps of length h from ``y`` at t0.
 
         Returns (states after each step (count, n), stage values (count, s, n), inputs at the
-        stages (count, s, I)).
+        stages (count, s, I), C times the derivative at each step's end (count, n)).
         """
         tab = self.tab
         s = tab.stages
@@ -153,6 +157,7 @@ class LinearStepper:
         gh = tab.gamma * h
         Y = np.empty((count, s, n))
         G = np.empty((s, n))
+        ends = np.empty((count, n))
         for k in range(count):
             Cy = self.C * y
             for i in range(s):
@@ -165,16 +170,23 @@ class LinearStepper:
                 G[i] = (self.C * Yi - rhs) / gh + Ew[k, i]
             self.solves += s
             y = Y[k, -1]
-        return Y[:, -1], Y, w
+            ends[k] = G[-1]            # stiffly accurate: -K y + E w at the step's end
+        return Y[:, -1], Y, w, ends
 
 
 class _Controller:
-    """Step doubling over the grid of output times and input knots (see the module text)."""
+    """Step doubling inside intervals free of input knots (see the module text).
 
-    def __init__(self, stepper: LinearStepper, rtol: float, atol: float):
+    Steps are ``L / 2^l`` for an interval of length L, so that a uniform grid of knots (an
+    hourly table) needs the same few factorisations throughout; the level l goes up when a pair
+    of steps misses the tolerance, down when it meets it by a wide margin (and the position
+    allows the longer step).
+    """
+
+    def __init__(self, stepper: LinearStepper, rtol: float, atol: float, h_guess: float):
         self.st = stepper
         self.rtol, self.atol = rtol, atol
-        self.level = 0
+        self.h = float(h_guess)
         self.steps = 0
         self.rejected = 0
 
@@ -182,32 +194,41 @@ class _Controller:
         scale = self.atol + self.rtol * np.maximum(np.abs(fine), np.abs(coarse))
         return float(np.max(np.abs(fine - coarse) / scale)) / (2 ** self.st.tab.order - 1)
 
-    def advance(self, y, t0: float, length: float, pair: bool):
-        """Advance over one grid interval, or two of this length (``pair``) at the coarsest level.
-
-        Returns (intervals covered, step times (m + 1,), states at the step ends (m, n), stage
-        values (m, s, n), stage inputs (m, s, I))."""
-        while True:
-            two = pair and self.level == 0
-            span = 2 * length if two else length
-            m = 2 if two else 2 ** max(self.level, 1)
-            h = span / m
-            fine, Y, w = self.st.steps(y, t0, h, m)
-            starts = np.vstack([y[None, :], fine[1::2][:-1]])
-            coarse = np.vstack([self.st.steps(starts[p], t0 + 2 * p * h, 2 * h, 1)[0]
-                                for p in range(m // 2)])
-            err = self._error(fine[1::2], coarse)
-            if err > 1.0 and self.level < _MAX_LEVEL:
-                self.level += 1
+    def interval(self, y, a: float, b: float):
+        """Pairs of accepted steps from ``y`` at a to b: yields (times (3,), states (2, n),
+        stage values (2, s, n), stage inputs (2, s, I), C times the end derivatives (2, n))."""
+        L = b - a
+        level = max(1, int(math.ceil(math.log2(max(L / self.h, 1.0)) - 1e-9)))
+        p = 0                                       # position, in steps of the current level
+        while p < 2 ** level:
+            h = L / 2 ** level
+            t0 = a + p * h
+            fine, Y, w, g_end = self.st.steps(y, t0, h, 2)
+            coarse = self.st.steps(y, t0, 2 * h, 1)[0]
+            err = self._error(fine[1:], coarse)
+            if err > 1.0:
+                if level >= _MAX_LEVEL:     # pragma: no cover - tolerance below rounding
+                    raise SolverError("the large-linear solver cannot meet the tolerance",
+                                      time=t0, hint="loosen rtol/atol")
+                level, p = level + 1, 2 * p
                 self.rejected += 1
                 continue
-            if err > 1.0:       # pragma: no cover - tolerance below rounding
-                raise SolverError("the large-linear solver cannot meet the tolerance",
-                                  time=t0, hint="loosen rtol/atol")
-            self.steps += m
-            if err * 2 ** (self.st.tab.order + 2) < 1.0 and self.level > 0:
-                self.level -= 1
-            return (2 if two else 1), t0 + h * np.arange(m + 1), fine, Y, w
+            self.steps += 2
+            yield np.array([t0, t0 + h, t0 + 2 * h]), fine, Y, w, g_end
+            y = fine[-1]
+            p += 2
+            if err * 2 ** (self.st.tab.order + 2) < 1.0 and level > 1 and p % 4 == 0:
+                level, p = level - 1, p // 2
+        self.h = L / 2 ** level
+
+
+def _hermite(s):
+    """Cubic Hermite basis at fractions s of a step: (h00, h10, h01, h11) and their integrals
+    from 0 to s (in units of the step length)."""
+    basis = ((1 + 2 * s) * (1 - s) ** 2, s * (1 - s) ** 2, s * s * (3 - 2 * s), s * s * (s - 1))
+    integral = (s - s ** 3 + s ** 4 / 2, s * s / 2 - 2 * s ** 3 / 3 + s ** 4 / 4,
+                s ** 3 - s ** 4 / 2, -s ** 3 / 3 + s ** 4 / 4)
+    return basis, integral
 
 
 class LargeLinearPath(TransientPath):
@@ -227,14 +248,15 @@ class LargeLinearPath(TransientPath):
         """One period of the large-linear integration (a linear network's period map)."""
         model = problem.energy_model
         period = common_period(model.profiles, "simulation.initial")
-        grid = np.union1d(np.linspace(0.0, period, 97), _knots(model.profiles, 0.0, period))
+        grid = np.union1d([0.0, period], _knots(model.profiles, 0.0, period))
 
         def one_period(H):
             st = LinearStepper(model.C, model.K_sparse, model.E, model.profiles)
-            ctl = _Controller(st, 0.1 * problem.rtol, 0.1 * problem.atol)
+            ctl = _Controller(st, 0.1 * problem.rtol, 0.1 * problem.atol, period / 96)
             y = H / model.C
             for a, b in zip(grid[:-1], grid[1:]):
-                y = ctl.advance(y, float(a), float(b - a), False)[2][-1]
+                for _, fine, *_ in ctl.interval(y, float(a), float(b)):
+                    y = fine[-1]
             return y * model.C
 
         return one_period
@@ -255,7 +277,9 @@ class _Run:
         ss = model.ss
         self.n = ss.n
         self.stepper = LinearStepper(model.C, model.K_sparse, model.E, model.profiles)
-        self.ctl = _Controller(self.stepper, problem.rtol, problem.atol)
+        t = problem.times
+        self.ctl = _Controller(self.stepper, problem.rtol, problem.atol,
+                               float(np.min(np.diff(t))) if t.size > 1 else float(t[-1]))
         self.M = model.M
         # output columns: a state, or a massless node from the states and the inputs
         pos_m, pos_z = ss.state_of, ss.eliminated_of
@@ -298,57 +322,73 @@ class _Run:
         problem, model, rec = self.problem, self.model, self.recorder
         t_out = problem.times
         y = np.array(problem.start.temperatures, dtype=float)
-        H0_sum = float((model.C * y).sum())
+        C = model.C
+        H0_sum = float((C * y).sum())
         T_end = float(t_out[-1])
-        knots = _knots(model.profiles, 0.0, T_end)
-        jumps = jump_times(model.profiles, 0.0, T_end)
-        grid = np.union1d(t_out, knots) if knots.size else t_out
-        is_out = np.isin(grid, t_out)
-        at_jump = np.isin(grid, jumps)
+        grid = np.union1d([0.0, T_end], _knots(model.profiles, 0.0, T_end))
         w0 = input_values(model.profiles, t_out[:1])
         nb, S = model.nb, model.S
         rec.add(Chunk(t_out[:1], self.temperatures(y[None, self.keep], w0), w0[:, :self.M],
                       w0[:, self.M:], np.zeros((1, nb)), np.zeros((1, S)), np.zeros(1)))
         width = max(1, rec.out_nodes.size + self.n // 4)
-        chunk_rows = max(16, min(4096, 4_000_000 // width))
-        buf = _Buffer()
+        self.chunk_rows = max(16, min(4096, 4_000_000 // width))
+        self.buf = _Buffer()
         self._dense = []
-        e_links, e_src = np.zeros(nb), np.zeros(S)
+        self.e = [np.zeros(nb), np.zeros(S)]            # energies at the last step's end
+        self.k_out = 1                                  # next output sample
         b = self.stepper.tab.b
-        h_all = np.diff(grid)
-        j, J = 0, grid.size - 1
-        while j < J:
-            length = float(h_all[j])
-            pair = (j + 1 < J and abs(h_all[j + 1] - length) <= 1e-12 * length
-                    and not at_jump[j + 1])
-            covered, times, fine, Y, w = self.ctl.advance(y, float(grid[j]), length, pair)
-            hs = np.diff(times)
-            # energies by the stage quadrature of the update itself
-            Iy = np.einsum("k,s,ksn->kn", hs, b, Y)                # (m, n) state integrals
-            Iw = np.einsum("k,s,ksi->ki", hs, b, w)                # (m, I) input integrals
-            inc_links, inc_src = self._energies(Iy, Iw)
-            cum_links = e_links[None, :] + np.cumsum(inc_links, axis=0)
-            cum_src = e_src[None, :] + np.cumsum(inc_src, axis=0)
-            e_links, e_src = cum_links[-1].copy(), cum_src[-1].copy()
-            if self.watch.size:
-                self._keep_dense(times, y, fine, w)
-            m = fine.shape[0]
-            per = m // covered                                     # steps per grid interval
-            for c in range(covered):
-                jj = j + 1 + c
-                if is_out[jj]:
-                    k = per * (c + 1) - 1
-                    buf.add(float(grid[jj]), fine[k, self.keep], float(model.C @ fine[k]),
-                            cum_links[k], cum_src[k])
-            y = fine[-1]
-            j += covered
-            if len(buf) >= chunk_rows:
-                self._flush(buf, H0_sum)
-                self.progress(float(grid[j]) / T_end)
-        self._flush(buf, H0_sum)
+        for a, end in zip(grid[:-1].tolist(), grid[1:].tolist()):
+            # C dT/dt at the interval's start, with the inputs just after it
+            g = np.asarray(model.E @ input_values(model.profiles, np.array([a]))[0]
+                           - model.K_sparse @ y).ravel()
+            for times, fine, Y, w, g_end in self.ctl.interval(y, a, end):
+                hs = np.diff(times)
+                Iy = np.einsum("k,s,ksn->kn", hs, b, Y)          # state integrals per step
+                Iw = np.einsum("k,s,ksi->ki", hs, b, w)          # input integrals per step
+                inc = self._energies(Iy, Iw)
+                starts = np.vstack([y[None, :], fine[:-1]])
+                g_starts = np.vstack([g[None, :], g_end[:-1]])
+                for j in range(2):
+                    self._outputs(times[j], times[j + 1], starts[j], fine[j], g_starts[j],
+                                  g_end[j], inc[0][j], inc[1][j], t_out, H0_sum)
+                if self.watch.size:
+                    self._keep_dense(times, starts, fine, g_starts, g_end)
+                y, g = fine[-1], g_end[-1]
+                if len(self.buf) >= self.chunk_rows:
+                    self._flush(H0_sum)
+                    self.progress(float(times[-1]) / T_end)
+        self._flush(H0_sum)
         self.progress(1.0)
         return RunStats(samples=int(t_out.size), steps=self.ctl.steps,
                         nlu=self.stepper.factorisations)
+
+    def _outputs(self, t0, t1, y0, y1, g0, g1, inc_links, inc_src, t_out, H0_sum):
+        """Output samples in (t0, t1]: the step's Hermite interpolant (the end exactly), the
+        energies from the step's start plus the integrals up to the sample."""
+        k = self.k_out
+        stop = int(np.searchsorted(t_out, t1 + 1e-12 * max(1.0, abs(t1)), side="right"))
+        if stop <= k:
+            self.e[0] = self.e[0] + inc_links
+            self.e[1] = self.e[1] + inc_src
+            return
+        model, C, h = self.model, self.model.C, t1 - t0
+        for tk in t_out[k:stop].tolist():
+            s = (tk - t0) / h
+            if s >= 1.0 - 1e-12:
+                self.buf.add(tk, y1[self.keep], float(C @ y1), self.e[0] + inc_links,
+                             self.e[1] + inc_src)
+                continue
+            (b00, b10, b01, b11), (i00, i10, i01, i11) = _hermite(s)
+            d0, d1 = g0 / C, g1 / C
+            yk = b00 * y0 + (b10 * h) * d0 + b01 * y1 + (b11 * h) * d1
+            Iy = h * (i00 * y0 + (i10 * h) * d0 + i01 * y1 + (i11 * h) * d1)
+            Iw = np.array([p.integral(t0, tk) for p in model.profiles])
+            links, src = self._energies(Iy[None, :], Iw[None, :])
+            self.buf.add(tk, yk[self.keep], float(C @ yk), self.e[0] + links[0],
+                         self.e[1] + src[0])
+        self.k_out = stop
+        self.e[0] = self.e[0] + inc_links
+        self.e[1] = self.e[1] + inc_src
 
     def _energies(self, Iy, Iw):
         model = self.model
@@ -360,24 +400,15 @@ class _Run:
             inc_links = np.zeros((Iy.shape[0], 0))
         return inc_links, Iw[:, self.M:]
 
-    def _keep_dense(self, times, y0, fine, w):
+    def _keep_dense(self, times, starts, fine, g_starts, g_end):
         """Values and derivatives of the watched states at both ends of each step (Hermite
-        pieces): the derivative at a step's start with the inputs just after it, at its end with
-        those just before."""
-        model = self.model
-        watch = self.watch
-        C = model.C[watch]
-        K = model.K_sparse[watch]
-        E = model.E[watch]
-        full = np.vstack([y0[None, :], fine])                     # (m + 1, n)
-        Ky = np.asarray((K @ full.T).T)                            # (m + 1, watched)
-        w_start = input_values(model.profiles, times[:-1])         # right values
-        w_end = w[:, -1, :]                                        # left values at step ends
-        d0 = (np.asarray((E @ w_start.T).T) - Ky[:-1]) / C[None, :]
-        d1 = (np.asarray((E @ w_end.T).T) - Ky[1:]) / C[None, :]
-        self._dense.append((times[:-1], times[1:], full[:-1, watch], full[1:, watch], d0, d1))
+        pieces for locating band crossings between samples)."""
+        watch, C = self.watch, self.model.C[self.watch]
+        self._dense.append((times[:-1], times[1:], starts[:, watch], fine[:, watch],
+                            g_starts[:, watch] / C, g_end[:, watch] / C))
 
-    def _flush(self, buf, H0_sum):
+    def _flush(self, H0_sum):
+        buf = self.buf
         if not len(buf):
             return
         model, rec = self.model, self.recorder

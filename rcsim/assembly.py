@@ -29,9 +29,9 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
-from . import elements
 from .base import suggest
 from .errors import LumpedWarning, NetworkError
+from .radiation_links import warn_separate_radiation_links
 
 __all__ = ["Assembled", "AssemblyCache", "StructureCache", "BoundarySegments",
            "assemble_network", "conductance_matrices"]
@@ -286,6 +286,7 @@ class _Nodes:
     capacity: list
     initial: list
     internal_of: dict = field(default_factory=dict)
+    phase_change: dict = field(default_factory=dict)  # node index -> PhaseChange of a slice
 
 
 def _link_chains(network, nodes: _Nodes) -> list:
@@ -303,18 +304,22 @@ def _link_chains(network, nodes: _Nodes) -> list:
                 chain.append(("R", part.resistance))
                 continue
             _check_biot(link, part)
-            n = part.slices
-            r_slice = part.resistance / n
-            c_slice = part.capacity / n
-            for _ in range(n):
+            inner, outer, capacity = part.ladder()   # slice by slice (rcsim.parts.Part)
+            melts = part.slice_phase_changes()
+            if part.is_core and part is not link.parts[0]:
+                raise NetworkError("a solid core (inner radius 0) must be the link's first part: "
+                                   "the link's first point is its centre", part.where)
+            for i in range(part.slices):
                 k += 1
                 name = f"{link.name}.{k}"
                 nodes.internal_of[name] = link.name
                 nodes.names.append(name)
-                nodes.capacity.append(c_slice)
-                nodes.initial.append(np.nan)
-                chain.extend([("R", 0.5 * r_slice), ("N", len(nodes.names) - 1),
-                              ("R", 0.5 * r_slice)])
+                nodes.capacity.append(capacity[i])
+                nodes.initial.append(np.nan if part.initial is None else part.initial)
+                if melts:
+                    nodes.phase_change[len(nodes.names) - 1] = melts[i]
+                chain.extend([("R", inner[i]), ("N", len(nodes.names) - 1),
+                              ("R", outer[i])])
         chains.append(chain)
     return chains
 
@@ -376,6 +381,8 @@ def assemble_network(network) -> Assembled:
     boundary_names = list(network.boundaries)
     n_user = len(user)
     chains = _link_chains(network, nodes)
+    # stack: the warning, assemble_network, Network.assemble, the caller
+    warn_separate_radiation_links(network, stacklevel=4)
     n_nodes = len(nodes.names)
     if n_nodes == 0:
         raise NetworkError("the network has no nodes", None, "add at least one node")
@@ -393,6 +400,7 @@ def assemble_network(network) -> Assembled:
                       shape=(n_nodes, len(src_nodes)))
     phase = {point_index[n.name]: n.phase_change for n in network.nodes.values()
              if n.phase_change is not None}
+    phase.update(nodes.phase_change)
     nl = None
     if segments.nonlinear:
         from .laws import SegmentLaws
@@ -423,14 +431,15 @@ def _check_biot(link, part) -> None:
     if part.slices != 1:
         return
     i = link.parts.index(part)
-    area = part.area
 
     def side_resistance(parts):  # nonlinear parts count as unknown (left out)
-        return float(np.nansum([p.resistance for p in parts])) * area
+        return float(np.nansum([p.resistance for p in parts]))
 
-    r_ext = min(side_resistance(link.parts[:i]), side_resistance(link.parts[i + 1:]))
-    bi = math.inf if r_ext == 0 else elements.biot_number(1.0 / r_ext, part.params["thickness"],
-                                                          part.params["k"])
+    # Bi = hL/k = (L/(kA)) / (1/(hA)): the layer's resistance over the film's (any geometry);
+    # a solid core has no inner side
+    sides = [link.parts[i + 1:]] if part.is_core else [link.parts[:i], link.parts[i + 1:]]
+    r_ext = min(side_resistance(side) for side in sides)
+    bi = math.inf if r_ext == 0 else part.resistance / r_ext
     if bi > 0.1:
         suggested = 10 if math.isinf(bi) else max(3, min(50, math.ceil(bi * 10)))
         shown = "infinite (the layer touches a node directly)" if math.isinf(bi) \

@@ -76,12 +76,12 @@ def _chain(link):
         elif not part.is_massive:
             acc += part.resistance
         else:
-            r_slice, c_slice = part.resistance / part.slices, part.capacity / part.slices
-            for _ in range(part.slices):
+            inner, outer, capacity = part.ladder()   # equal slices, or radial/box shells
+            for i in range(part.slices):
                 k += 1
-                steps.append(("edge", acc + 0.5 * r_slice, nonlinear))
-                steps.append(("node", f"{link.name}.{k}", c_slice))
-                acc, nonlinear = 0.5 * r_slice, False
+                steps.append(("edge", acc + float(inner[i]), nonlinear))
+                steps.append(("node", f"{link.name}.{k}", float(capacity[i])))
+                acc, nonlinear = float(outer[i]), False
     steps.append(("edge", acc, nonlinear))
     return steps
 

@@ -144,6 +144,7 @@ class Network:
         self.sources: dict[str, Source] = {}
         self.limits: dict[str, Limit] = {}
         self.thermostats: dict[str, Thermostat] = {}   # settings; a run never changes them
+        self.exchanges: dict = {}   # radiation elements and enclosures, by name (their links)
         self._assembled: Assembled | None = None
         self.source_text: str | None = None  # scenario text, when built from a file
 
@@ -305,6 +306,33 @@ class Network:
         self.links[name] = Link(name, a, b, part_list, link_area, where)
         self.mark_changed()
         return name
+
+    def add_radiation(self, name: str, surface: str, area, emissivity, sees, *,
+                      temperatures=None, where: str | None = None):
+        """Radiation from one grey surface to several nodes or boundaries, one surface resistance.
+
+        ``sees`` lists ``{"node": point, "view_factor": F}`` (or maps point to F); view factors
+        sum to at most 1. Exact in T^4 unless ``temperatures = [surface, surroundings]`` (or one
+        per seen point) linearises it. Adds links ``<name>:<point>``; see
+        :func:`rcsim.radiation_links.add_radiation`.
+        """
+        from .radiation_links import add_radiation
+
+        return add_radiation(self, name, surface, area, emissivity, sees,
+                             temperatures=temperatures, where=where)
+
+    def add_enclosure(self, name: str, surfaces, emissivities, *, areas=None, view_factors=None,
+                      shape=None, reradiating=None, temperatures=None,
+                      where: str | None = None):
+        """A grey diffuse enclosure of N surfaces (a view-factor matrix or a closed shape), wired
+        as one radiation link ``<name>:<a>-<b>`` per pair of points; see
+        :func:`rcsim.radiation_links.add_enclosure`.
+        """
+        from .radiation_links import add_enclosure
+
+        return add_enclosure(self, name, surfaces, emissivities, areas=areas,
+                             view_factors=view_factors, shape=shape, reradiating=reradiating,
+                             temperatures=temperatures, where=where)
 
     def add_source(self, node: str, power, name: str | None = None,
                    where: str | None = None) -> str:

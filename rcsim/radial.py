@@ -40,6 +40,7 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -55,6 +56,7 @@ __all__ = [
     "volume_cylinder_shell",
     "volume_sphere_shell",
     "radii_from",
+    "with_centre",
     "SPACINGS",
 ]
 
@@ -309,6 +311,29 @@ def sphere_slices(inner_radius, outer_radius, conductivity, slices, *,
     volumes = volume_sphere_shell(inner, outer)
     caps, rho = _capacities(volumes, density, specific_heat, where)
     return Slices("sphere", e, nodes, r, inner_half, outer_half, volumes, caps, rho)
+
+
+def with_centre(slices: Slices) -> Slices:
+    """A solid core's slices with a finite ``inner_half[0]``: the centre to the core's mean.
+
+    A network joins a solid cylinder or sphere at its centre (the axis or the middle point), so
+    the core slice needs a resistance from the centre to its node as well. With the core's heat
+    spread evenly (the profile behind ``outer_half[0]``), T(0) - T_mean is q b^2/(8k) for a
+    cylinder and q b^2/(10k) for a sphere (q the heat per volume), i.e. 1/(8 pi k L) (equal to
+    the mean-to-surface resistance) and 3/(40 pi k b) (1.5 times it); centre to surface then adds
+    up to the steady relations 1/(4 pi k L) and 1/(8 pi k b) of a uniformly heated core (closed
+    forms derived here from T(r) - T(b) = q (b^2 - r^2)/(4k) and q (b^2 - r^2)/(6k)). Shells are
+    returned as they are.
+
+    >>> s = with_centre(cylinder_slices(0.0, 0.02, 0.5, 1.0, 1))
+    >>> round(float(s.ladder().sum() * 4 * np.pi * 0.5), 12)
+    1.0
+    """
+    if slices.geometry == "plane" or float(slices.edges[0]) != 0.0:
+        return slices
+    inner = slices.inner_half.copy()
+    inner[0] = slices.outer_half[0] * (1.0 if slices.geometry == "cylinder" else 1.5)
+    return dataclasses.replace(slices, inner_half=inner)
 
 
 def radii_from(*, inner_radius=None, outer_radius=None, inner_diameter=None,

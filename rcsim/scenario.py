@@ -24,6 +24,7 @@ from .errors import InputError, ScenarioError
 from .network import Network
 from .parts import check_keys
 from .profiles import Constant, Profile, Repeat, Sine, Steps, Table
+from .radiation_links import enclosures_from_scenario, radiation_from_scenario
 from .thermostat import add_thermostats_from_scenario
 from .transient.registry import check_solver
 from .units import to_si
@@ -32,7 +33,7 @@ __all__ = ["Scenario", "Settings", "load", "loads", "parse_key_path", "format_ke
            "profile_from_spec"]
 
 _TOP = {"title", "description", "simulation", "nodes", "boundaries", "links", "sources", "limits",
-        "thermostats"}
+        "thermostats", "radiation", "enclosures"}
 _SIM = {"duration", "step", "initial", "solver", "record", "start", "rtol", "atol"}
 _NODE = {"capacity", "initial", "mass", "specific_heat", "material", "volume", "density",
          "phase_change"}
@@ -195,7 +196,12 @@ _KIND_BY_KEY = {
     "resistance": "resistance", "conductance": "conductance", "view_factor": "dimensionless",
     "band": "temperature_difference", "setpoint": "temperature", "height": "length",
     "width": "length", "diameter": "length", "velocity": "velocity",
+    "inner_diameter": "length", "outer_diameter": "length",
 }
+
+#: list-valued keys whose entries are quantities (``...box.inside[0]``, ``...areas[1]``)
+_KIND_OF_ENTRIES = {"inside": "length", "outside": "length", "areas": "area",
+                    "emissivities": "dimensionless", "temperatures": "temperature"}
 
 
 def quantity_kind(tokens: list) -> str | None:
@@ -203,7 +209,7 @@ def quantity_kind(tokens: list) -> str | None:
     last = tokens[-1]
     parent = tokens[-2] if len(tokens) > 1 else None
     if isinstance(last, int):
-        return None
+        return _KIND_OF_ENTRIES.get(parent) if isinstance(parent, str) else None
     in_part = len(tokens) > 2 and isinstance(tokens[-3], int)  # ...parts[i].<kind>.<key>
     if in_part and parent == "contact" and last == "resistance":
         return "area_resistance"
@@ -315,6 +321,10 @@ def _build(data, text, path, base_dir, allow_abs, name) -> Scenario:
                                 "\"outdoor\"]", f"{w}.between")
         kwargs = {k: spec[k] for k in ("resistance", "conductance", "parts", "area") if k in spec}
         net.add_link(between[0], between[1], name=nm, where=w, **kwargs)
+    if "radiation" in data:     # one surface seeing several surroundings
+        radiation_from_scenario(net, _table(data["radiation"], "radiation"))
+    if "enclosures" in data:    # grey diffuse enclosures of N surfaces
+        enclosures_from_scenario(net, _table(data["enclosures"], "enclosures"))
     for nm, spec in _table(data.get("sources", {}), "sources").items():
         w = f"sources.{nm}"
         spec = _table(spec, w)

@@ -52,6 +52,7 @@ __all__ = [
     "BoxConduction",
     "box_conduction",
     "ShapeFactorWarning",
+    "box_shell_volumes",
 ]
 
 #: S / D for the edge of two adjoining walls [-] (Incropera et al. [1]_ Table 4.1)
@@ -251,3 +252,19 @@ def box_conduction(inside, conductivity, *, thickness=None, outside=None,
                       f"heat flow (10 % at half the thickness{table}); treat the result as an "
                       "upper bound", ShapeFactorWarning, stacklevel=2)
     return BoxConduction(ins, out, L, k, walls, edges, corners, valid)
+
+
+def box_shell_volumes(inside, thickness, slices):
+    """Volumes [m^3] of ``slices`` nested shells of equal thickness that make a box's walls.
+
+    Shell i lies between the boxes of inside dimensions d + 2 x_i and d + 2 x_(i+1), x_i = i L/n;
+    they add up to the walls' volume V_out - V_in.
+
+    >>> v = box_shell_volumes([0.3, 0.3, 0.3], 0.05, 2)
+    >>> round(float(v.sum()), 6), round(0.4 ** 3 - 0.3 ** 3, 6)
+    (0.037, 0.037)
+    """
+    d = np.asarray(inside, dtype=float)
+    x = np.linspace(0.0, float(thickness), int(slices) + 1)
+    boxes = np.prod(d[None, :] + 2.0 * x[:, None], axis=1)
+    return np.diff(boxes)

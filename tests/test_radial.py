@@ -3,8 +3,8 @@ and a ladder of slices cooling by convection against the Bessel-series solution.
 
 import numpy as np
 import pytest
+from radial_reference import ALPHA, BI, CP, H, K_, R0, RHO, series_slice_means
 from scipy.integrate import solve_ivp
-from scipy.optimize import brentq
 from scipy.special import j0, j1
 
 from rcsim import radial
@@ -57,44 +57,7 @@ def test_solid_core_has_no_inner_face():
 
 
 # -- transient: a solid cylinder and a sphere suddenly exposed to convection ----------------------
-K_, RHO, CP, H, R0 = 0.5, 1000.0, 4000.0, 25.0, 0.02        # Bi = h r0 / k = 1
-ALPHA = K_ / (RHO * CP)
-BI = H * R0 / K_
-
-
-def _roots(f, count):
-    """The first ``count`` positive roots of f, bracketed on a fine grid and refined by brentq."""
-    grid = np.linspace(1e-9, 4.0 * count + 10.0, 40 * count + 400)
-    v = f(grid)
-    idx = np.flatnonzero(np.sign(v[:-1]) != np.sign(v[1:]))
-    return np.array([brentq(f, grid[i], grid[i + 1], xtol=1e-14) for i in idx[:count]])
-
-
-def series_slice_means(geometry, edges, fourier, terms=80):
-    """(T - T_inf)/(T_i - T_inf) averaged over each slice, from the multi-term series solution
-    (Incropera et al., 6th ed., section 5.6, eqs. 5.49 and 5.50; Carslaw and Jaeger):
-
-    cylinder: zeta J1(zeta) / J0(zeta) = Bi, C = 2 J1 / (zeta (J0^2 + J1^2)), profile J0(zeta r*)
-    sphere:   1 - zeta cot(zeta) = Bi,     C = 4 (sin - zeta cos) / (2 zeta - sin 2 zeta),
-              profile sin(zeta r*) / (zeta r*)
-
-    Slice averages use the antiderivatives r J0(z r) -> r J1(z r)/z and r sin(z r) -> (sin(z r)
-    - z r cos(z r))/z^2 (closed forms by hand)."""
-    a = edges[:-1][None, :] / R0
-    b = edges[1:][None, :] / R0
-    if geometry == "cylinder":
-        z = _roots(lambda x: x * j1(x) - BI * j0(x), terms)[:, None]
-        C = 2 / z * j1(z) / (j0(z) ** 2 + j1(z) ** 2)
-        mean = 2 / z * (b * j1(z * b) - a * j1(z * a)) / (b * b - a * a)
-    else:
-        z = _roots(lambda x: (1 - BI) * np.sin(x) - x * np.cos(x), terms)[:, None]
-        C = 4 * (np.sin(z) - z * np.cos(z)) / (2 * z - np.sin(2 * z))
-
-        def prim(x):
-            return (np.sin(z * x) - z * x * np.cos(z * x)) / z ** 2
-
-        mean = 3 * (prim(b) - prim(a)) / (z * (b ** 3 - a ** 3))
-    return np.exp(-np.outer(fourier, z[:, 0] ** 2)) @ (C * mean)
+# the case and its series solution live in radial_reference.py (shared with the scenario tests)
 
 
 def ladder_response(geometry, n, times):

@@ -396,8 +396,7 @@ class PiecewiseSolver:
     def _finish_integrals(self):
         """State and thermostat-power integrals of the last sweep (IntT, IntP), completed."""
         pending, IntT, IntP = self._pending
-        #: the closed-form pieces of the last sweep, for evaluating states between grid points
-        self.last_pieces = [(p.reg, p.s[:-1], p.s[1:], p.h, p.zprev, p.FR, p.dF)
+        self.last_pieces = [(p.reg, p.s[:-1], p.s[1:], p.h, p.zprev, p.FR, p.dF)  # evaluators
                             for p in pending] + list(self.event_pieces)
         for p in pending:
             e1, e2, e3 = p.phi

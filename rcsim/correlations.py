@@ -7,7 +7,8 @@ raises an error listing the valid ones.
 References
 ----------
 .. [1] F. P. Incropera, D. P. DeWitt, T. L. Bergman, A. S. Lavine, *Fundamentals of Heat and Mass
-   Transfer*, 6th ed., Wiley, 2007: eq. 7.30 (laminar flat plate), 7.36 (turbulent), 7.38 (mixed);
+   Transfer*, 6th ed., Wiley, 2007 (the edition rcsim cites throughout): eq. 7.30 (laminar flat
+   plate, average), 7.38 with A = 0 (turbulent from the leading edge, average), 7.38-7.39 (mixed);
    eq. 9.26 (vertical plate), 9.30-9.32 (horizontal plates), 9.34 (horizontal cylinder).
 .. [2] S. W. Churchill, H. H. S. Chu, "Correlating equations for laminar and turbulent free
    convection from a vertical plate", Int. J. Heat Mass Transfer 18 (1975) 1323-1329; and "...from
@@ -138,7 +139,7 @@ def nusselt_flat_plate_forced(reynolds, prandtl, regime="auto", critical_reynold
         return lam
     if regime == "turbulent":
         return 0.037 * re ** 0.8 * cbrt
-    # Incropera eq. 7.37: A = 0.037 Re_c^4/5 - 0.664 Re_c^1/2, tabulated as 871 for Re_c = 5e5
+    # Incropera et al. [1] eq. 7.39: A = 0.037 Re_c^4/5 - 0.664 Re_c^1/2, 871 for Re_c = 5e5
     a = 871.0 if critical_reynolds == 5e5 else \
         0.037 * critical_reynolds ** 0.8 - 0.664 * critical_reynolds ** 0.5
     mixed = (0.037 * re ** 0.8 - a) * cbrt

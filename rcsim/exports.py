@@ -207,7 +207,7 @@ def summary_table(result, scenario=None) -> pd.DataFrame:
             ("clock start", "" if result.start_time is None else result.start_time.isoformat(), ""),
             ("duration", float(t[-1] - t[0]) if t.size else math.nan, "s"),
             ("samples", int(t.size), ""),
-            ("energy balance (relative closure error)", result.energy_balance, "-"),
+            ("energy balance (relative closure error)", result.energy_balance_error, "-"),
             ("change of stored energy", float(last.get("stored", math.nan)), "J"),
             ("energy in through links", float(last[[c for c in last.index
                                                      if c.startswith("link:")]].sum()), "J"),

@@ -32,30 +32,42 @@ __all__ = ["RadiationLaw", "FilmLaw", "SegmentLaws"]
 class RadiationLaw:
     """Grey two-surface exchange q = sigma (T1^4 - T2^4) / R_s, T in kelvin.
 
-    ``surface_factor`` = 1/R_s [m^2] with R_s = (1-e1)/(e1 A1) + 1/(A1 F12) + (1-e2)/(e2 A2)
-    (Incropera et al., eq. 13.18); a small body in large surroundings has 1/R_s = e1 A1.
+    ``exchange_area`` = 1/R_s [m^2] with R_s = (1-e1)/(e1 A1) + 1/(A1 F12) + (1-e2)/(e2 A2)
+    (Incropera et al., 6th ed., eq. 13.18, two-surface enclosure); a small body in large
+    surroundings has 1/R_s = e1 A1. It was called ``surface_factor`` before, a name that clashes
+    with the dimensionless surface factor of ISO 13786; that name is still accepted as a keyword
+    and readable as an attribute.
     """
 
     key = ("radiation",)
 
-    def __init__(self, surface_factor: float):
-        self.surface_factor = surface_factor
+    def __init__(self, exchange_area: float | None = None, *, surface_factor: float | None = None):
+        if exchange_area is None:
+            exchange_area = surface_factor
+        if exchange_area is None:
+            raise TypeError("RadiationLaw needs exchange_area (1/R_s [m^2])")
+        self.exchange_area = exchange_area
+
+    @property
+    def surface_factor(self) -> float:
+        """The former name of :attr:`exchange_area` [m^2], kept for older code."""
+        return self.exchange_area
 
     @staticmethod
     def flow(params, t1, t2):
         T1 = t1 + zero_Celsius
         T2 = t2 + zero_Celsius
-        return params["surface_factor"] * STEFAN_BOLTZMANN * (T1 ** 4 - T2 ** 4)
+        return params["exchange_area"] * STEFAN_BOLTZMANN * (T1 ** 4 - T2 ** 4)
 
     @staticmethod
     def derivatives(params, t1, t2):
-        k = 4.0 * params["surface_factor"] * STEFAN_BOLTZMANN
+        k = 4.0 * params["exchange_area"] * STEFAN_BOLTZMANN
         T1 = t1 + zero_Celsius
         T2 = t2 + zero_Celsius
         return k * T1 ** 3, -k * T2 ** 3
 
     def params(self) -> dict:
-        return {"surface_factor": self.surface_factor}
+        return {"exchange_area": self.exchange_area}
 
 
 class FilmLaw:

@@ -1,8 +1,10 @@
 """Named materials: conductivity, density, specific heat (and latent heat for phase-change ones).
 
 The table is a data file shipped in the package (``rcsim/data/materials.csv``); each row names its
-source. ``material_names()`` lists what is there; an unknown name raises an error that lists the
-nearest valid names.
+source and its basis (a standard's tabulated value, a handbook's, a textbook property of a pure
+substance, or a typical value). The values are typical, for a first model: not design values.
+``material_names()`` lists what is there; an unknown name raises an error that lists the nearest
+valid names.
 """
 
 from __future__ import annotations
@@ -32,6 +34,11 @@ class Material:
     latent_heat : float or None  [J/kg], phase-change materials only
     melting_low, melting_high : float or None  [degC], melting range
     specific_heat_solid, specific_heat_liquid : float or None  [J/(kg*K)]
+    basis : str
+        What kind of value the row holds (the header of ``rcsim/data/materials.csv``):
+        ``standard`` (ISO 10456 tabulated design value), ``handbook`` (a handbook table),
+        ``textbook`` (a measured property of a pure substance at a stated temperature) or
+        ``typical`` (no single source). None of them is the design value of a product.
     """
 
     name: str
@@ -45,6 +52,7 @@ class Material:
     melting_high: float | None = None
     specific_heat_solid: float | None = None
     specific_heat_liquid: float | None = None
+    basis: str = ""
 
     @property
     def is_phase_change(self) -> bool:
@@ -74,6 +82,7 @@ def _table() -> dict[str, Material]:
             melting_high=_optional(row["melting_high"]),
             specific_heat_solid=_optional(row["specific_heat_solid"]),
             specific_heat_liquid=_optional(row["specific_heat_liquid"]),
+            basis=(row.get("basis") or "").strip(),
         )
         for value in (m.conductivity, m.density, m.specific_heat):
             if not (math.isfinite(value) and value > 0):  # pragma: no cover - data file check

@@ -431,7 +431,8 @@ def _radiation(spec: dict, where: str) -> Part:
         r_s = (1 - eps1) / (eps1 * a1) + 1 / (a1 * f12) + (1 - eps2) / (eps2 * a2)
     else:
         r_s = (1 - eps1) / (eps1 * a1) + 1 / (a1 * f12)
-    params = {"emissivity": eps1, "area": a1, "view_factor": f12, "surface_factor": 1.0 / r_s}
+    params = {"emissivity": eps1, "area": a1, "view_factor": f12,
+              "exchange_area": 1.0 / r_s}   # 1/R_s [m^2] (called surface_factor before)
     if "temperatures" not in spec:
         from .laws import RadiationLaw
 

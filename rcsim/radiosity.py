@@ -287,7 +287,7 @@ class Enclosure:
     def pairs(self, threshold: float = 0.0):
         """(i, j, S_ij) for every pair i < j of active surfaces with S_ij > ``threshold`` [m^2].
 
-        Each pair is one grey-body exchange sigma S_ij (T_i^4 - T_j^4), the ``surface_factor`` of
+        Each pair is one grey-body exchange sigma S_ij (T_i^4 - T_j^4), the ``exchange_area`` of
         a two-surface radiation law; together they reproduce :meth:`heat_flows` exactly.
         """
         act = self.active

@@ -16,7 +16,8 @@ File layout (HDF5)::
     /liquid_fraction        time x phase-change node [-] (when there are any)
     /limits/<column>        one dataset per column of the limit table
     /nodes/<column>         per-node min, max, final
-    root attrs: rcsim_version, scenario (source text), solver, energy_balance, created,
+    root attrs: rcsim_version, scenario (source text), solver, energy_balance (the relative
+                closure error), caution (what a simulation is and is not), created,
                 stats (JSON: the run's statistics, see rcsim.runinfo.RunInfo), ...
 
 Every 2-D series has its column names in a dataset ``<series>_names`` (any number and length of
@@ -40,6 +41,7 @@ import numpy as np
 import pandas as pd
 
 from .base import package_version, suggest
+from .caution import CAUTION
 from .errors import DataError
 # the recording machinery lives in rcsim.recording; re-exported for older imports
 from .recording import (Chunk, H5Sink, MemorySink, Recorder, read_frame, read_names,  # noqa: F401
@@ -72,8 +74,9 @@ class Result:
         cumulative energy [J]: ``stored`` (change since t = 0), one ``link:<name>`` column per link
         touching a boundary (heat that entered the nodes through it), one ``source:<name>`` column
         per source.
-    energy_balance : float
-        Relative closure error of stored vs. exchanged energy.
+    energy_balance_error : float
+        Relative closure error of stored vs. exchanged energy (``energy_balance``: its former
+        name, kept).
     limits : DataFrame
         One row per limit: hold time, time out, worst excursion, degree-hours, margin.
     nodes : DataFrame
@@ -117,8 +120,17 @@ class Result:
         return str(self.meta.get("solver", ""))
 
     @property
-    def energy_balance(self) -> float:
+    def energy_balance_error(self) -> float:
+        """Relative closure error of the energy balance [-]: |change of stored energy - energy
+        in through boundary links and from sources| over the sum of the magnitudes of those
+        terms (at least the energy that moves every capacity by 1 K); 0 is a perfect balance."""
         return float(self.meta.get("energy_balance", np.nan))
+
+    @property
+    def energy_balance(self) -> float:
+        """The former name of :attr:`energy_balance_error` (the same number), kept for older
+        code; it is an error, not a balance."""
+        return self.energy_balance_error
 
     @property
     def stats(self) -> dict:
@@ -288,17 +300,22 @@ class Result:
         return float(p) if p not in (None, "", 0, 0.0) else None
 
     def periodic_response(self, reference: str | None = None, period=None) -> pd.DataFrame:
-        """Mean, swing, amplitude, time of peak, lag and decrement of every node over one period.
+        """Mean, range, amplitude, time of peak, lag and amplitude ratio of every node over one
+        period.
 
         Uses the last full period of the run (``period`` [s]; default the inputs' period stored
         with a run that started periodic). The amplitude and phase are those of the first
         harmonic (the discrete Fourier coefficient at 2 pi / period over one period of samples),
         so the lag of a node behind the reference boundary is the phase difference over omega,
-        and the decrement is the ratio of their amplitudes. ``reference`` defaults to the boundary
-        with the largest first harmonic.
+        and the amplitude ratio is the ratio of their amplitudes. ``reference`` defaults to the
+        boundary with the largest first harmonic.
 
-        Columns: ``mean [degC]``, ``swing [K]`` (max - min), ``amplitude [K]``, ``peak [s]``
-        (time of the maximum within the period, from its start), ``lag [s]``, ``decrement [-]``.
+        Columns: ``mean [degC]``, ``range [K]`` (max - min over the period), ``amplitude [K]``,
+        ``peak [s]`` (time of the maximum within the period, from its start), ``lag [s]``,
+        ``amplitude ratio [-]`` (the node's first-harmonic amplitude over the reference's: a
+        property of the whole network with its gains, not a wall's decrement factor in the
+        sense of ISO 13786). The former names ``swing [K]`` and ``decrement [-]`` follow as
+        columns with the same values, for code written before.
         """
         from .units import to_si
 
@@ -335,12 +352,15 @@ class Result:
             h = harmonic(x)
             lag = ((np.angle(ref) - np.angle(h)) / omega) % P if abs(ref) > 0 and abs(h) > 0 \
                 else np.nan
+            spread = float(np.max(x) - np.min(x))
+            ratio = float(abs(h) / abs(ref)) if abs(ref) > 0 else np.nan
             rows.append({"node": name, "mean [degC]": float(np.mean(x)),
-                         "swing [K]": float(np.max(x) - np.min(x)),
+                         "range [K]": spread,
                          "amplitude [K]": float(abs(h)),
                          "peak [s]": float((tt[int(np.argmax(x))] - tt[0]) % P),
                          "lag [s]": float(lag),
-                         "decrement [-]": float(abs(h) / abs(ref)) if abs(ref) > 0 else np.nan})
+                         "amplitude ratio [-]": ratio,
+                         "swing [K]": spread, "decrement [-]": ratio})   # former names
         out = pd.DataFrame(rows).set_index("node")
         out.attrs["reference"] = reference
         out.attrs["period"] = P
@@ -368,7 +388,7 @@ class Result:
         """Plain-text summary of the run."""
         lines = []
         lines.append(f"solver {self.solver}, {len(self.time)} samples, energy balance "
-                     f"{self.energy_balance:.2e}")
+                     f"error {self.energy_balance_error:.2e}")
         return "\n".join(lines)
 
 
@@ -392,6 +412,7 @@ def h5_attributes(meta: dict) -> dict:
             v = ""
         out[k] = v
     out.setdefault("rcsim_version", package_version())
+    out.setdefault("caution", CAUTION)
     out.setdefault("created", _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"))
     return out
 

@@ -19,6 +19,7 @@ from .base import suggest
 from .errors import NetworkError
 from .nonlinear import steady_newton
 from .steady_linear import check_grounded, steady_temperatures
+from .summaries import area_conductance_text, initial_text
 
 __all__ = ["SteadyResult", "solve_steady", "steady_temperatures", "equivalent_resistance",
            "network_summary", "check_grounded"]
@@ -126,7 +127,7 @@ def network_summary(network) -> str:
     lines.append("nodes")
     width = max([len(n) for n in asm.node_names] + [4])
     for name, node in network.nodes.items():
-        init = "-" if node.initial is None else f"{node.initial:g} degC"
+        init = initial_text(node)
         extra = "  phase change" if node.phase_change is not None else ""
         lines.append(f"  {name:<{width}}  C = {node.capacity:>12.5g} J/K  initial {init}{extra}")
     internal = asm.n_nodes - len(network.nodes)
@@ -139,8 +140,8 @@ def network_summary(network) -> str:
     lines.append("")
     lines.append("links")
     for name, link in network.links.items():
-        u = link.u_value
-        u_text = f"  U = {u:.4g} W/(m^2*K)" if u is not None else ""
+        u_text = area_conductance_text(link)
+        u_text = f"  {u_text}" if u_text else ""
         c_text = f"  C = {link.capacity:.4g} J/K" if link.capacity else ""
         lines.append(f"  {name:<{width}}  {link.a} -> {link.b}  R = {link.resistance:.5g} K/W"
                      f"{u_text}{c_text}")

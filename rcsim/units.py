@@ -23,7 +23,7 @@ from numbers import Real
 from .errors import UnitError
 
 __all__ = ["ureg", "registry", "KINDS", "to_si", "to_si_array", "si_unit", "format_quantity",
-           "format_duration"]
+           "format_duration", "significant", "format_clock_time"]
 
 # kind -> (SI unit string, description used in messages "expected a length")
 KINDS: dict[str, tuple[str, str]] = {
@@ -304,18 +304,63 @@ def format_quantity(value: float, kind: str, digits: int = 4) -> str:
 def format_duration(seconds: float | None) -> str:
     """Format a time span [s] in the unit a reader expects: s, min, h or d.
 
+    One precision rule for every printed time (time constants, hold times, lags, durations):
+    four significant figures in the chosen unit, trailing zeros kept, so "1.000 s" says the
+    value is known to that precision; a value that is exact at four figures (a step of 10 min, a
+    run of 72 h, 0.5 s) prints without them.
+
     >>> format_duration(90.0), format_duration(1800.0), format_duration(31592.8), format_duration(5e5)
     ('90 s', '30 min', '8.776 h', '5.787 d')
+    >>> format_duration(1.00006), format_duration(0.5), format_duration(3600.0 * 47.0001)
+    ('1.000 s', '0.5 s', '47.00 h')
     """
     if seconds is None or not math.isfinite(seconds):
         return "-"
     if abs(seconds) < 120:
-        return f"{seconds:.3g} s"
-    if abs(seconds) < 7200:
-        return f"{seconds / 60:.4g} min"
-    if abs(seconds) < 4 * 86400:
-        return f"{seconds / 3600:.4g} h"
-    return f"{seconds / 86400:.4g} d"
+        value, unit = seconds, "s"
+    elif abs(seconds) < 7200:
+        value, unit = seconds / 60, "min"
+    elif abs(seconds) < 4 * 86400:
+        value, unit = seconds / 3600, "h"
+    else:
+        value, unit = seconds / 86400, "d"
+    return f"{significant(value)} {unit}"
+
+
+def significant(value: float, figures: int = 4) -> str:
+    """``value`` to ``figures`` significant figures, trailing zeros kept unless the value is
+    exact at that precision (the rule of :func:`format_duration`).
+
+    >>> significant(1.00006), significant(24.0), significant(1234.5), significant(0.125)
+    ('1.000', '24', '1234', '0.125')
+    """
+    short = f"{value:.{figures}g}"
+    if value == 0 or abs(float(short) - value) <= 1e-9 * abs(value):
+        return short
+    text = f"{value:#.{figures}g}"
+    return text[:-1] if text.endswith(".") else text
+
+
+def format_clock_time(seconds: float, period: float | None = None, start=None) -> str:
+    """The time of day of ``seconds`` after a run's t = 0, for a periodic run whose first
+    crossing is a clock time rather than a hold time.
+
+    t = 0 is midnight (00:00) of the repeated day unless ``start`` (a timestamp) says otherwise.
+    With a period other than a day the time is given into the period instead.
+
+    >>> format_clock_time(47916.0, 86400.0), format_clock_time(3000.0, 3600.0)
+    ('13:19', '50 min into the 60 min period')
+    >>> import datetime; format_clock_time(3600.0, 86400.0, datetime.datetime(2026, 7, 1, 6, 30))
+    '07:30'
+    """
+    day = 86400.0
+    if period is not None and abs(period - day) > 1e-6 * day:
+        return f"{format_duration(seconds % period)} into the {format_duration(period)} period"
+    offset = 0.0
+    if start is not None:
+        offset = start.hour * 3600.0 + start.minute * 60.0 + start.second
+    minutes = int(round(((seconds + offset) % day) / 60.0)) % (24 * 60)
+    return f"{minutes // 60:02d}:{minutes % 60:02d}"
 
 
 def _short(value) -> str:

@@ -24,7 +24,8 @@ def roots(f, count):
 
 def series_slice_means(geometry, edges, fourier, terms=80, *, radius=R0, biot=BI):
     """(T - T_inf)/(T_i - T_inf) averaged over each slice, from the multi-term series solution
-    (Incropera et al., 6th ed., section 5.6, eqs. 5.49 and 5.50; Carslaw and Jaeger):
+    (Incropera et al., 6th ed., section 5.6, radial systems with convection; Carslaw and Jaeger,
+    Conduction of Heat in Solids, 2nd ed., 1959):
 
     cylinder: zeta J1(zeta) / J0(zeta) = Bi, C = 2 J1 / (zeta (J0^2 + J1^2)), profile J0(zeta r*)
     sphere:   1 - zeta cot(zeta) = Bi,     C = 4 (sin - zeta cos) / (2 zeta - sin 2 zeta),

@@ -11,7 +11,7 @@ def kelvin(t):
 
 
 def radiosity_equations(T, areas, eps, F):
-    """The textbook radiosity equations, solved directly (Incropera eqs. 13.13-13.15):
+    """The textbook radiosity equations, solved directly (Incropera et al., 6th ed., eqs. 13.13-13.15):
     J_i = e_i E_b,i + (1 - e_i) sum_j F_ij J_j, q_i = A_i (J_i - sum_j F_ij J_j). Independent of
     the network reduction under test; needs every row of F to sum to 1 and finite areas."""
     Eb = SIGMA * kelvin(T) ** 4

@@ -45,7 +45,7 @@ def test_the_graph_carries_capacities_resistances_and_profiles():
     assert kinds.count("node") == 6 and kinds.count("boundary") == 1
     assert g.number_of_edges() == len(sc.network.links) == 10   # the ten [links.*] of the file
     foam = [d for _, _, d in g.edges(data=True) if d["link"] == "foam"][0]
-    # plane layers in series, R = L/(kA) (Incropera ch. 3): 50 mm foam at k 0.025 W/(m K)
+    # plane layers in series, R = L/(kA) (Incropera et al., 6th ed., eq. 3.6): 50 mm foam at k 0.025 W/(m K)
     # (the bundled table's polyurethane foam) over 1.05 m^2, 4 mm carton at 0.065 over 1.2 m^2
     assert foam["resistance"] == pytest.approx(0.05 / (0.025 * 1.05) + 0.004 / (0.065 * 1.2),
                                                rel=1e-12)

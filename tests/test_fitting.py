@@ -20,8 +20,11 @@ from rcsim.fitting import FitWarning
 
 from conftest import SCENARIOS
 
-# values of the invented block: 2.0 kg of aluminium at 897 J/(kg*K) (Incropera, Table A.1, from
-# memory), a skin resistance of natural convection and radiation, a fridge-cold start
+# values of the invented block: 2.0 kg of aluminium at 897 J/(kg*K) (the specific heat of
+# aluminium at 25 degC in the CRC Handbook of Chemistry and Physics, from memory; Incropera et al.,
+# 6th ed., Table A.1 gives 903 J/(kg*K) for pure aluminium at 300 K), a skin resistance of natural
+# convection and radiation, a fridge-cold start. They are the values that made the test data, not
+# a result: nothing is checked against the handbooks here
 C_TRUE, R_TRUE, T0_TRUE = 1794.0, 1.5, 6.0
 
 HEATED_BLOCK = """

@@ -47,7 +47,7 @@ sees = [{{ node = "sky", view_factor = 0.5 }}, {{ node = "ground", view_factor =
 
 def exact_plate(eps):
     """The plate temperature that sheds 100 W by q = e sigma A sum F_j (T^4 - T_j^4) (Incropera
-    eq. 13.21 split by view factor), solved with brentq."""
+    et al., 6th ed., eq. 13.21 split by view factor), solved with brentq."""
     return brentq(lambda t: eps * SIGMA * AREA * 0.5 * (
         2 * kelvin(t) ** 4 - kelvin(SKY) ** 4 - kelvin(GROUND) ** 4) - POWER, -5, 600, xtol=1e-12)
 
@@ -94,7 +94,7 @@ parts = [{ radiation = { emissivity = 0.5, area = "1 m^2", view_factor = 0.5 } }
 def test_a_surface_seeing_two_nodes_reflects_between_them():
     # a plate (e = 0.6, 2 m^2) sees two nodes (F 0.3 and 0.5) and the sky (0.2). What each node
     # receives is A F_j (J - E_b,j) with the plate's radiosity J = e E_b + (1 - e) sum_k F_k E_b,k
-    # (Incropera eq. 13.15 with black surroundings, written out here)
+    # (Incropera et al., 6th ed., eq. 13.15 with black surroundings, written out here)
     net = rcsim.Network()
     for name, t in (("plate", 60.0), ("wall", 25.0), ("floor", 5.0)):
         net.add_node(name, capacity=1000.0, initial=t)
@@ -131,7 +131,7 @@ def test_a_surface_seeing_two_nodes_reflects_between_them():
 
 def test_linearised_surroundings_are_exact_at_their_temperatures():
     # linearised at the exact steady temperatures, h_r = sigma (T^2 + T_j^2)(T + T_j) per seen
-    # point (Incropera eq. 1.9) reproduces the exact plate
+    # point (Incropera et al., 6th ed., eq. 1.9) reproduces the exact plate
     t = exact_plate(0.7)
     sc = plate_scenario(0.7, f'temperatures = ["{t} degC", "-10 degC", "10 degC"]')
     assert sc.network.assemble().is_linear
@@ -208,9 +208,9 @@ reradiating = ["wall"]
 
 
 def test_a_linearised_enclosure_is_exact_at_its_temperatures():
-    # heated by the flows the radiosity equations (solved directly; Incropera eqs. 13.13-13.15)
+    # heated by the flows the radiosity equations (solved directly; Incropera et al., 6th ed., eqs. 13.13-13.15)
     # give at 80, 30 degC and a 10 degC boundary, the pairs linearised there
-    # (h_r = sigma (T_i^2 + T_j^2)(T_i + T_j), Incropera eq. 1.9) hold exactly those temperatures
+    # (h_r = sigma (T_i^2 + T_j^2)(T_i + T_j), Incropera et al., 6th ed., eq. 1.9) hold exactly those temperatures
     areas, F = vf.cylinder_cavity(0.1, 0.25)
     eps = [0.7, 0.4, 0.9]
     q, _ = radiosity_equations([80.0, 30.0, 10.0], areas, eps, F)
@@ -230,7 +230,7 @@ def test_a_linearised_enclosure_is_exact_at_its_temperatures():
 
 @pytest.mark.parametrize("solver", ["piecewise", "stiff"])
 def test_closed_can_from_a_shape_follows_the_radiosity_equations(solver):
-    # a closed can (Incropera Table 13.2 coaxial discs): bottom and lid are nodes, the side a
+    # a closed can (Incropera et al., 6th ed., Table 13.2 coaxial discs): bottom and lid are nodes, the side a
     # boundary at 20 degC. Reference: solve_ivp (Radau) of C dT/dt = -q(T) with q from the
     # radiosity equations solved directly.
     sc = rcsim.loads("""
@@ -264,7 +264,7 @@ emissivities = [0.8, 0.3, 0.9]
 def test_box_faces_sharing_a_node_add_up():
     # the inside of a shipper: floor = payload, lid, and the four walls one node. Each face at its
     # node's temperature, the radiosity equations (solved directly) summed by node equal the
-    # network's link flows at those temperatures (Incropera eqs. 13.13-13.15)
+    # network's link flows at those temperatures (Incropera et al., 6th ed., eqs. 13.13-13.15)
     net = rcsim.Network()
     for name in ("payload", "lid", "walls"):
         net.add_node(name, capacity=1000.0, initial=5.0)
@@ -329,8 +329,9 @@ def test_solid_cylinder_and_sphere_cool_as_the_bessel_series(geometry, bounds):
 
 
 def test_one_term_solution_at_late_times_through_a_scenario():
-    # Incropera eq. 5.52a with Table 5.1 at Bi = 1 (zeta1 = 1.2558, C1 = 1.2071, from memory):
-    # mean temperature of the cylinder Q/Q0 = 1 - 2 C1 exp(-zeta1^2 Fo) J1(zeta1)/zeta1 (eq. 5.54)
+    # the one-term approximation of Incropera et al., 6th ed., section 5.6, with its Table 5.1 at
+    # Bi = 1 (zeta1 = 1.2558, C1 = 1.2071, from memory): mean temperature of the cylinder
+    # Q/Q0 = 1 - 2 C1 exp(-zeta1^2 Fo) J1(zeta1)/zeta1
     from scipy.special import j1
 
     assert BI == 1.0
@@ -346,7 +347,8 @@ def test_one_term_solution_at_late_times_through_a_scenario():
 
 @pytest.mark.parametrize("spacing", ["thickness", "resistance"])
 def test_a_pipe_insulation_shell_stores_its_true_volume(spacing):
-    # ln(r2/r1)/(2 pi k L) (Incropera eq. 3.33) and rho c pi (r2^2 - r1^2) L, written out here;
+    # ln(r2/r1)/(2 pi k L) (Incropera et al., 6th ed., section 3.3) and rho c pi (r2^2 - r1^2) L,
+    # written out here;
     # diameters and a thickness give the same shell as radii
     sc = rcsim.loads(f"""
 [nodes.water]

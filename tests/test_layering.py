@@ -37,14 +37,15 @@ FACADES = {
 #: the facade methods). A module is placed by its name or the name of its package.
 LAYERS = [
     ("base", ["rcsim.base", "rcsim.errors", "rcsim.units", "rcsim.atomic", "rcsim.runinfo",
-              "rcsim.arguments", "rcsim.clock", "rcsim.threads"]),
+              "rcsim.arguments", "rcsim.clock", "rcsim.caution", "rcsim.threads"]),
     ("physics and inputs", ["rcsim.elements", "rcsim.correlations", "rcsim.laws", "rcsim.phase",
                             "rcsim.materials", "rcsim.profiles", "rcsim.limits",
                             "rcsim.solar", "rcsim.sky", "rcsim.exposure", "rcsim.weather",
                             "rcsim.viewfactors", "rcsim.radiosity", "rcsim.radial",
-                            "rcsim.shapefactors"]),
+                            "rcsim.shapefactors", "rcsim.periodic_wall"]),
     ("model", ["rcsim.parts", "rcsim.thermostat", "rcsim.assembly", "rcsim.network",
-               "rcsim.statespace", "rcsim.steady_linear", "rcsim.radiation_links"]),
+               "rcsim.statespace", "rcsim.steady_linear", "rcsim.radiation_links",
+               "rcsim.summaries"]),
     ("steady state, modes, records", ["rcsim.nonlinear", "rcsim.steady", "rcsim.modes",
                                       "rcsim.recording", "rcsim.results"]),
     ("transient", ["rcsim.transient"]),

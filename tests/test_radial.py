@@ -17,7 +17,8 @@ from rcsim.errors import InputError
 def test_cylinder_slices_add_up_to_the_shell(spacing, n):
     a, b, k, L, rho, c = 0.03, 0.08, 0.04, 2.0, 35.0, 1300.0
     s = radial.cylinder_slices(a, b, k, L, n, spacing=spacing, density=rho, specific_heat=c)
-    # ln(b/a) / (2 pi k L) (Incropera eq. 3.33) and rho c pi (b^2 - a^2) L, written out here
+    # ln(b/a) / (2 pi k L) (Incropera et al., 6th ed., section 3.3, the cylinder) and
+    # rho c pi (b^2 - a^2) L, written out here
     assert s.total_resistance == pytest.approx(np.log(b / a) / (2 * np.pi * k * L), rel=1e-12)
     assert s.capacities.sum() == pytest.approx(rho * c * np.pi * (b * b - a * a) * L, rel=1e-12)
     assert np.allclose(s.inner_half + s.outer_half, s.resistances, rtol=1e-12)
@@ -33,7 +34,8 @@ def test_cylinder_slices_add_up_to_the_shell(spacing, n):
 def test_sphere_slices_add_up_to_the_shell(spacing):
     a, b, k, rho, c = 0.1, 0.16, 0.03, 50.0, 1500.0
     s = radial.sphere_slices(a, b, k, 9, spacing=spacing, density=rho, specific_heat=c)
-    # (1/a - 1/b) / (4 pi k) (Incropera eq. 3.41) and rho c 4/3 pi (b^3 - a^3)
+    # (1/a - 1/b) / (4 pi k) (Incropera et al., 6th ed., section 3.3, the sphere) and
+    # rho c 4/3 pi (b^3 - a^3)
     assert s.total_resistance == pytest.approx((1 / a - 1 / b) / (4 * np.pi * k), rel=1e-12)
     assert s.capacities.sum() == pytest.approx(rho * c * 4 / 3 * np.pi * (b ** 3 - a ** 3),
                                                rel=1e-12)
@@ -110,8 +112,9 @@ def test_ladder_converges_to_the_series_solution(geometry, bounds):
 
 
 def test_one_term_solution_agrees_at_late_times():
-    # Incropera's one-term approximation (eq. 5.52a, Bi = 1: zeta1 = 1.2558, C1 = 1.2071 for a
-    # cylinder, from Table 5.1 as remembered) at Fo = 1 against 20 slices, centre slice
+    # the one-term approximation of Incropera et al., 6th ed., section 5.6 (Bi = 1: zeta1 =
+    # 1.2558, C1 = 1.2071 for a cylinder, from its Table 5.1, from memory; zeta1 is checked
+    # against its defining equation below) at Fo = 1 against 20 slices, centre slice
     fourier = np.array([1.0])
     s, T = ladder_response("cylinder", 20, fourier * R0 ** 2 / ALPHA)
     z1, c1 = 1.2558, 1.2071

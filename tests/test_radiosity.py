@@ -19,8 +19,8 @@ SKY, GROUND, POWER, AREA = -10.0, 10.0, 100.0, 1.0
 
 @pytest.mark.parametrize("eps", [0.1, 0.2, 0.3, 0.5, 0.7, 0.9, 1.0])
 def test_sky_and_ground_plate_against_the_exact_relation_solved_with_brentq(eps):
-    # exact relation q = e sigma A sum F_j (T^4 - T_j^4) (Incropera eq. 13.21 split by view
-    # factor), solved here for the plate temperature that sheds 100 W
+    # exact relation q = e sigma A sum F_j (T^4 - T_j^4) (Incropera et al., 6th ed., eq. 13.21
+    # split by view factor), solved here for the plate temperature that sheds 100 W
     def excess(t):
         return eps * SIGMA * AREA * (0.5 * (kelvin(t) ** 4 - kelvin(SKY) ** 4)
                                      + 0.5 * (kelvin(t) ** 4 - kelvin(GROUND) ** 4)) - POWER
@@ -35,7 +35,7 @@ def test_sky_and_ground_plate_against_the_exact_relation_solved_with_brentq(eps)
     q = enc.heat_flows([t_plate, SKY, GROUND])
     assert q[0] == pytest.approx(POWER, rel=1e-10)
     # what each surrounding receives: A F_j (J - E_b,j), J = e E_b + (1 - e) sum F_k E_b,k
-    # (radiosity of the plate with black surroundings, Incropera eq. 13.15)
+    # (radiosity of the plate with black surroundings, Incropera et al., 6th ed., eq. 13.15)
     eb = SIGMA * kelvin([t_plate, SKY, GROUND]) ** 4
     J = eps * eb[0] + (1 - eps) * 0.5 * (eb[1] + eb[2])
     expected = AREA * 0.5 * (J - eb[1:])
@@ -72,7 +72,7 @@ def test_surroundings_exchange_areas_rebuild_the_flows_and_derivatives():
 
 def test_linearised_conductance_is_exact_at_its_temperatures():
     # h_r = sigma (T1^2 + T2^2)(T1 + T2) makes G (T1 - T2) = sigma S (T1^4 - T2^4)
-    # (Incropera eq. 1.9)
+    # (Incropera et al., 6th ed., eq. 1.9)
     g = rad.linearised_conductance(0.7, 80.0, 15.0)
     assert g * 65.0 == pytest.approx(0.7 * SIGMA * (kelvin(80.0) ** 4 - kelvin(15.0) ** 4),
                                      rel=1e-12)
@@ -93,7 +93,7 @@ def test_two_plates_in_a_large_room():
     assert q[1] == pytest.approx(2594.0, rel=2e-3)
     assert -q[2] == pytest.approx(17020.0, rel=2e-3)
     assert J[:2] == pytest.approx([33469.0, 15054.0], rel=2e-3)
-    # the chart's 0.285 against the closed form (Incropera Table 13.2): 0.2859
+    # the chart's 0.285 against the closed form (Incropera et al., 6th ed., Table 13.2): 0.2859
     assert vf.parallel_rectangles_aligned(0.5, 1.0, 0.5) == pytest.approx(0.285, abs=1.5e-3)
 
 
@@ -157,7 +157,7 @@ def test_a_shipper_interior_against_the_radiosity_equations_with_the_rules_of_ex
 
 def test_two_surface_enclosures_match_the_series_resistance_formula():
     # concentric spheres and cylinders: q = sigma (T1^4 - T2^4) / [(1-e1)/(e1 A1) + 1/(A1 F12)
-    # + (1-e2)/(e2 A2)] (Incropera eq. 13.18 with Table 13.3's cases)
+    # + (1-e2)/(e2 A2)] (Incropera et al., 6th ed., eq. 13.18 with Table 13.3's cases)
     for shape, dims in [("concentric_spheres", dict(inner_radius=0.1, outer_radius=0.25)),
                         ("concentric_cylinders", dict(inner_radius=0.02, outer_radius=0.06))]:
         areas, F, _ = vf.enclosure_view_factors(shape, **dims)
@@ -299,7 +299,7 @@ def test_enclosure_pairs_as_radiation_links_follow_the_radiosity_equations(solve
 def test_sky_and_ground_as_pairwise_radiation_links_give_the_exact_steady_plate():
     # the plate seeing sky and ground wired as two radiation laws of e A F_j each (the pair
     # between the two boundaries changes no node and is left out); steady state against brentq
-    # on the exact relation (Incropera eq. 13.21 split by view factor)
+    # on the exact relation (Incropera et al., 6th ed., eq. 13.21 split by view factor)
     import rcsim
     from rcsim.laws import RadiationLaw
     from rcsim.parts import Part

@@ -21,8 +21,10 @@ def test_hdf5_layout_and_round_trip(tmp_path):
             assert key in h5
         assert [n.decode() for n in h5["temperature"].attrs["names"]] == ["payload", "air"]
         assert [n.decode() for n in h5["heat_flow"].attrs["names"]] == ["film", "wall"]
-        for attr in ("rcsim_version", "scenario", "solver", "energy_balance", "created"):
+        for attr in ("rcsim_version", "scenario", "solver", "energy_balance", "created",
+                     "caution"):
             assert attr in h5.attrs
+        # 24 h at 10 min: 144 steps and the start (closed form: duration / step + 1)
         assert h5["temperature"].shape == (145, 2)
     back = rcsim.Result.load(path)
     np.testing.assert_array_equal(back.temperatures.to_numpy(), res.temperatures.to_numpy())
@@ -39,8 +41,11 @@ def test_streamed_output_equals_memory(tmp_path):
     path = tmp_path / "stream.h5"
     streamed = net.simulate("10 d", "1 min", output=path)
     assert path.exists()
+    # the same run written in chunks: the same numbers to rounding (common practice: 1e-12 K)
     np.testing.assert_allclose(streamed.temperatures.to_numpy(), mem.temperatures.to_numpy(),
                                atol=1e-12)
+    # the exact path's stored and exchanged energies come from independent closed-form kernels
+    # (README, Physics and numerics): they agree to rounding, here well below 1e-9
     assert streamed.energy_balance < 1e-9
 
 
@@ -64,7 +69,7 @@ def test_csv_export(tmp_path):
     res.to_csv(path)
     text = path.read_text().splitlines()
     assert text[0].startswith("time [s],T:payload,T:air,boundary:outdoor,source:fan,flow:film")
-    assert len(text) == 14  # header + 13 samples (0 to 2 h every 10 min)
+    assert len(text) == 14  # header + 13 samples (0 to 2 h every 10 min: 120 / 10 + 1)
 
 
 def test_hold_time_matches_closed_form(single_node):
@@ -78,6 +83,7 @@ def test_hold_time_matches_closed_form(single_node):
     t_cross = -R * C * math.log((8 - 25) / (5 - 25))
     assert row["hold_time [s]"] == pytest.approx(t_cross, abs=0.5)
     assert row["time_out [s]"] == pytest.approx(86400 - t_cross, abs=0.5)
+    # the worst excursion is at the end (T rises monotonically): the closed form at 24 h
     T_end = 25 + (5 - 25) * math.exp(-86400 / (R * C))
     assert row["worst [K]"] == pytest.approx(T_end - 8, abs=1e-9)
     # degree-hours: integral of T - 8 from t_cross to the end, in closed form
@@ -95,6 +101,7 @@ def test_excursion_stats_on_a_triangle():
     assert st["time_out [s]"] == pytest.approx(10.0)
     assert st["degree_hours [K*h]"] * 3600 == pytest.approx(25.0)
     assert st["worst [K]"] == pytest.approx(5.0)
+    # 3 -> 13 -> 3 against min 1: never below; closest at the ends, 3 - 1 = 2 K (closed form)
     low = excursion_stats(t, T + 3, 1.0, "min")
     assert math.isnan(low["hold_time [s]"])
     assert low["margin [K]"] == pytest.approx(2.0)

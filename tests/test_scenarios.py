@@ -110,10 +110,14 @@ def test_room_wall_decrement_and_lag_against_the_complex_amplitude_solution():
     pr = res.periodic_response(reference="outdoor")
     dec = abs(t_s) / abs(u_out)
     lag = ((np.angle(u_out) - np.angle(t_s)) / w) % P
-    # the sliced wall (10 + 4 slices) against the continuous layers: 0.5 % and 2 min
-    assert pr.loc["wall_surface", "decrement [-]"] == pytest.approx(dec, rel=0.005)
-    assert pr.loc["wall_surface", "lag [s]"] == pytest.approx(lag, abs=120.0)
-    assert pr.loc["room_air", "decrement [-]"] == pytest.approx(abs(t_air) / abs(u_out), rel=0.005)
+    # the sliced wall (10 + 4 slices) against the continuous layers, as tight as the README
+    # claims for the surface: 0.1 % and 1 min (measured: 0.063 % and 58 s)
+    assert pr.loc["wall_surface", "amplitude ratio [-]"] == pytest.approx(dec, rel=1e-3)
+    assert pr.loc["wall_surface", "lag [s]"] == pytest.approx(lag, abs=60.0)
+    # the room air (no claim in the README; measured 0.25 %: the slicing error reaches it
+    # through the wall and the surface film)
+    assert pr.loc["room_air", "amplitude ratio [-]"] == pytest.approx(abs(t_air) / abs(u_out),
+                                                                       rel=3e-3)
 
 
 # -- the cold box -------------------------------------------------------------------------------
@@ -171,30 +175,41 @@ def test_cold_box_edges_hold_time_against_an_energy_budget():
 
 
 def test_winter_cold_box_freezes_the_payload_first():
-    # frozen packs on a cold dock: the lower limit is the risk; a lumped first estimate of the
-    # time to 2 degC: the payload, liner and air (24.2 kJ/K) lose heat to the packs (two paths of
-    # 0.48 + 0.25 W/K each, packs near -2 degC) and to the dock through the walls (~2.05 K/W,
-    # -6 degC), from 5 degC: an exponential approach to their weighted mean
-    C = 6 * 3600.0 + 2500.0 + 100.0
-    G_packs, G_walls = 2 * (0.48 + 0.25), 1 / 2.05
-    T_eq = (G_packs * -2.0 + G_walls * -6.0) / (G_packs + G_walls)
-    tau = C / (G_packs + G_walls)
-    t_est = -tau * math.log((2.0 - T_eq) / (5.0 - T_eq))
+    # frozen packs on a cold dock: the lower limit is the risk. Reference: the same box written
+    # out by hand (tests/shipper_by_hand.py with the dock's sine and the carton at -8 degC; air
+    # from the textbook table) integrated by scipy's Radau at rtol 1e-10; the payload's first
+    # crossing of 2 degC found on its dense output. The README says "after 2.0 h": the test
+    # asks for 10 s (measured: 0.5 s)
+    from scipy.integrate import solve_ivp
+
+    from shipper_by_hand import hand_written_box
+
     res = rcsim.load(path("cold-box-winter.toml")).run()
     lim = res.limits.set_index("kind")
     assert math.isnan(lim.loc["max", "hold_time [s]"])
-    assert 0.5 * t_est < lim.loc["min", "hold_time [s]"] < 2.0 * t_est
+    rhs, y0, c_pay = hand_written_box(bay=(-6.0, 4.0, 8 * 3600.0), shell_initial=-8.0)
+    scale = np.array([c_pay, 4000, 4000, 100, 2500, 1200.0])
+    sol = solve_ivp(rhs, (0.0, res.time[-1]), y0, method="Radau", t_eval=res.time, rtol=1e-10,
+                    atol=1e-10 * scale, dense_output=True)
+    k = int(np.argmax(sol.y[0] / c_pay < 2.0))
+    t_cross = brentq(lambda t: sol.sol(t)[0] / c_pay - 2.0, res.time[k - 1], res.time[k],
+                     xtol=1e-6)
+    assert lim.loc["min", "hold_time [s]"] == pytest.approx(t_cross, abs=10.0)
+    assert round(t_cross / 3600.0, 1) == 2.0
+    assert np.abs(res.temperatures["payload"].to_numpy() - sol.y[0] / c_pay).max() < 2e-3
 
 
 # -- the enclosure ------------------------------------------------------------------------------
-def test_enclosure_peak_is_near_the_full_load_steady_state():
-    ht = pytest.importorskip("ht")
-    from rcsim.correlations import air_properties
+def _enclosure_steady_module(air):
+    """The enclosure at full load (45 W) by hand: the shell temperature from the outside loss
+    (Churchill-Chu vertical plate from `ht` with ``air`` at the film temperature, plus grey
+    radiation with eps 0.9, Stefan-Boltzmann), then the linear inside network."""
+    import ht
 
     room, Q, A = 35.0, 45.0, 0.33
 
-    def loss(ts):  # outside: Churchill-Chu vertical plate (ht) plus grey radiation, eps 0.9
-        p = air_properties(0.5 * (ts + room))
+    def loss(ts):
+        p = air(0.5 * (ts + room))
         gr = 9.80665 * float(p["beta"]) * (ts - room) * 0.4 ** 3 / float(p["nu"]) ** 2
         h = ht.Nu_vertical_plate_Churchill(float(p["Pr"]), gr) * float(p["k"]) / 0.4
         return h * A * (ts - room) + 0.9 * SIGMA * A * ((ts + K0) ** 4 - (room + K0) ** 4)
@@ -207,12 +222,26 @@ def test_enclosure_peak_is_near_the_full_load_steady_state():
     G = np.array([[g_pad + g_ma, -g_pad, -g_ma],
                   [-g_pad, g_pad + g_mount + g_pa, -g_pa],
                   [-g_ma, -g_pa, g_ma + g_pa + g_as]])
-    T = np.linalg.solve(G, [Q, g_mount * ts, g_as * ts])
+    return float(np.linalg.solve(G, [Q, g_mount * ts, g_as * ts])[0])
+
+
+def test_enclosure_peak_is_near_the_full_load_steady_state():
+    pytest.importorskip("ht")
+    from air_table import air
+
+    from rcsim.correlations import air_properties
+
     res = rcsim.load(path("enclosure.toml")).run()
     peak = res.nodes.set_index("node").loc["module", "max [degC]"]
-    # twelve hours at full load are many time constants: the peak is the steady state
-    assert peak == pytest.approx(T[0], abs=0.01)
-    assert res.limits.iloc[0]["margin [K]"] == pytest.approx(85.0 - T[0], abs=0.01)
+    # twelve hours at full load are many time constants: the peak is the steady state. With the
+    # same air properties as rcsim's (its Sutherland fits), the hand calculation and the run
+    # solve the same equations: 0.01 K
+    module = _enclosure_steady_module(air_properties)
+    assert peak == pytest.approx(module, abs=0.01)
+    assert res.limits.iloc[0]["margin [K]"] == pytest.approx(85.0 - module, abs=0.01)
+    # with air from the textbook table (tests/air_table.py, Incropera et al., 6th ed., Table
+    # A.4), an independent statement of the physics: the README's 0.05 K (measured 0.039 K)
+    assert peak == pytest.approx(_enclosure_steady_module(air), abs=0.05)
 
 
 # -- the fit ------------------------------------------------------------------------------------

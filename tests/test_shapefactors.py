@@ -26,7 +26,7 @@ def test_cubical_furnace_worked_example():
 def test_edge_factor_against_a_two_dimensional_solution():
     # a long square duct (inside 4 L wide) solved here: the flow beyond the four plane walls
     # (inside widths) is four edges; per unit length each is 0.559 k (the table's 0.54 is 3 %
-    # low: Incropera Table 4.1 gives S = 0.54 D for the edge of two adjoining walls)
+    # low: Incropera et al., 6th ed., Table 4.1 gives S = 0.54 D for the edge of two adjoining walls)
     L = 1.0
     q = extrapolated([2.0, 2.0], L, 0.02, 0.01)
     edge = (q - 4 * 4.0 / L) / 4

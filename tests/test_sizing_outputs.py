@@ -107,7 +107,9 @@ def test_choices_bisect_and_a_slack_that_turns_back_is_scanned():
     ("hold_time.box >= 72 h", "hold_time.box", ">=", 72 * 3600.0),
     ("max.box<=85 degC", "max.box", "<=", 85.0),
     ("min.box ≥ 64.4 degF", "min.box", ">=", 18.0),            # (64.4 - 32) / 1.8 = 18
-    ("time_out.box < 30 min", "time_out.box", "<=", 1800.0),
+    ("time_outside_band.box <= 30 min", "time_outside_band.box", "<=", 1800.0),
+    # the former name is still accepted and read as the current one (issue 15)
+    ("time_out.box < 30 min", "time_outside_band.box", "<=", 1800.0),
 ])
 def test_requirements_are_read_with_their_units(text, output, op, target):
     req = parse_requirement(text, ["box"], ["box"])

@@ -79,7 +79,12 @@ def test_thickness_grid_is_monotonic_and_matches_single_runs():
     # (the wall resistance grows as L/(kA), Fourier; the node capacities do not change)
     assert np.all(np.diff(table["hold_time.payload"]) > 0)
     assert np.all(np.diff(table["max.payload"]) < 0)
-    assert np.all(np.diff(table["time_out.payload"]) < 0)
+    assert np.all(np.diff(table["time_outside_band.payload"]) < 0)
+    # the former column name is kept as an alias: same values, after error, not an output
+    # (issue 15: "time_out" read as "timeout")
+    assert table["time_out.payload"].equals(table["time_outside_band.payload"])
+    assert list(table.columns).index("time_out.payload") > list(table.columns).index("error")
+    assert "time_out.payload" not in table.attrs["outputs"]
     assert (table["error"] == "").all()
     # every row equals a single run of the same scenario with that value (the reference path)
     for _, row in table.iterrows():
@@ -444,11 +449,12 @@ def test_the_table_metadata_as_a_typed_record(body, tmp_path):
     assert record.limits == {"body": {"min": None, "max": 8.0}}
     assert record.duration == 6 * 3600.0
     assert record.inputs == ["nodes.body.capacity", "links.skin.resistance"]
-    assert record.outputs == ["min.body", "max.body", "hold_time.body", "time_out.body"]
+    assert record.outputs == ["min.body", "max.body", "hold_time.body",
+                              "time_outside_band.body"]
     assert (record.seed, record.samples, record.interrupted, record.failed) == (7, 3, False, 0)
     assert record.units == {"nodes.body.capacity": "J/K", "links.skin.resistance": "K/W",
                            "min.body": "degC", "max.body": "degC", "hold_time.body": "s",
-                           "time_out.body": "s"}
+                           "time_outside_band.body": "s"}
     assert record.design == {"nodes.body.capacity": "grid [8000, 9000] J/K",
                              "links.skin.resistance": "normal(2.5, 0.2) K/W"}
     assert record.executor == {"name": "serial", "workers": 1, "scheduler": None}
@@ -483,7 +489,11 @@ def test_tables_written_before_the_split_still_read(suffix):
     expected = body_hold_time(table["nodes.body.capacity"], table["links.skin.resistance"], 30.0)
     np.testing.assert_allclose(table["hold_time.body"][ok], expected[ok],
                                atol=STEP**2 / (8 * 8000))
-    assert record.outputs == ["min.body", "max.body", "hold_time.body", "time_out.body"]
+    # written before the rename: the outputs read under their current names, the old column stays
+    assert record.outputs == ["min.body", "max.body", "hold_time.body",
+                              "time_outside_band.body"]
+    np.testing.assert_array_equal(table["time_outside_band.body"], table["time_out.body"])
+    assert "time_out.body" not in record.inputs
     assert record.executor is None                          # not recorded then
     if suffix != ".csv":
         assert (record.seed, record.samples, record.duration) == (3, 3, 6 * 3600.0)

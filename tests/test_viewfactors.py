@@ -50,7 +50,7 @@ def _plane_hit(normal_axis, offset, lo, hi):
 
 def gauss_parallel(x, y, c, order=24):
     """F between equal opposed rectangles by tensor Gauss-Legendre quadrature of the double area
-    integral of cos1 cos2 / (pi s^2) = c^2 / (pi s^4) (Incropera eq. 13.1)."""
+    integral of cos1 cos2 / (pi s^2) = c^2 / (pi s^4) (Incropera et al., 6th ed., eq. 13.1)."""
     t, w = roots_legendre(order)
     xs, wx = 0.5 * x * (t + 1), 0.5 * x * w
     ys, wy = 0.5 * y * (t + 1), 0.5 * y * w
@@ -62,7 +62,8 @@ def gauss_parallel(x, y, c, order=24):
     return total / (x * y)
 
 
-# -- published values (Incropera Table 13.2 charts / Howell's catalogue; from memory) -------------
+# -- published values (Incropera et al., 6th ed., Table 13.2 charts / Howell's catalogue; from
+#    memory) ------------------------------------------------------------------------------------
 def test_published_values_of_unit_squares_and_discs():
     # unit squares one unit apart: 0.1998; at a right angle with a common edge: 0.2000;
     # equal coaxial discs with r = L: (3 - sqrt 5)/2 = 0.382 (Howell catalogue, from memory)
@@ -82,7 +83,7 @@ def test_parallel_rectangles_against_gauss_quadrature_of_the_area_integral():
 
 def test_general_parallel_rectangles_reduce_to_the_aligned_case_and_match_monte_carlo():
     x = np.array([0.5, 1.0, 2.0])
-    # aligned special case (Incropera Table 13.2) from the general formula (Howell)
+    # aligned special case (Incropera et al., 6th ed., Table 13.2) from the general formula (Howell)
     assert np.allclose(vf.parallel_rectangles((0, x, 0, 1.0), (0, x, 0, 1.0), 0.8),
                        vf.parallel_rectangles_aligned(x, 1.0, 0.8), rtol=1e-12)
     # offset, unequal rectangles: Monte Carlo ray tracing with a fixed seed (2e6 rays,
@@ -195,8 +196,8 @@ def test_cylinder_and_strip_and_row_of_cylinders_against_monte_carlo_in_two_dime
 def test_enclosure_shapes_obey_summation_and_reciprocity(shape, dims):
     areas, F, names = vf.enclosure_view_factors(shape, **dims)
     assert len(names) == len(areas) == F.shape[0]
-    # Incropera eqs. 13.3-13.4; the box rows sum to one only because the parallel and the
-    # perpendicular formulas (two independent tables) agree
+    # Incropera et al., 6th ed., eqs. 13.3-13.4; the box rows sum to one only because the
+    # parallel and the perpendicular formulas (two independent tables) agree
     assert np.allclose(F.sum(axis=1), 1.0, atol=1e-12)
     G = areas[:, None] * F
     assert np.allclose(G, G.T, rtol=1e-12, atol=1e-15)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from .format import format_time
+from .format import CAUTION, format_time
 from .guard import guard
 from .options import allow_absolute_paths_option, load_scenario, scenario_argument
 
@@ -26,6 +26,7 @@ def check(scenario, allow_absolute_paths):
                    f"start {st.initial}, solver {st.solver}")
     click.echo("")
     click.echo(f"{sc.name}: ok")
+    click.echo(CAUTION)
 
 
 def _box_lines(network) -> list[str]:

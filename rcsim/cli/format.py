@@ -8,10 +8,10 @@ from __future__ import annotations
 
 import math
 
-__all__ = ["CAUTION", "format_time", "format_energy", "format_cell", "is_missing"]
+from ..caution import CAUTION, MATERIALS_CAUTION  # one text for every output
 
-CAUTION = ("caution: a simulation supports, and never replaces, qualification testing, local "
-           "codes and licensed professional judgement.")
+__all__ = ["CAUTION", "MATERIALS_CAUTION", "format_time", "format_clock_time", "format_energy",
+           "format_cell", "is_missing"]
 
 
 def format_time(seconds: float | None) -> str:
@@ -23,6 +23,18 @@ def format_time(seconds: float | None) -> str:
     from ..units import format_duration
 
     return format_duration(seconds)
+
+
+def format_clock_time(seconds: float, period: float | None = None, start=None) -> str:
+    """The time of day of ``seconds`` after t = 0 of a periodic run (see
+    :func:`rcsim.units.format_clock_time`).
+
+    >>> format_clock_time(47916.0, 86400.0)
+    '13:19'
+    """
+    from ..units import format_clock_time as clock
+
+    return clock(seconds, period, start)
 
 
 def format_energy(joules: float) -> str:

@@ -5,7 +5,7 @@ from __future__ import annotations
 import click
 
 from ..errors import InputError
-from .format import format_cell, is_missing
+from .format import MATERIALS_CAUTION, format_cell, is_missing
 from .guard import guard
 
 
@@ -14,7 +14,9 @@ from .guard import guard
 @click.option("--sources", is_flag=True, help="Also print where each value comes from.")
 @guard
 def materials(category, sources):
-    """List the bundled materials with conductivity, density and specific heat."""
+    """List the bundled materials with conductivity, density and specific heat.
+
+    The values are typical, for a first model, not design values for a product."""
     from ..base import suggest
     from ..materials import materials_table
 
@@ -26,11 +28,16 @@ def materials(category, sources):
                              suggest(category, categories))
         table = table[table["category"] == category]
     click.echo(f"  {'name':<20} {'category':<13} {'k [W/(m*K)]':>12} {'rho [kg/m^3]':>13} "
-               f"{'cp [J/(kg*K)]':>14}  {'latent [kJ/kg]':>14}")
+               f"{'cp [J/(kg*K)]':>14}  {'latent [kJ/kg]':>14}  basis")
     for name, row in table.iterrows():
         latent = None if is_missing(row["latent_heat"]) else row["latent_heat"] / 1000
         click.echo(f"  {name:<20} {row['category']:<13} {row['conductivity']:>12.4g} "
                    f"{row['density']:>13.5g} {row['specific_heat']:>14.5g}  "
-                   f"{format_cell(latent, '.5g', 14)}")
+                   f"{format_cell(latent, '.5g', 14)}  {row['basis']}")
         if sources:
             click.echo(f"      source: {row['source']}")
+    click.echo("")
+    click.echo("  basis: standard = a standard's tabulated generic value (ISO 10456); handbook = "
+               "a handbook table;\n         textbook = a measured property of a pure substance; "
+               "typical = no single source (--sources says which)")
+    click.echo(MATERIALS_CAUTION)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from .format import format_time
+from .format import CAUTION, format_time
 from .guard import guard
 from .options import load_scenario, scenario_argument
 
@@ -30,3 +30,5 @@ def modes(scenario, top, max_rows):
         click.echo(f"  {k:>4}  {format_time(row['time_constant [s]']):>14}  {row['nodes']}")
     if len(table) > max_rows:
         click.echo(f"  ... {len(table) - max_rows} faster mode(s) not shown (--limit)")
+    click.echo("")
+    click.echo(CAUTION)

@@ -9,7 +9,7 @@ import sys
 import click
 
 from ..errors import InputError
-from .format import CAUTION, format_energy, format_time
+from .format import CAUTION, format_clock_time, format_energy, format_time
 from .guard import guard
 from .options import (SOLVERS, solver_help, allow_absolute_paths_option, check_folder, check_output,
                       load_scenario, quiet_option, scenario_argument)
@@ -124,17 +124,25 @@ def _limits(res) -> list[str]:
     if not len(res.limits):
         return []
     lines = ["", "  limits"]
+    periodic = res.period is not None
     for _, row in res.limits.iterrows():
         label = f"{row['node']} {row['kind']} {row['limit [degC]']:g} degC"
         hold = row["hold_time [s]"]
         if isinstance(hold, float) and math.isnan(hold):
             lines.append(f"    {label}: stays within, closest {row['margin [K]']:.3g} K "
                          f"from the limit")
+            continue
+        if periodic:   # no start: the first crossing is a time of the repeated day
+            word = "above" if row["kind"] == "max" else "below"
+            first = (f"first {word} {row['limit [degC]']:g} degC at "
+                     f"{format_clock_time(hold, res.period, res.start_time)}")
+            per = f" per {format_time(res.period)}"
         else:
-            lines.append(f"    {label}: leaves the band at {format_time(hold)} (hold time); "
-                         f"{format_time(row['time_out [s]'])} out in all, worst "
-                         f"{row['worst [K]']:.3g} K beyond, "
-                         f"{row['degree_hours [K*h]']:.3g} K*h")
+            first = f"leaves the band at {format_time(hold)} (hold time)"
+            per = " in all"
+        lines.append(f"    {label}: {first}; {format_time(row['time_out [s]'])} out{per}, "
+                     f"worst {row['worst [K]']:.3g} K beyond, "
+                     f"{row['degree_hours [K*h]']:.3g} K*h")
     return lines
 
 
@@ -148,16 +156,18 @@ def _periodic(res, internal, width) -> list[str]:
     if pr is None:
         return []
     ref = pr.attrs["reference"]
-    lines = ["", f"  periodic regime over the last {format_time(res.period)}; lag and "
-                 f"decrement against {ref}",
-             f"  {'':<{width}}  {'mean [degC]':>11}  {'swing [K]':>9}  {'lag':>9}  "
-             f"{'decrement':>9}"]
+    lines = ["", f"  periodic regime over the last {format_time(res.period)}; lag and amplitude "
+                 f"ratio against {ref}",
+             f"  {'':<{width}}  {'mean [degC]':>11}  {'range [K]':>9}  {'lag':>9}  "
+             f"{'amplitude ratio':>15}"]
     for name, row in pr.iterrows():
         if name == f"{ref} (boundary)" or name in internal:
             continue
         lines.append(f"  {name:<{width}}  {row['mean [degC]']:11.3f}  "
-                     f"{row['swing [K]']:9.3f}  {format_time(row['lag [s]']):>9}  "
-                     f"{row['decrement [-]']:9.3f}")
+                     f"{row['range [K]']:9.3f}  {format_time(row['lag [s]']):>9}  "
+                     f"{row['amplitude ratio [-]']:15.3f}")
+    lines.append(f"  (range: max - min over the period; amplitude ratio: first-harmonic amplitude "
+                 f"over {ref}'s)")
     return lines
 
 
@@ -189,4 +199,4 @@ def _energy(res) -> list[str]:
     return ["", f"  energy: stored change {format_energy(terms.get('stored [J]', 0.0))}, in "
                 f"through boundary links {format_energy(terms.get('in through links [J]', 0.0))}"
                 f", from sources {format_energy(terms.get('from sources [J]', 0.0))}; balance "
-                f"error {res.energy_balance:.1e}"]
+                f"error {res.energy_balance_error:.1e}"]

@@ -21,8 +21,8 @@ __all__ = ["size_command"]
                    "choices A,B,C or LOW..HIGH:N. Repeat to move several keys in step.")
 @click.option("--require", "require_items", multiple=True, required=True, metavar="REQUIREMENT",
               help="What must hold, e.g. 'hold_time.payload >= 72 h', 'max.module <= 85 degC', "
-                   "'min.room >= 18 degC', 'time_out.payload <= 30 min' (repeatable: all must "
-                   "hold).")
+                   "'min.room >= 18 degC', 'time_outside_band.payload <= 30 min' (repeatable: "
+                   "all must hold; the former name time_out.<node> is accepted).")
 @click.option("--vary-uncertain", "vary_uncertain_items", multiple=True,
               metavar="KEY=DISTRIBUTION",
               help="An uncertain input in the sweep grammar: normal(MEAN,SD), uniform(LOW,HIGH), "

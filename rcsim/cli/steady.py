@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from .format import format_time
+from .format import CAUTION, format_time
 from .guard import guard
 from .options import load_scenario, scenario_argument
 
@@ -18,6 +18,7 @@ from .options import load_scenario, scenario_argument
 @guard
 def steady(scenario, between, at):
     """Steady-state temperatures and heat flows of SCENARIO."""
+    from ..summaries import area_conductance
     from ..units import to_si
 
     sc = load_scenario(scenario)
@@ -35,13 +36,17 @@ def steady(scenario, between, at):
     for name, t in res.boundary_temperatures.items():
         click.echo(f"  {name:<{width}}  {t:12.4f}   (boundary)")
     click.echo("")
-    click.echo(f"  {'link':<{width}}  heat flow [W]   R [K/W]      U [W/(m^2*K)]")
+    click.echo(f"  {'link':<{width}}  heat flow [W]   R [K/W]  U or G/A [W/(m^2*K)]")
     for name, q in res.heat_flows.items():
         link = net.links[name]
-        u = link.u_value
-        u_text = f"{u:12.4g}" if u is not None else "           -"
+        found = area_conductance(link)
+        u_text = f"{found[0]:>3} {found[1]:<12.4g}" if found else f"{'-':>3} {'':<12}"
         click.echo(f"  {name:<{width}}  {q:12.4f}  {link.resistance:10.5g}  {u_text}"
                    f"   ({link.a} -> {link.b})")
     if between:
         click.echo("")
         click.echo(f"  equivalent resistance {between[0]} - {between[1]}: {r_between:.6g} K/W")
+    click.echo("")
+    click.echo("  U: a construction (plane layers) between the link's two points; G/A: the "
+               "conductance per area\n  of a film, pad or other link with one area")
+    click.echo(CAUTION)

@@ -164,7 +164,7 @@ def _fmt_output(output: str, value: float, duration=None) -> str:
     """An output value for the summary; a hold time never reached prints as "> <duration>"."""
     if isinstance(value, float) and math.isnan(value):
         return "-"
-    if output.startswith(("hold_time.", "time_out.")):
+    if output.startswith(("hold_time.", "time_outside_band.", "time_out.")):
         if math.isfinite(value):
             return format_time(value)
         return f"> {format_time(duration)}" if duration else "never"

@@ -130,7 +130,7 @@ def plot_energy(res, *, ax=None, title=None, dates=True) -> Drawn:
         drawn.values.update(energy_unit=unit, energy_scale=scale)
         end_time_axis(ax, ta, x)
         ax.set_ylabel(f"energy [{unit}]")
-        bal = res.energy_balance
+        bal = res.energy_balance_error
         ax.set_title(title if title is not None else
                      f"cumulative energy; balance error {bal:.1e}" if math.isfinite(bal) else
                      "cumulative energy", loc="left")

@@ -88,8 +88,9 @@ def _band(ax, drawn, node, rows, colour, ylo, yhi) -> None:
                 float(v.iloc[0]), color=colour, lw=0.9, alpha=0.75, zorder=1)
 
 
-def _hold_marker(ax, drawn, ta, t0, node, rows, colour) -> None:
-    """Mark and label the first excursion of ``node`` from its band (its hold time)."""
+def _hold_marker(ax, drawn, ta, t0, node, rows, colour, res=None) -> None:
+    """Mark and label the first excursion of ``node`` from its band (its hold time; on a run
+    that started in its periodic regime, the clock time of the first crossing)."""
     holds = rows[np.isfinite(rows["hold_time [s]"].to_numpy(dtype=float))]
     if not len(holds):
         drawn.values[f"hold:{node}"] = math.nan
@@ -106,6 +107,11 @@ def _hold_marker(ax, drawn, ta, t0, node, rows, colour) -> None:
     word = "below" if first["kind"] == "min" else "above"
     label = (f"{node} {word} {tl:g} °C from the start" if th <= t0 else
              f"{node} hold time {fmt_clock(th - t0)}\n(first {word} {tl:g} °C)")
+    if res is not None and res.period is not None and th > t0:   # no start: a time of day
+        from ..units import format_clock_time
+
+        clock = format_clock_time(th, res.period, res.start_time)
+        label = f"{node} first {word} {tl:g} °C\nat {clock}"
     up = first["kind"] == "max"
     ax.annotate(label, (xh, tl), xytext=(10, 14 if up else -14), textcoords="offset points",
                 fontsize=8.5, va="bottom" if up else "top", ha="left", zorder=6,
@@ -149,7 +155,7 @@ def plot_history(res, nodes=None, *, boundaries=True, limits=True, ax=None, titl
         for node in dict.fromkeys(lim_rows["node"] if len(lim_rows) else []):
             rows = lim_rows[lim_rows["node"] == node]
             _band(ax, drawn, node, rows, colour[node], ylo, yhi)
-            _hold_marker(ax, drawn, ta, res.time[0], node, rows, colour[node])
+            _hold_marker(ax, drawn, ta, res.time[0], node, rows, colour[node], res)
         end_time_axis(ax, ta, x)
         ax.set_ylabel("temperature [°C]")
         ax.set_title(title if title is not None else result_title(res), loc="left")

@@ -1,6 +1,8 @@
 """Writing figures: PNG (re-saved with a 256-colour palette), SVG or PDF, without dates or
 software names in the file (the same figure gives the same bytes), under a temporary name that is
-renamed when complete."""
+renamed when complete. Every saved figure carries a one-line caution
+(:data:`rcsim.caution.FIGURE_CAUTION`): figures get pasted into reports without the text around
+them."""
 
 from __future__ import annotations
 
@@ -9,7 +11,7 @@ import os
 from ..errors import InputError
 from .style import DPI, STYLE
 
-__all__ = ["FORMATS", "save_figure"]
+__all__ = ["FORMATS", "save_figure", "add_caution"]
 
 FORMATS = ("png", "svg", "pdf")
 
@@ -26,11 +28,63 @@ def save_figure(fig, path) -> str:
     from ..atomic import atomic_path
 
     meta = {"png": {"Software": None}, "svg": {"Date": None}, "pdf": {"CreationDate": None}}[fmt]
-    with atomic_path(path, f".{fmt}.tmp") as tmp, mpl.rc_context(STYLE):
-        fig.savefig(tmp, format=fmt, dpi=DPI, metadata=meta)
-        if fmt == "png":
-            _palette_png(tmp)
+    undo = add_caution(fig)
+    try:
+        with atomic_path(path, f".{fmt}.tmp") as tmp, mpl.rc_context(STYLE):
+            fig.savefig(tmp, format=fmt, dpi=DPI, metadata=meta,
+                        **({} if undo.reserved else {"bbox_inches": "tight", "pad_inches": 0.06}))
+            if fmt == "png":
+                _palette_png(tmp)
+    finally:
+        undo()   # the caller's figure is left as it was
     return path
+
+
+class _Footer:
+    """The caution's text and how to take it away again (``reserved``: whether the layout
+    engine keeps room for it; otherwise it lies below the drawing and the save takes it in)."""
+
+    def __init__(self, text, engine=None, rect=None):
+        self.text, self.engine, self.rect = text, engine, rect
+        self.reserved = engine is not None
+
+    def __call__(self) -> None:
+        self.text.remove()
+        if self.engine is not None:
+            self.engine.set(rect=self.rect)
+
+
+def add_caution(fig) -> _Footer:
+    """Write the caution line on the figure, right-aligned, small and dark grey.
+
+    With a constrained layout the layout keeps a strip for it along the top, above the titles
+    (legends under the axes take the foot), or along the foot when the figure has a title of its
+    own at the top; otherwise it goes just below the drawing. Returns a
+    callable that removes it again.
+    """
+    from matplotlib.layout_engine import ConstrainedLayoutEngine
+
+    from ..caution import FIGURE_CAUTION
+
+    strip = 0.2 / fig.get_figheight()        # 0.2 inch
+    engine = fig.get_layout_engine()
+    style = {"ha": "right", "fontsize": 7, "color": "#333333", "gid": "rcsim-caution"}
+    if isinstance(engine, ConstrainedLayoutEngine):
+        rect = engine.get().get("rect", (0, 0, 1, 1))
+        x0, y0, w, h = rect
+        if fig.get_suptitle():   # the title takes the top: a strip along the foot
+            engine.set(rect=(x0, y0 + strip, w, h - strip))
+            text = fig.text(x0 + w - 0.005, y0 + 0.25 * strip, FIGURE_CAUTION, va="bottom",
+                            **style)
+        else:                    # a strip along the top (legends under the axes take the foot)
+            engine.set(rect=(x0, y0, w, h - strip))
+            text = fig.text(x0 + w - 0.005, y0 + h - 0.2 * strip, FIGURE_CAUTION, va="top",
+                            **style)
+        return _Footer(text, engine, rect)
+    fig.draw_without_rendering()
+    box = fig.get_tightbbox(fig.canvas.get_renderer())   # inches, everything drawn
+    bottom = min(box.y0 / fig.get_figheight(), 0.0) - 0.04 / fig.get_figheight()
+    return _Footer(fig.text(0.995, bottom, FIGURE_CAUTION, va="top", **style))
 
 
 def _palette_png(path) -> None:

@@ -22,7 +22,7 @@ __all__ = ["output_scale", "output_label", "plot_distribution", "plot_tornado", 
            "sweep_figures"]
 
 _WORDS = {"min": "lowest temperature", "max": "highest temperature", "hold_time": "hold time",
-          "time_out": "time out of band"}
+          "time_outside_band": "time outside the band", "time_out": "time outside the band"}
 
 
 def _frame(table) -> pd.DataFrame:
@@ -36,7 +36,7 @@ def output_scale(output: str) -> tuple[float, str]:
     ((0.0002777777777777778, 'h'), (1.0, 'degC'))
     """
     prefix = output.split(".", 1)[0]
-    if prefix in ("hold_time", "time_out"):
+    if prefix in ("hold_time", "time_outside_band", "time_out"):
         return 1.0 / 3600.0, "h"
     return 1.0, "degC"
 

@@ -24,7 +24,8 @@ PARAMETER_UNITS = {
     "specific_heat": "J/(kg*K)", "inner_radius": "m", "outer_radius": "m", "length": "m",
     "h": "W/(m^2*K)", "height": "m", "diameter": "m", "width": "m", "velocity": "m/s",
     "emissivity": "-", "emissivity_2": "-", "area_2": "m^2", "view_factor": "-",
-    "surface_factor": "m^2", "h_r_area": "W/K", "resistance": "K/W", "conductance": "W/K",
+    "exchange_area": "m^2", "surface_factor": "m^2", "h_r_area": "W/K", "resistance": "K/W",
+    "conductance": "W/K",
     "area_resistance": "m^2*K/W",
 }
 
@@ -107,19 +108,27 @@ def nodes_table(scenario) -> pd.DataFrame:
 
 def links_table(scenario) -> pd.DataFrame:
     """Every link: its two points, total resistance [K/W] (NaN when it depends on the
-    temperatures), U-value [W/(m^2*K)] where it has one area, stored capacity [J/K], slices."""
+    temperatures), U-value [W/(m^2*K)] for a construction with one area, conductance per area
+    G/A [W/(m^2*K)] for a film or pad with one area (:mod:`rcsim.summaries`), stored capacity
+    [J/K], slices."""
+    from ..summaries import area_conductance
+
     net = _network(scenario)
     rows = []
     for link in net.links.values():
-        u = link.u_value
+        found = area_conductance(link)
+        u = found[1] if found and found[0] == "U" else None
+        g = found[1] if found and found[0] == "G/A" else None
         rows.append({"link": link.name, "from": link.a, "to": link.b,
                      "parts": " + ".join(p.kind for p in link.parts),
                      "resistance [K/W]": float(link.resistance),
-                     "U [W/(m^2*K)]": _nan(u), "capacity [J/K]": float(link.capacity),
+                     "U [W/(m^2*K)]": _nan(u), "G/A [W/(m^2*K)]": _nan(g),
+                     "capacity [J/K]": float(link.capacity),
                      "slices": int(sum(p.slices for p in link.parts)),
                      "temperature-dependent": "yes" if link.is_nonlinear else ""})
     return pd.DataFrame(rows, columns=["link", "from", "to", "parts", "resistance [K/W]",
-                                       "U [W/(m^2*K)]", "capacity [J/K]", "slices",
+                                       "U [W/(m^2*K)]", "G/A [W/(m^2*K)]", "capacity [J/K]",
+                                       "slices",
                                        "temperature-dependent"])
 
 

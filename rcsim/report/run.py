@@ -36,6 +36,15 @@ def limit_sentences(result) -> list[str]:
             out.append(f"{head}: stays within the band; closest "
                        f"{number_text(r['margin [K]'], 3)} K from the limit.")
             continue
+        if result.period is not None:   # a periodic run has no start: a clock time
+            from ..units import format_clock_time
+
+            word = "above" if r["kind"] == "max" else "below"
+            out.append(f"{head}: first {word} {number_text(r['limit [degC]'])} degC at "
+                       f"{format_clock_time(hold, result.period, result.start_time)}; "
+                       f"{number_text(r['time_out [s]'] / size, 4)} {unit} out per period, "
+                       f"worst {number_text(r['worst [K]'], 3)} K beyond.")
+            continue
         when = _when(result, hold)
         out.append(f"{head}: leaves the band after {number_text(hold / size, 4)} {unit}"
                    f"{f' ({when})' if when else ''}; {number_text(r['time_out [s]'] / size, 4)} "
@@ -110,7 +119,7 @@ def _energy_table(result) -> Table | None:
     frame["energy [kJ]"] /= 1000.0
     return table_from_frame(frame, "Energy balance at the end of the run", id="res-energy",
                             note=f"Relative closure error (stored against exchanged): "
-                                 f"{number_text(result.energy_balance, 3)}.")
+                                 f"{number_text(result.energy_balance_error, 3)}.")
 
 
 def _time_constants_table(result) -> Table | None:
@@ -144,10 +153,11 @@ def _extras(result) -> list:
         except Exception:   # noqa: BLE001 - a run too short for it simply has no such table
             per = None
         if per is not None:
+            per = per.drop(columns=["swing [K]", "decrement [-]"], errors="ignore")  # aliases
             per = per.rename(columns={"peak [s]": "peak [h]", "lag [s]": "lag [h]"})
             per[["peak [h]", "lag [h]"]] /= 3600.0
             blocks.append(table_from_frame(
-                per, f"Periodic regime over the last period; lag and decrement against "
+                per, f"Periodic regime over the last period; lag and amplitude ratio against "
                      f"{per.attrs.get('reference', 'the reference boundary')}",
                 id="res-periodic", index="node"))
     return blocks
@@ -173,7 +183,8 @@ def build_run_report(scenario, result, *, warnings=None, figures: bool = True,
     if result.start_time is not None:
         glance.append(("clock start", result.start_time.isoformat()))
     glance += [("limits", s) for s in limit_sentences(result)]
-    glance += [("energy balance", f"relative closure error {number_text(result.energy_balance, 3)}"),
+    glance += [("energy balance", "relative closure error "
+                                  f"{number_text(result.energy_balance_error, 3)}"),
                ("solver", result.solver)]
     results = Section("results", "Results", _nodes_tables(result, scenario))
     for block in (_limits_table(result, unit, size), _energy_table(result),

@@ -22,7 +22,7 @@ __all__ = ["build_sizing_report", "SIZING_CAUTION", "output_in_report"]
 
 SIZING_CAUTION = ("A sized value is only as good as the model and its inputs: the margin shown is "
                   "the model's, and what the model leaves out needs a margin of its own.")
-_TIMES = ("hold_time", "time_out")
+_TIMES = ("hold_time", "time_outside_band", "time_out")
 
 
 def output_in_report(output: str) -> tuple[float, str]:

@@ -16,7 +16,7 @@ __all__ = ["build_sweep_report", "SWEEP_CAUTION"]
 
 SWEEP_CAUTION = ("The spread of a sweep is the spread of the inputs it was given, through this "
                  "model: it says nothing about the model's own error.")
-_TIME_OUTPUTS = ("hold_time", "time_out")
+_TIME_OUTPUTS = ("hold_time", "time_outside_band", "time_out")
 
 
 def _ok(table) -> np.ndarray:

@@ -16,7 +16,8 @@ mass that does so in 95 % of the uncertain conditions, the heater power that kee
   step), or over a list of choices (catalogue thicknesses, pack counts).
 * **What is required** (:mod:`~rcsim.sizing.requirement`): outputs named as in sweep tables,
   ``hold_time.<node> >= 72 h``, ``max.<node> <= 85 degC``, ``min.<node> >= 18 degC``,
-  ``time_out.<node> <= 30 min``; with several, all must hold.
+  ``time_outside_band.<node> <= 30 min`` (former name ``time_out.<node>`` accepted); with
+  several, all must hold.
 * **How** (:mod:`~rcsim.sizing.search`): the ends of the range are checked (met at one end and not
   the other), Brent's method closes the bracket to the tolerance (default 0.1 % of the range),
   and the values evaluated are checked for a response that is not monotone (then the range is

@@ -47,7 +47,7 @@ def size(scenario, vary, require, *, vary_uncertain=None, samples=None, confiden
         carry units. Several keys move in step (see :mod:`rcsim.sizing.variable`).
     require : str or list of str
         ``"hold_time.payload >= 72 h"``, ``"max.module <= 85 degC"``, ``"min.room >= 18 degC"``,
-        ``"time_out.payload <= 30 min"``; with several, all must hold.
+        ``"time_outside_band.payload <= 30 min"``; with several, all must hold.
     vary_uncertain : dict, optional
         ``{key path: distribution}`` in the sweep grammar (``"normal(25 degC, 2 K)"``...).
     samples : int, optional

@@ -8,7 +8,8 @@ value with units:
 * ``hold_time.<node> >= 72 h``: the first time the node leaves its band (its ``[limits]``) on
   either side [s]; a node that never leaves it within the run has a hold time longer than the run
   (the table's NaN);
-* ``time_out.<node> <= 30 min``: the total time the node spends outside its band [s].
+* ``time_outside_band.<node> <= 30 min``: the total time the node spends outside its band [s]
+  (``time_out.<node>``, its former name, is still accepted and read as this one).
 
 ``>=`` and ``<=`` (or ``≥``, ``≤``; ``>`` and ``<`` read the same: on computed values the
 difference has no meaning). The *slack* of a run is how far it meets the requirement:
@@ -29,14 +30,15 @@ import numpy as np
 from ..base import suggest
 from ..errors import InputError
 from ..units import format_duration, to_si
-from ..sweep.worker import OUTPUT_PREFIXES
+from ..sweep.worker import OUTPUT_ALIASES, OUTPUT_PREFIXES, TIME_OUTPUTS
 
 __all__ = ["Requirement", "parse_requirement", "parse_requirements", "format_output",
            "OUTPUT_WORDS"]
 
 #: What each output prefix means, for messages.
 OUTPUT_WORDS = {"min": "lowest temperature", "max": "highest temperature",
-                "hold_time": "hold time", "time_out": "time out of band"}
+                "hold_time": "hold time", "time_outside_band": "time outside the band",
+                "time_out": "time outside the band"}
 
 _PATTERN = re.compile(r"^\s*(?P<output>[^\s<>=≥≤!]+)\s*(?P<op>>=|<=|≥|≤|=>|=<|==|=|>|<|!=)"
                       r"\s*(?P<value>.+?)\s*$")
@@ -58,7 +60,7 @@ class Requirement:
         ``"hold_time"`` and ``"payload"``.
     op : {">=", "<="}
     target : float
-        The value, SI: degC for ``min``/``max``, s for ``hold_time``/``time_out``.
+        The value, SI: degC for ``min``/``max``, s for ``hold_time``/``time_outside_band``.
     """
 
     text: str
@@ -71,7 +73,7 @@ class Requirement:
     @property
     def is_time(self) -> bool:
         """Whether the output is a time [s] (else a temperature [degC])."""
-        return self.prefix in ("hold_time", "time_out")
+        return self.prefix in TIME_OUTPUTS
 
     @property
     def scale(self) -> float:
@@ -119,7 +121,7 @@ def format_output(output: str, value, duration=None) -> str:
         if prefix == "hold_time" and duration:
             return f"> {format_duration(duration)}"
         return "-"
-    if prefix in ("hold_time", "time_out"):
+    if prefix in TIME_OUTPUTS or prefix in OUTPUT_ALIASES:
         return format_duration(float(value))
     return f"{float(value):.4g} degC"
 
@@ -134,7 +136,7 @@ def parse_requirement(text, nodes, limit_nodes, where="require") -> Requirement:
     nodes : list of str
         The scenario's nodes (``min``/``max`` may name any of them).
     limit_nodes : list of str
-        Nodes with a ``[limits]`` entry (``hold_time``/``time_out`` need one).
+        Nodes with a ``[limits]`` entry (``hold_time``/``time_outside_band`` need one).
 
     Raises
     ------
@@ -156,6 +158,9 @@ def parse_requirement(text, nodes, limit_nodes, where="require") -> Requirement:
         raise InputError(f"the comparison {op!r} cannot be sized for", here,
                          "use >= (at least) or <= (at most)")
     prefix, dot, node = output.partition(".")
+    if prefix in OUTPUT_ALIASES:   # a former name: read as the current one
+        prefix = OUTPUT_ALIASES[prefix]
+        output = f"{prefix}.{node}"
     if not dot or not node:
         raise InputError(f"the output {output!r} names no node", here,
                          f"write <output>.<node> with output one of {', '.join(OUTPUT_PREFIXES)}")
@@ -163,11 +168,11 @@ def parse_requirement(text, nodes, limit_nodes, where="require") -> Requirement:
         raise InputError(f"unknown output {prefix!r}", here, suggest(prefix, OUTPUT_PREFIXES))
     if node not in nodes:
         raise InputError(f"unknown node {node!r}", here, suggest(node, nodes))
-    if prefix in ("hold_time", "time_out") and node not in limit_nodes:
+    if prefix in TIME_OUTPUTS and node not in limit_nodes:
         raise InputError(f"node {node!r} has no limits, so it has no {OUTPUT_WORDS[prefix]}", here,
                          f"add [limits.{node}] with min and/or max, or require min.{node} / "
                          f"max.{node}")
-    kind = "time" if prefix in ("hold_time", "time_out") else "temperature"
+    kind = "time" if prefix in TIME_OUTPUTS else "temperature"
     try:
         number = float(value)
     except ValueError:

@@ -121,7 +121,7 @@ class SizingResult:
         for o, v in self.margin.items():
             if isinstance(v, float) and math.isnan(v):
                 out[o] = "beyond the run"
-            elif o.split(".", 1)[0] in ("hold_time", "time_out"):
+            elif o.split(".", 1)[0] in ("hold_time", "time_outside_band", "time_out"):
                 out[o] = format_output(o, v)
             else:
                 out[o] = f"{v:.3g} K"

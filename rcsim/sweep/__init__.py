@@ -19,10 +19,11 @@ not depend on the executor, the number of workers or the order in which runs fin
 
 Each run reports, for every node, ``min.<node>`` and ``max.<node>`` [degC] and, for every node with
 a limit, ``hold_time.<node>`` [s] (first time out of the band on either side; NaN if it never
-leaves within the run) and ``time_out.<node>`` [s] (total time out of the band, both sides added;
-the two sides cannot be out at the same time). The table has one row per run (index ``run``):
-the input columns named by key path (SI values; degC for temperatures), then the outputs, then
-``error`` (empty, or the error of a run that failed; its outputs are NaN). Its metadata are in
+leaves within the run) and ``time_outside_band.<node>`` [s] (total time out of the band, both
+sides added; the two sides cannot be out at the same time; ``time_out.<node>``, its former name,
+is kept as a column with the same values after ``error``). The table has one row per run (index
+``run``): the input columns named by key path (SI values; degC for temperatures), then the
+outputs, then ``error`` (empty, or the error of a run that failed; its outputs are NaN). Its metadata are in
 ``table.attrs`` and, typed, in :class:`SweepTable`.
 
 Sensitivity:

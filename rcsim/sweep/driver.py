@@ -64,9 +64,10 @@ def sweep(scenario, vary, *, samples=None, seed=None, executor="processes", work
     -------
     DataFrame
         One row per run (index ``run``): the inputs by key path (SI; degC for temperatures), the
-        outputs ``min.<node>``, ``max.<node>`` [degC], ``hold_time.<node>``, ``time_out.<node>``
-        [s], then ``error``. ``attrs`` holds units, seed, limits, duration, the design and the
-        executor; ``rcsim.sweep.SweepTable.from_frame(table)`` gives them as a typed record.
+        outputs ``min.<node>``, ``max.<node>`` [degC], ``hold_time.<node>``,
+        ``time_outside_band.<node>`` [s], then ``error``, then ``time_out.<node>`` (the former
+        name of ``time_outside_band.<node>``, same values). ``attrs`` holds units, seed, limits,
+        duration, the design and the executor; ``rcsim.sweep.SweepTable.from_frame(table)`` gives them as a typed record.
 
     Raises
     ------

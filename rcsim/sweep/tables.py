@@ -2,7 +2,10 @@
 
 A table (``pandas.DataFrame``, index ``run``) holds the inputs by key path (SI values; degC for
 temperatures), then the outputs (``min.<node>``, ``max.<node>`` [degC], ``hold_time.<node>``,
-``time_out.<node>`` [s]), then ``error`` (empty, or the error text of a run that failed).
+``time_outside_band.<node>`` [s]), then ``error`` (empty, or the error text of a run that failed),
+then, under former names kept for scripts written before, ``time_out.<node>`` (the same values as
+``time_outside_band.<node>``; not listed among the outputs). A table written before the rename is
+read with the current names added.
 ``rcsim.sweep(...)`` returns the DataFrame with its metadata in ``.attrs``;
 :class:`SweepTable` is the same thing as a typed record (``SweepTable.from_frame(table)``).
 
@@ -25,10 +28,11 @@ import pandas as pd
 from ..atomic import atomic_path
 from ..errors import DataError, InputError
 from ..units import si_unit
-from .worker import OUTPUT_PREFIXES
+from .worker import OUTPUT_ALIASES, OUTPUT_PREFIXES, canonical_output
 
 __all__ = ["SweepTable", "TABLE_SUFFIXES", "unit_of", "make_table", "check_table_path",
-           "write_table", "read_table", "output_columns", "input_columns", "succeeded"]
+           "write_table", "read_table", "output_columns", "input_columns", "succeeded",
+           "alias_columns", "add_alias_columns"]
 
 TABLE_SUFFIXES = (".csv", ".h5", ".hdf5", ".parquet")
 
@@ -43,12 +47,45 @@ def output_columns(table: pd.DataFrame) -> list[str]:
 
 
 def input_columns(table: pd.DataFrame) -> list[str]:
-    """The input columns of a table (from its metadata, else every non-output column)."""
+    """The input columns of a table (from its metadata, else every column that is not an
+    output, ``error`` or a former output name)."""
     ins = table.attrs.get("inputs")
     if ins:
         return [c for c in ins if c in table.columns]
-    outs = set(output_columns(table))
+    outs = set(output_columns(table)) | set(alias_columns(table))
     return [c for c in table.columns if c not in outs and c != "error"]
+
+
+def alias_columns(table: pd.DataFrame) -> list[str]:
+    """Columns under a former output name (``time_out.<node>``): copies, not outputs."""
+    return [c for c in table.columns
+            if isinstance(c, str) and "." in c and c.split(".", 1)[0] in OUTPUT_ALIASES]
+
+
+def add_alias_columns(frame: pd.DataFrame) -> pd.DataFrame:
+    """Add, at the end, a column under the former name of every output that has one, with the
+    same values (``time_out.<node>`` beside ``time_outside_band.<node>``); returns ``frame``."""
+    former = {new: old for old, new in OUTPUT_ALIASES.items()}
+    for c in list(frame.columns):
+        prefix, dot, node = str(c).partition(".")
+        if dot and prefix in former and f"{former[prefix]}.{node}" not in frame.columns:
+            frame[f"{former[prefix]}.{node}"] = frame[c]
+    return frame
+
+
+def _current_names(table: pd.DataFrame, meta: dict) -> None:
+    """A table written before an output was renamed: add the column under its current name and
+    read the metadata's names as current ones (in place)."""
+    for c in alias_columns(table):
+        new = canonical_output(c)
+        if new not in table.columns:
+            table[new] = table[c]
+    for key in ("outputs",):
+        if isinstance(meta.get(key), list):
+            meta[key] = [canonical_output(c) for c in meta[key]]
+    if isinstance(meta.get("units"), dict):
+        meta["units"] = {**{canonical_output(k): v for k, v in meta["units"].items()},
+                         **meta["units"]}
 
 
 def succeeded(table: pd.DataFrame) -> np.ndarray:
@@ -177,6 +214,7 @@ def make_table(sc, design, layout, results, executor) -> SweepTable:
     data.update({c: results.outputs[:, j] for j, c in enumerate(cols)})
     frame = pd.DataFrame(data, index=pd.RangeIndex(len(results.outputs), name="run"))
     frame["error"] = pd.Series(results.errors, index=frame.index, dtype=object)
+    add_alias_columns(frame)
     kinds = dict(zip(design.keys, design.kinds))
     limits = {lim.node: {"min": lim.min, "max": lim.max} for lim in sc.network.limits.values()}
     return SweepTable(
@@ -318,5 +356,6 @@ def read_table(path) -> pd.DataFrame:
     if "error" in table.columns:
         err = table["error"].astype(object)
         table["error"] = err.where(err.notna(), "")
+    _current_names(table, meta)
     table.attrs = meta
     return table

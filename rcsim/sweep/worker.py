@@ -8,8 +8,10 @@ sweep.
 
 Outputs per run: for every reported node ``min.<node>`` and ``max.<node>`` [degC]; for every node
 with a limit ``hold_time.<node>`` [s] (first time out of the band on either side; NaN if it never
-leaves within the run) and ``time_out.<node>`` [s] (total time out of the band, both sides added;
-the two sides cannot be out at the same time).
+leaves within the run) and ``time_outside_band.<node>`` [s] (total time out of the band, both sides
+added; the two sides cannot be out at the same time). ``time_outside_band`` was called
+``time_out`` before (it read as "timeout"); the old name is kept as an alias
+(:data:`OUTPUT_ALIASES`): tables carry both columns and requirements accept both.
 """
 
 from __future__ import annotations
@@ -25,11 +27,28 @@ from ..base import suggest
 from ..errors import InputError
 from ..scenario import Scenario, build
 
-__all__ = ["OUTPUT_PREFIXES", "OutputLayout", "output_layout", "outputs_of", "Job", "make_job",
-           "run_batch"]
+__all__ = ["OUTPUT_PREFIXES", "OUTPUT_ALIASES", "TIME_OUTPUTS", "canonical_output", "OutputLayout",
+           "output_layout", "outputs_of", "Job", "make_job", "run_batch"]
 
 #: Output column prefixes, in table order per node.
-OUTPUT_PREFIXES = ("min", "max", "hold_time", "time_out")
+OUTPUT_PREFIXES = ("min", "max", "hold_time", "time_outside_band")
+
+#: Former output prefixes and the prefix each now reads (tables keep a column under the former
+#: name too; requirements accept it).
+OUTPUT_ALIASES = {"time_out": "time_outside_band"}
+
+#: Output prefixes whose values are times [s].
+TIME_OUTPUTS = ("hold_time", "time_outside_band")
+
+
+def canonical_output(name: str) -> str:
+    """An output name with a former prefix replaced by the current one.
+
+    >>> canonical_output("time_out.payload"), canonical_output("max.payload")
+    ('time_outside_band.payload', 'max.payload')
+    """
+    prefix, dot, rest = name.partition(".")
+    return f"{OUTPUT_ALIASES[prefix]}{dot}{rest}" if prefix in OUTPUT_ALIASES else name
 
 
 @dataclass(frozen=True)
@@ -54,7 +73,7 @@ def output_layout(sc: Scenario, nodes=None) -> OutputLayout:
                 raise InputError(f"unknown node {n!r}", "nodes", suggest(n, all_nodes))
     limit_nodes = list(dict.fromkeys(lim.node for lim in sc.network.limits.values()))
     cols = [f"{p}.{n}" for n in nodes for p in ("min", "max")]
-    cols += [f"{p}.{n}" for n in limit_nodes for p in ("hold_time", "time_out")]
+    cols += [f"{p}.{n}" for n in limit_nodes for p in TIME_OUTPUTS]
     return OutputLayout(list(dict.fromkeys(nodes)), cols, limit_nodes)
 
 

@@ -23,49 +23,162 @@ from .errors import InputError, NetworkError, SolverError
 from .limits import LIMIT_COLUMNS, ExcursionTracker
 
 __all__ = ["Chunk", "MemorySink", "H5Sink", "Recorder", "RecordingPlan", "EnergyTotals",
-           "write_frame", "read_frame"]
+           "write_frame", "read_frame", "write_names", "read_names", "names_dataset",
+           "NAMES_ATTRIBUTE_BYTES"]
 
 
 class Chunk:
-    """A block of consecutive samples handed from a solver to the :class:`Recorder`."""
+    """A block of consecutive samples handed from a solver to the :class:`Recorder`.
 
-    __slots__ = ("t", "T", "u", "s", "e_links", "e_sources", "e_stored", "extras")
+    Attributes
+    ----------
+    t : (c,) times [s]
+    T : (c, out nodes) temperatures [degC] of the plan's ``out_nodes``, in either memory order
+        (a path that computes them node by node hands a column-major array: no copy is made)
+    u, s : (c, boundaries), (c, sources) input values
+    e_links, e_sources : cumulative energies [J]; e_stored : (c,) change of stored energy [J]
+    extras : {series key: (c, k) array} extra histories
+    evaluate : callable or None
+        ``evaluate(times, columns)`` gives the temperatures [degC] of output columns
+        ``columns`` (positions in ``out_nodes``) at ``times`` (arrays of one length) anywhere
+        between the previous sample and ``t[-1]``, from the solution itself (used to locate
+        band crossings between samples; None: linear between samples).
+    """
 
-    def __init__(self, t, T, u, s, e_links, e_sources, e_stored, extras=None):
+    __slots__ = ("t", "T", "u", "s", "e_links", "e_sources", "e_stored", "extras", "evaluate")
+
+    def __init__(self, t, T, u, s, e_links, e_sources, e_stored, extras=None, evaluate=None):
         self.t, self.T, self.u, self.s = t, T, u, s
         self.e_links, self.e_sources, self.e_stored = e_links, e_sources, e_stored
         self.extras = extras or {}
+        self.evaluate = evaluate
 
 
 # -- sinks -----------------------------------------------------------------------------------
+_ONE_D = ("time", "energy/stored")
+#: The names of a series stay an HDF5 attribute ``names`` too while they take at most this many
+#: bytes (an attribute must fit in a 64 KiB object header); they are always a dataset
+#: ``<series>_names`` as well.
+NAMES_ATTRIBUTE_BYTES = 32_768
+
+
+def names_dataset(key: str) -> str:
+    """Where a result file keeps the names of series ``key``: ``/temperature_names``,
+    ``/energy/links_names``, ..."""
+    return f"{key}_names"
+
+
+class _Growing:
+    """A history filled chunk by chunk into a preallocated column-major array (doubled when a
+    run delivers more rows than announced: never a concatenation of all chunks)."""
+
+    __slots__ = ("data", "rows")
+
+    def __init__(self, width: int | None, capacity: int):
+        shape = (capacity,) if width is None else (width, capacity)
+        self.data = np.empty(shape)          # row-major (width, rows): column-major history
+        self.rows = 0
+
+    def _room(self, c: int) -> None:
+        need = self.rows + c
+        cap = self.data.shape[-1]
+        if need > cap:
+            grown = np.empty(self.data.shape[:-1] + (max(need, 2 * cap),))
+            grown[..., :self.rows] = self.data[..., :self.rows]
+            self.data = grown
+
+    def slot(self, c: int) -> np.ndarray:
+        """The next ``c`` rows as a writable (c, width) view, to be filled and then appended."""
+        self._room(c)
+        return self.data[:, self.rows:self.rows + c].T
+
+    def append(self, array: np.ndarray) -> None:
+        c = array.shape[0]
+        need = self.rows + c
+        self._room(c)
+        if self.data.ndim == 2 and c and array.ndim == 2 and \
+                array.__array_interface__["data"][0] == self.data[:, self.rows:].ctypes.data \
+                and array.strides == self.data[:, self.rows:need].T.strides:
+            self.rows = need                  # filled in place through slot()
+            return
+        if self.data.ndim == 1:
+            self.data[self.rows:need] = array
+        else:
+            self.data[:, self.rows:need] = array.T
+        self.rows = need
+
+    def view(self) -> np.ndarray:
+        """(rows,) or (rows, width), column-major: a view, no copy."""
+        return self.data[:self.rows] if self.data.ndim == 1 else self.data[:, :self.rows].T
+
+
 class MemorySink:
-    """Keeps every chunk in memory."""
+    """Keeps the histories in memory, in arrays allocated once for the announced number of
+    samples (:meth:`reserve`)."""
 
     def __init__(self):
-        self.parts: dict[str, list] = {}
+        self.buffers: dict[str, _Growing] = {}
         self.names: dict[str, list[str]] = {}
+        self.expected = 1024
+
+    def reserve(self, samples: int) -> None:
+        """The number of samples the run will deliver (histories are allocated at that size)."""
+        self.expected = max(1, int(samples))
 
     def declare(self, key: str, names: list[str]) -> None:
         self.names[key] = list(names)
-        self.parts[key] = []
+        width = None if key in _ONE_D else len(names)
+        self.buffers[key] = _Growing(width, self.expected)
 
     def append(self, key: str, array: np.ndarray) -> None:
-        # a slice would keep the solver's whole block of states alive: copy those only
-        a = np.asarray(array, dtype=float)
-        self.parts[key].append(a.copy() if a.base is not None else a)
+        self.buffers[key].append(np.asarray(array, dtype=float))
+
+    def slot(self, key: str, rows: int) -> np.ndarray:
+        """Where the next ``rows`` samples of ``key`` go: a (rows, width) writable view that a
+        path may fill before handing it back to :meth:`append` (no copy then)."""
+        return self.buffers[key].slot(rows)
+
+    @property
+    def parts(self) -> dict:
+        """{key: [history]} (older form: a list of one array per key)."""
+        return {key: [b.view()] for key, b in self.buffers.items()}
 
     def arrays(self) -> dict:
-        out = {}
-        for key, chunks in self.parts.items():
-            if chunks:
-                out[key] = np.concatenate(chunks, axis=0)
-            else:
-                width = len(self.names.get(key, []))
-                out[key] = np.empty((0,) if key in ("time", "energy/stored") else (0, width))
-        return out
+        return {key: b.view() for key, b in self.buffers.items()}
 
     def abort(self) -> None:
-        self.parts.clear()
+        self.buffers.clear()
+
+
+def _names_attribute(names: list[str]):
+    """Names as UTF-8 byte strings for an HDF5 attribute (readers decode them)."""
+    return np.asarray([n.encode("utf-8") for n in names], dtype="S") if names else \
+        np.zeros(0, dtype="S1")
+
+
+def write_names(h5, key: str, names: list[str]) -> None:
+    """Store the names of series ``key``: a dataset :func:`names_dataset` of UTF-8 strings
+    (any length), and the attribute ``names`` of the series as well when it is short enough
+    (:data:`NAMES_ATTRIBUTE_BYTES`) for files read by older versions."""
+    import h5py
+
+    h5.create_dataset(names_dataset(key), data=np.asarray(names, dtype=object),
+                      dtype=h5py.string_dtype("utf-8"), shape=(len(names),))
+    attribute = _names_attribute(names)
+    if attribute.nbytes <= NAMES_ATTRIBUTE_BYTES:
+        h5[key].attrs["names"] = attribute
+
+
+def read_names(h5, key: str) -> list[str] | None:
+    """The names of series ``key`` of a result file: the names dataset, or (files written
+    before it existed) the attribute ``names``; None when it has neither."""
+    ds = names_dataset(key)
+    if ds in h5:
+        return [n.decode("utf-8") if isinstance(n, bytes) else str(n) for n in h5[ds][()]]
+    if key in h5 and "names" in h5[key].attrs:
+        return [n.decode("utf-8") if isinstance(n, bytes) else str(n)
+                for n in h5[key].attrs["names"]]
+    return None
 
 
 class H5Sink:
@@ -76,42 +189,55 @@ class H5Sink:
 
         self.path = os.fspath(path)
         self.tmp = temporary_beside(self.path, ".h5.tmp")
-        self.file = h5py.File(self.tmp, "w")
+        self.file = h5py.File(self.tmp, "w", rdcc_nbytes=32 * 2 ** 20)
         self.names: dict[str, list[str]] = {}
         self._empty: list[str] = []
+        self._rows: dict[str, int] = {}
+        self.expected = 0
         self._open = True
+
+    def reserve(self, samples: int) -> None:
+        """The number of samples the run will deliver (datasets are created at that size)."""
+        self.expected = max(0, int(samples))
 
     def declare(self, key: str, names: list[str]) -> None:
         self.names[key] = list(names)
-        if key not in ("time", "energy/stored") and not names:
+        if key not in _ONE_D and not names:
             self._empty.append(key)  # zero-width: written at the end, unchunked
             return
-        shape = (0,) if key in ("time", "energy/stored") else (0, len(names))
-        maxshape = (None,) if len(shape) == 1 else (None, len(names))
-        chunks = (4096,) if len(shape) == 1 else (max(1, min(4096, 2_000_000 // max(1, len(names)))),
-                                                   max(1, len(names)))
-        ds = self.file.create_dataset(key, shape=shape, maxshape=maxshape, dtype="f8",
-                                      chunks=chunks)
+        width = len(names)
+        shape = (self.expected,) if key in _ONE_D else (self.expected, width)
+        maxshape = (None,) if len(shape) == 1 else (None, width)
+        # chunks of about 1 MB (wide histories: a few rows each), within the chunk cache
+        chunks = (4096,) if len(shape) == 1 else (max(1, min(4096, 131_072 // max(1, width))),
+                                                   max(1, min(width, 131_072)))
+        self.file.create_dataset(key, shape=shape, maxshape=maxshape, dtype="f8", chunks=chunks)
+        self._rows[key] = 0
         if len(shape) == 2:
-            ds.attrs["names"] = np.asarray(names, dtype=object).astype("S") if names else \
-                np.zeros(0, dtype="S1")
+            write_names(self.file, key, names)
 
     def append(self, key: str, array: np.ndarray) -> None:
         if key in self._empty:
             return
         ds = self.file[key]
-        n0 = ds.shape[0]
-        ds.resize(n0 + array.shape[0], axis=0)
-        ds[n0:] = array
+        n0 = self._rows[key]
+        n1 = n0 + array.shape[0]
+        if n1 > ds.shape[0]:
+            ds.resize(max(n1, ds.shape[0] + ds.shape[0] // 2), axis=0)
+        ds[n0:n1] = np.ascontiguousarray(array)
+        self._rows[key] = n1
 
     def write_table(self, group: str, frame: pd.DataFrame) -> None:
         write_frame(self.file, group, frame)
 
     def finish(self, attrs: dict) -> None:
-        n_rows = self.file["time"].shape[0] if "time" in self.file else 0
+        for key, rows in self._rows.items():      # datasets end where the samples ended
+            if self.file[key].shape[0] != rows:
+                self.file[key].resize(rows, axis=0)
+        n_rows = self._rows.get("time", 0)
         for key in self._empty:
-            ds = self.file.create_dataset(key, data=np.empty((n_rows, 0)))
-            ds.attrs["names"] = np.zeros(0, dtype="S1")
+            self.file.create_dataset(key, data=np.empty((n_rows, 0)))
+            write_names(self.file, key, [])
         for k, v in attrs.items():
             self.file.attrs[k] = v
         self.file.close()
@@ -263,9 +389,18 @@ class Recorder:
     plan : RecordingPlan
         What to record.
     sink : MemorySink or H5Sink
+    samples : int, optional
+        How many samples the run will deliver: histories are allocated once at that size.
+
+    Heat flows of the recorded links are one sparse product per chunk (each link's conductance
+    times the difference of its end temperatures, ends taken from the chunk's node columns and
+    the boundary values), with the histories stored column-major, so a chunk of temperatures
+    computed node by node goes to the sink without a transposing copy.
     """
 
-    def __init__(self, asm, plan: RecordingPlan, sink):
+    def __init__(self, asm, plan: RecordingPlan, sink, samples: int | None = None):
+        import scipy.sparse as sp
+
         self.asm = asm
         self.plan = plan
         out_nodes = plan.out_nodes
@@ -287,6 +422,15 @@ class Recorder:
                                  dtype=np.int64)
         self._b_col = np.asarray([pos[int(p)] if p < n else m + int(p - n) for p in self._flow_b],
                                  dtype=np.int64)
+        # flows^T = incidence_T @ T^T + incidence_u @ u^T (links x samples)
+        L = self.links.size
+        rows = np.concatenate([np.arange(L), np.arange(L)])
+        cols = np.concatenate([self._a_col, self._b_col])
+        vals = np.concatenate([self._flow_g, -self._flow_g])
+        width = m + asm.n_boundaries
+        incidence = sp.csr_matrix((vals, (rows, cols)), shape=(L, width))
+        self._inc_T = incidence[:, :m].tocsr()
+        self._inc_u = incidence[:, m:].toarray()
         # links whose first segment is nonlinear: their flows come from the segment laws
         self._nl_links = np.empty(0, dtype=np.int64)
         if asm.nl is not None and self.links.size:
@@ -311,6 +455,8 @@ class Recorder:
         self._derived = [(d, np.asarray([pos[int(i)] for i in d.nodes], dtype=np.int64))
                          for d in plan.derived]
         self.sink = sink
+        if samples is not None and hasattr(sink, "reserve"):
+            sink.reserve(samples)
         self.boundary_links = list(plan.boundary_links)
         self.extra_names = dict(plan.extra_names)
         self.tmin = np.full(self.out_nodes.size, np.inf)
@@ -331,6 +477,37 @@ class Recorder:
         for key, names in self.extra_names.items():
             sink.declare(key, names)
 
+    def output_slot(self, rows: int):
+        """A (rows, out nodes) array to compute the next chunk's temperatures into, when they
+        go to the sink as they are (every output column recorded, in memory): the chunk then
+        costs no copy. None otherwise."""
+        if self._rec_all and hasattr(self.sink, "slot"):
+            return self.sink.slot("temperature", rows)
+        return None
+
+    def flows(self, T: np.ndarray, u: np.ndarray, t: np.ndarray | None = None) -> np.ndarray:
+        """Heat flows [W] of the recorded links for temperatures ``T`` (c, out nodes) and
+        boundary values ``u`` (c, boundaries) at times ``t`` [s] (needed when a link's
+        conductance varies in time): (c, links), column-major."""
+        with np.errstate(invalid="ignore"):
+            flows_t = self._inc_T @ T.T
+            if self._inc_u.shape[1]:
+                flows_t += self._inc_u @ np.asarray(u).T
+        flows = np.asarray(flows_t).T
+        if self._nl_links.size:
+            points = np.hstack([T, u])
+            q = self.asm.nl.flows(points[:, self._nl_a], points[:, self._nl_b])
+            flows[:, self._nl_links] = q[:, self._nl_cols]
+        if self._var_links.size:
+            if t is None:
+                raise ValueError("flows of links whose conductance varies need the times")
+            points = np.hstack([T, u])
+            j = self._var_links
+            g = self.asm.varying.conductance(np.asarray(t, dtype=float))[:, self._var_cols]
+            with np.errstate(invalid="ignore"):
+                flows[:, j] = g * (points[:, self._a_col[j]] - points[:, self._b_col[j]])
+        return flows
+
     def add(self, c: Chunk) -> None:
         if c.t.size == 0:
             return
@@ -342,17 +519,7 @@ class Recorder:
         self.sink.append("time", c.t)
         self.sink.append("temperature", T if self._rec_all else T[:, self.rec_cols])
         if self.links.size:
-            points = np.hstack([T, c.u])
-            with np.errstate(invalid="ignore"):
-                flows = self._flow_g[None, :] * (points[:, self._a_col] - points[:, self._b_col])
-            if self._nl_links.size:
-                q = self.asm.nl.flows(points[:, self._nl_a], points[:, self._nl_b])
-                flows[:, self._nl_links] = q[:, self._nl_cols]
-            if self._var_links.size:
-                j = self._var_links
-                g = self.asm.varying.conductance(c.t)[:, self._var_cols]
-                flows[:, j] = g * (points[:, self._a_col[j]] - points[:, self._b_col[j]])
-            self.sink.append("heat_flow", flows)
+            self.sink.append("heat_flow", self.flows(T, c.u, c.t))
         else:
             self.sink.append("heat_flow", np.zeros((c.t.size, 0)))
         self.sink.append("boundary_temperature", c.u)
@@ -366,11 +533,18 @@ class Recorder:
             self.sink.append(key, c.extras[key])
         self.tmin = np.minimum(self.tmin, cmin)
         self.tmax = np.maximum(self.tmax, cmax)
-        self.tlast = T[-1].copy()
+        self.tlast = np.array(T[-1])
         if self.tracker is not None:
-            self.tracker.update(c.t, T[:, self.limit_cols])
-        self.last_energy = EnergyTotals(float(c.e_stored[-1]), c.e_links[-1].copy(),
-                                        c.e_sources[-1].copy())
+            evaluate = None
+            if c.evaluate is not None:
+                limit_cols, chunk_eval = self.limit_cols, c.evaluate
+
+                def evaluate(times, which):
+                    return chunk_eval(times, limit_cols[which])
+
+            self.tracker.update(c.t, T[:, self.limit_cols], evaluate)
+        self.last_energy = EnergyTotals(float(c.e_stored[-1]), np.array(c.e_links[-1]),
+                                        np.array(c.e_sources[-1]))
         self.last_time = float(c.t[-1])
         self.n_samples += c.t.size
 

@@ -3,13 +3,16 @@
 File layout (HDF5)::
 
     /time                   [s]
-    /temperature            time x node [degC], attr names
-    /heat_flow              time x link [W], attr names (positive from first to second point)
-    /boundary_temperature   time x boundary [degC], attr names
-    /source_power           time x source [W], attr names
+    /temperature            time x node [degC]
+    /temperature_names      the node names (UTF-8 strings), one per column
+    /heat_flow              time x link [W] (positive from first to second point)
+    /heat_flow_names        the link names
+    /boundary_temperature   time x boundary [degC]  (and /boundary_temperature_names)
+    /source_power           time x source [W]       (and /source_power_names)
     /energy/stored          time [J], change of stored energy since t = 0
     /energy/links           time x boundary link [J], heat that entered the nodes through it
-    /energy/sources         time x source [J]
+                            (and /energy/links_names)
+    /energy/sources         time x source [J]   (and /energy/sources_names)
     /liquid_fraction        time x phase-change node [-] (when there are any)
     /sol_air                time x exposed surface [degC] (when there are any; root attr
                             surfaces: JSON {surface: node})
@@ -18,6 +21,12 @@ File layout (HDF5)::
     root attrs: rcsim_version, scenario (source text), solver, energy_balance (the relative
                 closure error), caution (what a simulation is and is not), created,
                 stats (JSON: the run's statistics, see rcsim.runinfo.RunInfo), ...
+
+Every 2-D series has its column names in a dataset ``<series>_names`` (any number and length of
+names) and, while they fit in 32 KiB, also in the series' attribute ``names`` (the only place
+files written before the datasets existed have them; an HDF5 attribute is limited to 64 KiB, too
+small for the names of a 100,000-node run). Readers take the dataset when there is one, else the
+attribute.
 
 A file is written to a temporary name in the same folder and renamed when complete, so a crash
 never leaves a half-written file under the requested name. Long runs stream their chunks to the
@@ -37,7 +46,8 @@ from .base import package_version, suggest
 from .caution import CAUTION
 from .errors import DataError
 # the recording machinery lives in rcsim.recording; re-exported for older imports
-from .recording import Chunk, H5Sink, MemorySink, Recorder, read_frame, write_frame  # noqa: F401
+from .recording import (Chunk, H5Sink, MemorySink, Recorder, read_frame, read_names,  # noqa: F401
+                        write_frame)
 from .runinfo import RunInfo
 
 __all__ = ["Result", "Recorder", "MemorySink", "H5Sink", "Chunk", "h5_attributes"]
@@ -232,6 +242,7 @@ class Result:
         import h5py  # noqa: F401 - imported by H5Sink
 
         sink = H5Sink(path)
+        sink.reserve(self._array("time").size)
         try:
             for key in ["time"] + _SERIES:
                 arr = self._array(key)
@@ -270,9 +281,9 @@ class Result:
                                     label)
                 names = {}
                 for key in _SERIES:
-                    if key in h5 and "names" in h5[key].attrs:
-                        names[key] = [n.decode("utf-8") if isinstance(n, bytes) else str(n)
-                                      for n in h5[key].attrs["names"]]
+                    found = read_names(h5, key) if key in h5 else None
+                    if found is not None:
+                        names[key] = found
                 meta = {k: (v.decode() if isinstance(v, bytes) else v) for k, v in h5.attrs.items()}
                 meta = {k: (v.item() if hasattr(v, "item") and np.ndim(v) == 0 else v)
                         for k, v in meta.items()}

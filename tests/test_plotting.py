@@ -94,9 +94,11 @@ def test_history_band_limits_and_hold_time_marker(box):
     marker = d.markers["payload"]
     assert seconds(d, marker)[0] == pytest.approx(hold, rel=1e-12)
     assert marker.get_ydata()[0] == hi
-    # ... which is on the drawn payload curve (linear between samples, as limits.py assumes)
+    # ... which is on the drawn payload curve: the hold time is located on the solution itself
+    # (limits.py), the curve is drawn straight between samples, so they meet within the chord's
+    # sag over one 5-minute sample (a few 1e-5 K here)
     line = d.lines["payload"]
-    assert np.interp(hold, seconds(d, line), line.get_ydata()) == pytest.approx(hi, abs=1e-9)
+    assert np.interp(hold, seconds(d, line), line.get_ydata()) == pytest.approx(hi, abs=1e-3)
     labels = [t.get_text() for t in d.ax.texts]
     assert any("hold time 8 h 47 min" in s for s in labels), labels  # 31592.8 s = 8 h 46.5 min
 

@@ -101,7 +101,7 @@ def _header(sc, res) -> list[str]:
              f"steps, {len(res.time)} samples, start {res.meta.get('initial')}, "
              f"solver {res.solver}, {info.wall_time:.3g} s"]
     for path, why in info.declined.items():
-        if path != "exact":   # a nonlinear network is not news
+        if path not in ("exact", "large-linear"):   # a nonlinear network is not news
             lines.append(f"  (the {path} path declined: {why})")
     return lines
 

@@ -29,11 +29,52 @@ def to_si(value, kind: str, where: str | None = None) -> float:
     return convert(value, kind, where)
 
 
-def to_si_array(values, kind: str, where: str | None = None) -> np.ndarray:
-    """:func:`rcsim.units.to_si_array`, imported when a profile is bound."""
-    from ..units import to_si_array as convert
+#: Kinds whose plain numbers are SI already and need no lower bound (levels, not sizes).
+_PLAIN_KINDS = ("time", "temperature", "temperature_difference", "power")
 
-    return convert(values, kind, where)
+
+def to_si_array(values, kind: str, where: str | None = None) -> np.ndarray:
+    """:func:`rcsim.units.to_si_array` (imported when a profile is bound), vectorised: plain
+    numbers are checked as one array, strings with units are converted once per distinct
+    string. A bad entry gives the same one-line error as converting it alone (naming its index).
+    """
+    from ..units import MAX_MAGNITUDE, to_si_array as convert
+
+    if kind not in _PLAIN_KINDS or isinstance(values, (str, bytes)) or \
+            not hasattr(values, "__iter__"):
+        return convert(values, kind, where)
+    if not isinstance(values, (list, tuple, np.ndarray)):
+        values = list(values)
+    if isinstance(values, np.ndarray):
+        numbers = values if values.dtype.kind in "fiu" else None
+    elif any(type(v) is bool or isinstance(v, np.bool_) for v in values):
+        numbers = None
+    else:
+        try:
+            numbers = np.asarray(values)
+        except (TypeError, ValueError):
+            return convert(values, kind, where)
+        if numbers.dtype.kind not in "fiuU" or numbers.ndim != 1:
+            return convert(values, kind, where)
+        if numbers.dtype.kind == "U":
+            return _strings_to_si(numbers, kind, where)
+    if numbers is None:
+        return convert(values, kind, where)
+    out = np.asarray(numbers, dtype=float).ravel()
+    bad = ~np.isfinite(out) | (np.abs(out) > MAX_MAGNITUDE)
+    if bad.any():          # the per-value conversion says what is wrong, and where
+        i = int(np.argmax(bad))
+        to_si(values[i], kind, f"{where}[{i}]" if where else f"[{i}]")
+    return out
+
+
+def _strings_to_si(texts: np.ndarray, kind: str, where: str | None) -> np.ndarray:
+    """Strings (with units) to SI floats, one conversion per distinct string."""
+    distinct, first, inverse = np.unique(texts, return_index=True, return_inverse=True)
+    converted = np.empty(distinct.size)
+    for j, (text, i) in enumerate(zip(distinct.tolist(), first.tolist())):
+        converted[j] = to_si(text, kind, f"{where}[{i}]" if where else f"[{i}]")
+    return converted[inverse.ravel()]
 
 
 class Profile:

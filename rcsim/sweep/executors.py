@@ -91,6 +91,9 @@ def _init_worker(job):  # pragma: no cover - runs in the worker processes
     import signal
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    from ..threads import worker_setup
+
+    worker_setup()                  # one BLAS thread per worker (rcsim.threads)
     _WORKER_JOB[:] = [job]
 
 

@@ -18,6 +18,7 @@ from ..profiles import common_period
 from ..recording import H5Sink, MemorySink, Recorder
 from ..results import Result, h5_attributes
 from ..runinfo import RunInfo
+from ..threads import kernels
 from .base import NotSuitable, Progress
 from .exact import CHUNK_ELEMENTS  # noqa: F401 (older imports)
 from .periodic import periodic_start
@@ -86,12 +87,20 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
              rtol=1e-6, atol=1e-6, progress=None, start_time=None, scenario_text=None,
              times=None) -> Result:
     """Integrate ``network`` over [0, duration]; see :meth:`rcsim.Network.simulate`."""
+    with kernels():                  # rcsim's own number of BLAS threads (rcsim.threads)
+        return _simulate(network, duration, step, initial=initial, solver=solver, record=record,
+                         output=output, rtol=rtol, atol=atol, progress=progress,
+                         start_time=start_time, scenario_text=scenario_text, times=times)
+
+
+def _simulate(network, duration, step, *, initial, solver, record, output, rtol, atol, progress,
+              start_time, scenario_text, times) -> Result:
     wall0 = _time.perf_counter()
     problem = build_problem(network, duration, step, initial=initial, solver=solver,
                             record=record, rtol=rtol, atol=atol, times=times)
     candidates, declined = choose_paths(problem, solver)
     sink = H5Sink(output) if output is not None else MemorySink()
-    recorder = Recorder(problem.asm, problem.plan, sink)
+    recorder = Recorder(problem.asm, problem.plan, sink, samples=problem.times.size)
     try:
         path, stats = run_problem(problem, candidates, declined, recorder, Progress(progress),
                                   solver)

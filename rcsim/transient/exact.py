@@ -74,11 +74,24 @@ def phi_functions(x):
 _E3_COEFFS = [(-1.0) ** m / math.factorial(m + 3) for m in range(_SERIES_TERMS)]
 
 
+#: Terms of the E3 series needed below each bound of |x| (the first neglected term, at most
+#: |x|^m / (m + 3)!, under 1e-18 of E3 >= 1/24 there)
+_E3_TERMS = [(bound, next(m for m in range(1, _SERIES_TERMS + 1)
+                          if bound ** m / math.factorial(m + 3) < 1e-18 / 24))
+             for bound in (1e-4, 1e-3, 1e-2, 0.1, 0.3, 1.0)]
+
+
 def _series3(x):
-    """E3(x) by Horner's rule on its Taylor series (|x| < 1)."""
-    out = np.full(np.shape(x), _E3_COEFFS[-1])
-    for c in reversed(_E3_COEFFS[:-1]):
-        out = out * x + c
+    """E3(x) by Horner's rule on its Taylor series (|x| < 1), with as many terms as the
+    largest |x| needs."""
+    x = np.asarray(x, dtype=float)
+    top = float(np.abs(x).max(initial=0.0))
+    terms = next((m for bound, m in _E3_TERMS if top <= bound), _SERIES_TERMS)
+    coeffs = _E3_COEFFS[:terms]
+    out = np.full(np.shape(x), coeffs[-1])
+    for c in reversed(coeffs[:-1]):
+        out *= x
+        out += c
     return out
 
 
@@ -222,6 +235,8 @@ class ExactPropagator:
         self.n_inputs = len(self.profiles)
         self._phi_cache: dict = {}
         self._sines = [(i, s) for i, p in enumerate(self.profiles) for s in p.sines()]
+        #: (input column, (amplitude, omega, phase)) of every sinusoid of the inputs
+        self.sines = self._sines
 
     def phi(self, h: float):
         """E0..E3 of lambda * h for one interval length (cached: chunks repeat the same h)."""

@@ -12,7 +12,9 @@ from ..errors import InputError
 from ..recording import Chunk
 from ..runinfo import RunStats
 from ..statespace import state_space
+from ..threads import kernels
 from .base import EXACT_LIMIT, Progress, TransientPath
+from .exact_chunks import ModalEvaluator, ModalRunner
 
 __all__ = ["ExactPath", "exact_declines", "EXACT_LIMIT"]
 
@@ -60,10 +62,11 @@ class ExactPath(TransientPath):
 
     def temperatures_at(self, problem, nodes) -> np.ndarray:
         """The modes propagated straight to the output times (no flows, energies or limits)."""
-        prop = problem.propagator
-        A, D = prop.output_maps(np.asarray(nodes))
-        Z = prop.states_at(problem.times, self._modal_start(problem))
-        return Z @ A.T + prop.inputs_at(problem.times) @ D.T
+        with kernels():          # fits call this directly: rcsim's threads (rcsim.threads)
+            prop = problem.propagator
+            A, D = prop.output_maps(np.asarray(nodes))
+            Z = prop.states_at(problem.times, self._modal_start(problem))
+            return Z @ A.T + prop.inputs_at(problem.times) @ D.T
 
     def run(self, problem, recorder, progress: Progress) -> RunStats:
         prop = problem.propagator
@@ -81,6 +84,7 @@ class ExactPath(TransientPath):
         q_store = prop.V.T @ ss.C                    # stored energy = q . z  (massive nodes)
         stored0 = float(z0 @ q_store)
         S = prop.n_inputs - M
+        runner = ModalRunner(prop, A_out, D_out, A_e, D_e, q_store)
 
         w0 = prop.inputs_at(t_out[:1])
         recorder.add(Chunk(t_out[:1], z0[None, :] @ A_out.T + w0 @ D_out.T, w0[:, :M],
@@ -88,21 +92,29 @@ class ExactPath(TransientPath):
         e_links = np.zeros(nb)
         e_src = np.zeros(S)
         N = t_out.size - 1
-        for k0, k1, Z, Zint, U in prop.chunks(t_out, z0):
+        length = prop.chunk_length()
+        k0, z = 0, z0
+        while k0 < N:
+            k1 = min(N, k0 + length)
             tt = t_out[k0:k1 + 1]
-            w = prop.inputs_at(tt[1:])
-            T = Z @ A_out.T + w @ D_out.T
+            ch = runner.chunk(tt, z, k0, recorder.output_slot(k1 - k0))
+            w, U = ch.w, ch.U
             if nb:
-                int_T = Zint @ A_e.T + U @ D_e.T
-                inc = (e_g[None, :] * (U[:, e_b] - int_T)) @ to_links
-                cum_links = e_links[None, :] + np.cumsum(inc, axis=0)
+                inc = (e_g[None, :] * (U[:, e_b] - ch.int_Te)) @ to_links
+                cum_links = np.cumsum(inc, axis=0)
+                cum_links += e_links[None, :]
                 e_links = cum_links[-1].copy()
             else:
                 cum_links = np.zeros((k1 - k0, 0))
-            cum_src = e_src[None, :] + np.cumsum(U[:, M:], axis=0)
+            cum_src = np.cumsum(U[:, M:], axis=0)
+            cum_src += e_src[None, :]
             if S:
                 e_src = cum_src[-1].copy()
-            recorder.add(Chunk(tt[1:], T, w[:, :M], w[:, M:], cum_links, cum_src,
-                               Z @ q_store - stored0))
+            evaluate = ModalEvaluator(prop, A_out, D_out, tt, z, ch.Z) \
+                if recorder.tracker is not None else None
+            recorder.add(Chunk(tt[1:], ch.T, w[:, :M], w[:, M:], cum_links, cum_src,
+                               ch.stored - stored0, evaluate=evaluate))
+            z = ch.Z[:, -1].copy()
+            k0 = k1
             progress(k1 / N)
         return RunStats(modes=int(prop.lam.size), samples=int(t_out.size))

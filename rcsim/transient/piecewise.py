@@ -247,6 +247,7 @@ class PiecewiseSolver:
             else None
         hit_times = []
         pending = []
+        self.event_pieces = []           # the partial intervals up to each event (evaluators)
         chunk = 1024 if hints is None else MAX_RUN
         # with nonlinear links every sweep pays for every event, and each switch puts a kink in
         # the links' flows that the grid must resolve: many switches make the stiff path cheaper
@@ -346,6 +347,8 @@ class PiecewiseSolver:
         t_hit, which = locate_event(reg, run.s[k], run.h[k], zk, run.FR[k], dF, run.vals[k], dips)
         tau = t_hit - run.s[k]
         Iz, z_hit = reg.partial(run.s[k], tau, run.h[k], zk, run.FR[k], dF)
+        self.event_pieces.append((reg, run.s[k:k + 1], np.array([t_hit]), run.h[k:k + 1],
+                                  zk[None, :], run.FR[k:k + 1], dF[None, :]))
         self._accumulate(reg, (Iz @ reg.V.T)[None, :], np.array([tau]), j + k, IntT, IntP)
         return t_hit, reg.V @ z_hit, which
 
@@ -395,6 +398,8 @@ class PiecewiseSolver:
     def _finish_integrals(self):
         """State and thermostat-power integrals of the last sweep (IntT, IntP), completed."""
         pending, IntT, IntP = self._pending
+        self.last_pieces = [(p.reg, p.s[:-1], p.s[1:], p.h, p.zprev, p.FR, p.dF)  # evaluators
+                            for p in pending] + list(self.event_pieces)
         for p in pending:
             e1, e2, e3 = p.phi
             hk = p.h[:, None]

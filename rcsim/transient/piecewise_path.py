@@ -8,6 +8,7 @@ import numpy as np
 from ..profiles import common_period
 from ..runinfo import RunStats
 from .base import PIECEWISE_STATES, Progress, TransientPath
+from .dense_eval import PiecewiseEvaluator, WatchedColumns
 from .output import OutputMap, chunk_from_states, extras_of, thermostat_table
 from .piecewise import PIECEWISE_ELEMENTS, PiecewiseSolver
 
@@ -52,9 +53,14 @@ class PiecewisePath(TransientPath):
         out_map = OutputMap(model, recorder.out_nodes)
         extras_fn = extras_of(model)
         t_out = problem.times
+        watched = WatchedColumns(model.ss, recorder.out_nodes, recorder.limit_cols)
+        evaluate = PiecewiseEvaluator(solver.last_pieces, watched, model) \
+            if watched and getattr(solver, "last_pieces", None) else None
         for k0 in range(0, rows.size, _CHUNK):
-            recorder.add(chunk_from_states(model, t_out[k0:k0 + _CHUNK],
-                                           Y[rows[k0:k0 + _CHUNK]], H0_sum, out_map, extras_fn))
+            chunk = chunk_from_states(model, t_out[k0:k0 + _CHUNK], Y[rows[k0:k0 + _CHUNK]],
+                                      H0_sum, out_map, extras_fn)
+            chunk.evaluate = evaluate     # band crossings located on the closed forms
+            recorder.add(chunk)
         progress(1.0)
         if model.controllers:
             recorder.tables["thermostats"] = thermostat_table(model.controllers, t_out, recorder)

@@ -19,7 +19,7 @@ __all__ = ["PathEntry", "PATHS", "AUTO", "SOLVERS", "check_solver", "solver_help
            "EXACT_LIMIT", "PIECEWISE_STATES"]
 
 #: The exact path takes linear networks of up to this many states (dense eigenproblem; above it
-#: the stiff path is faster). The one threshold of the exact-or-not decision, for runs and fits.
+#: the large-linear path is faster). The one threshold of the exact-or-not decision, for runs and fits.
 EXACT_LIMIT = 2000
 #: The piecewise-exact path takes networks of up to this many states (dense eigenproblems per
 #: regime).
@@ -57,6 +57,10 @@ class PathEntry:
 PATHS: dict[str, PathEntry] = {entry.name: entry for entry in (
     PathEntry("exact", f"linear networks up to {EXACT_LIMIT} states: every mode in closed form, "
               "exact at any output step", "rcsim.transient.exact_path", "ExactPath"),
+    PathEntry("large-linear", f"linear networks above {EXACT_LIMIT} states (any size when "
+              "asked for): an L-stable third-order implicit method with step doubling, one "
+              "sparse factorisation per step length", "rcsim.transient.large_linear",
+              "LargeLinearPath"),
     PathEntry("piecewise", f"nonlinear networks up to {PIECEWISE_STATES} states: closed form "
               "between phase-change and thermostat events, waveform relaxation for radiation "
               "and film correlations", "rcsim.transient.piecewise_path", "PiecewisePath"),
@@ -83,7 +87,7 @@ def check_solver(name, where: str = "solver", error=InputError) -> str:
     >>> check_solver("stif")
     Traceback (most recent call last):
     ...
-    rcsim.errors.InputError: solver: solver must be one of 'auto', 'exact', 'piecewise', 'stiff', got 'stif' (did you mean 'stiff'?)
+    rcsim.errors.InputError: solver: solver must be one of 'auto', 'exact', 'large-linear', 'piecewise', 'stiff', got 'stif' (did you mean 'stiff'?)
     """
     if name not in SOLVERS:
         raise error(f"solver must be one of {', '.join(map(repr, SOLVERS))}, got {name!r}",

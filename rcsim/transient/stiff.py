@@ -18,6 +18,7 @@ from ..errors import SolverError
 from ..profiles import common_period
 from ..runinfo import RunStats
 from .base import Progress, TransientPath
+from .dense_eval import StiffEvaluator, WatchedColumns, chebyshev_piece
 # the energy-form model and the output mapping live in their own modules; re-exported here for
 # older imports
 from .energy_model import DENSE_STATES, EnergyModel, StiffModel, jump_times  # noqa: F401
@@ -28,12 +29,15 @@ __all__ = ["StiffPath", "run_stiff", "Switching", "StiffModel", "EnergyModel", "
 
 
 def run_stiff(model: EnergyModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol: float,
-              atol: float, progress=None, record_every: int | None = None, H0=None) -> dict:
+              atol: float, progress=None, record_every: int | None = None, H0=None,
+              dense_steps: list | None = None, dense_rows=None) -> dict:
     """Integrate from ``Tm0`` (or the stored energies ``H0``, which also say how far a pack at
     its melting point has melted) over ``t_out`` and hand chunks of samples to ``emit``.
 
     ``emit(t, Y)`` receives consecutive samples (rows of full solver states). Returns the
-    counts of steps, restarts, switching events and LU decompositions.
+    counts of steps, restarts, switching events and LU decompositions. With ``dense_steps``
+    (a list), each step's polynomial of the states ``dense_rows`` is appended to it
+    (:func:`.dense_eval.chebyshev_piece`) before its samples are emitted.
     """
     T_end = float(t_out[-1])
     if record_every is None:  # keep the buffer of full states near 40 MB at most
@@ -76,6 +80,10 @@ def run_stiff(model: EnergyModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol
                 # switching events of on/off thermostats, along the whole step
                 t_hit = switching.first(dense, t_old, t_new) if switching else None
                 t_limit = t_hit[0] if t_hit is not None else t_new
+                if dense_steps is not None:
+                    piece = chebyshev_piece(dense, t_old, t_new, dense_rows)
+                    dense_steps.append(piece + [(t_old, t_new)] if t_hit is None else
+                                       [t_old, t_limit, piece[2], (t_old, t_new)])
                 k2 = k_next
                 while k2 < t_out.size and t_out[k2] <= t_limit:
                     k2 += 1
@@ -213,11 +221,18 @@ class StiffPath(TransientPath):
         for c in model.controllers:
             c.reset(0.0, Tm0)
 
+        watched = WatchedColumns(model.ss, recorder.out_nodes, recorder.limit_cols)
+        pieces = [] if watched else None
+
         def emit(t, Y):
-            recorder.add(chunk_from_states(model, t, Y, H0_sum, out_map, extras_fn))
+            chunk = chunk_from_states(model, t, Y, H0_sum, out_map, extras_fn)
+            if pieces:             # band crossings located on the steps' polynomials
+                chunk.evaluate = StiffEvaluator(list(pieces), watched, model)
+                pieces[:] = pieces[-1:]
+            recorder.add(chunk)
 
         stats = run_stiff(model, problem.times, Tm0, emit, problem.rtol, problem.atol, progress,
-                          H0=H0)
+                          H0=H0, dense_steps=pieces, dense_rows=watched.watch)
         stats.nfev, stats.njev = model.nfev, model.njev   # the periodic start's included
         if model.controllers:
             recorder.tables["thermostats"] = thermostat_table(model.controllers, problem.times,

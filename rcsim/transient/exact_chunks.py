@@ -1,0 +1,274 @@
+"""The exact path's run loop: modes advanced chunk by chunk in *modes-major* layout, with the
+fewest passes over memory, and an evaluator of the solution between samples.
+
+Per chunk of c output intervals of one length h (the bulk of any run on a regular grid whose
+input knots fall on output times), with the n modes as rows and time along each row:
+
+* the inputs' piecewise-linear parts and sines at the output times form a few rows ``X``
+  (K = 2 inputs + 2 sines rows), and the modal forcing is one product ``G = M_g X`` (n x c);
+* the recurrence ``z[k+1] = exp(-lam h) z[k] + G[k]`` runs along the rows in blocks of 16: a
+  batched product with a triangular matrix of powers per mode, block ends chained one level up
+  (:func:`modes_major_recurrence`); no Python loop over samples or modes;
+* temperatures of the output nodes are one product ``A Z + D w`` (nodes x c): column-major
+  samples, handed to the recorder without a transposing copy;
+* the energy through the boundary links needs the time integral of the temperatures at the
+  boundary segments only: it is projected first (``A_e`` times the state-integral kernels), so
+  the full state integral (n x c) is never formed;
+* the stored energy is one product ``q Z``.
+
+Chunks with an input knot inside an output interval (a step between two samples) or with
+intervals of several lengths take the general closed form of
+:meth:`~rcsim.transient.exact.ExactPropagator.propagate` (row-major) instead: same numbers.
+
+:class:`ModalEvaluator` gives the recorded temperatures at any time inside a chunk, in closed
+form (the state at the sample before, advanced over the sub-interval; input knots inside it are
+stepped over exactly); the limit tracker uses it to locate band crossings.
+"""
+
+from __future__ import annotations
+
+from typing import NamedTuple
+
+import numpy as np
+
+from .exact import phi_functions
+from .inputs import input_values, linear_parts
+
+__all__ = ["ModalChunk", "ModalRunner", "ModalEvaluator", "modes_major_recurrence"]
+
+_BLOCK = 16
+
+
+def _block_matrix(a: np.ndarray, L: int):
+    """(powers (n, L+1): a^0..a^L, triangular (n, L, L) with [i, j] = a^(j-i) for j >= i)."""
+    powers = a[:, None] ** np.arange(L + 1)[None, :]
+    lag = np.arange(L)[None, :] - np.arange(L)[:, None]          # j - i
+    tri = np.where(lag[None] >= 0, powers[:, np.clip(lag, 0, None)], 0.0)
+    return powers, tri
+
+
+def modes_major_recurrence(a: np.ndarray, G: np.ndarray, z0: np.ndarray, cache=None,
+                           depth: int = 0):
+    """Solve ``z[:, k+1] = a * z[:, k] + G[:, k]`` (a per row) for k = 0..N-1; returns the
+    states z[:, 1..N] as an (n, N) array. ``G`` is (n, N): modes as rows.
+
+    Blocks of 16 samples are one batched product with a triangular matrix of powers of ``a``
+    per mode; the block ends are chained by the same recurrence one level up. ``cache`` (a
+    dict, emptied by the caller when ``a`` changes) keeps those matrices for every level.
+
+    >>> modes_major_recurrence(np.array([0.5]), np.ones((1, 3)), np.array([0.0])).tolist()
+    [[1.0, 1.5, 1.75]]
+    """
+    n, N = G.shape
+    if N == 0:
+        return np.empty((n, 0))
+    L = _BLOCK if N > _BLOCK else N
+    nb = -(-N // L)
+    if nb * L != N:
+        G = np.concatenate([G, np.zeros((n, nb * L - N))], axis=1)
+    factors = None if cache is None else cache.get((depth, L))
+    if factors is None:
+        factors = _block_matrix(a, L)
+        if cache is not None:
+            cache[(depth, L)] = factors
+    powers, tri = factors
+    Y = np.matmul(G.reshape(n, nb, L), tri)                      # (n, nb, L) from zero start
+    if nb == 1:
+        starts = z0[:, None]
+    else:
+        ends = modes_major_recurrence(powers[:, L].copy(), Y[:, :, L - 1], z0, cache,
+                                      depth + 1)                 # (n, nb)
+        starts = np.concatenate([z0[:, None], ends[:, :-1]], axis=1)
+    Y += powers[:, None, 1:] * starts[:, :, None]
+    out = Y.reshape(n, nb * L)
+    return out[:, :N] if nb * L != N else out
+
+
+class ModalChunk(NamedTuple):
+    """One chunk of the exact run over output intervals t[k0]..t[k1]."""
+
+    k0: int
+    k1: int
+    T: np.ndarray          # (c, out nodes) temperatures [degC] at t[k0+1..k1], column-major
+    w: np.ndarray          # (c, inputs) input values there
+    int_Te: np.ndarray     # (c, boundary segments) time integral of their node temperatures
+    U: np.ndarray          # (c, inputs) time integral of each input over each interval
+    stored: np.ndarray     # (c,) stored energy q . z [J]
+    Z: np.ndarray          # (n, c) modal states at t[k0+1..k1] (modes as rows)
+
+
+class ModalRunner:
+    """Runs a linear network's modes over output times, chunk by chunk (see the module text).
+
+    Parameters
+    ----------
+    prop : rcsim.transient.exact.ExactPropagator
+    A_out, D_out : output maps of the recorded nodes (``T = A z + D w``)
+    A_e, D_e : output maps of the nodes at the boundary segments (their time integrals)
+    q_store : (n,) stored energy per unit modal state
+    """
+
+    def __init__(self, prop, A_out, D_out, A_e, D_e, q_store):
+        self.prop = prop
+        self.A_out, self.D_out = np.ascontiguousarray(A_out), np.ascontiguousarray(D_out)
+        self.A_e, self.D_e = A_e, D_e
+        self.q = q_store
+        self.profiles = prop.profiles
+        self._factors: dict = {}
+        self._h = None
+
+    def _set_step(self, h: float) -> None:
+        """Per-mode factors of one interval length: forcing and projected state-integral maps."""
+        if self._h == h:
+            return
+        prop, lam, W = self.prop, self.prop.lam, self.prop.W
+        e0, e1, e2, e3 = phi_functions(h * lam)
+        cols_g = [W * (h * e1)[:, None], W * (h * e2)[:, None]]         # (n, I) each
+        cols_h = [W * (h * h * e2)[:, None], W * (h * h * e3)[:, None]]
+        for i, (amp, om, ph) in prop.sines:
+            den = lam + 1j * om
+            eh = np.exp(1j * om * h)
+            c = amp * W[:, i] * (eh - e0) / den
+            c2 = amp * W[:, i] * ((eh - 1.0) / (1j * om) - h * e1) / den
+            cols_g.append(np.column_stack([c.real, c.imag]))
+            cols_h.append(np.column_stack([c2.real, c2.imag]))
+        self.M_g = np.ascontiguousarray(np.hstack(cols_g))               # (n, K)
+        self.M_he = self.A_e @ np.hstack(cols_h)                         # (segments, K)
+        self.A_he = self.A_e * (h * e1)[None, :]                         # decay of start state
+        self.a = e0
+        self._h = h
+        self._factors = {}
+
+    def _rows(self, tt: np.ndarray):
+        """The rows X (K, c) of the forcing, input values at tt[1:] and integrals U (c, I)."""
+        profiles = self.profiles
+        c = tt.size - 1
+        I = len(profiles)
+        right = linear_parts(profiles, tt, "right")                      # (c+1, I)
+        left = linear_parts(profiles, tt[1:], "left")                    # (c, I)
+        K = 2 * I + 2 * len(self.prop.sines)
+        X = np.empty((K, c))
+        X[:I] = right[:-1].T
+        X[I:2 * I] = (left - right[:-1]).T
+        w = right[1:].copy()
+        U = 0.5 * (tt[1:] - tt[:-1])[:, None] * (right[:-1] + left)
+        row = 2 * I
+        for i, (amp, om, ph) in self.prop.sines:
+            arg = om * tt + ph
+            sn, cs = np.sin(arg), np.cos(arg)
+            X[row], X[row + 1] = sn[:-1], cs[:-1]
+            w[:, i] += amp * sn[1:]
+            U[:, i] += amp / om * (cs[:-1] - cs[1:])
+            row += 2
+        return X, w, U
+
+    def _uniform(self, tt: np.ndarray) -> float | None:
+        """The common interval length when the chunk is regular and no input knot falls
+        strictly inside an interval, else None (the general closed form then runs)."""
+        h = np.diff(tt)
+        h0 = float(h[0])
+        if np.any(np.abs(h - h0) > 1e-12 * h0):
+            return None
+        for p in self.profiles:
+            kn = p.knots(float(tt[0]), float(tt[-1]))
+            if kn.size:
+                at = np.searchsorted(tt, kn)
+                hit = np.minimum(at, tt.size - 1)
+                if np.any(np.abs(tt[hit] - kn) > 1e-12 * h0):
+                    return None
+        return h0
+
+    def _outputs(self, Z, w, out):
+        """Temperatures (c, out nodes) = (A Z + D w^T)^T, column-major, into ``out`` if given."""
+        T_t = np.empty((self.A_out.shape[0], Z.shape[1])) if out is None else out.T
+        np.matmul(self.A_out, Z, out=T_t)
+        T_t += self.D_out @ w.T
+        return T_t.T
+
+    def chunk(self, tt: np.ndarray, z0: np.ndarray, k0: int, out=None) -> ModalChunk:
+        """Advance from ``z0`` at tt[0] over the intervals of ``tt``; the temperatures go into
+        ``out`` ((c, out nodes), column-major) when given."""
+        h0 = self._uniform(tt)
+        if h0 is None:
+            return self._general(tt, z0, k0, out)
+        self._set_step(h0)
+        X, w, U = self._rows(tt)
+        G = self.M_g @ X                                                 # (n, c)
+        Z = modes_major_recurrence(self.a, G, z0, self._factors)
+        T = self._outputs(Z, w, out)                                     # column-major
+        # integral of the boundary segments' node temperatures over each interval
+        int_e = self.M_he @ X + self.D_e @ U.T
+        int_e[:, 0] += self.A_he @ z0
+        if Z.shape[1] > 1:
+            int_e[:, 1:] += self.A_he @ Z[:, :-1]
+        return ModalChunk(k0, k0 + tt.size - 1, T, w, int_e.T, U, self.q @ Z, Z)
+
+    def _general(self, tt, z0, k0, out=None) -> ModalChunk:
+        """Any grid, knots anywhere: the row-major closed form of the propagator."""
+        Zr, Zint, U = self.prop.propagate(tt, z0)
+        w = input_values(self.profiles, tt[1:])
+        Z = np.ascontiguousarray(Zr.T)
+        T = self._outputs(Z, w, out)
+        int_e = Zint @ self.A_e.T + U @ self.D_e.T
+        return ModalChunk(k0, k0 + tt.size - 1, T, w, int_e, U, Zr @ self.q, Z)
+
+
+class ModalEvaluator:
+    """Temperatures of output columns at any times inside one chunk, in closed form.
+
+    Parameters
+    ----------
+    prop : ExactPropagator
+    A_out, D_out : output maps of the chunk's columns
+    tt : (c+1,) the sample before the chunk and the chunk's samples [s]
+    z_first : (n,) modal state at tt[0]; Z : (n, c) states at tt[1:]
+    """
+
+    def __init__(self, prop, A_out, D_out, tt, z_first, Z):
+        self.prop, self.A, self.D = prop, A_out, D_out
+        self.tt, self.z_first, self.Z = tt, z_first, Z
+
+    def state(self, k: int) -> np.ndarray:
+        return self.z_first if k == 0 else self.Z[:, k - 1]
+
+    def __call__(self, times, columns) -> np.ndarray:
+        times = np.asarray(times, dtype=float)
+        columns = np.asarray(columns, dtype=np.int64)
+        tt, prop = self.tt, self.prop
+        k = np.clip(np.searchsorted(tt, times, side="right") - 1, 0, tt.size - 2)
+        z = np.empty((times.size, prop.lam.size))
+        plain = np.ones(times.size, dtype=bool)
+        for kk in np.unique(k):                 # intervals with a knot inside: stepped exactly
+            t0, t1 = float(tt[kk]), float(tt[kk + 1])
+            if any(p.knots(t0, t1).size for p in prop.profiles):
+                for q in np.flatnonzero(k == kk):
+                    if times[q] > t0:
+                        z[q] = prop.propagate(np.array([t0, times[q]]), self.state(kk))[0][0]
+                    else:
+                        z[q] = self.state(kk)
+                    plain[q] = False
+        q = np.flatnonzero(plain)
+        if q.size:
+            z[q] = self._advance(k[q], times[q])
+        w = input_values(prop.profiles, times)
+        return np.einsum("qn,qn->q", z, self.A[columns]) + np.einsum("qi,qi->q", w,
+                                                                     self.D[columns])
+
+    def _advance(self, k, times) -> np.ndarray:
+        """States at ``times`` from the samples tt[k], no knot in between (vectorised)."""
+        prop, tt = self.prop, self.tt
+        lam, W = prop.lam, prop.W
+        t0 = tt[k]
+        s = (times - t0)[:, None]
+        zk = np.stack([self.state(int(i)) for i in k])
+        e0, e1, e2, _ = phi_functions(s * lam[None, :])
+        right = linear_parts(prop.profiles, t0, "right")                 # (q, I)
+        left = linear_parts(prop.profiles, tt[k + 1], "left")
+        h = (tt[k + 1] - t0)[:, None]
+        slope = (left - right) / h
+        z = e0 * zk + s * (e1 * (right @ W.T) + e2 * s * (slope @ W.T))
+        for i, (amp, om, ph) in prop.sines:
+            rot = np.exp(1j * (om * t0 + ph))[:, None]
+            resp = amp * W[:, i][None, :] * (np.exp(1j * om * s) - e0) / (lam + 1j * om)[None, :]
+            z += (rot * resp).imag
+        return z

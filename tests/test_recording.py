@@ -1,0 +1,127 @@
+"""The recording layer and thread control: long name lists in result files (datasets beside
+the 64 KiB-limited attribute), files written the old way, histories preallocated, and the number
+of BLAS threads rcsim's kernels use."""
+
+from __future__ import annotations
+
+import h5py
+import numpy as np
+import pytest
+
+import rcsim
+from rcsim import threads
+from rcsim.recording import H5Sink, MemorySink, names_dataset, read_names
+
+
+def _write(path, names, rows=3):
+    sink = H5Sink(path)
+    sink.reserve(rows)
+    sink.declare("time", [])
+    sink.declare("temperature", names)
+    sink.append("time", np.arange(rows, dtype=float))
+    data = np.arange(rows * len(names), dtype=float).reshape(rows, len(names))
+    sink.append("temperature", np.asfortranarray(data))     # a column-major chunk
+    sink.finish({"rcsim_version": "test"})
+    return data
+
+
+def test_a_hundred_thousand_names_go_to_a_dataset(tmp_path):
+    # an HDF5 attribute must fit in a 64 KiB object header (the HDF5 format's limit): 100,000
+    # names of 11 characters (1.1 MB) could not be stored as one; the dataset holds them
+    names = [f"node{i:07d}" for i in range(100_000)]
+    data = _write(tmp_path / "big.h5", names)
+    with h5py.File(tmp_path / "big.h5", "r") as h5:
+        assert "names" not in h5["temperature"].attrs
+        assert read_names(h5, "temperature") == names
+        np.testing.assert_array_equal(h5["temperature"][()], data)
+    back = rcsim.Result.load(tmp_path / "big.h5")
+    assert list(back.temperatures.columns) == names
+    assert back.temperatures.iloc[2, 99_999] == data[2, 99_999]
+
+
+def test_short_name_lists_keep_the_attribute_for_older_readers(tmp_path):
+    names = ["payload", "air", "wall.1", "pâte"]               # UTF-8 as well
+    _write(tmp_path / "small.h5", names)
+    with h5py.File(tmp_path / "small.h5", "r") as h5:
+        attr = [n.decode("utf-8") for n in h5["temperature"].attrs["names"]]
+        assert attr == names and read_names(h5, "temperature") == names
+
+
+def test_files_written_with_the_attribute_only_are_read(tmp_path, single_node):
+    # the layout before the names datasets: only the attribute 'names' on each series
+    res = single_node().simulate("1 h", "10 min")
+    res.save(tmp_path / "r.h5")
+    with h5py.File(tmp_path / "r.h5", "a") as h5:
+        for key in ("temperature", "heat_flow", "boundary_temperature", "source_power",
+                    "energy/links", "energy/sources"):
+            if names_dataset(key) in h5:
+                del h5[names_dataset(key)]
+    back = rcsim.Result.load(tmp_path / "r.h5")
+    assert list(back.temperatures.columns) == ["x"]
+    assert list(back.heat_flows.columns) == ["skin"]
+    np.testing.assert_array_equal(back.temperatures["x"], res.temperatures["x"])
+
+
+@pytest.mark.slow
+def test_a_run_with_more_names_than_an_attribute_holds_streams_to_a_file(tmp_path):
+    # 7,000 nodes named 'segment_node_<i>' (about 130 KB of names): the run streams to HDF5
+    # (large-linear path) and the file reads back with every name; the solution is checked
+    # against its own steady state (a constant ambient, started there: nothing moves)
+    n = 7000
+    net = rcsim.Network()
+    net.add_boundary("amb", temperature=15.0)
+    for i in range(n):
+        net.add_node(f"segment_node_{i}", capacity=1e3, initial=15.0)
+    for i in range(n - 1):
+        net.add_link(f"segment_node_{i}", f"segment_node_{i + 1}", resistance=0.05)
+    net.add_link("segment_node_0", "amb", resistance=1.0)
+    res = net.simulate("1 h", "10 min", output=tmp_path / "run.h5")
+    assert res.run_info.path == "large-linear"
+    back = rcsim.Result.load(tmp_path / "run.h5")
+    assert list(back.temperatures.columns) == [f"segment_node_{i}" for i in range(n)]
+    np.testing.assert_allclose(back.temperatures.to_numpy(), 15.0, atol=1e-9)
+
+
+def test_memory_histories_are_allocated_once_and_grow_when_a_run_delivers_more():
+    sink = MemorySink()
+    sink.reserve(4)
+    sink.declare("time", [])
+    sink.declare("temperature", ["a", "b"])
+    first = sink.buffers["temperature"].data
+    sink.append("time", np.array([0.0, 1.0, 2.0]))
+    sink.append("temperature", np.array([[0.0, 1.0], [2.0, 3.0], [4.0, 5.0]]))
+    assert sink.buffers["temperature"].data is first                # no reallocation
+    sink.append("time", np.array([3.0, 4.0]))
+    sink.append("temperature", np.array([[6.0, 7.0], [8.0, 9.0]]))   # one more than announced
+    out = sink.arrays()
+    np.testing.assert_array_equal(out["time"], [0, 1, 2, 3, 4])
+    np.testing.assert_array_equal(out["temperature"], np.arange(10.0).reshape(5, 2))
+
+
+def _blas_threads():
+    from threadpoolctl import threadpool_info
+
+    return [p["num_threads"] for p in threadpool_info() if p["user_api"] == "blas"]
+
+
+def test_rcsim_kernels_run_on_the_threads_it_is_told(monkeypatch):
+    monkeypatch.delenv(threads.ENVIRONMENT_VARIABLE, raising=False)
+    assert threads.current() == threads.DEFAULT_THREADS == 1
+    outside = _blas_threads()
+    with threads.kernels():
+        assert set(_blas_threads()) <= {1}
+    assert _blas_threads() == outside                   # the caller's setting is restored
+    monkeypatch.setenv(threads.ENVIRONMENT_VARIABLE, "2")
+    assert threads.current() == 2
+    monkeypatch.setenv(threads.ENVIRONMENT_VARIABLE, "auto")
+    assert threads.current() == "auto"
+    previous = threads.limit(3)
+    try:
+        assert threads.current() == 3                   # limit() wins over the environment
+    finally:
+        threads.limit(previous if previous != "auto" else None)
+    monkeypatch.setenv(threads.ENVIRONMENT_VARIABLE, "many")
+    with pytest.raises(rcsim.InputError, match="RCSIM_THREADS"):
+        threads.current()
+    with pytest.raises(rcsim.InputError, match="whole number"):
+        threads.limit(-2)

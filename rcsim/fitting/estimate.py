@@ -1,5 +1,11 @@
 """The fit procedure: scenario and log in, :class:`FitResult` out (read and check the log, free
-the values, build the model, search from several starts, summarise, warn)."""
+the values, build the model, search from several starts, summarise, warn).
+
+:func:`fit` is also the door to the other fits: several candidate scenarios are compared
+(:func:`rcsim.fitting.compare.compare`), several logs are fitted at once
+(:func:`rcsim.fitting.records.fit_records`), and ``noise="process"`` fits a stochastic model by
+a Kalman filter (:mod:`rcsim.fitting.stochastic`).
+"""
 
 from __future__ import annotations
 
@@ -9,33 +15,41 @@ import warnings
 import numpy as np
 
 from ..errors import DataError, InputError
-from ..scenario import Scenario, load
-from .logs import gap_notes, read_log
+from ..scenario import Scenario
+from .candidates import NOISE_KINDS, FitSpec, read_candidate
+from .holdout import parse_holdout
+from .logs import Log, gap_notes, read_log
 from .model import Model
 from .notes import Notes
-from .parameters import make_parameters
+from .parameters import ParameterSet, make_parameters
 from .problem import Problem, column_weights, search
 from .result import FitResult
 from .summary import summarise
 
-__all__ = ["fit"]
+__all__ = ["fit", "fit_prepared", "issue_warnings", "check_starts", "check_noise"]
 
 
-def fit(scenario, data, free, *, columns=None, ignore=(), bounds=None, sigma=None, time=None,
-        time_unit=None, max_gap=None, starts=4, solver="auto", seed=0) -> FitResult:
-    """Fit freed values of a scenario to a logged record.
+def fit(scenario, data, free=None, *, columns=None, ignore=None, bounds=None, sigma=None,
+        time=None, time_unit=None, max_gap=None, starts=4, solver="auto", seed=0, holdout=None,
+        noise=None, per_record=None, candidates=None, select="bic", lags=None):
+    """Fit freed values of a scenario to a logged record (or several), or compare candidates.
 
     Parameters
     ----------
-    scenario : rcsim.Scenario or path
-        The model; its values are the starting guesses.
-    data : path or pandas.DataFrame
-        The log (see :func:`read_log`).
-    free : list of str
+    scenario : rcsim.Scenario, path, or a list of them
+        The model; its values are the starting guesses. A scenario file may carry a ``[fit]``
+        section (:mod:`rcsim.fitting.candidates`) giving its free keys and bounds. A list (or
+        ``candidates=``) compares several candidate scenarios and returns a
+        :class:`rcsim.fitting.compare.Comparison`.
+    data : path or pandas.DataFrame, or a list of them
+        The log (see :func:`read_log`). Several logs are fitted at once, values shared across
+        them except those in ``per_record``; the result is a
+        :class:`rcsim.fitting.records.JointFit`.
+    free : list of str, optional
         Key paths of the values to fit, e.g. ``["nodes.block.capacity",
-        "links.skin.resistance", "nodes.block.initial"]``.
+        "links.skin.resistance", "nodes.block.initial"]`` (default: the ``[fit]`` section's).
     columns : dict, optional
-        ``{"log column": "node or boundary"}`` for columns not named after one.
+        ``{"log column": "node, boundary or source"}`` for columns not named after one.
     ignore : sequence of str
         Log columns to leave out.
     bounds : dict, optional
@@ -53,10 +67,27 @@ def fit(scenario, data, free, *, columns=None, ignore=(), bounds=None, sigma=Non
         'auto' uses the exact modal path where it applies.
     seed : int
         Seed of the spread of starts.
+    holdout : float or str or pair, optional
+        A span the fit leaves out and scores its prediction on: a fraction at the end (``0.2``)
+        or a time range from the first row (``"20h..24h"``); see :mod:`rcsim.fitting.holdout`.
+    noise : 'measurement' or 'process', optional
+        'measurement' (default): a deterministic model with independent measurement errors
+        (weighted least squares). 'process': a stochastic model with process noise on the
+        states, fitted by maximum likelihood with a Kalman filter (linear networks only; see
+        :mod:`rcsim.fitting.stochastic`).
+    per_record : list of str, optional
+        With several logs: the free values fitted once per log (each record's starting
+        temperature, say); the other free values are shared.
+    candidates : list, optional
+        More candidate scenarios to compare with ``scenario``.
+    select : 'bic', 'aic' or 'holdout'
+        How a comparison selects its candidate.
+    lags : int, optional
+        Lags of the Ljung-Box test of the residuals (default min(10, n // 5)).
 
     Returns
     -------
-    FitResult
+    FitResult, or JointFit (several logs), or Comparison (several candidates)
 
     Raises
     ------
@@ -65,29 +96,113 @@ def fit(scenario, data, free, *, columns=None, ignore=(), bounds=None, sigma=Non
         a log that cannot be placed against ``simulation.start`` (see
         :func:`rcsim.fitting.model.log_offset`).
     """
-    wall0 = _time.perf_counter()
-    sc = scenario if isinstance(scenario, Scenario) else load(scenario)
+    caller = FitSpec(free=_tuple(free), bounds=bounds, per_record=_tuple(per_record),
+                     columns=columns, ignore=_tuple(ignore), sigma=sigma, noise=noise)
+    settings = dict(time=time, time_unit=time_unit, max_gap=max_gap, starts=starts,
+                    solver=solver, seed=seed, holdout=holdout, lags=lags)
+    if candidates is not None or isinstance(scenario, (list, tuple)):
+        from .compare import compare
+
+        pool = list(scenario) if isinstance(scenario, (list, tuple)) else [scenario]
+        return compare(pool + list(candidates or []), data, spec=caller, select=select,
+                       **settings)
+    cand = read_candidate(scenario)
+    spec = cand.spec.over(caller)
+    if isinstance(data, (list, tuple)):
+        from .records import fit_records
+
+        result = fit_records(cand.scenario, list(data), spec, **settings)
+    else:
+        result = fit_scenario(cand.scenario, data, spec, **settings)
+        result.label = cand.label
+    issue_warnings(result, stacklevel=2)
+    return result
+
+
+def _tuple(value):
+    if value is None:
+        return None
+    return (value,) if isinstance(value, str) else tuple(value)
+
+
+def check_starts(starts) -> None:
     if not isinstance(starts, int) or isinstance(starts, bool) or starts < 1:
         raise InputError(f"starts must be a positive whole number, got {starts!r}", "starts")
+
+
+def check_noise(noise) -> str:
+    noise = noise or "measurement"
+    if noise not in NOISE_KINDS:
+        raise InputError(f"noise must be one of {', '.join(map(repr, NOISE_KINDS))}, got "
+                         f"{noise!r}", "noise",
+                         "'process' fits process noise on the states with a Kalman filter")
+    return noise
+
+
+def read_for(sc: Scenario, data, spec: FitSpec, time=None, time_unit=None, max_gap=None) -> Log:
+    """The log ``data`` read and matched to the scenario's nodes, boundaries and sources."""
     asm = sc.network.assemble()
-    log = read_log(data, asm.node_names, asm.boundary_names, columns=columns, ignore=ignore,
-                   time=time, time_unit=time_unit, max_gap=max_gap)
-    params = make_parameters(sc, free, bounds, log)
+    return read_log(data, asm.node_names, asm.boundary_names, columns=spec.columns,
+                    ignore=spec.ignore or (), time=time, time_unit=time_unit, max_gap=max_gap,
+                    sources=asm.source_names)
+
+
+def fit_scenario(sc: Scenario, data, spec: FitSpec, *, time=None, time_unit=None, max_gap=None,
+                 starts=4, solver="auto", seed=0, holdout=None, lags=None) -> FitResult:
+    """One scenario fitted to one log, as ``spec`` says (no warnings issued)."""
+    wall0 = _time.perf_counter()
+    check_starts(starts)
+    noise = check_noise(spec.noise)
+    if spec.per_record:
+        raise InputError("per_record values need several logs", "per_record",
+                         "give a list of logs, or free the values as shared ones")
+    log = read_for(sc, data, spec, time, time_unit, max_gap)
+    params = make_parameters(sc, spec.free, spec.bounds, log)
+    model = Model(sc, log, params, solver)
+    result = fit_prepared(sc, log, params, model, holdout=parse_holdout(holdout, log.time),
+                          sigma=spec.sigma, starts=starts, seed=seed, noise=noise, lags=lags)
+    result.wall_time = _time.perf_counter() - wall0
+    return result
+
+
+def fit_prepared(sc: Scenario, log: Log, params: ParameterSet, model, *, holdout=None,
+                 sigma=None, starts=4, seed=0, noise="measurement", lags=None,
+                 points=None) -> FitResult:
+    """The fit of a scenario whose log, free values and model are ready.
+
+    ``points``: starting points in the fitted coordinates (instead of ``starts`` points made
+    from the scenario's values). Warnings are gathered in the result, not issued.
+    """
     notes = Notes()
     notes.extend(gap_notes(log))
-    model = Model(sc, log, params, solver)
     Y = log.values[log.measured].to_numpy(dtype=float)
     mask = np.isfinite(Y)
+    if holdout is not None:
+        rows = holdout.mask(log.time)
+        if not (mask & rows[:, None]).any():
+            raise DataError(f"no measured value lies in the held-out span ({holdout.describe()})",
+                            log.name, "hold out a span with measurements")
+        mask &= ~rows[:, None]
     n_points = int(mask.sum())
     if n_points <= len(params):
         raise DataError(f"{n_points} measured values cannot determine {len(params)} free "
-                        "values", log.name, "log more data or free fewer values")
+                        "values", log.name, "log more data, hold out less or free fewer values")
     weights = column_weights(sigma, log)
     notes.extend(params.start_from_log(log, Y))
     problem = Problem(model, params, Y, mask, weights)
-    found = search(problem, starts, seed, reweight=sigma is None and len(log.measured) > 1)
-    result = summarise(problem, found, log, sc, notes)
-    result.wall_time = _time.perf_counter() - wall0
+    found = search(problem, starts, seed, reweight=sigma is None and len(log.measured) > 1,
+                   points=points)
+    if noise == "process":
+        from .stochastic import fit_stochastic, single_record
+
+        record = single_record(sc, log, params, model, Y, mask, holdout)
+        return fit_stochastic([record], params, found.best.x, notes, sigma=sigma,
+                              starts=starts, lags=lags)
+    return summarise(problem, found, log, sc, notes, holdout=holdout,
+                     sigma_known=sigma is not None, lags=lags)
+
+
+def issue_warnings(result, stacklevel: int = 2) -> None:
+    """Issue the warnings a fit gathered (each once, with its category)."""
     for text, category in zip(result.warnings, result._categories):
-        warnings.warn(text, category, stacklevel=2)
-    return result
+        warnings.warn(text, category, stacklevel=stacklevel + 1)

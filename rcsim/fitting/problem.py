@@ -19,7 +19,7 @@ from .logs import Log
 from .model import Model
 from .parameters import ParameterSet
 
-__all__ = ["Problem", "Run", "Search", "column_weights", "search"]
+__all__ = ["Problem", "Run", "Search", "column_weights", "search", "run_least_squares"]
 
 #: Residual [K/sigma] given to a trial value the model cannot run.
 PENALTY = 1e6
@@ -125,30 +125,42 @@ class Problem:
         return np.where(np.isfinite(r), r, PENALTY)
 
     def solve(self, x0) -> Run:
-        from scipy.optimize import least_squares
+        return run_least_squares(self, x0)
 
-        lo, hi = self.params.x_limits()
-        x0 = np.clip(np.asarray(x0, dtype=float), lo, hi)
-        res = least_squares(self.residuals, x0, jac=self.jacobian, bounds=(lo, hi),
-                            method="trf", x_scale="jac", ftol=1e-12, xtol=1e-10, gtol=1e-10,
-                            max_nfev=100 * (1 + x0.size))
-        return Run(np.asarray(res.x, dtype=float), float(np.sum(res.fun ** 2)), int(res.status),
-                   str(res.message), int(res.nfev), x0)
+    def reweight(self, x) -> None:
+        """Weight each column by the spread of its own residuals at ``x`` (1 / RMS)."""
+        r = self.residual_matrix(x)
+        spread = np.sqrt(np.nanmean(np.where(self.mask, r, np.nan) ** 2, axis=0))
+        self.set_weights(1.0 / np.maximum(spread, 1e-12))
 
 
-def search(problem: Problem, starts: int, seed, reweight: bool) -> Search:
+def run_least_squares(problem, x0) -> Run:
+    """One trust-region reflective run of ``problem`` (residuals, jacobian, params) from x0."""
+    from scipy.optimize import least_squares
+
+    lo, hi = problem.params.x_limits()
+    x0 = np.clip(np.asarray(x0, dtype=float), lo, hi)
+    res = least_squares(problem.residuals, x0, jac=problem.jacobian, bounds=(lo, hi),
+                        method="trf", x_scale="jac", ftol=1e-12, xtol=1e-10, gtol=1e-10,
+                        max_nfev=100 * (1 + x0.size))
+    return Run(np.asarray(res.x, dtype=float), float(np.sum(res.fun ** 2)), int(res.status),
+               str(res.message), int(res.nfev), x0)
+
+
+def search(problem, starts: int, seed, reweight: bool, points=None) -> Search:
     """Solve from each starting point and keep the best. With ``reweight`` (no sigma given and
     several columns), each column is then weighted by the spread of its own residuals at the
-    optimum and the fit refined from there."""
-    runs = [problem.solve(x0) for x0 in problem.params.starting_points(starts, seed)]
+    optimum and the fit refined from there. ``points`` (fitted coordinates) replace the
+    starting points made from the scenario's values when given."""
+    if points is None:
+        points = problem.params.starting_points(starts, seed)
+    runs = [problem.solve(x0) for x0 in points]
     best = min(runs, key=lambda r: r.cost)
     # other starts that ended elsewhere with about as good a fit (compared under one weighting)
     rivals = sum(1 for rn in runs if rn is not best and rn.cost <= best.cost * 1.01 + 1e-300
                  and np.max(np.abs(rn.x - best.x)) > 0.1)
     if reweight:
-        r = problem.residual_matrix(best.x)
-        spread = np.sqrt(np.nanmean(np.where(problem.mask, r, np.nan) ** 2, axis=0))
-        problem.set_weights(1.0 / np.maximum(spread, 1e-12))
+        problem.reweight(best.x)
         best = problem.solve(best.x)
         runs.append(best)
     return Search(best, runs, rivals)

@@ -1,0 +1,253 @@
+"""A fast model for linear networks whose free values are entries of the matrices themselves.
+
+Identification fits dozens of small structures (:mod:`rcsim.fitting.identify`); rebuilding a
+scenario and its assembly at each trial value would cost most of the time. When every free value
+is a node's ``capacity``, a link's ``resistance`` or ``conductance`` (a link of one part), a
+starting temperature, or a constant boundary temperature or source power, and every input is a
+constant or a log column, the network's matrices follow from the values directly::
+
+    C dT/dt = -K T + B u(t) + P s(t)          (massless nodes eliminated exactly, Kron reduction)
+
+and the inputs are linear between the log's samples, so the exact solution between two samples
+is the first-order-hold discretisation (the input ramps from one sample to the next)::
+
+    x_k+1 = Phi x_k + (G1 - G2) w_k + G2 w_k+1,
+    expm([[A dt, B dt, 0], [0, 0, I], [0, 0, 0]]) = [[Phi, G1, G2], [0, I, I], [0, 0, I]]
+
+with A = -C^-1 K and B = C^-1 [B | P] (one exponential per distinct step). The recurrence over
+the rows is solved at once (:func:`rcsim.fitting.recurrence.linear_recurrence`). This is the
+same linear system the exact modal path solves, with the same inputs; a test checks the two
+agree. :func:`direct_model` says whether a scenario qualifies (otherwise :class:`Model` runs it).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..scenario import Scenario, parse_key_path
+from .logs import Log
+from .model import ModelStats, StateMatrices
+from .parameters import ParameterSet
+from .recurrence import linear_recurrence
+
+__all__ = ["LinearModel", "direct_model"]
+
+
+@dataclass
+class _Role:
+    """Where a free value goes: 'capacity' (node index), 'conductance' (segment, reciprocal when
+    given as a resistance), 'initial' (node index), 'boundary' or 'source' (input column)."""
+
+    what: str
+    index: int
+    reciprocal: bool = False
+
+
+def direct_model(sc: Scenario, log: Log, params: ParameterSet, solver: str = "auto"):
+    """A :class:`LinearModel` when the scenario and its free values qualify, else None."""
+    if solver not in ("auto", "exact"):
+        return None
+    try:
+        return LinearModel(sc, log, params)
+    except _NotDirect:
+        return None
+
+
+class _NotDirect(Exception):
+    """The scenario or a free value does not map onto the matrices directly."""
+
+
+class LinearModel:
+    """Model temperatures at the log's times for the free values (SI), from the matrices.
+
+    The interface of :class:`rcsim.fitting.model.Model`: ``outputs(values, times=None)``,
+    ``state_matrices(values)``, ``fast``, ``stats``, ``solver``.
+    """
+
+    fast = True
+
+    def __init__(self, sc: Scenario, log: Log, params: ParameterSet):
+        net = sc.network
+        asm = net.assemble()
+        if not asm.is_linear or getattr(net, "thermostats", None) or \
+                sc.settings.initial != "given" or asm.internal_of:
+            raise _NotDirect
+        self.sc, self.log, self.params = sc, log, params
+        self.t = log.time
+        self.n_nodes = asm.n_nodes
+        self.node_names = list(asm.node_names)
+        self.capacity = asm.capacity.astype(float).copy()
+        self.initial = asm.initial.astype(float).copy()
+        if np.isnan(self.initial[self.capacity > 0]).any():
+            raise _NotDirect
+        self.seg_a, self.seg_b = asm.seg_a.copy(), asm.seg_b.copy()
+        self.seg_g = asm.seg_g.astype(float).copy()
+        self.source_nodes = np.asarray(asm.source_nodes, dtype=np.int64)
+        self.n_bound, self.n_src = asm.n_boundaries, len(asm.source_names)
+        self.node_idx = np.array([asm.node_index(log.targets[c]) for c in log.measured])
+        self._inputs = self._input_table(asm, log)
+        knots = [times for kind, times, _ in self._inputs if kind == "log"]
+        self._knots = np.unique(np.concatenate(knots)) if knots else np.zeros(0)
+        self.roles = [self._role(asm, p) for p in params]
+        self.stats = ModelStats("exact")
+
+    @property
+    def solver(self) -> str:
+        return self.stats.solver
+
+    # -- set-up --------------------------------------------------------------------------------
+    def _input_table(self, asm, log):
+        """(times, values (n, M + S)) of the inputs: log columns at their finite samples, the
+        scenario's constants; every input is linear between these times, held at the ends."""
+        driven = {log.targets[c]: c for c in log.inputs + list(getattr(log, "powers", []))}
+        columns = []
+        for name, prof in list(zip(asm.boundary_names, asm.boundary_profiles)) + \
+                list(zip(asm.source_names, asm.source_profiles)):
+            if name in driven:
+                vals = log.values[driven[name]].to_numpy(dtype=float)
+                ok = np.isfinite(vals)
+                columns.append(("log", log.time[ok], vals[ok]))
+            elif prof.is_constant:
+                columns.append(("constant", None, float(prof.value(0.0))))
+            else:
+                raise _NotDirect
+        return columns
+
+    def _role(self, asm, p) -> _Role:
+        tokens = parse_key_path(p.key)
+        data = self.sc.data
+        if tokens[0] == "nodes" and len(tokens) == 3:
+            i = asm.node_index(tokens[1])
+            spec = data["nodes"][tokens[1]]
+            if tokens[2] == "initial":
+                return _Role("initial", i)
+            if tokens[2] == "capacity" and set(spec) <= {"capacity", "initial"} and \
+                    np.isclose(self.capacity[i], p.start, rtol=1e-12):
+                return _Role("capacity", i)
+        if tokens[0] == "links" and len(tokens) == 3 and tokens[2] in ("resistance", "conductance"):
+            li = asm.link_names.index(tokens[1])
+            seg = int(asm.link_first_seg[li])
+            reciprocal = tokens[2] == "resistance"
+            if seg == int(asm.link_last_seg[li]) and np.isclose(
+                    self.seg_g[seg], 1.0 / p.start if reciprocal else p.start, rtol=1e-12):
+                return _Role("conductance", seg, reciprocal)
+        if p.tier == "constant" and tokens[0] == "boundaries":
+            return _Role("boundary", asm.boundary_names.index(p.target))
+        if p.tier == "constant" and tokens[0] == "sources":
+            return _Role("source", self.n_bound + asm.source_names.index(p.target))
+        raise _NotDirect
+
+    # -- the model -----------------------------------------------------------------------------
+    def _apply(self, values):
+        cap, g, x0 = self.capacity.copy(), self.seg_g.copy(), self.initial.copy()
+        consts = {}
+        for role, v in zip(self.roles, values):
+            if role.what == "capacity":
+                cap[role.index] = v
+            elif role.what == "conductance":
+                g[role.index] = 1.0 / v if role.reciprocal else v
+            elif role.what == "initial":
+                x0[role.index] = v
+            else:
+                consts[role.index] = v
+        return cap, g, x0, consts
+
+    def _system(self, cap, g):
+        """Reduced A (n, n), B (n, M + S), output maps of massless nodes, state indices."""
+        N, M = self.n_nodes, self.n_bound
+        a, b = self.seg_a, self.seg_b
+        Kfull = np.zeros((N + M, N + M))
+        np.add.at(Kfull, (a, a), g)
+        np.add.at(Kfull, (b, b), g)
+        np.add.at(Kfull, (a, b), -g)
+        np.add.at(Kfull, (b, a), -g)
+        K = Kfull[:N, :N]
+        E = np.zeros((N, M + self.n_src))
+        E[:, :M] = -Kfull[:N, N:]
+        np.add.at(E, (self.source_nodes, M + np.arange(self.n_src)), 1.0)
+        m = np.flatnonzero(cap > 0)
+        z = np.flatnonzero(cap == 0)
+        if z.size:
+            Kzz_inv = np.linalg.inv(K[np.ix_(z, z)])
+            R = -Kzz_inv @ K[np.ix_(z, m)]
+            D = Kzz_inv @ E[z]
+            Keff = K[np.ix_(m, m)] + K[np.ix_(m, z)] @ R
+            Eeff = E[m] - K[np.ix_(m, z)] @ D
+        else:
+            R, D = np.zeros((0, m.size)), np.zeros((0, E.shape[1]))
+            Keff, Eeff = K, E
+        C = cap[m]
+        return -Keff / C[:, None], Eeff / C[:, None], R, D, m, z, Keff, C
+
+    def _input_values(self, t, consts) -> np.ndarray:
+        w = np.empty((t.size, len(self._inputs)))
+        for j, (kind, times, vals) in enumerate(self._inputs):
+            if j in consts:
+                w[:, j] = consts[j]
+            elif kind == "constant":
+                w[:, j] = vals
+            else:
+                w[:, j] = np.interp(t, times, vals)
+        return w
+
+    def outputs(self, values, times=None) -> np.ndarray:
+        """Model temperatures (n_times, n_measured) at the log's times (or ``times``)."""
+        self.stats.evaluations += 1
+        t = self.t if times is None else np.asarray(times, dtype=float)
+        if times is not None and self._knots.size:
+            # the inputs bend at the log's samples: run through them, report at ``times``
+            inside = self._knots[(self._knots > t[0]) & (self._knots < t[-1])]
+            t_run = np.union1d(t, inside)
+            return self._run(values, t_run)[np.searchsorted(t_run, t)]
+        return self._run(values, t)
+
+    def _run(self, values, t) -> np.ndarray:
+        from scipy.linalg import expm
+
+        cap, g, x0, consts = self._apply([float(v) for v in values])
+        A, B, R, D, m, z, _, _ = self._system(cap, g)
+        w = self._input_values(t, consts)
+        n, q = A.shape[0], B.shape[1]
+        steps, index = np.unique(np.diff(t), return_inverse=True)
+        Phi = np.empty((steps.size, n, n))
+        G1 = np.empty((steps.size, n, q))
+        G2 = np.empty((steps.size, n, q))
+        block = np.zeros((n + 2 * q, n + 2 * q))
+        block[n:n + q, n + q:] = np.eye(q)
+        for i, dt in enumerate(steps):  # one exponential per distinct step (few)
+            block[:n, :n] = A * dt
+            block[:n, n:n + q] = B * dt
+            ex = expm(block)
+            Phi[i], G1[i], G2[i] = ex[:n, :n], ex[:n, n:n + q], ex[:n, n + q:]
+        self.stats.decompositions += 1
+        forcing = np.einsum("kij,kj->ki", (G1 - G2)[index], w[:-1]) + \
+            np.einsum("kij,kj->ki", G2[index], w[1:])
+        X = linear_recurrence(Phi, index, forcing, x0[m])
+        nodes = np.empty((t.size, self.node_idx.size))
+        where = {int(k): i for i, k in enumerate(m)}
+        zwhere = {int(k): i for i, k in enumerate(z)}
+        for col, node in enumerate(self.node_idx):  # a loop over measured columns
+            if int(node) in where:
+                nodes[:, col] = X[:, where[int(node)]]
+            else:
+                i = zwhere[int(node)]
+                nodes[:, col] = X @ R[i] + w @ D[i]
+        return nodes
+
+    def state_matrices(self, values) -> StateMatrices:
+        """A and H of the reduced system at the free values (see :class:`StateMatrices`)."""
+        cap, g, _, _ = self._apply([float(v) for v in values])
+        A, _, R, _, m, z, Keff, C = self._system(cap, g)
+        H = np.zeros((self.node_idx.size, m.size))
+        where = {int(k): i for i, k in enumerate(m)}
+        zwhere = {int(k): i for i, k in enumerate(z)}
+        for row, node in enumerate(self.node_idx):
+            if int(node) in where:
+                H[row, where[int(node)]] = 1.0
+            else:
+                H[row] = R[zwhere[int(node)]]
+        return StateMatrices(A, H, [self.node_names[i] for i in m],
+                             C / np.maximum(np.diag(Keff), 1e-300))
+

@@ -22,7 +22,7 @@ except PackageNotFoundError:  # pragma: no cover - running from a source tree
 
 from . import errors  # noqa: E402
 from .errors import InputError, RcsimError, SolverError  # noqa: E402
-from .fitting import FitResult, fit  # noqa: E402
+from .fitting import FitResult, fit, identify  # noqa: E402
 from .network import Network  # noqa: E402
 from .profiles import Constant, Repeat, Sine, Steps, Table  # noqa: E402
 from .results import Result  # noqa: E402
@@ -40,6 +40,7 @@ __all__ = [
     "loads",
     "fit",
     "FitResult",
+    "identify",
     "Constant",
     "Sine",
     "Steps",

@@ -167,11 +167,13 @@ def fit_scenario(sc: Scenario, data, spec: FitSpec, *, time=None, time_unit=None
 
 def fit_prepared(sc: Scenario, log: Log, params: ParameterSet, model, *, holdout=None,
                  sigma=None, starts=4, seed=0, noise="measurement", lags=None,
-                 points=None) -> FitResult:
+                 points=None, options=None, screen=None) -> FitResult:
     """The fit of a scenario whose log, free values and model are ready.
 
     ``points``: starting points in the fitted coordinates (instead of ``starts`` points made
-    from the scenario's values). Warnings are gathered in the result, not issued.
+    from the scenario's values); ``options`` of
+    :func:`rcsim.fitting.problem.run_least_squares`; ``screen``: see
+    :func:`rcsim.fitting.problem.search`. Warnings are gathered in the result, not issued.
     """
     notes = Notes()
     notes.extend(gap_notes(log))
@@ -190,8 +192,9 @@ def fit_prepared(sc: Scenario, log: Log, params: ParameterSet, model, *, holdout
     weights = column_weights(sigma, log)
     notes.extend(params.start_from_log(log, Y))
     problem = Problem(model, params, Y, mask, weights)
+    problem.options = dict(options or {})
     found = search(problem, starts, seed, reweight=sigma is None and len(log.measured) > 1,
-                   points=points)
+                   points=points, screen=screen)
     if noise == "process":
         from .stochastic import fit_stochastic, single_record
 

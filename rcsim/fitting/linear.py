@@ -8,16 +8,16 @@ constant or a log column, the network's matrices follow from the values directly
 
     C dT/dt = -K T + B u(t) + P s(t)          (massless nodes eliminated exactly, Kron reduction)
 
-and the inputs are linear between the log's samples, so the exact solution between two samples
-is the first-order-hold discretisation (the input ramps from one sample to the next)::
+and the inputs are linear between the log's samples, so the solution between two samples is
+exact in the network's modes (C^-1/2 K C^-1/2 = U diag(lambda) U^T, z = U^T C^1/2 x), each a
+first-order equation dz/dt = -lambda z + u(t) with u ramping from one sample to the next::
 
-    x_k+1 = Phi x_k + (G1 - G2) w_k + G2 w_k+1,
-    expm([[A dt, B dt, 0], [0, 0, I], [0, 0, 0]]) = [[Phi, G1, G2], [0, I, I], [0, 0, I]]
+    z_k+1 = a z_k + (c0 - c1) u_k + c1 u_k+1,   a = exp(-lambda dt),
+    c0 = (1 - a) / lambda,   c1 = (1 - c0 / dt) / lambda
 
-with A = -C^-1 K and B = C^-1 [B | P] (one exponential per distinct step). The recurrence over
-the rows is solved at once (:func:`rcsim.fitting.recurrence.linear_recurrence`). This is the
-same linear system the exact modal path solves, with the same inputs; a test checks the two
-agree. :func:`direct_model` says whether a scenario qualifies (otherwise :class:`Model` runs it).
+(the first-order hold). The recurrence over the rows is solved at once
+(:func:`rcsim.fitting.recurrence.linear_recurrence`). This is the same linear system the exact
+modal path solves, with the same inputs; a test checks the two agree. :func:`direct_model` says whether a scenario qualifies (otherwise :class:`Model` runs it).
 """
 
 from __future__ import annotations
@@ -53,6 +53,24 @@ def direct_model(sc: Scenario, log: Log, params: ParameterSet, solver: str = "au
         return LinearModel(sc, log, params)
     except _NotDirect:
         return None
+
+
+def _hold_coefficients(lam, steps):
+    """Per mode (rate lam [1/s]) and step dt: a = exp(-lam dt) and the weights of the input at
+    the two ends of a step over which it ramps linearly (first-order hold)::
+
+        z_k+1 = a z_k + (c0 - c1) u_k + c1 u_k+1,
+        c0 = (1 - a) / lam,   c1 = (1 - c0 / dt) / lam    (dt and dt / 2 as lam -> 0)
+    """
+    x = lam[None, :] * steps[:, None]
+    dt = steps[:, None]
+    a = np.exp(-x)
+    small = x < 1e-4
+    with np.errstate(divide="ignore", invalid="ignore"):
+        c0 = np.where(small, dt * (1 - x / 2 + x * x / 6), -np.expm1(-x) / lam[None, :])
+        c1 = np.where(small, dt * (0.5 - x / 6 + x * x / 24),
+                      (1 - c0 / dt) / lam[None, :])
+    return a, c0, c1
 
 
 class _NotDirect(Exception):
@@ -92,6 +110,9 @@ class LinearModel:
         self._knots = np.unique(np.concatenate(knots)) if knots else np.zeros(0)
         self.roles = [self._role(asm, p) for p in params]
         self.stats = ModelStats("exact")
+        self._steps_key = None
+        self._steps = None
+        self._last_E = None
 
     @property
     def solver(self) -> str:
@@ -179,6 +200,7 @@ class LinearModel:
             R, D = np.zeros((0, m.size)), np.zeros((0, E.shape[1]))
             Keff, Eeff = K, E
         C = cap[m]
+        self._last_E = Eeff
         return -Keff / C[:, None], Eeff / C[:, None], R, D, m, z, Keff, C
 
     def _input_values(self, t, consts) -> np.ndarray:
@@ -204,27 +226,29 @@ class LinearModel:
         return self._run(values, t)
 
     def _run(self, values, t) -> np.ndarray:
-        from scipy.linalg import expm
-
         cap, g, x0, consts = self._apply([float(v) for v in values])
-        A, B, R, D, m, z, _, _ = self._system(cap, g)
+        _, _, R, D, m, z, Keff, C = self._system(cap, g)
+        E = self._last_E
         w = self._input_values(t, consts)
-        n, q = A.shape[0], B.shape[1]
-        steps, index = np.unique(np.diff(t), return_inverse=True)
-        Phi = np.empty((steps.size, n, n))
-        G1 = np.empty((steps.size, n, q))
-        G2 = np.empty((steps.size, n, q))
-        block = np.zeros((n + 2 * q, n + 2 * q))
-        block[n:n + q, n + q:] = np.eye(q)
-        for i, dt in enumerate(steps):  # one exponential per distinct step (few)
-            block[:n, :n] = A * dt
-            block[:n, n:n + q] = B * dt
-            ex = expm(block)
-            Phi[i], G1[i], G2[i] = ex[:n, :n], ex[:n, n:n + q], ex[:n, n + q:]
+        # modes: C^-1/2 K C^-1/2 = U diag(lam) U^T, z = U^T C^1/2 x, dz/dt = -lam z + G w
+        root = np.sqrt(C)
+        lam, U = np.linalg.eigh(Keff / root[:, None] / root[None, :])
+        lam = np.maximum(lam, 0.0)
+        G = U.T @ (E / root[:, None])
+        back = U / root[:, None]                      # x = back @ z
+        key = (t.size, float(t[0]), float(t[-1]))
+        if self._steps_key != key:                    # the distinct steps of these times, once
+            self._steps = np.unique(np.diff(t), return_inverse=True)
+            self._steps_key = key
+        steps, index = self._steps
+        a, c0, c1 = _hold_coefficients(lam, steps)    # (u, n) each
         self.stats.decompositions += 1
-        forcing = np.einsum("kij,kj->ki", (G1 - G2)[index], w[:-1]) + \
-            np.einsum("kij,kj->ki", G2[index], w[1:])
-        X = linear_recurrence(Phi, index, forcing, x0[m])
+        u = w @ G.T                                   # (N, n) modal forcing at the rows
+        forcing = (c0 - c1)[index] * u[:-1] + c1[index] * u[1:]
+        F = np.zeros((steps.size, lam.size, lam.size))
+        F[:, np.arange(lam.size), np.arange(lam.size)] = a
+        Z = linear_recurrence(F, index, forcing, U.T @ (root * x0[m]))
+        X = Z @ back.T
         nodes = np.empty((t.size, self.node_idx.size))
         where = {int(k): i for i, k in enumerate(m)}
         zwhere = {int(k): i for i, k in enumerate(z)}

@@ -21,7 +21,7 @@ from ..errors import DataError, InputError
 from ..profiles import read_csv_text, read_time_series
 from ..units import to_si
 
-__all__ = ["Log", "read_log", "gap_notes"]
+__all__ = ["Log", "read_log", "gap_notes", "log_header"]
 
 TIME_NAMES = {"time", "t", "timestamp", "datetime", "date", "seconds", "elapsed", "time_s"}
 NA_TOKENS = {"", "nan", "na", "n/a", "null", "none", "-", "--"}
@@ -206,6 +206,35 @@ def _power_factor(column: str, label: str) -> float:
     except InputError:
         raise DataError(f"column {column!r} drives a source, but {unit!r} is not a unit of "
                         "power", label, "write e.g. 'heater [W]' or 'heater [kW]'") from None
+
+
+def log_header(source, time=None) -> tuple[str | None, list[str]]:
+    """(time column, the other columns) of a log, as :func:`read_log` will see them: the time
+    column is ``time``, or one named time, t, timestamp, ..., or else the first (None for a
+    DataFrame whose index holds the time)."""
+    if isinstance(source, pd.DataFrame):
+        header = [str(c).strip() for c in source.columns]
+        named = time is not None or any(strip_unit(c)[0].lower() in TIME_NAMES for c in header)
+        index_time = not named and (isinstance(source.index, pd.DatetimeIndex) or (
+            pd.api.types.is_numeric_dtype(source.index.dtype)
+            and not isinstance(source.index, pd.RangeIndex)))
+        if index_time:
+            return None, header
+        label = "<data>"
+    else:
+        path = os.fspath(source)
+        label = os.path.basename(path) or path
+        if not os.path.isfile(path):
+            raise DataError("file not found", label, f"looked for {os.path.abspath(path)}")
+        try:
+            header = [str(c).strip() for c in pd.read_csv(path, nrows=0, skipinitialspace=True,
+                                                            encoding="utf-8").columns]
+        except (UnicodeDecodeError, pd.errors.ParserError, pd.errors.EmptyDataError):
+            raise DataError("cannot be read as a CSV file with a header", label) from None
+    if not header:
+        raise DataError("has no columns", label)
+    tcol = _find_time_column(header, time, set(), set(), label)
+    return tcol, [c for c in header if c != tcol]
 
 
 def _match_columns(used, columns, names, label) -> dict:

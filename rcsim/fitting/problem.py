@@ -63,6 +63,7 @@ class Problem:
         self.model, self.params, self.Y, self.mask = model, params, Y, mask
         self.weights = np.asarray(weights, dtype=float)
         self._last: _Evaluation | None = None
+        self.options: dict = {}  # of run_least_squares (tolerances, evaluations per value)
 
     def set_weights(self, weights) -> None:
         self.weights = np.asarray(weights, dtype=float)
@@ -125,7 +126,7 @@ class Problem:
         return np.where(np.isfinite(r), r, PENALTY)
 
     def solve(self, x0) -> Run:
-        return run_least_squares(self, x0)
+        return run_least_squares(self, x0, **self.options)
 
     def reweight(self, x) -> None:
         """Weight each column by the spread of its own residuals at ``x`` (1 / RMS)."""
@@ -134,27 +135,36 @@ class Problem:
         self.set_weights(1.0 / np.maximum(spread, 1e-12))
 
 
-def run_least_squares(problem, x0) -> Run:
-    """One trust-region reflective run of ``problem`` (residuals, jacobian, params) from x0."""
+def run_least_squares(problem, x0, ftol=1e-12, xtol=1e-10, evaluations=100) -> Run:
+    """One trust-region reflective run of ``problem`` (residuals, jacobian, params) from x0,
+    with at most ``evaluations`` * (1 + free values) evaluations."""
     from scipy.optimize import least_squares
 
     lo, hi = problem.params.x_limits()
     x0 = np.clip(np.asarray(x0, dtype=float), lo, hi)
     res = least_squares(problem.residuals, x0, jac=problem.jacobian, bounds=(lo, hi),
-                        method="trf", x_scale="jac", ftol=1e-12, xtol=1e-10, gtol=1e-10,
-                        max_nfev=100 * (1 + x0.size))
+                        method="trf", x_scale="jac", ftol=ftol, xtol=xtol, gtol=1e-10,
+                        max_nfev=evaluations * (1 + x0.size))
     return Run(np.asarray(res.x, dtype=float), float(np.sum(res.fun ** 2)), int(res.status),
                str(res.message), int(res.nfev), x0)
 
 
-def search(problem, starts: int, seed, reweight: bool, points=None) -> Search:
+def search(problem, starts: int, seed, reweight: bool, points=None, screen=None) -> Search:
     """Solve from each starting point and keep the best. With ``reweight`` (no sigma given and
     several columns), each column is then weighted by the spread of its own residuals at the
     optimum and the fit refined from there. ``points`` (fitted coordinates) replace the
-    starting points made from the scenario's values when given."""
+    starting points made from the scenario's values when given. With ``screen`` (options of
+    :func:`run_least_squares`, a small budget), every start first runs under it and only the
+    best goes on to the end."""
     if points is None:
         points = problem.params.starting_points(starts, seed)
-    runs = [problem.solve(x0) for x0 in points]
+    if screen is not None and len(points) > 1:
+        trial = [run_least_squares(problem, x0, **screen) for x0 in points]
+        lead = min(trial, key=lambda r: r.cost)
+        runs = [r for r in trial if r is not lead] + [problem.solve(lead.x)]
+        runs[-1].x0 = lead.x0
+    else:
+        runs = [problem.solve(x0) for x0 in points]
     best = min(runs, key=lambda r: r.cost)
     # other starts that ended elsewhere with about as good a fit (compared under one weighting)
     rivals = sum(1 for rn in runs if rn is not best and rn.cost <= best.cost * 1.01 + 1e-300

@@ -1,15 +1,22 @@
 """A linear recurrence over a log's rows, solved at once: x_0 given, x_{k+1} = F_k x_k + v_k.
 
-Written as one block lower-bidiagonal system (identity blocks on the diagonal, -F_k below)::
+Two ways, neither a Python loop over rows:
+
+* **Runs of one matrix** (a regularly sampled log has one F; a Kalman filter's gains settle to
+  one): in the eigenvectors of F, F = V diag(mu) V^-1, each mode is a first-order recursion
+  z_{k+1} = mu z_k + u_k, which :func:`scipy.signal.lfilter` runs in compiled code. Used when the
+  rows fall into few runs and each F is well conditioned.
+* **Anything else**: one block lower-bidiagonal system (identity blocks on the diagonal, -F_k
+  below)::
 
     [ I                ] [x_1]   [v_0 + F_0 x_0]
     [-F_1  I           ] [x_2] = [v_1          ]
     [     -F_2  I      ] [x_3]   [v_2          ]
-    [           ...    ] [...]   [...          ]
 
-whose band (n - 1 + n lower diagonals for n states) is solved by LAPACK's banded solver
-(:func:`scipy.linalg.solve_banded`), in chunks of rows to bound memory. No Python loop runs over
-the rows. Used for the deterministic run of a linear model between log samples and for the state
+  whose band (2n - 1 lower diagonals for n states) LAPACK's banded solver takes
+  (:func:`scipy.linalg.solve_banded`), in chunks of rows to bound memory.
+
+Used for the deterministic run of a linear model between log samples and for the state
 estimates of the Kalman filter.
 """
 
@@ -21,6 +28,10 @@ __all__ = ["linear_recurrence"]
 
 #: Rows of one banded solve (bounds memory: about 2 n^2 numbers per row).
 CHUNK_ROWS = 50_000
+#: At most this many runs of one matrix go the modal way.
+MODAL_RUNS = 64
+#: Condition number of F's eigenvectors above which the modal way is not trusted.
+MODAL_CONDITION = 1e6
 
 
 def linear_recurrence(F: np.ndarray, index: np.ndarray, v: np.ndarray, x0: np.ndarray) -> np.ndarray:
@@ -38,14 +49,54 @@ def linear_recurrence(F: np.ndarray, index: np.ndarray, v: np.ndarray, x0: np.nd
 
     >>> F = np.array([[[0.5]]])
     >>> linear_recurrence(F, np.zeros(3, int), np.ones((3, 1)), np.array([2.0])).ravel()
-    array([2.  , 2.  , 2.  , 2.  ])
+    array([2., 2., 2., 2.])
     """
-    from scipy.linalg import solve_banded
-
     v = np.asarray(v, dtype=float)
+    index = np.asarray(index, dtype=np.int64)
     steps, n = v.shape
     out = np.empty((steps + 1, n))
     out[0] = x0
+    if steps == 0:
+        return out
+    cuts = np.flatnonzero(np.diff(index)) + 1
+    if cuts.size < MODAL_RUNS and _modal(F, index, v, out, np.concatenate([[0], cuts, [steps]])):
+        return out
+    _banded(F, index, v, out)
+    return out
+
+
+def _modal(F, index, v, out, bounds) -> bool:
+    """Run by run in each F's eigenvectors; False (nothing kept) if an F is ill conditioned."""
+    from scipy.signal import lfilter
+
+    decomposed = {}
+    for i in np.unique(index):
+        if not np.any(F[i] - np.diag(np.diag(F[i]))):  # already diagonal (a modal run)
+            eye = np.eye(F.shape[1])
+            decomposed[int(i)] = (np.diag(F[i]).copy(), eye, eye)
+            continue
+        mu, V = np.linalg.eig(F[i])
+        if not np.all(np.isfinite(mu)) or np.linalg.cond(V) > MODAL_CONDITION:
+            return False
+        decomposed[int(i)] = (mu, V, np.linalg.inv(V))
+    real = all(np.isrealobj(m) or not np.any(m.imag) for m, _, _ in decomposed.values())
+    for a, b in zip(bounds[:-1], bounds[1:]):  # a loop over runs (few), not over rows
+        mu, V, Vi = decomposed[int(index[a])]
+        if real:
+            mu, V, Vi = mu.real, V.real, Vi.real
+        z0 = Vi @ out[a]
+        u = v[a:b] @ Vi.T
+        z = np.empty(u.shape, dtype=u.dtype)
+        for j in range(mu.size):  # a loop over modes
+            z[:, j], _ = lfilter([1.0], [1.0, -mu[j]], u[:, j], zi=[mu[j] * z0[j]])
+        out[a + 1:b + 1] = np.real(z @ V.T)
+    return True
+
+
+def _banded(F, index, v, out) -> None:
+    from scipy.linalg import solve_banded
+
+    steps, n = v.shape
     start = 0
     while start < steps:  # chunks of rows, not a loop over rows
         stop = min(steps, start + CHUNK_ROWS)
@@ -65,4 +116,3 @@ def linear_recurrence(F: np.ndarray, index: np.ndarray, v: np.ndarray, x0: np.nd
         x = solve_banded((lower, 0), ab, rhs.ravel(), check_finite=False)
         out[start + 1:stop + 1] = x.reshape(L, n)
         start = stop
-    return out

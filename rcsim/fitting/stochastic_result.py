@@ -20,6 +20,10 @@ from .summary import curve_grid, fitted_scenario, holdout_scores
 
 __all__ = ["stochastic_results", "observed_information"]
 
+#: A noise coordinate whose curvature is below this fraction of the largest is held (not given
+#: an interval): the noise has shrunk to where the data do not feel it.
+FLAT = 1e-9
+
 
 def observed_information(problem: StochasticProblem, x, bounds) -> tuple[np.ndarray, np.ndarray]:
     """(covariance, standard errors) of all coordinates from the inverse Hessian of the negative
@@ -33,19 +37,29 @@ def observed_information(problem: StochasticProblem, x, bounds) -> tuple[np.ndar
     free = [i for i in range(size) if not at_bound[i]]
     cov = np.full((size, size), np.nan)
     se = np.full(size, np.nan)
-    if free:
-        Hm = problem.hessian(x, free)
-        Hm = 0.5 * (Hm + Hm.T)
-        w, V = np.linalg.eigh(Hm)
-        good = w > 1e-10 * max(float(np.max(np.abs(w))), 1e-300)
-        inv = np.where(good, 1.0 / np.where(good, w, 1.0), 0.0)
-        sub = (V * inv) @ V.T
-        sub_se = np.sqrt(np.maximum(np.diag(sub), 0.0))
-        if not good.all():
-            touched = (np.abs(V[:, ~good]) > 1e-6).any(axis=1)
-            sub_se = np.where(touched, np.inf, sub_se)
-        cov[np.ix_(free, free)] = sub
-        se[free] = sub_se
+    if not free:
+        return cov, se
+    Hm = problem.hessian(x, free)
+    Hm = 0.5 * (Hm + Hm.T)
+    # a noise value that has shrunk to where the likelihood no longer feels it is held too
+    diag = np.diag(Hm)
+    flat = [a for a, i in enumerate(free) if i >= problem.p and
+            not diag[a] > FLAT * float(np.max(np.abs(diag)))]
+    keep = [a for a in range(len(free)) if a not in flat]
+    free = [free[a] for a in keep]
+    Hm = Hm[np.ix_(keep, keep)]
+    if not free:
+        return cov, se
+    w, V = np.linalg.eigh(Hm)
+    good = w > 1e-10 * max(float(np.max(np.abs(w))), 1e-300)
+    inv = np.where(good, 1.0 / np.where(good, w, 1.0), 0.0)
+    sub = (V * inv) @ V.T
+    sub_se = np.sqrt(np.maximum(np.diag(sub), 0.0))
+    if not good.all():  # values that take part in a direction the likelihood is flat along
+        touched = (np.abs(V[:, ~good]) > 1e-3).any(axis=1)
+        sub_se = np.where(touched, np.inf, sub_se)
+    cov[np.ix_(free, free)] = sub
+    se[free] = sub_se
     return cov, se
 
 
@@ -76,8 +90,9 @@ def stochastic_results(problem: StochasticProblem, x, bounds, notes: Notes, *, l
     for key, row in noise_est.iterrows():
         if np.isnan(row["std_error"]):
             what = "process noise" if key.startswith("process.") else "measurement noise"
-            notes.add(f"{what} {key.split('.', 1)[1]!r} ended at a bound of its range "
-                      f"({row['value']:.3g}); its interval is not given")
+            notes.add(f"{what} {key.split('.', 1)[1]!r} is negligible ({row['value']:.3g}) or "
+                      "at the end of its range: the data show hardly any; its interval is not "
+                      "given")
     results = []
     for i, rec in enumerate(problem.records):
         local_notes = Notes(list(notes.texts), list(notes.categories)) \

@@ -167,14 +167,18 @@ def fit_scenario(sc: Scenario, data, spec: FitSpec, *, time=None, time_unit=None
 
 def fit_prepared(sc: Scenario, log: Log, params: ParameterSet, model, *, holdout=None,
                  sigma=None, starts=4, seed=0, noise="measurement", lags=None,
-                 points=None, options=None, screen=None) -> FitResult:
+                 points=None, options=None, screen=None, final=True) -> FitResult:
     """The fit of a scenario whose log, free values and model are ready.
 
     ``points``: starting points in the fitted coordinates (instead of ``starts`` points made
     from the scenario's values); ``options`` of
     :func:`rcsim.fitting.problem.run_least_squares`; ``screen``: see
-    :func:`rcsim.fitting.problem.search`. Warnings are gathered in the result, not issued.
+    :func:`rcsim.fitting.problem.search`; without ``final`` a fit with process noise gives no
+    intervals yet (see :func:`rcsim.fitting.stochastic.fit_stochastic`). Warnings are gathered
+    in the result, not issued.
     """
+    if noise == "process" and not getattr(model, "fast", False):
+        model.state_matrices(params.values(params.x_start()))  # raises the clear error
     notes = Notes()
     notes.extend(gap_notes(log))
     Y = log.values[log.measured].to_numpy(dtype=float)
@@ -200,7 +204,8 @@ def fit_prepared(sc: Scenario, log: Log, params: ParameterSet, model, *, holdout
 
         record = single_record(sc, log, params, model, Y, mask, holdout)
         return fit_stochastic([record], params, found.best.x, notes, sigma=sigma,
-                              starts=starts, lags=lags)
+                              starts=starts if final else 1, lags=lags, final=final,
+                              iterations=400 if final else 150)
     return summarise(problem, found, log, sc, notes, holdout=holdout,
                      sigma_known=sigma is not None, lags=lags)
 

@@ -212,12 +212,14 @@ def _identify(source, measured, drivers, ambient, read, holdout, noise, signific
         text = ladder.text(setup, value_starts[0], f"{ladder.label} (rcsim identify)",
                            tables=False)
         sc = loads(text, name=_file_name(ladder))
-        params = make_parameters(sc, ladder.free_keys(setup), None, log)
+        keys = ladder.free_keys(setup)
+        params = make_parameters(sc, keys, {k: setup.temperature_range for k in keys
+                                            if k.endswith((".initial", ".temperature"))}, log)
         model = LinearModel(sc, log, params)
         points = [np.array([p.to_x(v[p.key]) for p in params]) for v in value_starts[:starts]]
         res = fit_prepared(sc, log, params, model, holdout=span, sigma=sigma, noise=noise,
                            lags=lags, points=points, starts=len(points), options=SEARCH_OPTIONS,
-                           screen=SCREEN_OPTIONS)
+                           screen=SCREEN_OPTIONS, final=False)
         res.label = ladder.label
         return _Tried(ladder, res, dict(zip(params.keys, res.estimates["value"])), extension)
 
@@ -251,6 +253,12 @@ def _identify(source, measured, drivers, ambient, read, holdout, noise, signific
             break
         current = best
     selected = current
+    refine = getattr(selected.fit, "_refine", None)
+    if refine is not None:  # intervals for the structure kept (the others need none)
+        fit = refine()
+        fit.label = selected.fit.label
+        tried[fit.label] = _Tried(selected.ladder, fit, selected.values, selected.extension)
+        selected = tried[fit.label]
     table = pd.DataFrame(rows)
     table["selected"] = table["structure"] == selected.fit.label
     header = [f"selected {selected.fit.label}: {_describe(selected)}"]
@@ -401,13 +409,19 @@ def _finish_setup(log, pairs, boundaries, sources, capacity, columns):
                      f"the capacity of {pairs[0][1]} is fixed at {fixed:.6g} J/K and the others "
                      "are relative to it")
     scale_r = max(float(np.ptp(y0)), 0.1) / pmax if pmax > 0 else 1.0
+    logged = np.concatenate([log.values[c].to_numpy(dtype=float) for c in columns
+                             if c not in dict(sources).values()] +
+                            [np.array([b.value]) for b in boundaries if b.kind == "constant"])
+    logged = logged[np.isfinite(logged)]
+    margin = max(float(np.ptp(logged)), 10.0)
+    temperature_range = (float(logged.min()) - margin, float(logged.max()) + margin)
     dt = float(np.median(np.diff(log.time)))
     simulation = {"duration": f"{float(log.time[-1]):.12g} s", "step": f"{dt:.12g} s",
                   "initial": "given"}
     if log.start_time is not None:
         simulation["start"] = log.start_time.isoformat()
     setup = LadderSetup([(c, n) for c, n in pairs], boundaries, sources, fixed, first, start,
-                        float(log.time[-1]), scale_r, tables, simulation)
+                        float(log.time[-1]), scale_r, tables, simulation, temperature_range)
     return setup, log, columns, notes
 
 

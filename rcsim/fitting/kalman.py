@@ -35,8 +35,8 @@ prediction errors' Gaussian densities::
 
 The first prior is delta_0 = 0 (the deterministic run's starting state) with covariance P_0, by
 default the stationary one-step prediction covariance of the most common step (the discrete
-algebraic Riccati equation, :func:`scipy.linalg.solve_discrete_are`): the state at the first row
-is taken to be as uncertain as a prediction one step ahead in a long record.
+algebraic Riccati equation, :func:`stationary_covariance`): the state at the first row is taken
+to be as uncertain as a prediction one step ahead in a long record.
 
 **Speed.** The covariance recursion does not depend on the data. Once it has converged (the
 prior changes from one row to the next by less than ``CONVERGED`` times its own size plus the
@@ -165,9 +165,25 @@ def modal_discretisation(A, Sigma, steps):
 
 
 def stationary_covariance(Phi, Q, H, Rm) -> np.ndarray:
-    """The stationary prior covariance of the filter with every column measured (the discrete
-    algebraic Riccati equation P = Phi P Phi^T - Phi P H^T (H P H^T + R)^-1 H P Phi^T + Q);
-    the open-loop stationary covariance (a discrete Lyapunov equation) if that fails."""
+    """The stationary prior covariance of the filter with every column measured: the
+    stabilising solution of the discrete algebraic Riccati equation::
+
+        P = Phi P Phi^T - Phi P H^T (H P H^T + R)^-1 H P Phi^T + Q
+          = Phi P (I + H^T R^-1 H P)^-1 Phi^T + Q
+
+    by the structure-preserving doubling algorithm (Chu, Fan & Lin, *Linear Algebra and its
+    Applications* 396 (2005) 55-80), which converges quadratically: with A = Phi^T,
+    G = H^T R^-1 H and X_0 = Q,
+
+        W = I + G X_k,  A_k+1 = A_k W^-1 A_k,  G_k+1 = G_k + A_k W^-1 G_k A_k^T,
+        X_k+1 = X_k + A_k^T X_k W^-1 A_k;
+
+    if it does not converge, scipy's solver (:func:`scipy.linalg.solve_discrete_are`), and if
+    that fails the open-loop stationary covariance (a discrete Lyapunov equation).
+    """
+    P = _doubling(Phi, Q, H, Rm)
+    if P is not None:
+        return P
     from scipy.linalg import solve_discrete_are, solve_discrete_lyapunov
 
     try:
@@ -181,6 +197,34 @@ def stationary_covariance(Phi, Q, H, Rm) -> np.ndarray:
     if not np.all(np.isfinite(P)):  # pragma: no cover - degenerate networks
         P = Q.copy()
     return P
+
+
+def _doubling(Phi, Q, H, Rm, iterations: int = 60):
+    """The doubling iteration of :func:`stationary_covariance` (None if it does not settle)."""
+    n = Phi.shape[0]
+    eye = np.eye(n)
+    A = Phi.T.copy()
+    G = H.T @ np.linalg.solve(Rm, H)
+    X = Q.copy()
+    with np.errstate(all="ignore"):
+        for _ in range(iterations):  # quadratic: about ten iterations
+            W = eye + G @ X
+            try:
+                WA = np.linalg.solve(W, A)
+                WG = np.linalg.solve(W, G)
+            except np.linalg.LinAlgError:
+                return None
+            X_next = X + A.T @ X @ WA
+            G = G + A @ WG @ A.T
+            G = 0.5 * (G + G.T)
+            A = A @ WA
+            X_next = 0.5 * (X_next + X_next.T)
+            if not np.all(np.isfinite(X_next)):
+                return None
+            if np.max(np.abs(X_next - X)) <= 1e-15 * np.max(np.abs(X_next)):
+                return X_next
+            X = X_next
+    return None
 
 
 @dataclass

@@ -73,7 +73,9 @@ class LadderSetup:
     value [degC]; ``boundary_start``: each boundary's value at the first row [degC];
     ``span``: the log's span [s]; ``scale_resistance``: a starting resistance [K/W];
     ``tables``: (times, values) of each log-driven boundary or source, written into the
-    scenarios; ``simulation``: the scenarios' [simulation] table.
+    scenarios; ``simulation``: the scenarios' [simulation] table; ``temperature_range``: the
+    bounds of fitted temperatures [degC] (the logged range widened by itself, at least 10 K,
+    each way), so that a starting temperature the data hardly see stays physical.
     """
 
     measured: list
@@ -86,6 +88,7 @@ class LadderSetup:
     scale_resistance: float
     tables: dict = field(default_factory=dict)
     simulation: dict = field(default_factory=dict)
+    temperature_range: tuple = (-273.0, 1e4)
 
     @property
     def measured_nodes(self) -> list[str]:

@@ -71,6 +71,7 @@ class StochasticProblem:
         self.sigma_fixed = None if sigma_fixed is None else np.asarray(sigma_fixed, float)
         self.m = 0 if sigma_fixed is not None else len(self.columns)
         self._cache = [OrderedDict() for _ in records]
+        self._last = None
         self.evaluations = 0
 
     @property
@@ -109,13 +110,18 @@ class StochasticProblem:
         return out
 
     def negloglik(self, x) -> float:
+        x = np.asarray(x, dtype=float)
+        if self._last is not None and np.array_equal(self._last[0], x):
+            return self._last[1]
         self.evaluations += 1
         try:
             with np.errstate(over="raise", invalid="raise", divide="raise"):
                 value = -sum(k.log_likelihood for k in self.filters(x))
         except (FloatingPointError, np.linalg.LinAlgError, InputError, ValueError):
-            return PENALTY  # a trial value the model or the filter cannot take
-        return value if math.isfinite(value) else PENALTY
+            value = PENALTY  # a trial value the model or the filter cannot take
+        value = value if math.isfinite(value) else PENALTY
+        self._last = (x.copy(), value)
+        return value
 
     def steps(self, x) -> np.ndarray:
         """Difference steps of each coordinate (relative on log scales, else scaled)."""
@@ -127,15 +133,17 @@ class StochasticProblem:
         return h
 
     def gradient(self, x) -> np.ndarray:
-        """Central differences (step 1e-5 of each coordinate's scale)."""
+        """Forward differences (step 1e-6 of each coordinate's scale; the likelihood is exact to
+        rounding, so the error is of the order of the step times the curvature)."""
         x = np.asarray(x, dtype=float)
-        h = 1e-5 * self.steps(x)
+        h = 1e-6 * self.steps(x)
+        f0 = self.negloglik(x)
         g = np.empty(x.size)
         for i in range(x.size):  # a loop over coordinates, each a full likelihood
-            xp, xm = x.copy(), x.copy()
+            xp = x.copy()
             xp[i] += h[i]
-            xm[i] -= h[i]
-            g[i] = (self.negloglik(xp) - self.negloglik(xm)) / (2 * h[i])
+            g[i] = (self.negloglik(xp) - f0) / h[i]
+        self._last = (x.copy(), f0)
         return g
 
     def hessian(self, x, free) -> np.ndarray:
@@ -174,13 +182,14 @@ class StochasticProblem:
             out.append((float(v) - 14.0, float(v) + 9.0))
         return out
 
-    def solve(self, x0):
+    def solve(self, x0, iterations: int = 400):
         from scipy.optimize import minimize
 
         x0 = np.asarray(x0, dtype=float)
         bounds = self.bounds(x0)
         res = minimize(self.negloglik, x0, jac=self.gradient, method="L-BFGS-B", bounds=bounds,
-                       options={"maxiter": 400, "ftol": 1e-10, "gtol": 1e-5, "maxls": 40})
+                       options={"maxiter": iterations, "ftol": 1e-10, "gtol": 1e-5,
+                                "maxls": 40})
         res.search_bounds = bounds
         return res
 
@@ -209,16 +218,22 @@ def noise_start(problem: StochasticProblem, x_phys, spread_scale=0.5) -> np.ndar
 
 
 def fit_stochastic(records: list, params: ParameterSet, x_phys, notes: Notes, *, sigma=None,
-                   starts=1, lags=None):
+                   starts=1, lags=None, iterations=400, final=True):
     """Maximum-likelihood fit of the stochastic model to ``records`` from the deterministic
-    optimum ``x_phys``; a :class:`FitResult` for one record, a :class:`JointFit` for several."""
+    optimum ``x_phys``; a :class:`FitResult` for one record, a :class:`JointFit` for several.
+
+    ``iterations`` caps each L-BFGS-B run. Without ``final`` the Hessian is not computed (no
+    intervals); the result's ``_refine()`` computes them later (for the one structure of many
+    that is kept).
+    """
     from threadpoolctl import threadpool_limits
 
     with threadpool_limits(limits=1, user_api="blas"):  # small matrices: threads only cost
-        return _fit_stochastic(records, params, x_phys, notes, sigma, starts, lags)
+        return _fit_stochastic(records, params, x_phys, notes, sigma, starts, lags, iterations,
+                               final)
 
 
-def _fit_stochastic(records, params, x_phys, notes, sigma, starts, lags):
+def _fit_stochastic(records, params, x_phys, notes, sigma, starts, lags, iterations, final):
     from .stochastic_result import stochastic_results
 
     sigma_fixed = None
@@ -231,12 +246,25 @@ def _fit_stochastic(records, params, x_phys, notes, sigma, starts, lags):
     runs = []
     for scale in scales:
         x0 = np.concatenate([x_phys, noise_start(problem, x_phys, scale)])
-        runs.append(problem.solve(x0))
+        runs.append(problem.solve(x0, iterations))
     best = min(runs, key=lambda r: r.fun)
     if not np.isfinite(best.fun) or best.fun >= PENALTY:
         raise SolverError("the stochastic fit found no value at which the Kalman filter runs")
     if not best.success:
         notes.add(f"the fit with process noise did not converge ({best.message}); the estimates "
                   "are uncertain")
-    return stochastic_results(problem, np.asarray(best.x, dtype=float), best.search_bounds,
-                              notes, lags=lags, n_runs=len(runs))
+    x = np.asarray(best.x, dtype=float)
+    if final:
+        return stochastic_results(problem, x, best.search_bounds, notes, lags=lags)
+    kept = Notes(list(notes.texts), list(notes.categories))
+    result = stochastic_results(problem, x, best.search_bounds, notes, lags=lags,
+                                uncertainty=False)
+
+    def refine():
+        from threadpoolctl import threadpool_limits
+
+        with threadpool_limits(limits=1, user_api="blas"):
+            return stochastic_results(problem, x, best.search_bounds, kept, lags=lags)
+
+    result._refine = refine
+    return result

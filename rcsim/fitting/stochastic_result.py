@@ -82,13 +82,17 @@ def noise_table(problem: StochasticProblem, x, se) -> pd.DataFrame:
 
 
 def stochastic_results(problem: StochasticProblem, x, bounds, notes: Notes, *, lags=None,
-                       n_runs=1):
-    """A FitResult per record (the one result for one record; a JointFit for several)."""
-    cov, se = observed_information(problem, x, bounds)
+                       uncertainty: bool = True):
+    """A FitResult per record (the one result for one record; a JointFit for several).
+    Without ``uncertainty`` the Hessian is not computed and no interval is given."""
+    if uncertainty:
+        cov, se = observed_information(problem, x, bounds)
+    else:
+        cov, se = np.full((problem.size, problem.size), np.nan), np.full(problem.size, np.nan)
     outs = problem.filters(x)
     noise_est = noise_table(problem, x, se)
     for key, row in noise_est.iterrows():
-        if np.isnan(row["std_error"]):
+        if uncertainty and np.isnan(row["std_error"]):
             what = "process noise" if key.startswith("process.") else "measurement noise"
             notes.add(f"{what} {key.split('.', 1)[1]!r} is negligible ({row['value']:.3g}) or "
                       "at the end of its range: the data show hardly any; its interval is not "
@@ -98,7 +102,7 @@ def stochastic_results(problem: StochasticProblem, x, bounds, notes: Notes, *, l
         local_notes = Notes(list(notes.texts), list(notes.categories)) \
             if len(problem.records) > 1 else notes
         results.append(_record_result(problem, i, x, cov, se, outs[i], noise_est, local_notes,
-                                      lags, n_runs))
+                                      lags, uncertainty))
     if len(results) == 1:
         return results[0]
     from .records import joint_result
@@ -110,7 +114,7 @@ def stochastic_results(problem: StochasticProblem, x, bounds, notes: Notes, *, l
                         noise_estimates=noise_est, t_quantile=Z_95)
 
 
-def _record_result(problem, i, x, cov, se, out, noise_est, notes, lags, n_runs) -> FitResult:
+def _record_result(problem, i, x, cov, se, out, noise_est, notes, lags, uncertainty) -> FitResult:
     rec = problem.records[i]
     params, log, model = rec.params, rec.log, rec.model
     idx = rec.index
@@ -151,8 +155,9 @@ def _record_result(problem, i, x, cov, se, out, noise_est, notes, lags, n_runs) 
         scores = holdout_scores(held, rec.holdout)
     else:
         scores = {}
-    notes.extend(estimate_warnings(params, est, unc))
-    notes.extend(correlation_warnings(params, corr))
+    if uncertainty:
+        notes.extend(estimate_warnings(params, est, unc))
+        notes.extend(correlation_warnings(params, corr))
     notes.extend(autocorrelation_warnings(resid, ac))
     for c, row in white.iterrows():
         if np.isfinite(row["p_value"]) and row["p_value"] < WHITE_P / 5:

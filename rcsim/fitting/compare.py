@@ -134,14 +134,20 @@ def compare(candidates, data, free=None, *, columns=None, ignore=None, bounds=No
         raise InputError("no candidate to compare", "candidates")
     settings = dict(time=time, time_unit=time_unit, max_gap=max_gap, starts=starts,
                     solver=solver, seed=seed, holdout=holdout, lags=lags)
-    fits, labels = {}, []
+    labels, specs = [], []
     for cand in pool:
-        label = _unique_label(cand.label, labels)
-        labels.append(label)
-        own = cand.spec.over(spec)
-        if not own.free and not own.per_record:
-            raise InputError(f"candidate {label!r} frees no value", "free",
+        labels.append(_unique_label(cand.label, labels))
+        specs.append(cand.spec.over(spec))
+        if not specs[-1].free and not specs[-1].per_record:
+            raise InputError(f"candidate {labels[-1]!r} frees no value", "free",
                              "give free= or a [fit] section with free = [...] in its file")
+    if not isinstance(data, (list, tuple)):  # fail before fitting: the same measured columns
+        from .estimate import read_for
+
+        _check_comparable({label: read_for(cand.scenario, data, own, time, time_unit, max_gap)
+                           for label, cand, own in zip(labels, pool, specs)})
+    fits = {}
+    for label, cand, own in zip(labels, pool, specs):
         if isinstance(data, (list, tuple)):
             from .records import fit_records
 
@@ -176,21 +182,27 @@ def _unique_label(label: str, taken: list) -> str:
 
 
 def _measured(fit) -> tuple:
+    """(measured columns, number of values) of a fit, a fit of several logs, or a log."""
     if hasattr(fit, "records"):
-        return tuple((k, tuple(r.measured.columns)) for k, r in fit.records.items())
-    return tuple(fit.measured.columns)
+        return tuple((k, tuple(r.measured.columns)) for k, r in fit.records.items()), \
+            fit.n_points
+    if hasattr(fit, "targets") and hasattr(fit, "values") and hasattr(fit, "time"):
+        Y = fit.values[fit.measured].to_numpy(dtype=float)
+        return tuple(fit.measured), int(np.isfinite(Y).sum())
+    return tuple(fit.measured.columns), fit.n_points
 
 
 def _check_comparable(fits: dict) -> None:
-    """Every candidate fitted the same measured values (same columns, same number)."""
+    """Every candidate fits the same measured values (same columns, same number)."""
     items = list(fits.items())
     first_label, first = items[0]
+    (cols0, n0) = _measured(first)
     for label, fit in items[1:]:
-        if _measured(fit) != _measured(first) or fit.n_points != first.n_points:
+        cols, n = _measured(fit)
+        if cols != cols0 or n != n0:
             raise InputError(f"candidates {first_label!r} and {label!r} fit different measured "
-                             f"values ({first.n_points} in {_measured(first)} against "
-                             f"{fit.n_points} in {_measured(fit)}), so their likelihoods do not "
-                             "compare", "candidates",
+                             f"values ({n0} in {cols0} against {n} in {cols}), so their "
+                             "likelihoods do not compare", "candidates",
                              "name the same nodes after the log's columns (or map them with "
                              "columns=) in every candidate")
 

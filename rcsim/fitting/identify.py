@@ -53,7 +53,7 @@ __all__ = ["identify", "Identification", "METHOD"]
 #: already within a small fraction of a unit of its best, far below what the test can tell.
 SEARCH_OPTIONS = {"ftol": 1e-10, "xtol": 1e-8, "evaluations": 8}
 #: Each start of a structure first gets this budget; the best one goes on.
-SCREEN_OPTIONS = {"ftol": 1e-6, "xtol": 1e-5, "evaluations": 2}
+SCREEN_OPTIONS = {"ftol": 1e-6, "xtol": 1e-5, "evaluations": 1}
 
 METHOD = ("forward selection with likelihood-ratio tests (Bacher & Madsen, Energy and Buildings "
           "43 (2011) 1511-1522)")

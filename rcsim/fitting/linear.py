@@ -73,6 +73,38 @@ def _hold_coefficients(lam, steps):
     return a, c0, c1
 
 
+def decay_scan(a, v, z0) -> np.ndarray:
+    """Z (K + 1, n) of z_k+1 = a z_k + v_k for every mode at once (a (n,) in [0, 1]).
+
+    Within a block of L rows, z_s+j = a^j (z_s + sum_{i<j} a^-(i+1) v_s+i): one cumulative
+    sum, with L small enough that a^-L stays below e^300. Modes that die out within a row
+    (a < 1e-13) are z_k+1 = v_k + a v_k-1, exact in double precision.
+    """
+    K, n = v.shape
+    Z = np.empty((K + 1, n))
+    Z[0] = z0
+    with np.errstate(divide="ignore"):
+        rate = -np.log(a)
+    fast = rate > 30.0
+    if fast.any():
+        f = np.flatnonzero(fast)
+        Z[1:, f] = v[:, f]
+        Z[2:, f] += a[f] * v[:-1, f]
+        Z[1, f] += a[f] * z0[f]
+    slow = np.flatnonzero(~fast)
+    if slow.size:
+        r = rate[slow]
+        length = int(max(1, min(K, 300.0 // max(float(r.max()), 1e-300))))
+        j = np.arange(1, length + 1)[:, None]
+        grow, shrink = np.exp(r[None, :] * j), np.exp(-r[None, :] * j)
+        for s in range(0, K, length):  # blocks of rows (one when the modes are slow)
+            blk = v[s:s + length, slow]
+            l = blk.shape[0]
+            acc = np.cumsum(blk * grow[:l], axis=0)
+            Z[s + 1:s + l + 1, slow] = shrink[:l] * (Z[s, slow] + acc)
+    return Z
+
+
 class _NotDirect(Exception):
     """The scenario or a free value does not map onto the matrices directly."""
 
@@ -225,17 +257,59 @@ class LinearModel:
             return self._run(values, t_run)[np.searchsorted(t_run, t)]
         return self._run(values, t)
 
-    def _run(self, values, t) -> np.ndarray:
-        cap, g, x0, consts = self._apply([float(v) for v in values])
+    def _modes(self, cap, g):
+        """The network's modes: C^-1/2 K C^-1/2 = U diag(lam) U^T, z = U^T C^1/2 x, so that
+        dz/dt = -lam z + G w and x = back z; with the massless nodes' maps R, D."""
         _, _, R, D, m, z, Keff, C = self._system(cap, g)
-        E = self._last_E
-        w = self._input_values(t, consts)
-        # modes: C^-1/2 K C^-1/2 = U diag(lam) U^T, z = U^T C^1/2 x, dz/dt = -lam z + G w
         root = np.sqrt(C)
         lam, U = np.linalg.eigh(Keff / root[:, None] / root[None, :])
         lam = np.maximum(lam, 0.0)
-        G = U.T @ (E / root[:, None])
-        back = U / root[:, None]                      # x = back @ z
+        G = U.T @ (self._last_E / root[:, None])
+        return lam, U, root, G, U / root[:, None], R, D, m, z
+
+    def linear_jacobian(self, values, indices) -> dict:
+        """Exact d outputs / d value (n_times, n_measured) at the log's times for the free
+        values that enter linearly (starting temperatures, constant boundary temperatures and
+        source powers), in closed form: a unit starting temperature decays as exp(-lam t) in
+        each mode, a unit constant input rises as (1 - exp(-lam t)) / lam."""
+        cap, g, _, _ = self._apply([float(v) for v in values])
+        lam, U, root, G, back, R, D, m, z = self._modes(cap, g)
+        t = self.t[:, None] - self.t[0]
+        x = lam[None, :] * t
+        decay = np.exp(-x)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            rise = np.where(x < 1e-8, t * (1 - x / 2), -np.expm1(-x) / lam[None, :])
+        where = {int(k): i for i, k in enumerate(m)}
+        zwhere = {int(k): i for i, k in enumerate(z)}
+        out = {}
+        for i in indices:  # a loop over the linear free values
+            role = self.roles[i]
+            if role.what == "initial":
+                if role.index not in where:
+                    out[i] = np.zeros((t.size, self.node_idx.size))
+                    continue
+                p = where[role.index]
+                X = (decay * (U[p] * root[p])[None, :]) @ back.T
+                direct = np.zeros(D.shape[0])
+            elif role.what in ("boundary", "source"):
+                X = (rise * G[:, role.index][None, :]) @ back.T
+                direct = D[:, role.index]
+            else:
+                continue
+            cols = np.empty((t.size, self.node_idx.size))
+            for col, node in enumerate(self.node_idx):
+                if int(node) in where:
+                    cols[:, col] = X[:, where[int(node)]]
+                else:
+                    k = zwhere[int(node)]
+                    cols[:, col] = X @ R[k] + direct[k]
+            out[i] = cols
+        return out
+
+    def _run(self, values, t) -> np.ndarray:
+        cap, g, x0, consts = self._apply([float(v) for v in values])
+        w = self._input_values(t, consts)
+        lam, U, root, G, back, R, D, m, z = self._modes(cap, g)
         key = (t.size, float(t[0]), float(t[-1]))
         if self._steps_key != key:                    # the distinct steps of these times, once
             self._steps = np.unique(np.diff(t), return_inverse=True)
@@ -245,9 +319,13 @@ class LinearModel:
         self.stats.decompositions += 1
         u = w @ G.T                                   # (N, n) modal forcing at the rows
         forcing = (c0 - c1)[index] * u[:-1] + c1[index] * u[1:]
-        F = np.zeros((steps.size, lam.size, lam.size))
-        F[:, np.arange(lam.size), np.arange(lam.size)] = a
-        Z = linear_recurrence(F, index, forcing, U.T @ (root * x0[m]))
+        z0 = U.T @ (root * x0[m])
+        if steps.size == 1:  # regular rows: each mode at once by a scaled cumulative sum
+            Z = decay_scan(a[0], forcing, z0)
+        else:
+            F = np.zeros((steps.size, lam.size, lam.size))
+            F[:, np.arange(lam.size), np.arange(lam.size)] = a
+            Z = linear_recurrence(F, index, forcing, z0)
         X = Z @ back.T
         nodes = np.empty((t.size, self.node_idx.size))
         where = {int(k): i for i, k in enumerate(m)}

@@ -131,7 +131,8 @@ def output_error_likelihood(residuals: np.ndarray, sigma=None) -> tuple[float, i
 def information_criteria(log_likelihood: float, k: int, n: int) -> tuple[float, float]:
     """(AIC, BIC) for a log-likelihood with ``k`` estimated values from ``n`` data.
 
-    >>> information_criteria(-10.0, 2, 100)
-    (24.0, 29.21034037197618)
+    >>> aic, bic = information_criteria(-10.0, 2, 100)
+    >>> aic, round(bic, 6)    # 2 * 2 + 20, 2 ln(100) + 20
+    (24.0, 29.21034)
     """
     return 2.0 * k - 2.0 * log_likelihood, k * math.log(n) - 2.0 * log_likelihood

@@ -26,7 +26,7 @@ from .problem import Problem, column_weights, search
 from .result import FitResult
 from .summary import summarise
 
-__all__ = ["fit", "fit_prepared", "issue_warnings", "check_starts", "check_noise"]
+__all__ = ["fit", "fit_prepared", "issue_warnings", "check_starts", "check_noise", "model_for"]
 
 
 def fit(scenario, data, free=None, *, columns=None, ignore=None, bounds=None, sigma=None,
@@ -158,11 +158,24 @@ def fit_scenario(sc: Scenario, data, spec: FitSpec, *, time=None, time_unit=None
                          "give a list of logs, or free the values as shared ones")
     log = read_for(sc, data, spec, time, time_unit, max_gap)
     params = make_parameters(sc, spec.free, spec.bounds, log)
-    model = Model(sc, log, params, solver)
+    model = model_for(sc, log, params, solver, noise)
     result = fit_prepared(sc, log, params, model, holdout=parse_holdout(holdout, log.time),
                           sigma=spec.sigma, starts=starts, seed=seed, noise=noise, lags=lags)
     result.wall_time = _time.perf_counter() - wall0
     return result
+
+
+def model_for(sc: Scenario, log: Log, params: ParameterSet, solver: str, noise: str):
+    """The model of a fit: the engine's (:class:`Model`); with process noise, whose likelihood
+    needs many more model runs, the direct linear model where the scenario qualifies (the same
+    numbers, see :mod:`rcsim.fitting.linear`)."""
+    if noise == "process":
+        from .linear import direct_model
+
+        fast = direct_model(sc, log, params, solver)
+        if fast is not None:
+            return fast
+    return Model(sc, log, params, solver)
 
 
 def fit_prepared(sc: Scenario, log: Log, params: ParameterSet, model, *, holdout=None,

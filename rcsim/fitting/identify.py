@@ -51,7 +51,7 @@ __all__ = ["identify", "Identification", "METHOD"]
 #: Least-squares settings of the structures' fits: a structure with a node the data do not need
 #: has a flat valley that costs many evaluations to walk to its end; the likelihood there is
 #: already within a small fraction of a unit of its best, far below what the test can tell.
-SEARCH_OPTIONS = {"ftol": 1e-10, "xtol": 1e-8, "evaluations": 8}
+SEARCH_OPTIONS = {"ftol": 1e-10, "xtol": 1e-8, "evaluations": 5}
 #: Each start of a structure first gets this budget; the best one goes on.
 SCREEN_OPTIONS = {"ftol": 1e-6, "xtol": 1e-5, "evaluations": 1}
 
@@ -163,7 +163,7 @@ def identify(log, measured, drivers=(), ambient=None, *, time=None, time_unit=No
         A column that is not in the log, an ambient that is neither a temperature, a column nor
         'free', nothing for the body to exchange heat with, a bad option.
     """
-    from threadpoolctl import threadpool_limits
+    from .threads import one_blas_thread
 
     wall0 = _time.perf_counter()
     _check_options(noise, significance, max_nodes, starts)
@@ -171,7 +171,7 @@ def identify(log, measured, drivers=(), ambient=None, *, time=None, time_unit=No
     for m in moves:
         if m not in MOVES:
             raise InputError(f"unknown extension {m!r}", "moves", suggest(m, list(MOVES)))
-    with threadpool_limits(limits=1, user_api="blas"):  # many small matrices: threads only cost
+    with one_blas_thread():  # many small matrices: threads only cost
         result = _identify(log, measured, drivers, ambient, dict(
             time=time, time_unit=time_unit, max_gap=max_gap), holdout, noise, significance,
             max_nodes, capacity, sigma, starts, lags, moves)

@@ -108,9 +108,9 @@ def van_loan(A: np.ndarray, Sigma: np.ndarray, steps) -> tuple[np.ndarray, np.nd
     Phi, Q : (u, n, n) ndarrays
 
     A log has few distinct steps (one when it is sampled regularly), and each gets one matrix
-    exponential of size 2n. With more than ``MANY_STEPS`` distinct steps (irregular sampling)
-    the same integrals are taken in closed form over the eigenvalues of A, for all steps at once
-    (:func:`modal_discretisation`).
+    exponential of size 2n. With more than ``MANY_STEPS`` distinct steps (irregular sampling),
+    or a diagonal A (one node), the same integrals are taken in closed form over the
+    eigenvalues of A, for all steps at once (:func:`modal_discretisation`).
 
     >>> Phi, Q = van_loan(np.array([[-0.5]]), np.array([[2.0]]), [1.0])
     >>> round(float(Phi[0, 0, 0]), 6), round(float(Q[0, 0, 0]), 6)  # e^-0.5, 2 (1 - e^-1) / 1
@@ -119,7 +119,8 @@ def van_loan(A: np.ndarray, Sigma: np.ndarray, steps) -> tuple[np.ndarray, np.nd
     from scipy.linalg import expm
 
     steps = np.atleast_1d(np.asarray(steps, dtype=float))
-    if steps.size > MANY_STEPS:
+    diagonal = not np.any(A - np.diag(np.diag(A)))
+    if steps.size > MANY_STEPS or diagonal:  # (a diagonal A, e.g. one node: the closed form)
         out = modal_discretisation(A, Sigma, steps)
         if out is not None:
             return out
@@ -261,6 +262,14 @@ def kalman_filter(r: np.ndarray, observed: np.ndarray, t: np.ndarray, A: np.ndar
     P0 : (n, n) ndarray, optional
         Covariance of the first prior (default: stationary, see the module's docstring).
     """
+    from .threads import one_blas_thread
+
+    # many small matrices: BLAS threads only cost (and much more on a busy machine)
+    with one_blas_thread():
+        return _filter(r, observed, t, A, H, process, measurement, P0)
+
+
+def _filter(r, observed, t, A, H, process, measurement, P0) -> KalmanOutput:
     r = np.asarray(r, dtype=float)
     observed = np.asarray(observed, dtype=bool) & np.isfinite(r)
     N, m = r.shape

@@ -142,6 +142,15 @@ class LinearModel:
         self._knots = np.unique(np.concatenate(knots)) if knots else np.zeros(0)
         self.roles = [self._role(asm, p) for p in params]
         self.stats = ModelStats("exact")
+        points = self.n_nodes + self.n_bound
+        segs = np.arange(self.seg_a.size)
+        self._incidence = np.zeros((points, self.seg_a.size))
+        self._incidence[self.seg_a, segs] = 1.0
+        self._incidence[self.seg_b, segs] -= 1.0
+        self._sources = np.zeros((self.n_nodes, self.n_bound + self.n_src))
+        self._sources[self.source_nodes, self.n_bound + np.arange(self.n_src)] = 1.0
+        self._w_key = None
+        self._w = None
         self._steps_key = None
         self._steps = None
         self._last_E = None
@@ -210,16 +219,10 @@ class LinearModel:
     def _system(self, cap, g):
         """Reduced A (n, n), B (n, M + S), output maps of massless nodes, state indices."""
         N, M = self.n_nodes, self.n_bound
-        a, b = self.seg_a, self.seg_b
-        Kfull = np.zeros((N + M, N + M))
-        np.add.at(Kfull, (a, a), g)
-        np.add.at(Kfull, (b, b), g)
-        np.add.at(Kfull, (a, b), -g)
-        np.add.at(Kfull, (b, a), -g)
+        Kfull = (self._incidence * g[None, :]) @ self._incidence.T  # sum of g (e_a - e_b)(..)^T
         K = Kfull[:N, :N]
-        E = np.zeros((N, M + self.n_src))
+        E = self._sources.copy()
         E[:, :M] = -Kfull[:N, N:]
-        np.add.at(E, (self.source_nodes, M + np.arange(self.n_src)), 1.0)
         m = np.flatnonzero(cap > 0)
         z = np.flatnonzero(cap == 0)
         if z.size:
@@ -236,14 +239,17 @@ class LinearModel:
         return -Keff / C[:, None], Eeff / C[:, None], R, D, m, z, Keff, C
 
     def _input_values(self, t, consts) -> np.ndarray:
-        w = np.empty((t.size, len(self._inputs)))
-        for j, (kind, times, vals) in enumerate(self._inputs):
-            if j in consts:
-                w[:, j] = consts[j]
-            elif kind == "constant":
-                w[:, j] = vals
-            else:
-                w[:, j] = np.interp(t, times, vals)
+        key = (t.size, float(t[0]), float(t[-1]))
+        if self._w_key != key:  # the inputs at these times, once (free constants set below)
+            w = np.empty((t.size, len(self._inputs)))
+            for j, (kind, times, vals) in enumerate(self._inputs):
+                w[:, j] = vals if kind == "constant" else np.interp(t, times, vals)
+            self._w, self._w_key = w, key
+        if not consts:
+            return self._w
+        w = self._w.copy()
+        for j, v in consts.items():
+            w[:, j] = v
         return w
 
     def outputs(self, values, times=None) -> np.ndarray:

@@ -31,7 +31,6 @@ from ..errors import DataError, InputError
 from .candidates import FitSpec
 from .diagnostics import information_criteria
 from .holdout import parse_holdout
-from .model import Model
 from .notes import Notes
 from .parameters import ParameterSet, make_parameters
 from .problem import Problem, Run, Search, column_weights, run_least_squares, search
@@ -199,7 +198,7 @@ def prepare_records(sc, datas, spec: FitSpec, read_settings: dict, solver: str, 
                     model_of=None) -> tuple[list, ParameterSet, Notes]:
     """Read each log, free its values, build its model; the global free values (shared, then
     each record's own) and the notes gathered (gaps, starts moved)."""
-    from .estimate import read_for
+    from .estimate import model_for, read_for
     from .logs import gap_notes
 
     shared = list(spec.free or [])
@@ -216,7 +215,8 @@ def prepare_records(sc, datas, spec: FitSpec, read_settings: dict, solver: str, 
     for r, (label, data) in enumerate(zip(labels, datas)):
         log = read_for(sc, data, spec, **read_settings)
         params = make_parameters(sc, shared + own, spec.bounds, log)
-        model = model_of(sc, log, params) if model_of else Model(sc, log, params, solver)
+        model = model_of(sc, log, params) if model_of else \
+            model_for(sc, log, params, solver, spec.noise or "measurement")
         Y = log.values[log.measured].to_numpy(dtype=float)
         mask = np.isfinite(Y)
         span = parse_holdout(holdout, log.time)

@@ -188,7 +188,7 @@ class StochasticProblem:
         x0 = np.asarray(x0, dtype=float)
         bounds = self.bounds(x0)
         res = minimize(self.negloglik, x0, jac=self.gradient, method="L-BFGS-B", bounds=bounds,
-                       options={"maxiter": iterations, "ftol": 1e-10, "gtol": 1e-5,
+                       options={"maxiter": iterations, "ftol": 1e-9, "gtol": 1e-5,
                                 "maxls": 40})
         res.search_bounds = bounds
         return res
@@ -226,9 +226,9 @@ def fit_stochastic(records: list, params: ParameterSet, x_phys, notes: Notes, *,
     intervals); the result's ``_refine()`` computes them later (for the one structure of many
     that is kept).
     """
-    from threadpoolctl import threadpool_limits
+    from .threads import one_blas_thread
 
-    with threadpool_limits(limits=1, user_api="blas"):  # small matrices: threads only cost
+    with one_blas_thread():  # small matrices: threads only cost
         return _fit_stochastic(records, params, x_phys, notes, sigma, starts, lags, iterations,
                                final)
 
@@ -261,9 +261,9 @@ def _fit_stochastic(records, params, x_phys, notes, sigma, starts, lags, iterati
                                 uncertainty=False)
 
     def refine():
-        from threadpoolctl import threadpool_limits
+        from .threads import one_blas_thread
 
-        with threadpool_limits(limits=1, user_api="blas"):
+        with one_blas_thread():
             return stochastic_results(problem, x, best.search_bounds, kept, lags=lags)
 
     result._refine = refine

@@ -245,12 +245,12 @@ def noisy_block_log(seed, sigma_process=0.0055, sigma_measurement=0.05):
 def test_process_noise_intervals_cover_the_truth_where_deterministic_ones_do_not():
     # 95 % intervals should hold the truth in about 95 % of records. With a wandering state
     # the deterministic fit's residuals follow each other and its intervals are far too narrow;
-    # the stochastic fit's are honest. Over 16 seeds x 2 values (capacity, resistance):
+    # the stochastic fit's are honest. Over 12 seeds x 2 values (capacity, resistance):
     sc = rcsim.loads(BLOCK)
     truth = {"nodes.block.capacity": C_TRUE, "links.skin.resistance": R_TRUE}
     inside = {"measurement": 0, "process": 0}
     total = 0
-    for seed in range(16):
+    for seed in range(12):
         log = noisy_block_log(seed)
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", FitWarning)

@@ -220,13 +220,14 @@ def _identify(source, measured, drivers, ambient, read, holdout, noise, signific
         res = fit_prepared(sc, log, params, model, holdout=span, sigma=sigma, noise=noise,
                            lags=lags, points=points, starts=len(points), options=SEARCH_OPTIONS,
                            screen=SCREEN_OPTIONS, final=False)
-        res.label = ladder.label
+        res.label = _unique(ladder.label, tried)
         return _Tried(ladder, res, dict(zip(params.keys, res.estimates["value"])), extension)
 
+    tried: dict = {}
     base = base_ladder(setup)
     current = fit_one(base, base_starts(base, setup), "")
     rows = [_row(0, current, None, significance, accepted=True)]
-    tried = {current.fit.label: current}
+    tried[current.fit.label] = current
     lines = [f"start  {current.fit.label}: {_describe(current)}"]
     step = 0
     while True:
@@ -236,13 +237,15 @@ def _identify(source, measured, drivers, ambient, read, holdout, noise, signific
         if not options:
             lines.append(f"step {step}: no extension left within {max_nodes} nodes; stop")
             break
-        fits = [fit_one(e.ladder, e.starts(current.values), e.description) for e in options]
+        fits = []
+        for e in options:
+            fits.append(fit_one(e.ladder, e.starts(current.values), e.description))
+            tried[fits[-1].fit.label] = fits[-1]
         best = max(fits, key=lambda f: f.fit.log_likelihood)
         test = {f.fit.label: _lr_test(current, f) for f in fits}
         lr, df, p = test[best.fit.label]
         keep = p < significance
         for f in fits:
-            tried[f.fit.label] = f
             rows.append(_row(step, f, test[f.fit.label], significance,
                              accepted=keep and f is best))
         verdict = (f"significant at {significance:g}: kept ({best.ladder.n_nodes} nodes)" if keep
@@ -269,6 +272,14 @@ def _identify(source, measured, drivers, ambient, read, holdout, noise, signific
     return Identification(table, sc_selected, selected.fit, path,
                           {k: v.fit for k, v in tried.items()}, significance, noise, notes,
                           columns, selected.ladder.free_keys(setup))
+
+
+def _unique(label: str, taken) -> str:
+    name, i = label, 2
+    while name in taken:
+        name = f"{label} ({i})"
+        i += 1
+    return name
 
 
 def _lr_test(current: _Tried, other: _Tried) -> tuple[float, int, float]:

@@ -264,6 +264,7 @@ def _all_extensions(ladder: Ladder, setup: LadderSetup, values: dict) -> list[Ex
     taken = set(ladder.node_names) | set(setup.boundary_names) | {nm for nm, _, _ in ladder.links}
     bnames = set(setup.boundary_names)
     several = len(setup.boundaries) > 1 or len(setup.measured) > 1
+    to_boundary = sum(1 for _, a, b in ladder.links if b in bnames and a not in bnames)
     for link, a, b in ladder.links:  # envelope: a node inserted into a link to a boundary
         if b not in bnames or a in bnames:
             continue
@@ -278,7 +279,7 @@ def _all_extensions(ladder: Ladder, setup: LadderSetup, values: dict) -> list[Ex
         starts = [{f"nodes.{node}.capacity": c * k, f"links.{la}.resistance": r * f,
                    f"links.{lb}.resistance": r * (1 - f), f"nodes.{node}.initial": t_mid}
                   for f, k in ((0.5, 1.0), (0.2, 5.0), (0.8, 0.2))]
-        short = f"envelope {a}-{b}" if several else "envelope"
+        short = f"envelope {a}-{b}" if several or to_boundary > 1 else "envelope"
         out.append(_ext(new, f"an envelope node between {a} and {b}", short, starts,
                         ladder, setup, (f"links.{link}.resistance",)))
     for m in setup.measured_nodes:  # mass: a node linked to a measured node only

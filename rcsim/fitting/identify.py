@@ -226,7 +226,7 @@ def _identify(source, measured, drivers, ambient, read, holdout, noise, signific
     tried: dict = {}
     base = base_ladder(setup)
     current = fit_one(base, base_starts(base, setup), "")
-    rows = [_row(0, current, None, significance, accepted=True)]
+    rows = [_row(0, current, None, accepted=True)]
     tried[current.fit.label] = current
     lines = [f"start  {current.fit.label}: {_describe(current)}"]
     step = 0
@@ -246,8 +246,7 @@ def _identify(source, measured, drivers, ambient, read, holdout, noise, signific
         lr, df, p = test[best.fit.label]
         keep = p < significance
         for f in fits:
-            rows.append(_row(step, f, test[f.fit.label], significance,
-                             accepted=keep and f is best))
+            rows.append(_row(step, f, test[f.fit.label], accepted=keep and f is best))
         verdict = (f"significant at {significance:g}: kept ({best.ladder.n_nodes} nodes)" if keep
                    else f"not significant at {significance:g}; stop")
         lines.append(f"step {step}: {len(fits)} extension(s) tried; best: {best.extension} "
@@ -294,7 +293,7 @@ def _lr_test(current: _Tried, other: _Tried) -> tuple[float, int, float]:
     return lr, df, p
 
 
-def _row(step, tried: _Tried, test, significance, accepted) -> dict:
+def _row(step, tried: _Tried, test, accepted) -> dict:
     f = tried.fit
     lr, df, p = test if test is not None else (math.nan, 0, math.nan)
     return {"step": step, "structure": f.label, "extension": tried.extension or "(start)",

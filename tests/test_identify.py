@@ -20,7 +20,7 @@ from scipy.optimize import curve_fit
 import rcsim
 from rcsim.errors import DataError, InputError
 from rcsim.fitting import FitWarning
-from rcsim.fitting.estimate import read_for
+from rcsim.fitting.procedure import read_for
 from rcsim.fitting.candidates import FitSpec
 from rcsim.fitting.linear import LinearModel
 from rcsim.fitting.model import Model

@@ -51,10 +51,11 @@ several starts), ``statistics`` (covariance, intervals, correlations and their w
 ``summary`` (the optimum to a result), ``result`` (:class:`FitResult`, writing the estimates and
 the fitted scenario), ``notes`` (the warning class and the notes gathered), ``candidates`` (a
 scenario's ``[fit]`` section), ``estimate`` (:func:`fit`, the procedure), ``record`` and
-``records`` (several logs at once), ``kalman`` (the continuous-discrete Kalman filter),
-``stochastic`` and ``stochastic_result`` (the fit with process noise), ``compare`` (candidates
-compared), ``ladder`` (structures and their extensions), ``identify`` (forward selection),
-``figures`` (the comparison figure).
+``records`` and ``joint`` (several logs at once), ``procedure`` (one fit, shared by the others),
+``kalman`` (the continuous-discrete Kalman filter), ``stochastic``, ``stochastic_result`` and
+``stochastic_fit`` (the fit with process noise), ``compare`` (candidates compared), ``ladder``
+(structures and their extensions), ``identify`` (forward selection), ``figures`` (the
+comparison figure), ``threads`` (one BLAS thread for small matrices).
 """
 
 from .candidates import Candidate, FitSpec, read_candidate
@@ -66,7 +67,7 @@ from .identify import Identification, identify
 from .logs import Log, read_log
 from .notes import FitWarning
 from .parameters import LOG_RANGE, parse_bound
-from .records import JointFit
+from .joint import JointFit
 from .result import FitResult
 from .statistics import AUTOCORRELATION_LIMIT, CORRELATION_LIMIT, WIDE_FACTOR, WIDE_KELVIN
 

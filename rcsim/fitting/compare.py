@@ -73,9 +73,9 @@ class Comparison:
 
     def to_csv(self, path) -> str:
         """Write :attr:`table` to a CSV file (temporary name, renamed when complete)."""
-        from .result import _write_text_atomic
+        from .result import write_text_atomic
 
-        return _write_text_atomic(path, self.table.to_csv(index_label="candidate"))
+        return write_text_atomic(path, self.table.to_csv(index_label="candidate"))
 
     def write_selected(self, path) -> str:
         """Write the selected candidate's fitted scenario (TOML), checked by reading it back."""
@@ -116,7 +116,8 @@ def compare(candidates, data, free=None, *, columns=None, ignore=None, bounds=No
         No candidate, a candidate with nothing freed, an unknown rule, candidates that do not
         measure the same values (their likelihoods would not compare).
     """
-    from .estimate import fit_scenario, issue_warnings
+    from .procedure import fit_scenario, issue_warnings
+    from .records import fit_records
 
     if select not in SELECT:
         from ..base import suggest
@@ -142,15 +143,13 @@ def compare(candidates, data, free=None, *, columns=None, ignore=None, bounds=No
             raise InputError(f"candidate {labels[-1]!r} frees no value", "free",
                              "give free= or a [fit] section with free = [...] in its file")
     if not isinstance(data, (list, tuple)):  # fail before fitting: the same measured columns
-        from .estimate import read_for
+        from .procedure import read_for
 
         _check_comparable({label: read_for(cand.scenario, data, own, time, time_unit, max_gap)
                            for label, cand, own in zip(labels, pool, specs)})
     fits = {}
     for label, cand, own in zip(labels, pool, specs):
         if isinstance(data, (list, tuple)):
-            from .records import fit_records
-
             res = fit_records(cand.scenario, list(data), own, **settings)
         else:
             res = fit_scenario(cand.scenario, data, own, **settings)

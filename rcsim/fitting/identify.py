@@ -37,7 +37,7 @@ from ..errors import DataError, InputError
 from ..scenario import Scenario, loads
 from ..units import to_si
 from .candidates import NOISE_KINDS
-from .estimate import check_starts, fit_prepared, issue_warnings
+from .procedure import check_starts, fit_prepared, issue_warnings
 from .holdout import parse_holdout
 from .ladder import (MOVES, BoundaryInput, Ladder, LadderSetup, base_ladder, base_starts,
                      clean_name, extensions)
@@ -101,9 +101,9 @@ class Identification:
 
     def to_csv(self, path) -> str:
         """Write :attr:`steps` to a CSV file (temporary name, renamed when complete)."""
-        from .result import _write_text_atomic
+        from .result import write_text_atomic
 
-        return _write_text_atomic(path, self.steps.to_csv(index=False))
+        return write_text_atomic(path, self.steps.to_csv(index=False))
 
     def write_selected(self, path) -> str:
         """Write the selected scenario (TOML) to ``path``, checked by reading it back."""

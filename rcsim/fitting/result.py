@@ -23,7 +23,7 @@ from ..scenario import Scenario, loads
 from ..units import si_unit, to_si
 from .notes import FitWarning
 
-__all__ = ["FitResult"]
+__all__ = ["FitResult", "write_text_atomic", "display_unit", "scenario_text"]
 
 #: First words of the comment header of a fitted scenario, and of its last line.
 HEADER_FIRST = "# Fitted to "
@@ -272,8 +272,12 @@ def _with_header(header: str, body: str) -> str:
     return header.replace("\n", newline) + newline + newline + body
 
 
-def _display_unit(kind: str) -> str:
+def display_unit(kind: str) -> str:
+    """The unit a value of quantity ``kind`` is shown in (empty without a kind)."""
     return si_unit(kind, display=True) if kind else ""
+
+
+_display_unit = display_unit
 
 
 def _relocate_csv_paths(data, old_dir, new_dir):
@@ -297,6 +301,11 @@ def _relocate_csv_paths(data, old_dir, new_dir):
     if os.path.abspath(old_dir) != os.path.abspath(new_dir):
         walk(data)
     return data
+
+
+def write_text_atomic(path, text: str) -> str:
+    """Write ``text`` to ``path`` under a temporary name, renamed when complete."""
+    return _write_text_atomic(path, text)
 
 
 def _write_text_atomic(path, text: str) -> str:

@@ -11,6 +11,7 @@ import pandas as pd
 
 from ..errors import InputError
 from .diagnostics import WHITE_P, information_criteria, whiteness_table
+from .joint import joint_result
 from .notes import Notes
 from .result import FitResult
 from .statistics import (Uncertainty, autocorrelation_warnings, correlation_matrix,
@@ -105,8 +106,6 @@ def stochastic_results(problem: StochasticProblem, x, bounds, notes: Notes, *, l
                                       lags, uncertainty))
     if len(results) == 1:
         return results[0]
-    from .records import joint_result
-
     loglik = float(sum(o.log_likelihood for o in outs))
     n = int(sum(o.n_observed for o in outs))
     return joint_result(problem.records, problem.params, x[:problem.p], cov[:problem.p, :problem.p],

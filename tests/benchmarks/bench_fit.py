@@ -186,7 +186,7 @@ def identification_part() -> None:
     from test_identify import truth_log  # the synthetic two-node room of the tests
 
     from rcsim.fitting.candidates import FitSpec
-    from rcsim.fitting.estimate import read_for
+    from rcsim.fitting.procedure import read_for
     from rcsim.fitting.linear import LinearModel
     from rcsim.fitting.model import Model
     from rcsim.fitting.parameters import make_parameters

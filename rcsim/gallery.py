@@ -17,7 +17,7 @@ import sys
 
 import click
 
-from .errors import RcsimError
+from .errors import InputError, RcsimError
 
 __all__ = ["build_gallery"]
 
@@ -41,7 +41,8 @@ def build_gallery(scenarios: str = "scenarios", out: str = "plots", echo=None) -
 
     files = sorted(glob.glob(os.path.join(scenarios, "*.toml")))
     if not files:
-        raise click.UsageError(f"no *.toml scenario in {scenarios!r}")
+        raise InputError(f"no *.toml scenario in {scenarios!r}", "--scenarios",
+                         "run from the repository's root, or give the folder")
     os.makedirs(out, exist_ok=True)
     written, sections = [], []
     for path in files:

@@ -10,15 +10,19 @@ temperature only changes with the heat put in.
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 import scipy.linalg as la
 
+from .errors import NetworkError, RcsimError, RcsimWarning
+from .nonlinear import linearised, steady_newton
 from .statespace import state_space
 
-__all__ = ["Modes", "modal_decomposition", "time_constants", "modes_table", "DENSE_LIMIT"]
+__all__ = ["Modes", "modal_decomposition", "time_constants", "modes_table", "DENSE_LIMIT",
+           "linear_assembled", "time_constants_at"]
 
 #: Above this many states the dense eigen-decomposition is not attempted.
 DENSE_LIMIT = 3000
@@ -40,14 +44,13 @@ class Modes:
 
 
 def modal_decomposition(asm) -> Modes:
-    """Dense eigen-decomposition of the reduced system of ``asm`` (cached on it)."""
-    cached = getattr(asm, "_modes", None)
+    """Dense eigen-decomposition of the reduced system of ``asm`` (kept in its cache,
+    ``asm.cache.structure``)."""
+    cached = asm.cache.structure.modes
     if cached is not None:
         return cached
     ss = state_space(asm)
     if ss.n > DENSE_LIMIT:
-        from .errors import NetworkError
-
         raise NetworkError(f"{ss.n} states are too many for the dense modal decomposition "
                            f"(limit {DENSE_LIMIT})", None, "use the stiff solver")
     inv_sqrt_c = 1.0 / np.sqrt(ss.C)
@@ -59,20 +62,52 @@ def modal_decomposition(asm) -> Modes:
     lam = np.maximum(lam, 0.0)
     lam[:n_float] = 0.0
     modes = Modes(lam, V, n_float)
-    asm._modes = modes
+    asm.cache.structure.modes = modes
     return modes
 
 
-def _linear_assembled(network):
+def linear_assembled(network):
     """The network's Assembled; a nonlinear one linearised about its steady state at t = 0."""
     asm = network.assemble()
     if asm.is_linear:
         return asm
-    from .nonlinear import linearised, steady_newton  # solver layer, same level
-
     u = asm.boundary_values(0.0)
     T = steady_newton(asm, u, asm.source_values(0.0), list(network.thermostats.values()))
     return linearised(asm, T, u)
+
+
+_linear_assembled = linear_assembled   # older name
+
+
+def time_constants_at(asm, thermostats=(), t: float = 0.0):
+    """Time constants [s] of the network, longest first; a nonlinear one linearised about the
+    steady state under the inputs at time ``t`` [s] (what governs its approach to them), with
+    its thermostats' settings. None when they cannot be computed (above :data:`DENSE_LIMIT`
+    states, or no steady state).
+
+    A pure function of the assembly, ``t`` and the thermostat settings: kept in the assembly's
+    cache, so repeated runs of one network do not solve the same steady state again.
+    """
+    if state_space(asm).n > DENSE_LIMIT:
+        return None
+    if asm.is_linear:
+        return modal_decomposition(asm).time_constants
+    key = (float(t), tuple(thermostats))
+    cache = asm.cache.time_constants
+    if key in cache:
+        return cache[key]
+    try:
+        u = asm.boundary_values(t)
+        with warnings.catch_warnings():  # on/off thermostats are left off here; no news
+            warnings.simplefilter("ignore", RcsimWarning)
+            T = steady_newton(asm, u, asm.source_values(t), list(thermostats))
+        tau = modal_decomposition(linearised(asm, T, u)).time_constants
+    except (RcsimError, np.linalg.LinAlgError, ValueError):
+        tau = None
+    if len(cache) > 16:
+        cache.clear()
+    cache[key] = tau
+    return tau
 
 
 def time_constants(network) -> np.ndarray:
@@ -82,7 +117,7 @@ def time_constants(network) -> np.ndarray:
     steady state at t = 0. For networks above :data:`DENSE_LIMIT` states, only the 20 longest are
     computed (sparse shift-invert Lanczos).
     """
-    asm = _linear_assembled(network)
+    asm = linear_assembled(network)
     ss = state_space(asm)
     if ss.n > DENSE_LIMIT:
         return _longest_sparse(ss, 20)
@@ -108,7 +143,7 @@ def modes_table(network, top: int = 3) -> pd.DataFrame:
     Columns: ``time_constant [s]``, ``time_constant [h]``, ``nodes`` (up to ``top`` names with
     their share of the mode's energy, e.g. ``"payload 92%, wall.1 6%"``).
     """
-    asm = _linear_assembled(network)
+    asm = linear_assembled(network)
     ss = state_space(asm)
     modes = modal_decomposition(asm)
     share = ss.C[:, None] * modes.V ** 2  # (n_states, n_modes), columns sum to 1

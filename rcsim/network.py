@@ -5,7 +5,7 @@ A *boundary* has an imposed temperature profile. A *link* joins two points (node
 parts in series; several links between the same two points act in parallel. A *source* injects a
 power profile into a node. Heat flows are positive from a link's first point to its second.
 
-Assembly turns this into::
+Assembly (:mod:`rcsim.assembly`) turns this into::
 
     C dT/dt = -K T + B u(t) + P s(t)
 
@@ -19,23 +19,26 @@ Solvers live in :mod:`rcsim.steady`, :mod:`rcsim.modes` and :mod:`rcsim.transien
 
 from __future__ import annotations
 
-import math
 import re
-import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
-import scipy.sparse as sp
-from scipy.sparse.csgraph import connected_components
 
 from . import elements
-from .errors import InputError, LumpedWarning, NetworkError
-from .materials import get_material, suggest
+from .assembly import Assembled, assemble_network, conductance_matrices
+from .base import suggest
+from .errors import InputError, NetworkError
+from .materials import get_material
 from .parts import Part, make_part
+from .phase import make_phase_change
 from .profiles import Profile, as_profile
+from .thermostat import Thermostat, make_thermostat
 from .units import to_si
 
 __all__ = ["Network", "Node", "Boundary", "Link", "Source", "Limit", "Assembled"]
+
+#: older name of :func:`rcsim.assembly.conductance_matrices`
+_conductance_matrices = conductance_matrices
 
 _NAME_OK = re.compile(r'^[^.\[\]"\x00-\x1f]{1,100}$')
 
@@ -119,116 +122,6 @@ class Limit:
     where: str = ""
 
 
-@dataclass
-class Assembled:
-    """The network as arrays. Points are nodes ``0..N-1`` then boundaries ``N..N+M-1``."""
-
-    node_names: list[str]
-    capacity: np.ndarray
-    initial: np.ndarray
-    boundary_names: list[str]
-    boundary_profiles: list[Profile]
-    source_names: list[str]
-    source_nodes: np.ndarray
-    source_profiles: list[Profile]
-    seg_a: np.ndarray
-    seg_b: np.ndarray
-    seg_g: np.ndarray
-    link_names: list[str]
-    link_first_seg: np.ndarray
-    link_last_seg: np.ndarray
-    K: sp.csr_matrix
-    B: sp.csr_matrix
-    P: sp.csr_matrix
-    internal_of: dict = field(default_factory=dict)  # internal node name -> link name
-    phase_change: dict = field(default_factory=dict)  # node index -> PhaseChange
-    nl: object | None = None  # rcsim.laws.SegmentLaws of the nonlinear segments, if any
-
-    @property
-    def n_nodes(self) -> int:
-        return len(self.node_names)
-
-    @property
-    def n_boundaries(self) -> int:
-        return len(self.boundary_names)
-
-    @property
-    def is_linear(self) -> bool:
-        return not self.phase_change and self.nl is None
-
-    def node_index(self, name: str) -> int:
-        try:
-            return self.node_names.index(name)
-        except ValueError:
-            raise NetworkError(f"unknown node {name!r}", None,
-                               suggest(name, self.node_names)) from None
-
-    def boundary_values(self, t) -> np.ndarray:
-        """Boundary temperatures at time(s) t: shape (M,) or (len(t), M)."""
-        if np.ndim(t) == 0:
-            return np.array([p.value(float(t)) for p in self.boundary_profiles])
-        return np.column_stack([p.value(t) for p in self.boundary_profiles]) if \
-            self.boundary_profiles else np.zeros((len(t), 0))
-
-    def source_values(self, t) -> np.ndarray:
-        if np.ndim(t) == 0:
-            return np.array([p.value(float(t)) for p in self.source_profiles])
-        return np.column_stack([p.value(t) for p in self.source_profiles]) if \
-            self.source_profiles else np.zeros((len(t), 0))
-
-    def floating_groups(self) -> list[list[int]]:
-        """Groups of nodes with no path to any boundary (their steady state is undefined)."""
-        n = self.n_nodes
-        mask = (self.seg_a < n) & (self.seg_b < n)
-        adj = sp.coo_matrix((np.ones(mask.sum()), (self.seg_a[mask], self.seg_b[mask])),
-                            shape=(n, n))
-        ncomp, labels = connected_components(adj, directed=False)
-        grounded = np.zeros(ncomp, dtype=bool)
-        bmask = (self.seg_a < n) & (self.seg_b >= n)
-        grounded[labels[self.seg_a[bmask]]] = True
-        bmask = (self.seg_b < n) & (self.seg_a >= n)
-        grounded[labels[self.seg_b[bmask]]] = True
-        groups = []
-        for c in np.flatnonzero(~grounded):
-            groups.append(np.flatnonzero(labels == c).tolist())
-        return groups
-
-    def boundary_segments(self):
-        """Segments touching a boundary, for energy accounting.
-
-        Returns (links, seg_link_col, node, boundary, g): ``links`` is the list of link indices
-        that touch a boundary (in link order); for each boundary segment, the column of its link
-        in ``links``, its node index, its boundary column and its conductance.
-        """
-        n = self.n_nodes
-        is_b = (self.seg_a >= n) | (self.seg_b >= n)
-        segs = np.flatnonzero(is_b)
-        seg_link = np.searchsorted(self.link_last_seg, segs)  # segments are stored link by link
-        links = sorted(set(seg_link.tolist()))
-        col = {li: c for c, li in enumerate(links)}
-        a, b = self.seg_a[segs], self.seg_b[segs]
-        node = np.where(a >= n, b, a)
-        bnd = np.where(a >= n, a, b) - n
-        return (links, np.asarray([col[li] for li in seg_link], dtype=np.int64), node, bnd,
-                self.seg_g[segs])
-
-    def segment_flows(self, node_t: np.ndarray, boundary_t: np.ndarray) -> np.ndarray:
-        """Heat flow through every segment [W], positive from seg_a to seg_b.
-
-        ``node_t`` has shape (..., N) and ``boundary_t`` (..., M).
-        """
-        points = np.concatenate([node_t, boundary_t], axis=-1)
-        q = self.seg_g * (points[..., self.seg_a] - points[..., self.seg_b])
-        if self.nl is not None:
-            s = self.nl.seg
-            q[..., s] = self.nl.flows(points[..., self.seg_a[s]], points[..., self.seg_b[s]])
-        return q
-
-    def link_flows(self, node_t: np.ndarray, boundary_t: np.ndarray) -> np.ndarray:
-        """Heat flow at the first end of every link [W]."""
-        return self.segment_flows(node_t, boundary_t)[..., self.link_first_seg]
-
-
 class Network:
     """A thermal RC network built from physical descriptions.
 
@@ -250,13 +143,17 @@ class Network:
         self.links: dict[str, Link] = {}
         self.sources: dict[str, Source] = {}
         self.limits: dict[str, Limit] = {}
-        self.thermostats: dict = {}
+        self.thermostats: dict[str, Thermostat] = {}   # settings; a run never changes them
+        self.exchanges: dict = {}   # radiation elements and enclosures, by name (their links)
         self._assembled: Assembled | None = None
         self.source_text: str | None = None  # scenario text, when built from a file
 
     # -- building -----------------------------------------------------------------------------
-    def _changed(self):
+    def mark_changed(self) -> None:
+        """Forget the assembly: call after changing nodes, links or profiles in place."""
         self._assembled = None
+
+    _changed = mark_changed   # older name
 
     def _point_exists(self, name) -> bool:
         return name in self.nodes or name in self.boundaries
@@ -303,8 +200,6 @@ class Network:
         if phase_change is None and mat is not None and mat.is_phase_change:
             phase_change = {}  # a phase-change material melts unless told otherwise
         if phase_change is not None and phase_change is not False:
-            from .phase import make_phase_change  # phase.py is a pure-physics module below us
-
             pc = make_phase_change(phase_change, w("phase_change"), material=mat)
             if m is None:
                 raise NetworkError("a phase-change node needs its mass", where,
@@ -352,7 +247,7 @@ class Network:
             raise NetworkError(f"initial temperature {t0:g} degC is below absolute zero",
                                w("initial"))
         self.nodes[name] = Node(name, c, t0, where, pc, m)
-        self._changed()
+        self.mark_changed()
         return name
 
     def add_boundary(self, name: str, temperature, where: str | None = None) -> str:
@@ -363,7 +258,7 @@ class Network:
             raise NetworkError(f"duplicate name {name!r} (nodes and boundaries share names)", where)
         prof = as_profile(temperature, "temperature", f"{where}.temperature")
         self.boundaries[name] = Boundary(name, prof, where)
-        self._changed()
+        self.mark_changed()
         return name
 
     def add_link(self, a: str, b: str, resistance=None, *, conductance=None, parts=None,
@@ -409,8 +304,35 @@ class Network:
         if area is not None:
             link_area = _nonneg(area, "area", f"{where}.area", positive=True)
         self.links[name] = Link(name, a, b, part_list, link_area, where)
-        self._changed()
+        self.mark_changed()
         return name
+
+    def add_radiation(self, name: str, surface: str, area, emissivity, sees, *,
+                      temperatures=None, where: str | None = None):
+        """Radiation from one grey surface to several nodes or boundaries, one surface resistance.
+
+        ``sees`` lists ``{"node": point, "view_factor": F}`` (or maps point to F); view factors
+        sum to at most 1. Exact in T^4 unless ``temperatures = [surface, surroundings]`` (or one
+        per seen point) linearises it. Adds links ``<name>:<point>``; see
+        :func:`rcsim.radiation_links.add_radiation`.
+        """
+        from .radiation_links import add_radiation
+
+        return add_radiation(self, name, surface, area, emissivity, sees,
+                             temperatures=temperatures, where=where)
+
+    def add_enclosure(self, name: str, surfaces, emissivities, *, areas=None, view_factors=None,
+                      shape=None, reradiating=None, temperatures=None,
+                      where: str | None = None):
+        """A grey diffuse enclosure of N surfaces (a view-factor matrix or a closed shape), wired
+        as one radiation link ``<name>:<a>-<b>`` per pair of points; see
+        :func:`rcsim.radiation_links.add_enclosure`.
+        """
+        from .radiation_links import add_enclosure
+
+        return add_enclosure(self, name, surfaces, emissivities, areas=areas,
+                             view_factors=view_factors, shape=shape, reradiating=reradiating,
+                             temperatures=temperatures, where=where)
 
     def add_source(self, node: str, power, name: str | None = None,
                    where: str | None = None) -> str:
@@ -426,13 +348,13 @@ class Network:
             raise NetworkError(f"unknown node {node!r}", f"{where}.node", hint)
         prof = as_profile(power, "power", f"{where}.power")
         self.sources[name] = Source(name, node, prof, where)
-        self._changed()
+        self.mark_changed()
         return name
 
     def add_limit(self, node: str, min=None, max=None, where: str | None = None) -> str:  # noqa: A002
         """A temperature band for ``node``: min and/or max [degC]."""
         where = where or f"limits.{node}"
-        if node not in self.nodes and not self._is_internal_name(node):
+        if node not in self.nodes and not self.is_internal_name(node):
             raise NetworkError(f"unknown node {node!r}", where, suggest(node, list(self.nodes)))
         lo = None if min is None else to_si(min, "temperature", f"{where}.min")
         hi = None if max is None else to_si(max, "temperature", f"{where}.max")
@@ -450,10 +372,8 @@ class Network:
 
         It senses ``sensor`` (default ``node``). ``control='on-off'`` switches with a dead band
         ``band`` [K] centred on ``setpoint``; ``'proportional'`` varies the power linearly across
-        the band. See :class:`rcsim.nonlinear.Thermostat`.
+        the band. See :class:`rcsim.thermostat.Thermostat`.
         """
-        from .nonlinear import make_thermostat  # solver layer; thin hand-off
-
         where = where or f"thermostats.{name}"
         _check_name(name, "thermostat")
         if name in self.thermostats or name in self.sources:
@@ -466,154 +386,22 @@ class Network:
         if initially is not None:
             spec["initially"] = initially
         self.thermostats[name] = make_thermostat(name, spec, where, self.nodes)
-        self._changed()
+        self.mark_changed()
         return name
 
-    def _is_internal_name(self, name: str) -> bool:
+    def is_internal_name(self, name: str) -> bool:
+        """Whether ``name`` is that of an internal node of a massive layer (``<link>.<i>``)."""
         link, _, idx = name.rpartition(".")
         return link in self.links and idx.isdigit()
+
+    _is_internal_name = is_internal_name   # older name
 
     # -- assembly -----------------------------------------------------------------------------
     def assemble(self) -> Assembled:
         """Assemble (and cache) the sparse matrices. Warns on doubtful lumped layers."""
-        if self._assembled is not None:
-            return self._assembled
-        node_names = list(self.nodes)
-        capacity = [self.nodes[n].capacity for n in node_names]
-        initial = [np.nan if self.nodes[n].initial is None else self.nodes[n].initial
-                   for n in node_names]
-        boundary_names = list(self.boundaries)
-        n_user = len(node_names)
-        internal_of: dict[str, str] = {}
-
-        # first pass: internal nodes of massive layers
-        chains = []  # per link: list of (kind, value) with kind 'R' resistance or 'N' node index
-        for link in self.links.values():
-            chain = []
-            k = 0
-            for part in link.parts:
-                if part.is_nonlinear:
-                    chain.append(("X", part))
-                    continue
-                if not part.is_massive:
-                    chain.append(("R", part.resistance))
-                    continue
-                self._check_biot(link, part)
-                n = part.slices
-                r_slice = part.resistance / n
-                c_slice = part.capacity / n
-                for _ in range(n):
-                    k += 1
-                    nm = f"{link.name}.{k}"
-                    internal_of[nm] = link.name
-                    node_names.append(nm)
-                    capacity.append(c_slice)
-                    initial.append(np.nan)
-                    chain.append(("R", 0.5 * r_slice))
-                    chain.append(("N", len(node_names) - 1))
-                    chain.append(("R", 0.5 * r_slice))
-            chains.append(chain)
-
-        n_nodes = len(node_names)
-        if n_nodes == 0:
-            raise NetworkError("the network has no nodes", None, "add at least one node")
-        point_index = {nm: i for i, nm in enumerate(node_names[:n_user])}
-        for j, nm in enumerate(boundary_names):
-            point_index[nm] = n_nodes + j
-
-        seg_a, seg_b, seg_r, first, last = [], [], [], [], []
-        nl_segments = []  # (segment index, law, R before, R after)
-        for link, chain in zip(self.links.values(), chains):
-            start = point_index[link.a]
-            acc = 0.0
-            law = None
-            first_seg = len(seg_a)
-
-            def close(end, start_=None):
-                nonlocal acc, law
-                seg_a.append(start_)
-                seg_b.append(end)
-                if law is None:
-                    seg_r.append(acc)
-                else:
-                    seg_r.append(np.inf)  # excluded from the linear conductance matrix
-                    nl_segments.append((len(seg_a) - 1, law[0], law[1], acc))
-                acc, law = 0.0, None
-
-            for kind, val in chain:
-                if kind == "R":
-                    acc += val
-                elif kind == "X":
-                    if law is not None:
-                        raise NetworkError("two nonlinear parts in series with no node between "
-                                           "them", link.where, "split the link at a node (a "
-                                           "surface node with a small capacity)")
-                    law = (val.law, acc)
-                    acc = 0.0
-                else:
-                    close(val, start)
-                    start = val
-            close(point_index[link.b], start)
-            first.append(first_seg)
-            last.append(len(seg_a) - 1)
-        seg_a = np.asarray(seg_a, dtype=np.int64)
-        seg_b = np.asarray(seg_b, dtype=np.int64)
-        seg_g = 1.0 / np.asarray(seg_r, dtype=float)
-
-        K, B = _conductance_matrices(seg_a, seg_b, seg_g, n_nodes, len(boundary_names))
-        source_names = list(self.sources)
-        src_nodes = np.asarray([point_index[s.node] for s in self.sources.values()], dtype=np.int64)
-        P = sp.csr_matrix((np.ones(len(src_nodes)), (src_nodes, np.arange(len(src_nodes)))),
-                          shape=(n_nodes, len(src_nodes)))
-        phase = {point_index[n.name]: n.phase_change for n in self.nodes.values()
-                 if n.phase_change is not None}
-        asm = Assembled(
-            node_names=node_names,
-            capacity=np.asarray(capacity, dtype=float),
-            initial=np.asarray(initial, dtype=float),
-            boundary_names=boundary_names,
-            boundary_profiles=[b.profile for b in self.boundaries.values()],
-            source_names=source_names,
-            source_nodes=src_nodes,
-            source_profiles=[s.profile for s in self.sources.values()],
-            seg_a=seg_a, seg_b=seg_b, seg_g=seg_g,
-            link_names=list(self.links),
-            link_first_seg=np.asarray(first, dtype=np.int64),
-            link_last_seg=np.asarray(last, dtype=np.int64),
-            K=K, B=B, P=P,
-            internal_of=internal_of,
-            phase_change=phase,
-        )
-        if nl_segments:
-            from .laws import SegmentLaws
-
-            asm.nl = SegmentLaws(nl_segments)
-        self._assembled = asm
-        return asm
-
-    def _check_biot(self, link: Link, part: Part) -> None:
-        """Warn when a massive layer kept as one node has Bi = h L / k > 0.1."""
-        if part.slices != 1:
-            return
-        i = link.parts.index(part)
-        area = part.area
-
-        def side_resistance(parts):  # nonlinear parts count as unknown (left out)
-            return float(np.nansum([p.resistance for p in parts])) * area
-
-        r_before = side_resistance(link.parts[:i])
-        r_after = side_resistance(link.parts[i + 1:])
-        r_ext = min(r_before, r_after)
-        thickness = part.params["thickness"]
-        k = part.params["k"]
-        bi = math.inf if r_ext == 0 else elements.biot_number(1.0 / r_ext, thickness, k)
-        if bi > 0.1:
-            suggested = 10 if math.isinf(bi) else max(3, min(50, math.ceil(bi * 10)))
-            shown = "infinite (the layer touches a node directly)" if math.isinf(bi) \
-                else f"{bi:.3g}"
-            warnings.warn(f"{part.where}: a massive layer kept as one node has Biot number "
-                          f"hL/k = {shown} > 0.1, so the lumped assumption is doubtful; "
-                          f"set slices = {suggested} or more", LumpedWarning, stacklevel=3)
+        if self._assembled is None:
+            self._assembled = assemble_network(self)
+        return self._assembled
 
     # -- analysis (hand-offs to the solver modules) --------------------------------------------
     def steady(self, at: float = 0.0):
@@ -653,20 +441,22 @@ class Network:
             Initial state: the nodes' own initial temperatures (default), the steady state at
             t = 0, the periodic regime of periodic inputs, or a {node: temperature} mapping.
         solver : 'auto', 'exact', 'piecewise' or 'stiff'
-            'exact' (modal, closed form) for linear networks; 'piecewise' (closed form between
-            phase-change and thermostat events, waveform relaxation for radiation and film
-            correlations) for nonlinear networks of up to 200 states; 'stiff' (solve_ivp with an
-            analytic sparse Jacobian) for any network; 'auto' picks 'exact' for linear networks
-            and 'piecewise' for nonlinear ones, falling back to 'stiff' where 'piecewise' does not
-            suit (the reason is kept in ``meta['stats']['piecewise_declined']``).
+            The transient paths of :data:`rcsim.transient.registry.PATHS`: 'exact' (modal,
+            closed form) for linear networks of up to 2000 states; 'piecewise' (closed form
+            between phase-change and thermostat events, waveform relaxation for radiation and
+            film correlations) for networks of up to 200 states; 'stiff' (BDF with an analytic
+            sparse Jacobian) for any network; 'auto' takes the first of them that takes the run,
+            falling back to the next where one does not suit. The reasons of the paths that
+            declined are kept in ``result.run_info.declined`` (and the piecewise path's in
+            ``meta['stats']['piecewise_declined']``).
         record : list of str, optional
             Nodes whose histories are kept (default all).
         output : str or path, optional
             Stream the histories to this HDF5 file in chunks (bounded memory).
         rtol, atol : float
-            Tolerances of the stiff path.
+            Tolerances of the piecewise and stiff paths.
         progress : callable, optional
-            Called with the fraction done (0..1).
+            Called with the fraction done (0..1), a growing number.
         times : array, optional
             Output at these times [s] (any spacing) instead of every ``step``; t = 0 and the
             end are always included.
@@ -690,25 +480,3 @@ def _nonneg(value, kind, where, positive=False) -> float:
         raise InputError(f"must be {'positive' if positive else 'non-negative'}, got {value!r}",
                          where)
     return x
-
-
-def _conductance_matrices(seg_a, seg_b, seg_g, n_nodes, n_bound):
-    """K (N x N) and B (N x M) from segments, vectorised."""
-    aa_node = seg_a < n_nodes
-    bb_node = seg_b < n_nodes
-    both = aa_node & bb_node
-    rows = np.concatenate([seg_a[both], seg_b[both], seg_a[both], seg_b[both],
-                           seg_a[aa_node & ~bb_node], seg_b[bb_node & ~aa_node]])
-    cols = np.concatenate([seg_a[both], seg_b[both], seg_b[both], seg_a[both],
-                           seg_a[aa_node & ~bb_node], seg_b[bb_node & ~aa_node]])
-    g = seg_g
-    vals = np.concatenate([g[both], g[both], -g[both], -g[both],
-                           g[aa_node & ~bb_node], g[bb_node & ~aa_node]])
-    K = sp.csr_matrix((vals, (rows, cols)), shape=(n_nodes, n_nodes))
-    m1 = aa_node & ~bb_node
-    m2 = bb_node & ~aa_node
-    brow = np.concatenate([seg_a[m1], seg_b[m2]])
-    bcol = np.concatenate([seg_b[m1] - n_nodes, seg_a[m2] - n_nodes])
-    bval = np.concatenate([g[m1], g[m2]])
-    B = sp.csr_matrix((bval, (brow, bcol)), shape=(n_nodes, n_bound))
-    return K, B

@@ -1,33 +1,35 @@
-"""Nonlinear network terms: nonlinear segments, thermostats, and the nonlinear steady state.
+"""Nonlinear network terms and the nonlinear steady state.
 
 * :class:`SegmentTerm` adds the flows of nonlinear link segments (radiation, correlation films;
-  see :mod:`rcsim.laws`) to the stiff path, with their exact sparse Jacobian pattern.
-* :class:`Thermostat` switches a heater or cooler on a sensed node's temperature: on/off with a
-  dead band (switching located as events by the stiff driver, so it never chatters) or
-  proportional with a limit.
+  see :mod:`rcsim.laws`) to the energy-form model of the transient paths, with their exact sparse
+  Jacobian pattern.
+* :func:`build_terms` binds a network's nonlinear segments, phase-change nodes and thermostats
+  (:mod:`rcsim.thermostat`, re-exported here) to the states of its reduced system.
 * :func:`steady_newton` solves the steady state of a network with nonlinear elements by a damped
   Newton method started from a linearised solution.
+* :func:`linearised` gives the linear network about a state (for time constants).
 """
 
 from __future__ import annotations
 
+import dataclasses
 import warnings
-from dataclasses import dataclass, field
+from typing import NamedTuple
 
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-from .errors import InputError, NetworkError, RcsimWarning, SolverError
-from .materials import suggest
+from .assembly import conductance_matrices
+from .errors import NetworkError, RcsimWarning, SolverError
 from .statespace import state_space
-from .steady import check_grounded, steady_temperatures
-from .units import to_si
+from .steady_linear import check_grounded, steady_temperatures
+from .thermostat import (THERMOSTAT_KEYS, Thermostat, ThermostatState,  # noqa: F401 (re-exported)
+                         add_thermostats_from_scenario, make_thermostat)
 
-__all__ = ["SegmentTerm", "Thermostat", "make_thermostat", "build_terms", "steady_newton",
-           "add_thermostats_from_scenario", "THERMOSTAT_KEYS", "linearised"]
-
-THERMOSTAT_KEYS = {"node", "sensor", "mode", "setpoint", "band", "power", "control", "initially"}
+__all__ = ["SegmentTerm", "Thermostat", "ThermostatState", "make_thermostat", "build_terms",
+           "steady_newton", "add_thermostats_from_scenario", "THERMOSTAT_KEYS", "linearised",
+           "segment_jacobian", "BoundTerms"]
 
 
 # -- nonlinear segments on the stiff path ------------------------------------------------------
@@ -55,7 +57,7 @@ class SegmentTerm:
         nl = asm.nl
         self.nl = nl
         n_all = asm.n_nodes
-        pos_m = {int(i): p for p, i in enumerate(ss.massive)}
+        pos_m = ss.state_of
         self.n = ss.n
         a = asm.seg_a[nl.seg]
         b = asm.seg_b[nl.seg]
@@ -79,12 +81,14 @@ class SegmentTerm:
                 self.e_rows.append((k, link_col[li], sign))
         self.nb = len(boundary_links)
 
-    def _ends(self, Tm, w):
-        return self._gather(Tm, w, self.a_is_node, self.a_idx), \
-            self._gather(Tm, w, self.b_is_node, self.b_idx)
+    def ends(self, Tm, w):
+        """Temperatures at the first and second ends of every segment, from state temperatures
+        (or their integrals) ``Tm`` and inputs ``w`` (same leading shape)."""
+        return self.gather(Tm, w, self.a_is_node, self.a_idx), \
+            self.gather(Tm, w, self.b_is_node, self.b_idx)
 
     @staticmethod
-    def _gather(Tm, w, is_node, idx):
+    def gather(Tm, w, is_node, idx):
         """Temperatures at segment ends: a state (node) or an input (boundary) each."""
         out = np.empty(Tm.shape[:-1] + (idx.size,))
         out[..., is_node] = Tm[..., idx[is_node]]
@@ -92,7 +96,7 @@ class SegmentTerm:
         return out
 
     def flows(self, Tm, w):
-        ta, tb = self._ends(Tm, w)
+        ta, tb = self.ends(Tm, w)
         q = self.nl.flows(ta, tb)
         dH = np.zeros(self.n)
         np.add.at(dH, self.a_idx[self.a_is_node], -q[self.a_is_node])
@@ -103,7 +107,7 @@ class SegmentTerm:
         return dH, (e if self.e_rows else None)
 
     def jacobian(self, Tm, w):
-        ta, tb = self._ends(Tm, w)
+        ta, tb = self.ends(Tm, w)
         _, da, db = self.nl.solve(ta, tb)
         an, bn = self.a_is_node, self.b_is_node
         ia, ib = self.a_idx, self.b_idx
@@ -121,185 +125,28 @@ class SegmentTerm:
         return J, je
 
 
-# -- thermostats -------------------------------------------------------------------------------
-@dataclass
-class Thermostat:
-    """A heater or cooler switched on a sensed node's temperature.
+# -- binding to the states ------------------------------------------------------------------------
+class BoundTerms(NamedTuple):
+    """The nonlinear parts of a network bound to the states of its reduced system."""
 
-    ``control='on-off'``: a heater comes on when the sensed temperature falls to
-    ``setpoint - band/2`` and goes off when it rises to ``setpoint + band/2`` (a cooler the other
-    way round). ``control='proportional'``: the power goes linearly from full at
-    ``setpoint - band/2`` to zero at ``setpoint + band/2`` for a heater (reversed for a cooler),
-    limited to [0, power]. Power in W, positive into the node for a heater, out of it for a cooler.
+    terms: list          # SegmentTerm of the nonlinear segments (empty without any)
+    phase: dict          # state index -> PhaseChange
+    controllers: list    # a fresh ThermostatState per thermostat
+
+
+def build_terms(network, asm, thermostats=()) -> BoundTerms:
+    """Nonlinear terms, phase-change map (state index -> PhaseChange) and fresh thermostat run
+    states (:class:`ThermostatState`; the network's thermostats are not changed).
+
+    ``network`` is not used (kept for older callers).
     """
-
-    name: str
-    node: str
-    sensor: str
-    mode: str
-    setpoint: float
-    band: float
-    power: float
-    control: str = "on-off"
-    initially: str | None = None
-    where: str = ""
-    # runtime
-    _node_idx: int = -1
-    _sensor_idx: int = -1
-    _n: int = 0
-    on: bool = False
-    _log_t: list = field(default_factory=list)
-    _log_on: list = field(default_factory=list)
-
-    @property
-    def sign(self) -> float:
-        return 1.0 if self.mode == "heat" else -1.0
-
-    def bind(self, asm, ss) -> "Thermostat":
-        pos_m = {int(i): p for p, i in enumerate(ss.massive)}
-        for key, name in (("node", self.node), ("sensor", self.sensor)):
-            i = asm.node_names.index(name)
-            if i not in pos_m:
-                raise NetworkError(f"thermostat {self.name!r}: {key} {name!r} has no heat capacity",
-                                   self.where, "give the node a capacity")
-        self._node_idx = pos_m[asm.node_names.index(self.node)]
-        self._sensor_idx = pos_m[asm.node_names.index(self.sensor)]
-        self._n = ss.n
-        return self
-
-    def _proportional(self, T):
-        x = (self.setpoint + 0.5 * self.band - T) / self.band      # 1 at the low end, 0 at the top
-        if self.mode == "cool":
-            x = 1.0 - x
-        return np.clip(x, 0.0, 1.0) * self.power
-
-    def reset(self, t0: float, Tm) -> None:
-        T = float(Tm[self._sensor_idx])
-        if self.initially is not None:
-            self.on = self.initially == "on"
-        elif self.mode == "heat":
-            self.on = T < self.setpoint
-        else:
-            self.on = T > self.setpoint
-        # a state given with ``initially`` that the band already contradicts (a heater on above
-        # its cut-out, off below its cut-in; a cooler the other way round) switches at once
-        half = 0.5 * self.band
-        if self.on and (T >= self.setpoint + half if self.mode == "heat"
-                        else T <= self.setpoint - half):
-            self.on = False
-        elif not self.on and (T <= self.setpoint - half if self.mode == "heat"
-                              else T >= self.setpoint + half):
-            self.on = True
-        self._log_t = [t0]
-        self._log_on = [self.on]
-
-    def power_now(self, Tm) -> float:
-        if self.control == "proportional":
-            return float(self._proportional(Tm[self._sensor_idx]))
-        return self.power if self.on else 0.0
-
-    def power_vector(self, t, Tm) -> np.ndarray:
-        v = np.zeros(self._n)
-        v[self._node_idx] = self.sign * self.power_now(Tm)
-        return v
-
-    def slope(self, T: float):
-        """d(power into the node)/d(sensed temperature) [W/K]: nonzero only for the proportional
-        law inside its band (None otherwise)."""
-        if self.control != "proportional":
-            return None
-        if not (self.setpoint - 0.5 * self.band < T < self.setpoint + 0.5 * self.band):
-            return None
-        return self.sign * (-self.power if self.mode == "heat" else self.power) / self.band
-
-    def jacobian_entry(self, Tm):
-        """(row, col, dP/dT) in state indices, or None (see :meth:`slope`)."""
-        d = self.slope(float(Tm[self._sensor_idx]))
-        return None if d is None else (self._node_idx, self._sensor_idx, d)
-
-    def event_value(self, t, Tm):
-        """Switching function of the on/off law (None for proportional control)."""
-        if self.control != "on-off":
-            return None
-        return float(Tm[self._sensor_idx]) - self.threshold()
-
-    def threshold(self) -> float:
-        """Sensed temperature [degC] at which the on/off law switches next: the top of the band
-        for a heater that is on or a cooler that is off, the bottom otherwise."""
-        rising = self.on == (self.mode == "heat")
-        return self.setpoint + (0.5 if rising else -0.5) * self.band
-
-    def switch(self, t: float, Tm) -> None:
-        self.on = not self.on
-        self._log_t.append(t)
-        self._log_on.append(self.on)
-
-    def power_history(self, t: np.ndarray, Tm_rows: np.ndarray) -> np.ndarray:
-        """Power [W, positive into the node] at the sample times (rows of state temperatures)."""
-        if self.control == "proportional":
-            return self.sign * self._proportional(Tm_rows[:, self._sensor_idx])
-        idx = np.searchsorted(np.asarray(self._log_t), t, side="right") - 1
-        on = np.asarray(self._log_on)[np.clip(idx, 0, None)]
-        return self.sign * self.power * on
-
-    def switch_count(self) -> int:
-        return max(0, len(self._log_t) - 1)
-
-
-def make_thermostat(name, spec: dict, where: str, nodes) -> Thermostat:
-    """Validate a thermostat description (scenario or API) into a :class:`Thermostat`."""
-    from .parts import check_keys
-
-    check_keys(spec, THERMOSTAT_KEYS, ["node", "setpoint", "band", "power"], where)
-    node = spec["node"]
-    if node not in nodes:
-        raise NetworkError(f"unknown node {node!r}", f"{where}.node", suggest(node, list(nodes)))
-    sensor = spec.get("sensor", node)
-    if sensor not in nodes:
-        raise NetworkError(f"unknown node {sensor!r}", f"{where}.sensor",
-                           suggest(sensor, list(nodes)))
-    mode = spec.get("mode", "heat")
-    if mode not in ("heat", "cool"):
-        raise InputError(f"mode must be 'heat' or 'cool', got {mode!r}", f"{where}.mode")
-    control = spec.get("control", "on-off")
-    if control not in ("on-off", "proportional"):
-        raise InputError(f"control must be 'on-off' or 'proportional', got {control!r}",
-                         f"{where}.control")
-    setpoint = to_si(spec["setpoint"], "temperature", f"{where}.setpoint")
-    band = to_si(spec["band"], "temperature_difference", f"{where}.band")
-    if band <= 0:
-        raise InputError(f"the band must be wider than zero, got {spec['band']!r}",
-                         f"{where}.band", "an on/off thermostat needs a dead band, e.g. '1 K'")
-    power = to_si(spec["power"], "power", f"{where}.power")
-    if power <= 0:
-        raise InputError("power must be positive (use mode = 'cool' for a cooler)",
-                         f"{where}.power")
-    initially = spec.get("initially")
-    if initially not in (None, "on", "off"):
-        raise InputError(f"initially must be 'on' or 'off', got {initially!r}",
-                         f"{where}.initially")
-    return Thermostat(name, node, sensor, mode, setpoint, band, power, control, initially, where)
-
-
-def add_thermostats_from_scenario(net, table: dict) -> None:
-    for name, spec in table.items():
-        w = f"thermostats.{name}"
-        if not isinstance(spec, dict):
-            raise InputError("expected a table", w)
-        net.add_thermostat(name, where=w, **spec)
-
-
-# -- assembling the stiff model ------------------------------------------------------------------
-def build_terms(network, asm, thermostats=()):
-    """Nonlinear terms, phase-change map (state index -> PhaseChange) and bound controllers."""
     ss = state_space(asm)
-    pos = {int(i): p for p, i in enumerate(ss.massive)}
+    pos = ss.state_of
     phase = {pos[i]: pc for i, pc in asm.phase_change.items()}
     terms = []
     if asm.nl is not None:
-        terms.append(SegmentTerm(asm, asm.boundary_segments()[0]))
-    controllers = [t.bind(asm, ss) for t in thermostats]
-    return terms, phase, controllers
+        terms.append(SegmentTerm(asm, asm.boundary_segments().links))
+    return BoundTerms(terms, phase, [t.bind(asm, ss) for t in thermostats])
 
 
 # -- steady state ----------------------------------------------------------------------------
@@ -337,7 +184,7 @@ def steady_newton(asm, u: np.ndarray, s: np.ndarray, thermostats=(), tol: float 
             rows.append(r), cols.append(c), vals.append(v)
         for t in ctrl:
             i, j = idx[t.node], idx[t.sensor]
-            F[i] += t.sign * float(t._proportional(T[j]))
+            F[i] += t.sign * float(t.proportional_power(T[j]))
             d = t.slope(float(T[j]))
             if d is not None:
                 rows.append(np.array([i])), cols.append(np.array([j])), vals.append(np.array([d]))
@@ -388,9 +235,7 @@ def _linear_first_guess(asm, u, s):
     g = nl.linear_guess(ones + 0.5, ones - 0.5)
     seg_g = asm.seg_g.copy()
     seg_g[nl.seg] = g
-    from .network import _conductance_matrices
-
-    K, B = _conductance_matrices(asm.seg_a, asm.seg_b, seg_g, n, asm.n_boundaries)
+    K, B = conductance_matrices(asm.seg_a, asm.seg_b, seg_g, n, asm.n_boundaries)
     rhs = B @ u + asm.P @ s
     T = spla.spsolve(K.tocsc(), rhs) if n > 1 else rhs / K.toarray()[0, 0]
     return np.atleast_1d(T)
@@ -404,10 +249,6 @@ def linearised(asm, T: np.ndarray, u: np.ndarray):
     zero-width melting point counts as m * L per 0.01 K). Used for the time constants of a
     nonlinear network about a state; the copy shares nothing mutable with ``asm``.
     """
-    import dataclasses
-
-    from .network import _conductance_matrices
-
     seg_g = asm.seg_g.copy()
     if asm.nl is not None:
         points = np.concatenate([T, u])
@@ -419,6 +260,6 @@ def linearised(asm, T: np.ndarray, u: np.ndarray):
         H = pc.enthalpy(float(T[i]))
         _, dTdH = pc.temperature(H)
         cap[i] = 1.0 / dTdH if dTdH > 0 else pc.mass * pc.latent_heat / 0.01
-    K, B = _conductance_matrices(asm.seg_a, asm.seg_b, seg_g, asm.n_nodes, asm.n_boundaries)
+    K, B = conductance_matrices(asm.seg_a, asm.seg_b, seg_g, asm.n_nodes, asm.n_boundaries)
     return dataclasses.replace(asm, capacity=cap, seg_g=seg_g, K=K, B=B, phase_change={},
                                nl=None)

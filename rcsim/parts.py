@@ -9,7 +9,11 @@ A part is described by a one-key mapping, the same in a scenario file and in Pyt
 :func:`make_part` checks the keys (unknown ones are refused with the nearest valid key suggested),
 converts units and computes the part's resistance with :mod:`rcsim.elements`. A conduction part
 with ``slices`` (or an explicit density and specific heat) stores heat: the network turns it into
-a ladder of internal nodes.
+a ladder of internal nodes. Cylinder and sphere shells store heat the same way, slice by slice with
+their true shell volumes (:mod:`rcsim.radial`); a ``box`` is a thick-walled box whose edges and
+corners add to its walls (:mod:`rcsim.shapefactors`). A sliced layer of a phase-change material
+(or with ``phase_change``) melts slice by slice: each slice node carries the enthalpy curve of its
+own mass.
 
 To add a part kind: write its physics in :mod:`rcsim.elements`, add a builder here and register it
 in ``PART_KINDS`` with its schema.
@@ -17,13 +21,17 @@ in ``PART_KINDS`` with its schema.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, field
 from typing import Any, Callable
 
-from . import elements
+import numpy as np
+
+from . import elements, radial, shapefactors
 from .errors import InputError
 from .materials import get_material, suggest
+from .phase import make_phase_change
 from .units import to_si
 
 __all__ = ["Part", "make_part", "part_kinds", "PART_KINDS", "check_keys"]
@@ -59,10 +67,45 @@ class Part:
     params: dict = field(default_factory=dict)
     where: str = ""
     law: object | None = None  # a rcsim.laws law when the part is nonlinear
+    #: a rcsim.radial.Slices with each slice's resistances and capacity (None: equal slices)
+    layer: object | None = None
+    #: the enthalpy curve (per kg) of a phase-change layer; each slice gets its own mass
+    phase_change: object | None = None
+    #: the temperature all slices start at [degC] (None: the steady profile of the start)
+    initial: float | None = None
+    #: a rcsim.shapefactors.BoxConduction for a box part (walls, edges and corners)
+    box: object | None = None
 
     @property
     def is_massive(self) -> bool:
         return self.slices > 0
+
+    @property
+    def is_core(self) -> bool:
+        """A solid cylinder or sphere (inner radius 0): the link's first point is its centre."""
+        return self.layer is not None and self.layer.geometry != "plane" and \
+            float(self.layer.edges[0]) == 0.0
+
+    def ladder(self):
+        """(inner half, outer half [K/W], capacity [J/K]) of each slice, arrays of ``slices``.
+
+        Equal slices of R/n and C/n unless the part carries its own :attr:`layer`.
+        """
+        n = self.slices
+        if self.layer is not None:
+            return self.layer.inner_half, self.layer.outer_half, self.layer.capacities
+        r_slice = self.resistance / n
+        half = np.full(n, 0.5 * r_slice)
+        return half, half.copy(), np.full(n, self.capacity / n)
+
+    def slice_phase_changes(self) -> list:
+        """One enthalpy curve per slice, each with its slice's mass (empty without phase change)."""
+        if self.phase_change is None:
+            return []
+        masses = self.layer.masses if self.layer is not None else \
+            np.full(self.slices, self.params["density"] * self.params["thickness"]
+                    * self.area / self.slices)
+        return [dataclasses.replace(self.phase_change, mass=float(m)) for m in masses]
 
     @property
     def is_nonlinear(self) -> bool:
@@ -73,6 +116,11 @@ class Part:
         names = ", ".join(f"{k}={v}" for k, v in self.params.items() if isinstance(v, str))
         keys = ", ".join(x for x in (names, keys) if x)
         extra = f", {self.slices} slice(s), C={self.capacity:.4g} J/K" if self.slices else ""
+        if self.phase_change is not None:
+            extra += ", phase change"
+        if self.box is not None:
+            extra += (f", edges and corners {100 * self.box.edge_corner_share:.1f} % of the flow"
+                      f" ({100 * self.box.edge_corner_ratio:.1f} % on top of the walls)")
         r = "nonlinear" if self.is_nonlinear else f"R={self.resistance:.4g} K/W"
         return f"{self.kind}({keys}) {r}{extra}"
 
@@ -103,7 +151,7 @@ def _w(where: str, key: str) -> str:
 
 def _conduction(spec: dict, where: str) -> Part:
     check_keys(spec, {"k", "thickness", "area", "material", "density", "specific_heat",
-                      "slices"}, ["thickness", "area"], where)
+                      "slices", "phase_change", "initial"}, ["thickness", "area"], where)
     material = None
     if "material" in spec:
         material = get_material(spec["material"], _w(where, "material"))
@@ -115,6 +163,45 @@ def _conduction(spec: dict, where: str) -> Part:
         raise InputError("missing key 'k' (or 'material')", where)
     thickness = _positive(spec["thickness"], "length", _w(where, "thickness"))
     area = _positive(spec["area"], "area", _w(where, "area"))
+    store = _storage(spec, material, where)
+    capacity = 0.0
+    if store.phase_change is not None:
+        capacity = thickness * area * store.capacity_per_volume
+    elif store.slices:
+        capacity = thickness * area * store.density * store.specific_heat
+    params = {"k": k, "thickness": thickness, "area": area}
+    if store.slices:
+        params.update(density=store.density, specific_heat=store.specific_heat)
+    return Part("conduction", elements.resistance_plane_layer(thickness, k, area), area,
+                capacity, store.slices, params, where, phase_change=store.phase_change,
+                initial=store.initial)
+
+
+@dataclass
+class _Storage:
+    """What makes a layer store heat: its slices, density, specific heat, phase change, start."""
+
+    slices: int = 0
+    density: float | None = None
+    specific_heat: float | None = None
+    phase_change: object | None = None
+    initial: float | None = None
+
+    @property
+    def capacity_per_volume(self) -> float:
+        """rho c [J/(m^3 K)]; for a phase-change layer the liquid's (nominal, as for a node)."""
+        c = self.specific_heat if self.phase_change is None else \
+            self.phase_change.specific_heat_liquid
+        return self.density * c
+
+
+def _storage(spec: dict, material, where: str) -> _Storage:
+    """Slices, density, specific heat, phase change and starting temperature of a layer.
+
+    A layer stores heat with ``slices`` (or an explicit density and specific heat: one slice).
+    A phase-change material, or a ``phase_change`` table, melts in every slice (``phase_change =
+    false`` keeps a phase-change material's sensible heat only).
+    """
     density = specific_heat = None
     if "density" in spec:
         density = _positive(spec["density"], "density", _w(where, "density"))
@@ -134,42 +221,137 @@ def _conduction(spec: dict, where: str) -> Part:
         slices = s
     elif explicit_mass:
         slices = 1
+    pc_spec = spec.get("phase_change")
+    if pc_spec is None and material is not None and material.is_phase_change and slices:
+        pc_spec = {}  # a phase-change material melts unless told otherwise (as in a node)
+    phase = None
+    if pc_spec is not None and pc_spec is not False:
+        phase = make_phase_change(pc_spec, _w(where, "phase_change"), material=material)
+        slices = slices or 1
+        if density is None:
+            raise InputError("a phase-change layer needs its density (or a material)", where,
+                             "add density = '...' to give each slice its mass")
+        specific_heat = specific_heat or phase.specific_heat_liquid
     if slices and (density is None or specific_heat is None):
         raise InputError("a sliced (massive) layer needs density and specific_heat, or a material",
                          where)
     if ("density" in spec) != ("specific_heat" in spec) and not slices:
         raise InputError("give both density and specific_heat (or slices with a material)", where)
-    capacity = thickness * area * density * specific_heat if slices else 0.0
-    params = {"k": k, "thickness": thickness, "area": area}
-    if slices:
-        params.update(density=density, specific_heat=specific_heat)
-    return Part("conduction", elements.resistance_plane_layer(thickness, k, area), area,
-                capacity, slices, params, where)
+    initial = None
+    if "initial" in spec:
+        initial = to_si(spec["initial"], "temperature", _w(where, "initial"))
+        if initial <= -273.15:
+            raise InputError("temperature at or below absolute zero", _w(where, "initial"))
+        if not slices:
+            raise InputError("initial is the starting temperature of a layer's slices, and this "
+                             "layer has none", _w(where, "initial"),
+                             "add slices (and a material, or density and specific_heat)")
+    return _Storage(slices, density, specific_heat, phase, initial)
+
+
+_RADIAL_KEYS = ("inner_radius", "outer_radius", "inner_diameter", "outer_diameter", "thickness")
+
+
+def _radii(spec: dict, where: str) -> tuple[float, float]:
+    """(inner, outer) radius [m] of a shell from any two of: the inner side (``inner_radius`` or
+    ``inner_diameter``), the outer side (``outer_radius`` or ``outer_diameter``), ``thickness``
+    (:func:`rcsim.radial.radii_from`); an inner radius of 0 is a solid core."""
+    given = {key: to_si(spec[key], "length", _w(where, key)) for key in _RADIAL_KEYS
+             if key in spec}
+    if "inner_radius" in given and "outer_radius" in given and \
+            given["outer_radius"] <= given["inner_radius"]:
+        raise InputError(f"outer_radius must exceed inner_radius ({given['outer_radius']:g} m <= "
+                         f"{given['inner_radius']:g} m)", where)
+    return radial.radii_from(**given, where=where)
+
+
+#: keys of a cylinder or sphere part (a cylinder has ``length`` too)
+_RADIAL_PART_KEYS = {"k", "material", *_RADIAL_KEYS, "density", "specific_heat", "slices",
+                     "spacing", "phase_change", "initial"}
+
+
+def _radial(spec: dict, where: str, geometry: str) -> Part:
+    """A cylinder or sphere shell; with slices (and a density) it stores heat slice by slice."""
+    keys = _RADIAL_PART_KEYS | ({"length"} if geometry == "cylinder" else set())
+    check_keys(spec, keys, ["length"] if geometry == "cylinder" else [], where)
+    k = _k_or_material(spec, where)
+    material = get_material(spec["material"], _w(where, "material")) if "material" in spec \
+        else None
+    r1, r2 = _radii(spec, where)
+    params = {"k": k, "inner_radius": r1, "outer_radius": r2}
+    length = None
+    if geometry == "cylinder":
+        length = _positive(spec["length"], "length", _w(where, "length"))
+        params["length"] = length
+    store = _storage(spec, material, where)
+    spacing = spec.get("spacing", "thickness")
+    if "spacing" in spec and not store.slices:
+        raise InputError("spacing says how slices are cut, and this layer has none",
+                         _w(where, "spacing"), "add slices")
+    if not store.slices:
+        if r1 == 0.0:
+            raise InputError("a solid core (inner radius 0) needs slices: its centre is no face",
+                             where, "add slices and a material (or density and specific_heat)")
+        r = elements.resistance_cylinder_shell(r1, r2, k, length) if geometry == "cylinder" \
+            else float(elements.resistance_sphere_shell(r1, r2, k))
+        return Part(geometry, r, None, 0.0, 0, params, where)
+    cut = radial.cylinder_slices(r1, r2, k, length, store.slices, spacing=spacing,
+                                 density=store.density, specific_heat=1.0, where=where) \
+        if geometry == "cylinder" else \
+        radial.sphere_slices(r1, r2, k, store.slices, spacing=spacing, density=store.density,
+                             specific_heat=1.0, where=where)
+    cut = radial.with_centre(dataclasses.replace(
+        cut, capacities=cut.volumes * store.capacity_per_volume))
+    params.update(density=store.density, specific_heat=store.specific_heat)
+    return Part(geometry, float(cut.ladder().sum()), None, float(cut.capacities.sum()),
+                store.slices, params, where, layer=cut, phase_change=store.phase_change,
+                initial=store.initial)
 
 
 def _cylinder(spec: dict, where: str) -> Part:
-    check_keys(spec, {"k", "material", "inner_radius", "outer_radius", "length"},
-               ["inner_radius", "outer_radius", "length"], where)
-    k = _k_or_material(spec, where)
-    r1 = _positive(spec["inner_radius"], "length", _w(where, "inner_radius"))
-    r2 = _positive(spec["outer_radius"], "length", _w(where, "outer_radius"))
-    if r2 <= r1:
-        raise InputError(f"outer_radius must exceed inner_radius ({r2:g} m <= {r1:g} m)", where)
-    length = _positive(spec["length"], "length", _w(where, "length"))
-    return Part("cylinder", elements.resistance_cylinder_shell(r1, r2, k, length), None, 0.0, 0,
-                {"k": k, "inner_radius": r1, "outer_radius": r2, "length": length}, where)
+    return _radial(spec, where, "cylinder")
 
 
 def _sphere(spec: dict, where: str) -> Part:
-    check_keys(spec, {"k", "material", "inner_radius", "outer_radius"},
-               ["inner_radius", "outer_radius"], where)
+    return _radial(spec, where, "sphere")
+
+
+def _lengths(value, key: str, where: str) -> list:
+    if not isinstance(value, (list, tuple)) or len(value) != 3:
+        raise InputError(f"{key} must be three lengths [length, width, height], got {value!r:.60}",
+                         _w(where, key))
+    return [_positive(v, "length", _w(where, f"{key}[{i}]")) for i, v in enumerate(value)]
+
+
+def _box(spec: dict, where: str) -> Part:
+    """A thick-walled box: its six walls plus the edge and corner shape factors; with slices it
+    stores heat in nested shells of the box's own shape."""
+    check_keys(spec, {"inside", "outside", "thickness", "k", "material", "density",
+                      "specific_heat", "slices", "phase_change", "initial"}, ["inside"], where)
     k = _k_or_material(spec, where)
-    r1 = _positive(spec["inner_radius"], "length", _w(where, "inner_radius"))
-    r2 = _positive(spec["outer_radius"], "length", _w(where, "outer_radius"))
-    if r2 <= r1:
-        raise InputError(f"outer_radius must exceed inner_radius ({r2:g} m <= {r1:g} m)", where)
-    return Part("sphere", float(elements.resistance_sphere_shell(r1, r2, k)), None, 0.0, 0,
-                {"k": k, "inner_radius": r1, "outer_radius": r2}, where)
+    material = get_material(spec["material"], _w(where, "material")) if "material" in spec \
+        else None
+    inside = _lengths(spec["inside"], "inside", where)
+    outside = _lengths(spec["outside"], "outside", where) if "outside" in spec else None
+    thickness = _positive(spec["thickness"], "length", _w(where, "thickness")) \
+        if "thickness" in spec else None
+    box = shapefactors.box_conduction(inside, k, thickness=thickness, outside=outside,
+                                      where=where)
+    store = _storage(spec, material, where)
+    area = box.total * box.thickness / k   # the plane wall of the same conductance
+    params = {"k": k, "thickness": box.thickness, "effective_area": area,
+              "edge_corner_share": box.edge_corner_share}
+    layer = None
+    if store.slices:
+        volumes = shapefactors.box_shell_volumes(inside, box.thickness, store.slices)
+        layer = radial.plane_slices(box.thickness, k, area, store.slices, density=store.density,
+                                    specific_heat=1.0, where=where)
+        layer = dataclasses.replace(layer, volumes=volumes,
+                                    capacities=volumes * store.capacity_per_volume)
+        params.update(density=store.density, specific_heat=store.specific_heat)
+    return Part("box", box.resistance, area, 0.0 if layer is None else float(layer.capacities.sum()),
+                store.slices, params, where, layer=layer, phase_change=store.phase_change,
+                initial=store.initial, box=box)
 
 
 def _k_or_material(spec, where) -> float:
@@ -249,7 +431,7 @@ def _radiation(spec: dict, where: str) -> Part:
         r_s = (1 - eps1) / (eps1 * a1) + 1 / (a1 * f12) + (1 - eps2) / (eps2 * a2)
     else:
         r_s = (1 - eps1) / (eps1 * a1) + 1 / (a1 * f12)
-    params = {"emissivity": eps1, "area": a1, "surface_factor": 1.0 / r_s}
+    params = {"emissivity": eps1, "area": a1, "view_factor": f12, "surface_factor": 1.0 / r_s}
     if "temperatures" not in spec:
         from .laws import RadiationLaw
 
@@ -308,6 +490,7 @@ PART_KINDS: dict[str, Callable[[Any, str], Part]] = {
     "conduction": _conduction,
     "cylinder": _cylinder,
     "sphere": _sphere,
+    "box": _box,
     "convection": _convection,
     "radiation": _radiation,
     "contact": _contact,

@@ -13,7 +13,8 @@ File layout (HDF5)::
     /liquid_fraction        time x phase-change node [-] (when there are any)
     /limits/<column>        one dataset per column of the limit table
     /nodes/<column>         per-node min, max, final
-    root attrs: rcsim_version, scenario (source text), solver, energy_balance, created, ...
+    root attrs: rcsim_version, scenario (source text), solver, energy_balance, created,
+                stats (JSON: the run's statistics, see rcsim.runinfo.RunInfo), ...
 
 A file is written to a temporary name in the same folder and renamed when complete, so a crash
 never leaves a half-written file under the requested name. Long runs stream their chunks to the
@@ -29,300 +30,20 @@ import os
 import numpy as np
 import pandas as pd
 
+from .base import package_version, suggest
 from .errors import DataError
+# the recording machinery lives in rcsim.recording; re-exported for older imports
+from .recording import Chunk, H5Sink, MemorySink, Recorder, read_frame, write_frame  # noqa: F401
+from .runinfo import RunInfo
 
-__all__ = ["Result", "Recorder", "MemorySink", "H5Sink", "Chunk"]
+__all__ = ["Result", "Recorder", "MemorySink", "H5Sink", "Chunk", "h5_attributes"]
 
 _SERIES = ["temperature", "heat_flow", "boundary_temperature", "source_power",
            "energy/stored", "energy/links", "energy/sources", "liquid_fraction",
            "thermostat_power"]
 
-
-class Chunk:
-    """A block of consecutive samples handed from a solver to the :class:`Recorder`."""
-
-    __slots__ = ("t", "T", "u", "s", "e_links", "e_sources", "e_stored", "extras")
-
-    def __init__(self, t, T, u, s, e_links, e_sources, e_stored, extras=None):
-        self.t, self.T, self.u, self.s = t, T, u, s
-        self.e_links, self.e_sources, self.e_stored = e_links, e_sources, e_stored
-        self.extras = extras or {}
-
-
-# -- sinks -----------------------------------------------------------------------------------
-class MemorySink:
-    """Keeps every chunk in memory."""
-
-    def __init__(self):
-        self.parts: dict[str, list] = {}
-        self.names: dict[str, list[str]] = {}
-
-    def declare(self, key: str, names: list[str]) -> None:
-        self.names[key] = list(names)
-        self.parts[key] = []
-
-    def append(self, key: str, array: np.ndarray) -> None:
-        # a slice would keep the solver's whole block of states alive: copy those only
-        a = np.asarray(array, dtype=float)
-        self.parts[key].append(a.copy() if a.base is not None else a)
-
-    def arrays(self) -> dict:
-        out = {}
-        for key, chunks in self.parts.items():
-            if chunks:
-                out[key] = np.concatenate(chunks, axis=0)
-            else:
-                width = len(self.names.get(key, []))
-                out[key] = np.empty((0,) if key in ("time", "energy/stored") else (0, width))
-        return out
-
-    def abort(self) -> None:
-        self.parts.clear()
-
-
-class H5Sink:
-    """Streams chunks to an HDF5 file written under a temporary name, renamed on success."""
-
-    def __init__(self, path):
-        import h5py
-
-        from .atomic import temporary_beside
-
-        self.path = os.fspath(path)
-        self.tmp = temporary_beside(self.path, ".h5.tmp")
-        self.file = h5py.File(self.tmp, "w")
-        self.names: dict[str, list[str]] = {}
-        self._empty: list[str] = []
-        self._open = True
-
-    def declare(self, key: str, names: list[str]) -> None:
-        self.names[key] = list(names)
-        if key not in ("time", "energy/stored") and not names:
-            self._empty.append(key)  # zero-width: written at the end, unchunked
-            return
-        shape = (0,) if key in ("time", "energy/stored") else (0, len(names))
-        maxshape = (None,) if len(shape) == 1 else (None, len(names))
-        chunks = (4096,) if len(shape) == 1 else (max(1, min(4096, 2_000_000 // max(1, len(names)))),
-                                                   max(1, len(names)))
-        ds = self.file.create_dataset(key, shape=shape, maxshape=maxshape, dtype="f8",
-                                      chunks=chunks)
-        if len(shape) == 2:
-            ds.attrs["names"] = np.asarray(names, dtype=object).astype("S") if names else \
-                np.zeros(0, dtype="S1")
-
-    def append(self, key: str, array: np.ndarray) -> None:
-        if key in self._empty:
-            return
-        ds = self.file[key]
-        n0 = ds.shape[0]
-        ds.resize(n0 + array.shape[0], axis=0)
-        ds[n0:] = array
-
-    def write_table(self, group: str, frame: pd.DataFrame) -> None:
-        _write_frame(self.file, group, frame)
-
-    def finish(self, attrs: dict) -> None:
-        n_rows = self.file["time"].shape[0] if "time" in self.file else 0
-        for key in self._empty:
-            ds = self.file.create_dataset(key, data=np.empty((n_rows, 0)))
-            ds.attrs["names"] = np.zeros(0, dtype="S1")
-        for k, v in attrs.items():
-            self.file.attrs[k] = v
-        self.file.close()
-        self._open = False
-        from .atomic import commit
-
-        commit(self.tmp, self.path)
-
-    def abort(self) -> None:
-        if self._open:
-            try:
-                self.file.close()
-            except Exception:  # pragma: no cover - closing a broken file
-                pass
-            self._open = False
-        from .atomic import discard
-
-        discard(self.tmp)
-
-
-def _write_frame(h5, group: str, frame: pd.DataFrame) -> None:
-    g = h5.create_group(group)
-    g.attrs["columns"] = json.dumps(list(map(str, frame.columns)))
-    for col in frame.columns:
-        values = frame[col].to_numpy()
-        if values.dtype.kind in "OUS" or str(frame[col].dtype) in ("string", "str"):
-            g.create_dataset(str(col), data=np.asarray([str(v) for v in values], dtype="S"))
-        else:
-            g.create_dataset(str(col), data=values.astype(float))
-
-
-def _read_frame(h5, group: str) -> pd.DataFrame:
-    if group not in h5:
-        return pd.DataFrame()
-    g = h5[group]
-    cols = json.loads(g.attrs["columns"])
-    data = {}
-    for c in cols:
-        arr = g[c][()]
-        if arr.dtype.kind == "S":
-            arr = np.asarray([x.decode("utf-8") for x in arr], dtype=object)
-        data[c] = arr
-    return pd.DataFrame(data, columns=cols)
-
-
-# -- the recorder ----------------------------------------------------------------------------
-class Recorder:
-    """Receives :class:`Chunk` objects from a solver, writes histories, tracks statistics.
-
-    Parameters
-    ----------
-    asm : Assembled
-    out_nodes : array of node indices whose temperatures each chunk carries (``Chunk.T``)
-    record : list of node indices (subset of out_nodes) to keep as histories
-    links : list of link indices to keep as heat-flow histories
-    boundary_links : list of link indices whose energies each chunk carries
-    tracker : rcsim.limits.ExcursionTracker or None, with limit node indices ``limit_nodes``
-    sink : MemorySink or H5Sink
-    extra_names : {key: names} of extra series (liquid fraction, ...)
-    """
-
-    def __init__(self, asm, out_nodes, record, links, boundary_links, tracker, limit_nodes, sink,
-                 extra_names=None, extra_sources=()):
-        self.asm = asm
-        self.out_nodes = np.asarray(out_nodes, dtype=np.int64)
-        pos = {int(i): p for p, i in enumerate(self.out_nodes)}
-        self.rec_cols = np.asarray([pos[int(i)] for i in record], dtype=np.int64)
-        # every output column recorded, in order: the chunk's array goes to the sink as it is
-        self._rec_all = np.array_equal(self.rec_cols, np.arange(len(out_nodes)))
-        self.rec_names = [asm.node_names[int(i)] for i in record]
-        self.links = np.asarray(links, dtype=np.int64)
-        n = asm.n_nodes
-        seg = asm.link_first_seg[self.links]
-        self._flow_a = asm.seg_a[seg]
-        self._flow_b = asm.seg_b[seg]
-        self._flow_g = asm.seg_g[seg]
-        # flow ends as columns of [T_out | u]: a node by its place in out_nodes, a boundary after
-        m = len(out_nodes)
-        self._a_col = np.asarray([pos[int(p)] if p < n else m + int(p - n) for p in self._flow_a],
-                                 dtype=np.int64)
-        self._b_col = np.asarray([pos[int(p)] if p < n else m + int(p - n) for p in self._flow_b],
-                                 dtype=np.int64)
-        # links whose first segment is nonlinear: their flows come from the segment laws
-        self._nl_links = np.empty(0, dtype=np.int64)
-        if asm.nl is not None and self.links.size:
-            nl_pos = {int(sg): k for k, sg in enumerate(asm.nl.seg)}
-            which = [(j, nl_pos[int(sg)]) for j, sg in enumerate(seg) if int(sg) in nl_pos]
-            if which:
-                self._nl_links = np.asarray([j for j, _ in which], dtype=np.int64)
-                self._nl_cols = np.asarray([k for _, k in which], dtype=np.int64)
-                self._nl_a = np.asarray([pos[int(p)] if p < n else m + int(p - n)
-                                         for p in asm.seg_a[asm.nl.seg]], dtype=np.int64)
-                self._nl_b = np.asarray([pos[int(p)] if p < n else m + int(p - n)
-                                         for p in asm.seg_b[asm.nl.seg]], dtype=np.int64)
-        self.tracker = tracker
-        self.limit_cols = np.asarray([pos[int(i)] for i in limit_nodes], dtype=np.int64)
-        self.sink = sink
-        self.boundary_links = list(boundary_links)
-        self.extra_names = dict(extra_names or {})
-        self.tmin = np.full(self.out_nodes.size, np.inf)
-        self.tmax = np.full(self.out_nodes.size, -np.inf)
-        self.tlast = np.full(self.out_nodes.size, np.nan)
-        self.last_energy = None
-        self.n_samples = 0
-        self.last_time = None
-        self.tables: dict = {}
-        sink.declare("time", [])
-        sink.declare("temperature", self.rec_names)
-        sink.declare("heat_flow", [asm.link_names[i] for i in self.links])
-        sink.declare("boundary_temperature", asm.boundary_names)
-        sink.declare("source_power", asm.source_names)
-        sink.declare("energy/stored", [])
-        sink.declare("energy/links", [asm.link_names[i] for i in self.boundary_links])
-        sink.declare("energy/sources", list(asm.source_names) + list(extra_sources))
-        for key, names in self.extra_names.items():
-            sink.declare(key, names)
-
-    def add(self, c: Chunk) -> None:
-        if c.t.size == 0:
-            return
-        T = c.T
-        cmin, cmax = T.min(axis=0), T.max(axis=0)       # NaN and infinities show in these too
-        if not (np.isfinite(cmin).all() and np.isfinite(cmax).all()) or \
-                (cmin.size and cmin.min() < -273.15):
-            self._check_physical(c.t, T)
-        self.sink.append("time", c.t)
-        self.sink.append("temperature", T if self._rec_all else T[:, self.rec_cols])
-        if self.links.size:
-            points = np.hstack([T, c.u])
-            with np.errstate(invalid="ignore"):
-                flows = self._flow_g[None, :] * (points[:, self._a_col] - points[:, self._b_col])
-            if self._nl_links.size:
-                q = self.asm.nl.flows(points[:, self._nl_a], points[:, self._nl_b])
-                flows[:, self._nl_links] = q[:, self._nl_cols]
-            self.sink.append("heat_flow", flows)
-        else:
-            self.sink.append("heat_flow", np.zeros((c.t.size, 0)))
-        self.sink.append("boundary_temperature", c.u)
-        self.sink.append("source_power", c.s)
-        self.sink.append("energy/stored", c.e_stored)
-        self.sink.append("energy/links", c.e_links)
-        self.sink.append("energy/sources", c.e_sources)
-        for key in self.extra_names:
-            self.sink.append(key, c.extras[key])
-        self.tmin = np.minimum(self.tmin, cmin)
-        self.tmax = np.maximum(self.tmax, cmax)
-        self.tlast = T[-1].copy()
-        if self.tracker is not None:
-            self.tracker.update(c.t, T[:, self.limit_cols])
-        self.last_energy = (float(c.e_stored[-1]), c.e_links[-1].copy(), c.e_sources[-1].copy())
-        self.last_time = float(c.t[-1])
-        self.n_samples += c.t.size
-
-    def _check_physical(self, t: np.ndarray, T: np.ndarray) -> None:
-        """Refuse non-finite temperatures and temperatures below absolute zero."""
-        from .errors import SolverError
-
-        bad = ~np.isfinite(T)
-        if bad.any():
-            k, j = np.argwhere(bad)[0]
-            raise SolverError("the solution is no longer a finite number", time=float(t[k]),
-                              node=self.asm.node_names[int(self.out_nodes[j])],
-                              hint="check for huge source powers or conductances, tiny "
-                                   "capacities, or try the stiff solver with a tighter rtol")
-        if T.size and T.min() < -273.15:
-            k = int(np.argmax((T < -273.15).any(axis=1)))   # the first sample below
-            j = int(np.argmin(T[k]))
-            raise SolverError(f"the temperature fell below absolute zero ({T[k, j]:.4g} degC)",
-                              time=float(t[k]), node=self.asm.node_names[int(self.out_nodes[j])],
-                              hint="a cooling source draws more heat than can reach the node; "
-                                   "check source powers, capacities and resistances")
-
-    def energy_balance(self) -> tuple[float, dict]:
-        """Relative closure error and the energy terms at the end of the run.
-
-        The error is ``|dE_stored - E_links - E_sources|`` divided by the larger of the sum of
-        the magnitudes of those terms and the energy needed to move every capacity by 1 K.
-        """
-        stored, links, sources = self.last_energy
-        total_in = float(links.sum() + sources.sum())
-        scale = abs(stored) + float(np.abs(links).sum() + np.abs(sources).sum())
-        scale = max(scale, float(self.asm.capacity.sum()) * 1.0, 1e-300)
-        terms = {"stored [J]": stored, "in through links [J]": float(links.sum()),
-                 "from sources [J]": float(sources.sum())}
-        return abs(stored - total_in) / scale, terms
-
-    def node_table(self) -> pd.DataFrame:
-        names = [self.asm.node_names[i] for i in self.out_nodes]
-        return pd.DataFrame({"node": names, "min [degC]": self.tmin, "max [degC]": self.tmax,
-                             "final [degC]": self.tlast})
-
-    def limits_table(self) -> pd.DataFrame:
-        from .limits import LIMIT_COLUMNS, ExcursionTracker
-
-        if self.tracker is None:
-            return ExcursionTracker([], [], []).table()[LIMIT_COLUMNS]
-        return self.tracker.table()
+#: metadata kept as JSON text in a result file and as Python objects in memory
+_JSON_META = ("stats", "energy_terms", "time_constants")
 
 
 # -- the result ------------------------------------------------------------------------------
@@ -353,16 +74,28 @@ class Result:
     liquid_fraction, thermostat_power : DataFrame
         histories of phase-change nodes [-] and thermostat powers [W, into the node].
     solver : str
+    run_info : rcsim.runinfo.RunInfo
+        How the run was made: the path, why others declined, counts, wall time [s].
     stats : dict
-        Solver statistics (steps, function and Jacobian evaluations, wall time [s], ...).
+        The same as a plain dict (``meta["stats"]``; steps, evaluations, ``wall_time`` [s],
+        ``piecewise_declined`` when that path declined, ...).
     """
 
     def __init__(self, arrays: dict | None = None, names: dict | None = None, meta: dict | None = None,
                  limits: pd.DataFrame | None = None, nodes: pd.DataFrame | None = None,
-                 path: str | None = None, thermostats: pd.DataFrame | None = None):
+                 path: str | None = None, thermostats: pd.DataFrame | None = None,
+                 run_info: RunInfo | None = None):
         self._arrays = arrays if arrays is not None else {}
         self._names = names or {}
         self.meta = dict(meta or {})
+        for key in _JSON_META:          # a loaded file holds these as JSON text
+            if isinstance(self.meta.get(key), str):
+                self.meta[key] = _from_json(self.meta[key], [] if key == "time_constants" else {})
+        if run_info is not None:
+            self.meta["stats"] = run_info.as_dict()
+        elif "stats" in self.meta:
+            self.meta["stats"] = dict(self.meta["stats"])
+        self._run_info = run_info
         self.limits = limits if limits is not None else pd.DataFrame()
         self.nodes = nodes if nodes is not None else pd.DataFrame()
         self.thermostats = thermostats if thermostats is not None else pd.DataFrame()
@@ -379,16 +112,20 @@ class Result:
 
     @property
     def stats(self) -> dict:
-        raw = self.meta.get("stats", "{}")
-        return json.loads(raw) if isinstance(raw, str) else dict(raw)
+        """The run's statistics as a plain dict (see :attr:`run_info` for the typed form)."""
+        return dict(self.meta.get("stats", {}))
+
+    @property
+    def run_info(self) -> RunInfo:
+        """How the run was made (path, declined paths, counts, wall time [s])."""
+        if self._run_info is None:
+            self._run_info = RunInfo.from_dict(self.meta.get("stats", {}), self.solver)
+        return self._run_info
 
     @property
     def time_constants(self) -> np.ndarray:
         """Time constants [s] of the network's linear part, longest first (empty if unknown)."""
-        raw = self.meta.get("time_constants", [])
-        if isinstance(raw, str):
-            raw = json.loads(raw) if raw else []
-        return np.asarray(raw, dtype=float)
+        return np.asarray(self.meta.get("time_constants", []), dtype=float)
 
     @property
     def scenario(self) -> str:
@@ -479,7 +216,7 @@ class Result:
             sink.write_table("nodes", self.nodes)
             if len(self.thermostats):
                 sink.write_table("thermostats", self.thermostats)
-            sink.finish(_h5_attrs(self.meta))
+            sink.finish(h5_attributes(self.meta))
         except BaseException:
             sink.abort()
             raise
@@ -511,9 +248,9 @@ class Result:
                 meta = {k: (v.decode() if isinstance(v, bytes) else v) for k, v in h5.attrs.items()}
                 meta = {k: (v.item() if hasattr(v, "item") and np.ndim(v) == 0 else v)
                         for k, v in meta.items()}
-                limits = _read_frame(h5, "limits")
-                nodes = _read_frame(h5, "nodes")
-                thermostats = _read_frame(h5, "thermostats")
+                limits = read_frame(h5, "limits")
+                nodes = read_frame(h5, "nodes")
+                thermostats = read_frame(h5, "thermostats")
         except OSError as exc:
             raise DataError(f"cannot be read as HDF5 ({exc})", label) from None
         return cls({}, names, meta, limits, nodes, path=path, thermostats=thermostats)
@@ -580,8 +317,6 @@ class Result:
                 raise DataError("no boundary to compare with", "reference")
             reference = max(bh, key=lambda c: abs(bh[c]))
         if reference not in bh:
-            from .materials import suggest
-
             raise DataError(f"unknown boundary {reference!r}", "reference", suggest(reference, bh))
         ref = bh[reference]
         rows = []
@@ -606,6 +341,18 @@ class Result:
 
         return plotting.plot_result(self, kind=kind, **kwargs)
 
+    def report(self, path=None, *, scenario=None, **options):
+        """A self-contained HTML report of the run (see :mod:`rcsim.report`): written to ``path``
+        (.html; the path is returned), or its text when ``path`` is None.
+
+        ``scenario``: the Scenario (or Network) that gave this result, needed for its inputs and
+        its picture; ``options`` go to :func:`rcsim.report.build_run_report` (``warnings``,
+        ``figures``, ``expand_layers``, ``title``).
+        """
+        from .report.dispatch import report_page  # the report sits above results; thin hand-off
+
+        return report_page(self, path, scenario, **options)
+
     def summary(self) -> str:
         """Plain-text summary of the run."""
         lines = []
@@ -614,9 +361,18 @@ class Result:
         return "\n".join(lines)
 
 
-def _h5_attrs(meta: dict) -> dict:
-    from . import __version__
+def _from_json(text: str, empty):
+    """The object a JSON text of a result file holds (``empty`` for no text or bad text)."""
+    try:
+        value = json.loads(text) if text else empty
+    except json.JSONDecodeError:
+        return empty
+    return value if isinstance(value, type(empty)) else empty
 
+
+def h5_attributes(meta: dict) -> dict:
+    """Root attributes of a result file from a result's metadata: dicts and lists as JSON text,
+    None as an empty string, with ``rcsim_version`` and ``created`` added when missing."""
     out = {}
     for k, v in meta.items():
         if isinstance(v, (dict, list)):
@@ -624,6 +380,9 @@ def _h5_attrs(meta: dict) -> dict:
         if v is None:
             v = ""
         out[k] = v
-    out.setdefault("rcsim_version", __version__)
+    out.setdefault("rcsim_version", package_version())
     out.setdefault("created", _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"))
     return out
+
+
+_h5_attrs = h5_attributes   # older name

@@ -19,18 +19,21 @@ import tomllib
 from dataclasses import dataclass, field
 from typing import Any
 
+from .base import suggest
 from .errors import InputError, ScenarioError
-from .materials import suggest
 from .network import Network
 from .parts import check_keys
 from .profiles import Constant, Profile, Repeat, Sine, Steps, Table
+from .radiation_links import enclosures_from_scenario, radiation_from_scenario
+from .thermostat import add_thermostats_from_scenario
+from .transient.registry import check_solver
 from .units import to_si
 
 __all__ = ["Scenario", "Settings", "load", "loads", "parse_key_path", "format_key_path",
            "profile_from_spec"]
 
 _TOP = {"title", "description", "simulation", "nodes", "boundaries", "links", "sources", "limits",
-        "thermostats"}
+        "thermostats", "radiation", "enclosures"}
 _SIM = {"duration", "step", "initial", "solver", "record", "start", "rtol", "atol"}
 _NODE = {"capacity", "initial", "mass", "specific_heat", "material", "volume", "density",
          "phase_change"}
@@ -193,7 +196,12 @@ _KIND_BY_KEY = {
     "resistance": "resistance", "conductance": "conductance", "view_factor": "dimensionless",
     "band": "temperature_difference", "setpoint": "temperature", "height": "length",
     "width": "length", "diameter": "length", "velocity": "velocity",
+    "inner_diameter": "length", "outer_diameter": "length",
 }
+
+#: list-valued keys whose entries are quantities (``...box.inside[0]``, ``...areas[1]``)
+_KIND_OF_ENTRIES = {"inside": "length", "outside": "length", "areas": "area",
+                    "emissivities": "dimensionless", "temperatures": "temperature"}
 
 
 def quantity_kind(tokens: list) -> str | None:
@@ -201,7 +209,7 @@ def quantity_kind(tokens: list) -> str | None:
     last = tokens[-1]
     parent = tokens[-2] if len(tokens) > 1 else None
     if isinstance(last, int):
-        return None
+        return _KIND_OF_ENTRIES.get(parent) if isinstance(parent, str) else None
     in_part = len(tokens) > 2 and isinstance(tokens[-3], int)  # ...parts[i].<kind>.<key>
     if in_part and parent == "contact" and last == "resistance":
         return "area_resistance"
@@ -313,6 +321,10 @@ def _build(data, text, path, base_dir, allow_abs, name) -> Scenario:
                                 "\"outdoor\"]", f"{w}.between")
         kwargs = {k: spec[k] for k in ("resistance", "conductance", "parts", "area") if k in spec}
         net.add_link(between[0], between[1], name=nm, where=w, **kwargs)
+    if "radiation" in data:     # one surface seeing several surroundings
+        radiation_from_scenario(net, _table(data["radiation"], "radiation"))
+    if "enclosures" in data:    # grey diffuse enclosures of N surfaces
+        enclosures_from_scenario(net, _table(data["enclosures"], "enclosures"))
     for nm, spec in _table(data.get("sources", {}), "sources").items():
         w = f"sources.{nm}"
         spec = _table(spec, w)
@@ -328,12 +340,10 @@ def _build(data, text, path, base_dir, allow_abs, name) -> Scenario:
         net.add_limit(nm, spec.get("min"), spec.get("max"), where=w)
     extras = {}
     if "thermostats" in data:
-        from .nonlinear import add_thermostats_from_scenario  # noqa: PLC0415
-
         add_thermostats_from_scenario(net, _table(data["thermostats"], "thermostats"))
     if settings.record is not None:
         for i, r in enumerate(settings.record):
-            if r not in net.nodes and not net._is_internal_name(r):
+            if r not in net.nodes and not net.is_internal_name(r):
                 raise ScenarioError(f"unknown node {r!r}", f"simulation.record[{i}]",
                                     suggest(r, list(net.nodes)))
     net.source_text = text
@@ -358,13 +368,7 @@ def _settings(sim: dict) -> Settings:
                                 f"{sim['initial']!r}", "simulation.initial")
         st.initial = sim["initial"]
     if "solver" in sim:
-        from .transient.driver import SOLVERS  # the one list of solver names
-
-        if sim["solver"] not in SOLVERS:
-            raise ScenarioError(f"solver must be one of {', '.join(map(repr, SOLVERS))}, got "
-                                f"{sim['solver']!r}", "simulation.solver",
-                                suggest(str(sim["solver"]), list(SOLVERS)))
-        st.solver = sim["solver"]
+        st.solver = check_solver(sim["solver"], "simulation.solver", ScenarioError)
     if "record" in sim:
         rec = sim["record"]
         if not isinstance(rec, list) or not all(isinstance(r, str) for r in rec) or not rec:

@@ -40,6 +40,16 @@ class StateSpace:
     def n(self) -> int:
         return self.massive.size
 
+    @property
+    def state_of(self) -> dict:
+        """{node index: position among the states} for the massive nodes."""
+        return {int(i): p for p, i in enumerate(self.massive)}
+
+    @property
+    def eliminated_of(self) -> dict:
+        """{node index: row of R and D} for the massless nodes."""
+        return {int(i): q for q, i in enumerate(self.massless)}
+
     def node_temperatures(self, Tm: np.ndarray, w: np.ndarray, n_nodes: int) -> np.ndarray:
         """Full node temperatures (..., N) from states (..., n_m) and inputs (..., M+S)."""
         out = np.empty(Tm.shape[:-1] + (n_nodes,))
@@ -50,8 +60,8 @@ class StateSpace:
 
 
 def state_space(asm) -> StateSpace:
-    """Build the reduced system of ``asm`` (cached on it)."""
-    cached = getattr(asm, "_state_space", None)
+    """Build the reduced system of ``asm`` (kept in its cache, ``asm.cache.structure``)."""
+    cached = asm.cache.structure.state_space
     if cached is not None:
         return cached
     cap = asm.capacity
@@ -87,7 +97,7 @@ def state_space(asm) -> StateSpace:
         D = np.zeros((0, n_in))
         K_eff, E = Kmm.tocsr(), Em.tocsr()
     ss = StateSpace(massive, massless, cap[massive].copy(), K_eff, E, R, D, n_in)
-    asm._state_space = ss
+    asm.cache.structure.state_space = ss
     return ss
 
 

@@ -2,7 +2,8 @@
 
 The linear steady state solves the sparse system ``K T = B u + P s`` (boundaries and sources at
 their values at the chosen time). Networks with nonlinear elements are solved by Newton's method
-(:mod:`rcsim.nonlinear`), starting from the linear solution.
+(:mod:`rcsim.nonlinear`), starting from the linear solution. The linear solve itself lives in
+:mod:`rcsim.steady_linear` (re-exported here).
 """
 
 from __future__ import annotations
@@ -14,8 +15,10 @@ import pandas as pd
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
+from .base import suggest
 from .errors import NetworkError
-from .materials import suggest
+from .nonlinear import steady_newton
+from .steady_linear import check_grounded, steady_temperatures
 
 __all__ = ["SteadyResult", "solve_steady", "steady_temperatures", "equivalent_resistance",
            "network_summary", "check_grounded"]
@@ -50,37 +53,16 @@ class SteadyResult:
         return pd.DataFrame(rows, columns=["name", "kind", "temperature [degC]"]).set_index("name")
 
 
-def check_grounded(asm, what: str = "the steady state") -> None:
-    """Raise when a group of nodes has no path to any boundary."""
-    groups = asm.floating_groups()
-    if groups:
-        names = [asm.node_names[i] for i in groups[0]]
-        shown = ", ".join(repr(n) for n in names[:6]) + (" ..." if len(names) > 6 else "")
-        raise NetworkError(f"nodes {shown} have no path to any boundary, so {what} is undefined",
-                           None, "link them to a boundary, or start from given temperatures")
-
-
-def steady_temperatures(asm, u: np.ndarray, s: np.ndarray) -> np.ndarray:
-    """Solve K T = B u + P s for the node temperatures (linear part of the network)."""
-    check_grounded(asm)
-    rhs = asm.B @ u + asm.P @ s
-    if asm.n_nodes == 1:
-        return np.atleast_1d(rhs / asm.K.toarray()[0, 0])
-    return np.atleast_1d(spla.spsolve(asm.K.tocsc(), rhs))
-
-
 def solve_steady(network, at: float = 0.0) -> SteadyResult:
     """Steady state of ``network`` with boundaries and sources at their values at time ``at``."""
     asm = network.assemble()
     u = asm.boundary_values(float(at))
     s = asm.source_values(float(at))
     solver = "linear"
-    thermostats = list(getattr(network, "thermostats", {}).values())
+    thermostats = list(network.thermostats.values())
     if asm.nl is None and not thermostats:
         temps = steady_temperatures(asm, u, s)
     else:
-        from .nonlinear import steady_newton  # noqa: PLC0415 - nonlinear layer, same level
-
         temps = steady_newton(asm, u, s, thermostats)
         solver = "newton"
     flows = asm.link_flows(temps, u)

@@ -1,6 +1,8 @@
 """Quantity parsing at the edge: strings with units (or plain numbers) to SI floats.
 
-rcsim holds one pint registry, here. Everything else in the package works in SI floats with
+rcsim holds one pint registry, here, built once on first use (pint is imported then, not when
+this module is): :func:`registry`, or the module attribute ``ureg``. Plain numbers and strings
+without a unit never need it. Everything else in the package works in SI floats with
 temperatures in degC (absolute) or K (differences); solvers never see a unit object.
 
 A *kind* names what a value must be (``"length"``, ``"temperature"``, ``"power"``...). A plain number
@@ -13,17 +15,15 @@ from __future__ import annotations
 
 import math
 import re
+import sys
+import threading
 from functools import lru_cache
 from numbers import Real
 
-import pint
-
 from .errors import UnitError
 
-__all__ = ["ureg", "KINDS", "to_si", "to_si_array", "si_unit", "format_quantity", "format_duration"]
-
-ureg = pint.UnitRegistry()
-ureg.formatter.default_format = "~P"
+__all__ = ["ureg", "registry", "KINDS", "to_si", "to_si_array", "si_unit", "format_quantity",
+           "format_duration"]
 
 # kind -> (SI unit string, description used in messages "expected a length")
 KINDS: dict[str, tuple[str, str]] = {
@@ -52,16 +52,81 @@ KINDS: dict[str, tuple[str, str]] = {
     "rate": ("K/s", "a rate of temperature change"),
 }
 
-_SI_UNITS = {kind: ureg.parse_units(unit) for kind, (unit, _) in KINDS.items()}
-_DIMS = {kind: ureg.Quantity(1.0, u).dimensionality for kind, u in _SI_UNITS.items()}
+_registry = None
+_registry_lock = threading.Lock()
+
+
+def registry():
+    """The pint unit registry rcsim parses units with (built on the first call, ~0.2 s; the
+    same object afterwards, from any thread). Also reachable as ``rcsim.units.ureg``."""
+    global _registry
+    if _registry is None:
+        with _registry_lock:
+            if _registry is None:
+                _registry = _build_registry()
+    return _registry
+
+
+def _build_registry():
+    """A new registry: pint's own definitions, kept parsed in pint's disk cache (the user's
+    cache folder) so that later processes build it in ~0.03 s instead of ~0.2 s; without the
+    cache when it cannot be used (read-only home, a damaged file)."""
+    pint = _import_pint()
+    try:
+        built = pint.UnitRegistry(cache_folder=":auto:")
+    except Exception:  # noqa: BLE001 - any failure of the cache: parse the definitions instead
+        built = pint.UnitRegistry()
+    built.formatter.default_format = "~P"
+    return built
+
+
+def _import_pint():
+    """Import pint without letting it import dask.
+
+    pint looks for dask when it is imported, to handle dask arrays, which rcsim never hands it;
+    where dask is installed (``rcsim[dask]``) that import alone costs ~0.1 s in every process.
+    While pint is imported, dask is marked absent unless something has imported it already.
+    """
+    if "pint" in sys.modules or "dask" in sys.modules:
+        import pint
+
+        return pint
+    sys.modules["dask"] = None  # find_spec("dask") is None: pint leaves dask alone
+    try:
+        import pint
+    finally:
+        if "dask" in sys.modules and sys.modules["dask"] is None:
+            del sys.modules["dask"]
+    return pint
+
+
+def __getattr__(name: str):
+    """``ureg``: the registry, built on first access (PEP 562)."""
+    if name == "ureg":
+        return registry()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+def __dir__():
+    return sorted(set(globals()) | {"ureg"})
+
+
+@lru_cache(maxsize=1)
+def _si_tables():
+    """({kind: SI unit}, {kind: dimensionality}) in the registry's terms."""
+    ureg = registry()
+    units = {kind: ureg.parse_units(unit) for kind, (unit, _) in KINDS.items()}
+    return units, {kind: ureg.Quantity(1.0, u).dimensionality for kind, u in units.items()}
+
 
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?inf|nan)\s*(.*?)\s*$",
                      re.IGNORECASE)
+#: pint's temperature units with a nonzero offset (its definitions file): absolute only
 _OFFSET_UNITS = {"degree_Celsius", "degree_Fahrenheit", "degree_Reaumur"}
 
 
 def _describe_dims(dims) -> str:
-    for kind, d in _DIMS.items():
+    for kind, d in _si_tables()[1].items():
         if d == dims and kind not in ("temperature_difference",):
             return KINDS[kind][1]
     text = str(dims)
@@ -90,7 +155,7 @@ def _parse_cached(text: str):
     if len(unit_text) > 200:
         raise UnitError(f"unit text too long ({len(unit_text)} characters)", where)
     try:
-        units = ureg.parse_units(unit_text.replace("°C", "degC").replace("°F", "degF"))
+        units = registry().parse_units(unit_text.replace("°C", "degC").replace("°F", "degF"))
     except Exception:  # noqa: BLE001 - pint's parser fails in many ways (even AssertionError)
         raise UnitError(f"unknown unit {unit_text!r} in {text!r}", where,
                         "units follow pint's names, e.g. mm, m^2, kJ/K, W/(m^2*K), degC") from None
@@ -151,7 +216,7 @@ def to_si(value, kind: str, where: str | None = None, *, finite: bool = True) ->
             number, units = _string_to_si(value, kind), None   # parsed and converted once
         except UnitError as err:
             raise UnitError(err.message, where, err.hint) from None
-    elif isinstance(value, pint.Quantity):
+    elif _is_quantity(value):
         number, units = float(value.magnitude), value.units
     else:
         raise UnitError(f"expected {KINDS[kind][1]}, got {type(value).__name__} {_short(value)}",
@@ -172,28 +237,37 @@ def to_si(value, kind: str, where: str | None = None, *, finite: bool = True) ->
     return result
 
 
+def _is_quantity(value) -> bool:
+    """Whether ``value`` is a pint quantity (without importing pint: none can exist before)."""
+    pint = sys.modules.get("pint")
+    return pint is not None and isinstance(value, pint.Quantity)
+
+
 def _convert(number: float, units, kind: str, original, where) -> float:
+    ureg = registry()
+    _, dimensions = _si_tables()
     q = ureg.Quantity(number, units)
     dims = q.dimensionality
-    is_offset = not q._is_multiplicative
+    names = [str(name) for name, _ in q.unit_items()]
+    is_offset = any(name in _OFFSET_UNITS for name in names)
     if kind == "temperature":
-        if dims != _DIMS["temperature"]:
+        if dims != dimensions["temperature"]:
             raise UnitError(f"expected a temperature, got {_short(original)} "
                             f"({_describe_dims(dims)})", where)
-        if any(str(name).startswith("delta_") for name in q._units):
+        if any(name.startswith("delta_") for name in names):
             raise UnitError(f"expected an absolute temperature, got a temperature difference "
                             f"{_short(original)}", where, "write e.g. '25 degC' or '298.15 K'")
         return float(q.to(ureg.degC).magnitude)
     if kind == "temperature_difference":
-        if dims != _DIMS["temperature"]:
+        if dims != dimensions["temperature"]:
             raise UnitError(f"expected a temperature difference, got {_short(original)} "
                             f"({_describe_dims(dims)})", where)
         if is_offset:
             raise UnitError(f"expected a temperature difference, got the absolute temperature "
                             f"{_short(original)}", where, "write e.g. '7 K' or '7 delta_degC'")
         return float(q.to(ureg.kelvin).magnitude)
-    target = _SI_UNITS[kind]
-    if dims != _DIMS[kind]:
+    target = _si_tables()[0][kind]
+    if dims != dimensions[kind]:
         raise UnitError(f"expected {KINDS[kind][1]}, got {_short(original)} "
                         f"({_describe_dims(dims)})", where)
     return float(q.to(target).magnitude)

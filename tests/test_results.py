@@ -8,21 +8,8 @@ import numpy as np
 import pytest
 
 import rcsim
+from conftest import make_heated_box as box
 from rcsim.limits import excursion_stats
-
-
-def box(limits=True):
-    net = rcsim.Network()
-    net.add_node("payload", capacity=8400.0, initial=5.0)
-    net.add_node("air", capacity=200.0, initial=5.0)
-    net.add_boundary("outdoor", temperature=rcsim.Sine(mean=25, amplitude=7, period=86400,
-                                                       peak=15 * 3600))
-    net.add_link("payload", "air", resistance=0.4, name="film")
-    net.add_link("air", "outdoor", resistance=2.5, name="wall")
-    net.add_source("air", power=rcsim.Steps([0, 3600], [0.0, 5.0]), name="fan")
-    if limits:
-        net.add_limit("payload", min=2, max=8)
-    return net
 
 
 def test_hdf5_layout_and_round_trip(tmp_path):
@@ -80,15 +67,12 @@ def test_csv_export(tmp_path):
     assert len(text) == 14  # header + 13 samples (0 to 2 h every 10 min)
 
 
-def test_hold_time_matches_closed_form():
+def test_hold_time_matches_closed_form(single_node):
     # single node warming from 5 to 25 degC with tau = RC: T crosses 8 degC at
     # t = -tau ln((8 - 25)/(5 - 25)) (Newton cooling solved for t)
     C, R = 8400.0, 2.5
-    net = rcsim.Network()
-    net.add_node("p", capacity=C, initial=5.0)
-    net.add_boundary("o", temperature=25.0)
-    net.add_link("p", "o", resistance=R)
-    net.add_limit("p", max=8.0)
+    net = single_node(C, R, Ti=5.0, ambient=25.0)
+    net.add_limit("x", max=8.0)
     res = net.simulate("24 h", "1 min")
     row = res.limits.iloc[0]
     t_cross = -R * C * math.log((8 - 25) / (5 - 25))

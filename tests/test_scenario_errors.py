@@ -77,6 +77,44 @@ CASES = [
     ("emissivity", GOOD.replace('{ convection = { h = "3 W/(m^2*K)", area = "0.8 m^2" } },',
      '{ radiation = { emissivity = 1.5, area = 1, temperatures = ["20 degC", "10 degC"] } },'),
      "emissivity must be in (0, 1]"),
+    # radiation elements and enclosures (issue 18)
+    ("view_factors_above_one", GOOD + '[radiation.skin]\nsurface = "payload"\narea = 1\n'
+     'emissivity = 0.9\nsees = [{ node = "outdoor", view_factor = 0.7 }, '
+     '{ node = "sky", view_factor = 0.5 }]\n[boundaries.sky]\ntemperature = "-10 degC"\n',
+     "radiation.skin.sees: view factors sum to 1.2 > 1"),
+    ("view_factor_out_of_range", GOOD + '[radiation.skin]\nsurface = "payload"\narea = 1\n'
+     'emissivity = 0.9\nsees = [{ node = "outdoor", view_factor = 1.5 }]\n',
+     "radiation.skin.sees[0].view_factor: view factor 1.5 outside (0, 1]"),
+    ("sees_unknown_point", GOOD + '[radiation.skin]\nsurface = "payload"\narea = 1\n'
+     'emissivity = 0.9\nsees = [{ node = "outdor", view_factor = 0.5 }]\n',
+     "radiation.skin.sees[0].node: unknown node or boundary 'outdor' (did you mean 'outdoor'?)"),
+    ("reciprocity", GOOD + '[nodes.lid]\ncapacity = 100\ninitial = "5 degC"\n'
+     '[enclosures.inside]\nsurfaces = ["payload", "lid"]\nareas = [1, 2]\n'
+     'emissivities = 0.9\nview_factors = [[0, 1], [1, 0]]\n',
+     "enclosures.inside.view_factors: row 0 ('payload'), column 1: reciprocity A_i F_ij = A_j "
+     "F_ji fails"),
+    ("enclosure_not_closed", GOOD + '[nodes.lid]\ncapacity = 100\ninitial = "5 degC"\n'
+     '[enclosures.inside]\nsurfaces = ["payload", "lid"]\nareas = [1, 1]\n'
+     'emissivities = 0.9\nview_factors = [[0, 0.8], [0.8, 0]]\n',
+     "enclosures.inside.view_factors: row 0 ('payload'): view factors sum to 0.8 < 1"),
+    ("unknown_shape", GOOD + '[enclosures.inside]\nsurfaces = { floor = "payload" }\n'
+     'emissivities = 0.9\nshape = { box_inside = { length = 1, width = 1, height = 1 } }\n',
+     "enclosures.inside.shape.box_inside: unknown view-factor shape 'box_inside' (did you mean "
+     "'box_interior'?)"),
+    ("shape_face_unmapped", GOOD + '[enclosures.inside]\nsurfaces = { floor = "payload" }\n'
+     'emissivities = 0.9\nshape = { box_interior = { length = 1, width = 1, height = 1 } }\n',
+     "enclosures.inside.surfaces: face 'lid' has no node or boundary"),
+    ("box_two_lengths", GOOD.replace('{ conduction = { k = "0.033 W/(m*K)", thickness = "50 mm", '
+     'area = "0.8 m^2" } },', '{ box = { k = 0.03, inside = [0.3, 0.3], thickness = 0.05 } },'),
+     "links.wall.parts[1].box.inside: inside must be three lengths"),
+    ("box_walls_differ", GOOD.replace('{ conduction = { k = "0.033 W/(m*K)", thickness = "50 mm", '
+     'area = "0.8 m^2" } },', '{ box = { k = 0.03, inside = [0.3, 0.3, 0.3], '
+     'outside = [0.4, 0.4, 0.5] } },'),
+     "links.wall.parts[1].box.outside: the walls differ in thickness"),
+    ("solid_core_unsliced", GOOD.replace('{ conduction = { k = "0.033 W/(m*K)", thickness = "50 mm", '
+     'area = "0.8 m^2" } },', '{ cylinder = { k = 0.5, inner_radius = 0, outer_radius = 0.02, '
+     'length = 1 } },'),
+     "links.wall.parts[1].cylinder: a solid core (inner radius 0) needs slices"),
 ]
 
 

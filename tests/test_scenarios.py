@@ -141,6 +141,35 @@ def test_cold_box_hold_time_against_an_energy_budget():
     assert res.liquid_fraction.max().min() == pytest.approx(1.0)
 
 
+def test_cold_box_edges_hold_time_against_an_energy_budget():
+    # the shipper as a box: the foam's conductance by hand from the shape-factor table (Incropera
+    # Table 4.1: walls A/L, edges 0.54 D, corners 0.15 L) for 442 x 342 x 342 mm inside, 50 mm
+    k, L, (a, b, c) = 0.025, 0.05, (0.442, 0.342, 0.342)
+    walls = 2 * (a * b + b * c + a * c) / L
+    extra = 0.54 * 4 * (a + b + c) + 8 * 0.15 * L
+    r_walls = 1 / (k * (walls + extra)) + 0.004 / (0.065 * 1.2)
+    # outside: convection ~2.5 and radiation ~6 W/(m2 K) over 1.3 m2 (common practice), the
+    # radiation seeing the bay (mean 25 degC) 0.8 and the roof (mean 30 degC) 0.2
+    r_out = 1 / ((2.5 + 6.0) * 1.3)
+    t_out = (2.5 * 25.0 + 6.0 * (0.8 * 25.0 + 0.2 * 30.0)) / 8.5
+    # heat the contents take up until the payload reaches 8 degC (gel-pack row of the table)
+    m, cs, cl, latent, lo = 4.0, 2000.0, 3600.0, 300e3, -1.5
+    packs = m * cs * (lo + 3.0) + m * (cs * (0.0 - lo) + latent) + m * cl * 8.0
+    energy = packs + (6 * 3600.0 + 2500.0 + 50.0) * (8.0 - 5.0)
+    # the liner sits between the melting packs (0 degC) and the payload (5 degC): the spread
+    t_lo = energy / ((t_out - 0.0) / (r_walls + r_out))
+    t_hi = energy / ((t_out - 5.0) / (r_walls + r_out))
+    sc = rcsim.load(path("cold-box-edges.toml"))
+    res = sc.run()
+    lim = res.limits.set_index("kind")
+    hold = lim.loc["max", "hold_time [s]"]
+    assert t_lo < hold < t_hi, (t_lo / 3600, hold / 3600, t_hi / 3600)
+    assert math.isnan(lim.loc["min", "hold_time [s]"])      # the packs do not freeze it
+    assert res.liquid_fraction["packs"].iloc[-1] == pytest.approx(1.0)
+    box = sc.network.links["foam"].parts[0].box
+    assert box.edge_corner_ratio == pytest.approx(extra / walls, rel=1e-12)
+
+
 def test_winter_cold_box_freezes_the_payload_first():
     # frozen packs on a cold dock: the lower limit is the risk; a lumped first estimate of the
     # time to 2 degC: the payload, liner and air (24.2 kJ/K) lose heat to the packs (two paths of

@@ -10,9 +10,9 @@ from scipy import stats
 
 import rcsim
 from rcsim.errors import InputError, RcsimWarning
-from rcsim.sweep import (LogNormal, Normal, SweepInterrupted, Triangular, Uniform,
-                         first_order_indices, one_at_a_time, parse_spec, percentiles, read_table,
-                         sweep)
+from rcsim.sweep import (LogNormal, Normal, SweepInterrupted, SweepTable, Triangular, Uniform,
+                         check_table_path, first_order_indices, one_at_a_time, parse_spec,
+                         percentiles, read_table, sweep)
 
 from conftest import SCENARIOS
 
@@ -267,7 +267,10 @@ def test_warnings_of_the_runs_are_relayed_once_with_a_count():
         sc = rcsim.loads(text, name="heavy.toml")
     with pytest.warns(RcsimWarning, match=r"Biot.*\(in 3 of 3 runs\)") as caught:
         sweep(sc, {"nodes.payload.mass": [10, 11, 12]}, executor="serial")
-    assert len([w for w in caught if "Biot" in str(w.message)]) == 1
+    relayed = [w for w in caught if "Biot" in str(w.message)]
+    assert len(relayed) == 1
+    # the warning points at the line that called the sweep, outside rcsim
+    assert relayed[0].filename == __file__
 
 
 def test_interrupted_sweep_keeps_and_writes_the_finished_rows(body, tmp_path):
@@ -301,6 +304,8 @@ def test_same_table_from_serial_processes_and_dask(body):
     assert (serial["error"] != "").any() and (serial["error"] == "").any()
     procs = sweep(body, vary, samples=10, seed=9, executor="processes", workers=2, batch_size=3)
     pd.testing.assert_frame_equal(serial, procs)
+    assert SweepTable.from_frame(procs).executor == {"name": "processes", "workers": 2,
+                                                     "scheduler": None}
     with LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
                       dashboard_address=None) as cluster, Client(cluster) as client:
         dask = sweep(body, vary, samples=10, seed=9, executor="dask", scheduler=client,
@@ -426,3 +431,109 @@ def test_a_worker_that_dies_stops_the_sweep_with_one_line(body, monkeypatch):
     monkeypatch.setattr("concurrent.futures.ProcessPoolExecutor", DeadPool)
     with pytest.raises(rcsim.SolverError, match="sweep worker stopped unexpectedly.*abruptly"):
         sweep_module.sweep(body, {"nodes.body.capacity": [8000.0, 9000.0]}, workers=2)
+
+
+def test_the_table_metadata_as_a_typed_record(body, tmp_path):
+    table = sweep(body, {"nodes.body.capacity": ["8 kJ/K", "9 kJ/K"],
+                         "links.skin.resistance": Normal("2.5 K/W", "0.2 K/W")},
+                  samples=3, seed=7, executor="serial")
+    record = SweepTable.from_frame(table)
+    assert record.frame is table and record.to_frame() is table
+    # what the scenario text (BODY) and the call say: [limits.body] max = "8 degC",
+    # duration = "6 h", the keys in the order given, the seed and the draws per grid point
+    assert record.limits == {"body": {"min": None, "max": 8.0}}
+    assert record.duration == 6 * 3600.0
+    assert record.inputs == ["nodes.body.capacity", "links.skin.resistance"]
+    assert record.outputs == ["min.body", "max.body", "hold_time.body", "time_out.body"]
+    assert (record.seed, record.samples, record.interrupted, record.failed) == (7, 3, False, 0)
+    assert record.units == {"nodes.body.capacity": "J/K", "links.skin.resistance": "K/W",
+                           "min.body": "degC", "max.body": "degC", "hold_time.body": "s",
+                           "time_out.body": "s"}
+    assert record.design == {"nodes.body.capacity": "grid [8000, 9000] J/K",
+                             "links.skin.resistance": "normal(2.5, 0.2) K/W"}
+    assert record.executor == {"name": "serial", "workers": 1, "scheduler": None}
+    # the rows are the closed form of each (C, R) pair
+    np.testing.assert_allclose(record.frame["hold_time.body"],
+                               body_hold_time(table["nodes.body.capacity"],
+                                              table["links.skin.resistance"], 30.0),
+                               atol=STEP**2 / (8 * 16000))
+    # the statistics take the record as well as the frame
+    pd.testing.assert_frame_equal(percentiles(record), percentiles(table))
+    # written and read back, the record is the same
+    back = SweepTable.read(record.write(tmp_path / "t.h5"))
+    pd.testing.assert_frame_equal(back.frame, table, check_dtype=False, check_index_type=False)
+    assert back.metadata() == record.metadata()
+
+
+@pytest.mark.parametrize("suffix", [".csv", ".h5", ".parquet"])
+def test_tables_written_before_the_split_still_read(suffix):
+    # written by rcsim 0.1 (sweep.py as one module, before it became a package): BODY with
+    # links.skin.resistance ~ normal(1, 1.5) (seed 3, 3 draws) at nodes.body.capacity 8 and 9 kJ/K
+    path = os.path.join(os.path.dirname(os.path.abspath(__file__)), "data",
+                        f"sweep-table-0.1{suffix}")
+    record = SweepTable.read(path)
+    table = record.frame
+    draws = np.random.default_rng(3).normal(1.0, 1.5, 3)   # numpy's draws, one negative
+    np.testing.assert_allclose(table["links.skin.resistance"], np.tile(draws, 2), rtol=1e-15)
+    assert table["nodes.body.capacity"].tolist() == [8000.0] * 3 + [9000.0] * 3
+    bad = table["links.skin.resistance"] < 0
+    assert bad.sum() == 2 and table.loc[bad, "error"].str.contains("must be positive").all()
+    assert (table.loc[~bad, "error"] == "").all() and record.failed == 2
+    ok = ~bad.to_numpy()
+    expected = body_hold_time(table["nodes.body.capacity"], table["links.skin.resistance"], 30.0)
+    np.testing.assert_allclose(table["hold_time.body"][ok], expected[ok],
+                               atol=STEP**2 / (8 * 8000))
+    assert record.outputs == ["min.body", "max.body", "hold_time.body", "time_out.body"]
+    assert record.executor is None                          # not recorded then
+    if suffix != ".csv":
+        assert (record.seed, record.samples, record.duration) == (3, 3, 6 * 3600.0)
+        assert record.design["nodes.body.capacity"] == "grid [8000, 9000] J/K"
+    assert percentiles(table).at["hold_time.body", "runs"] == 4
+
+
+def test_table_path_is_checked_by_its_public_name(tmp_path):
+    import importlib
+
+    sweep_package = importlib.import_module("rcsim.sweep")  # the package, not rcsim.sweep
+    assert sweep_package._check_table_path is check_table_path  # the old name, kept for now
+    assert check_table_path(tmp_path / "t.parquet") == str(tmp_path / "t.parquet")
+    with pytest.raises(InputError, match="folder .* does not exist"):
+        check_table_path(tmp_path / "nofolder" / "t.csv")
+    with pytest.raises(InputError, match="is a directory"):
+        (tmp_path / "d.csv").mkdir()
+        check_table_path(tmp_path / "d.csv")
+
+
+def test_rcsim_sweep_is_callable_whichever_import_came_first(body, monkeypatch):
+    import importlib
+    import inspect
+    import json
+    import subprocess
+    import sys
+
+    # in a fresh interpreter, a submodule imported before rcsim binds the package as rcsim.sweep
+    vary = {"nodes.body.capacity": [8000.0, 9000.0]}
+    script = f"""
+import importlib, inspect, json
+import rcsim.sweep.grammar
+import rcsim
+from rcsim.sweep import sweep
+package = importlib.import_module("rcsim.sweep")
+a = rcsim.sweep({body.path!r}, {vary!r}, executor="serial")
+b = package({body.path!r}, {vary!r}, executor="serial")
+c = sweep({body.path!r}, {vary!r}, executor="serial")
+print(json.dumps([t["hold_time.body"].tolist() for t in (a, b, c)]
+                 + [str(inspect.signature(package)) == str(inspect.signature(sweep))]))
+"""
+    out = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                         check=True).stdout
+    *holds, same_signature = json.loads(out.strip().splitlines()[-1])
+    expected = body_hold_time([8000.0, 9000.0], 2.5, 30.0)          # closed form
+    for h in holds:
+        np.testing.assert_allclose(h, expected, atol=STEP**2 / (8 * 20000))
+    assert same_signature
+    # calling the package forwards to its current sweep function (a replaced one included)
+    package = importlib.import_module("rcsim.sweep")
+    assert "samples" in inspect.signature(package).parameters
+    monkeypatch.setattr(package, "sweep", lambda *a, **k: ("forwarded", a, k))
+    assert package(body, vary, seed=1) == ("forwarded", (body, vary), {"seed": 1})

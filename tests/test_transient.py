@@ -1,6 +1,7 @@
-"""Transient solutions against closed forms, the series solution of a slab, and scipy.signal.lsim.
+"""Transient solutions against the series solution of a slab and scipy.signal.lsim; time
+constants; recording choices.
 
-Every solver path is run through the same closed-form cases.
+The closed forms every registered path must meet are in tests/test_paths.py.
 """
 
 import math
@@ -11,68 +12,15 @@ import scipy.signal as sig
 from scipy.optimize import brentq
 
 import rcsim
+from conftest import make_single_node as single_node, make_slab_wall
 
-PATHS = ["exact", "stiff"]
-# tolerance per path: the exact path is exact to rounding; the stiff path to its rtol/atol
-TOL = {"exact": 1e-9, "stiff": 2e-4}
-
-
-def single_node(C=8400.0, R=2.5, Ti=5.0, ambient=25.0, power=None):
-    net = rcsim.Network()
-    net.add_node("x", capacity=C, initial=Ti)
-    net.add_boundary("amb", temperature=ambient)
-    net.add_link("x", "amb", resistance=R, name="skin")
-    if power is not None:
-        net.add_source("x", power=power)
-    return net
-
-
-@pytest.mark.parametrize("solver", PATHS)
-def test_step_response(solver):
-    # Newton cooling of a lumped body: T = Tinf + (Ti - Tinf) exp(-t/tau), tau = RC
-    C, R = 8400.0, 2.5
-    res = single_node(C, R).simulate("24 h", "10 min", solver=solver)
-    t = res.time
-    expected = 25.0 + (5.0 - 25.0) * np.exp(-t / (R * C))
-    np.testing.assert_allclose(res.temperatures["x"], expected, atol=TOL[solver])
-
-
-@pytest.mark.parametrize("solver", PATHS)
-def test_constant_heat_input(solver):
-    # lumped node with a source Q: T = Tinf + Q R + (Ti - Tinf - Q R) exp(-t/RC)
-    C, R, Q = 5000.0, 1.2, 8.0
-    net = single_node(C, R, Ti=20.0, ambient=20.0, power=Q)
-    res = net.simulate("6 h", "1 min", solver=solver)
-    t = res.time
-    expected = 20.0 + Q * R * (1 - np.exp(-t / (R * C)))
-    np.testing.assert_allclose(res.temperatures["x"], expected, atol=TOL[solver])
-    # and the heat flow through the skin is (T - Tinf)/R
-    np.testing.assert_allclose(res.heat_flows["skin"], (expected - 20.0) / R, atol=TOL[solver])
-
-
-@pytest.mark.parametrize("solver", PATHS)
-def test_sinusoidal_ambient_amplitude_and_lag(solver):
-    # first-order low-pass: amplitude ratio 1/sqrt(1 + (w tau)^2), lag atan(w tau)/w, once
-    # periodic (the textbook frequency response of an RC element)
-    C, R, P = 20000.0, 3.0, 86400.0
-    w = 2 * math.pi / P
-    tau = R * C
-    net = rcsim.Network()
-    net.add_node("x", capacity=C, initial=20.0)
-    net.add_boundary("amb", temperature=rcsim.Sine(mean=20, amplitude=6, period=P, peak=0.0))
-    net.add_link("x", "amb", resistance=R)
-    res = net.simulate(2 * P, 300, initial="periodic", solver=solver)
-    t = res.time
-    amp = 6 / math.sqrt(1 + (w * tau) ** 2)
-    lag = math.atan(w * tau) / w
-    expected = 20 + amp * np.cos(w * (t - lag))
-    np.testing.assert_allclose(res.temperatures["x"], expected, atol=10 * TOL[solver])
+from rcsim.transient.registry import PATHS
 
 
 def test_periodic_start_needs_periodic_inputs():
     net = single_node()
     net.boundaries["amb"].profile = rcsim.Table([0, 1e6], [0, 1]).bind("temperature", "b")
-    net._changed()
+    net.mark_changed()
     with pytest.raises(rcsim.InputError, match="periodic"):
         net.simulate("1 h", "1 min", initial="periodic")
 
@@ -91,20 +39,6 @@ def _slab_series(bi, fo, x_star=0.0, terms=60):
     return total
 
 
-def _slab(slices, h=10.0, k=1.0, L=0.1, rho=2000.0, cp=1000.0, Ti=100.0):
-    net = rcsim.Network()
-    net.add_boundary("left", temperature=0.0)
-    net.add_boundary("right", temperature=0.0)
-    net.add_link("left", "right", name="wall", parts=[
-        {"convection": {"h": h, "area": 1.0}},
-        {"conduction": {"k": k, "thickness": 2 * L, "area": 1.0, "density": rho,
-                        "specific_heat": cp, "slices": slices}},
-        {"convection": {"h": h, "area": 1.0}},
-    ])
-    initial = {f"wall.{i + 1}": Ti for i in range(slices)}
-    return net, initial
-
-
 @pytest.mark.parametrize("solver", PATHS)
 def test_slab_converges_to_series_solution(solver):
     h, k, L, rho, cp, Ti = 10.0, 1.0, 0.1, 2000.0, 1000.0, 100.0
@@ -114,7 +48,7 @@ def test_slab_converges_to_series_solution(solver):
     exact = np.array([_slab_series(bi, alpha * t / L ** 2) for t in times]) * Ti
     errors = []
     for slices in (5, 15, 45):
-        net, init = _slab(slices, h, k, L, rho, cp, Ti)
+        net, init = make_slab_wall(slices, h, k, L, rho, cp, Ti)
         res = net.simulate(times[-1], times[0] / 4, initial=init, solver=solver)
         centre = res.temperatures[f"wall.{(slices + 1) // 2}"]
         got = np.interp(times, res.time, centre.to_numpy())
@@ -192,12 +126,15 @@ def test_exact_path_matches_lsim_to_1e9():
     assert np.abs(x - res.temperatures.to_numpy()).max() < 1e-9
 
 
-def test_stiff_path_matches_exact_path():
+@pytest.mark.parametrize("solver, tol", [("stiff", 1e-4), ("piecewise", 1e-9)])
+def test_other_paths_match_the_exact_path(solver, tol):
+    # a 20-node network with a ramp, a step and a source: the stiff path to its tolerance, the
+    # piecewise path (closed form between events, none here) to rounding
     net = _random_network()
     a = net.simulate("24 h", "5 min", solver="exact")
-    b = net.simulate("24 h", "5 min", solver="stiff", rtol=1e-8, atol=1e-8)
-    assert np.abs(a.temperatures.to_numpy() - b.temperatures.to_numpy()).max() < 1e-4
-    np.testing.assert_allclose(a.heat_flows.to_numpy(), b.heat_flows.to_numpy(), atol=1e-3)
+    b = net.simulate("24 h", "5 min", solver=solver, rtol=1e-8, atol=1e-8)
+    assert np.abs(a.temperatures.to_numpy() - b.temperatures.to_numpy()).max() < tol
+    np.testing.assert_allclose(a.heat_flows.to_numpy(), b.heat_flows.to_numpy(), atol=10 * tol)
 
 
 def test_energy_balance_closes():
@@ -273,7 +210,7 @@ def test_doubling_capacities_doubles_time_constants():
     tau = net.time_constants()
     for node in net.nodes.values():
         node.capacity *= 2
-    net._changed()
+    net.mark_changed()
     np.testing.assert_allclose(net.time_constants(), 2 * tau, rtol=1e-9)
 
 
@@ -314,27 +251,6 @@ def test_record_subset_and_duration_not_a_multiple_of_step():
     assert list(res.heat_flows.columns) == ["n3-n4"]
     full = net.simulate(1000.0, 300.0)
     np.testing.assert_allclose(res.temperatures["n3"], full.temperatures["n3"], atol=1e-12)
-
-
-@pytest.mark.parametrize("solver", PATHS)
-def test_output_at_irregular_times(solver):
-    # irregular sampling (as in a logger file) against the closed forms used above
-    rng = np.random.default_rng(7)
-    times = np.sort(rng.uniform(0, 86400, 300))
-    C, R, P = 20000.0, 3.0, 86400.0
-    w = 2 * math.pi / P
-    net = rcsim.Network()
-    net.add_node("x", capacity=C, initial=20.0)
-    net.add_boundary("amb", temperature=rcsim.Sine(mean=20, amplitude=6, period=P, peak=0.0))
-    net.add_link("x", "amb", resistance=R)
-    net.add_source("x", power=rcsim.Repeat(rcsim.Steps([0, 30000.5], [0.0, 0.0]), P))  # a knot
-    res = net.simulate(P, 600, times=times, initial="periodic", solver=solver)
-    assert res.time.size == times.size + 2
-    t = res.time
-    tau = R * C
-    expected = 20 + 6 / math.sqrt(1 + (w * tau) ** 2) * np.cos(w * t - math.atan(w * tau))
-    np.testing.assert_allclose(res.temperatures["x"], expected, atol=10 * TOL[solver])
-    assert res.energy_balance < (1e-9 if solver == "exact" else 1e-6)
 
 
 def test_irregular_grid_with_steps_matches_regular_grid():

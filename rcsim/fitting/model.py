@@ -14,20 +14,20 @@ Inputs: log columns that drive boundaries or sources become tables (linear betwe
 at the ends); the scenario's own profiles are read on the log's clock (:func:`log_offset`,
 wrapped in :class:`rcsim.profiles.Shifted`).
 
-Paths. On a linear network (given or steady start, within the exact path's size) the model runs
-the exact modal propagation (``transient.exact.ExactPropagator``) at the log's times, whatever
-their spacing. Freed initial temperatures (``transient.initial.given_temperatures`` overrides)
-and constant boundary temperatures or source powers (constant profiles swapped into a
-``dataclasses.replace``d assembly) leave capacities and conductances alone, so the reduced
-system and the modes computed for the structure are handed to the new assembly (the cached
-``_state_space`` and ``_modes``); only values that need a rebuild get a new decomposition
-(cached per set of values, least recently used first out). Networks the exact path cannot take
-run through :meth:`rcsim.Network.simulate` per evaluation.
+Paths. Every evaluation goes through the engine's :func:`rcsim.transient.trajectory`, which
+makes the same checks, start and path choice as a run. On a linear network (given or steady
+start, within the exact path's size, decided by the engine's one exact-or-not test) the exact
+modal propagation runs straight to the log's times, whatever their spacing. Freed initial
+temperatures (overrides of the given start) and constant boundary temperatures or source powers
+(constant profiles swapped in through :meth:`rcsim.assembly.Assembled.with_inputs`) leave
+capacities and conductances alone, so the copy shares the reduced system and the modes computed
+for the structure; only values that need a rebuild get a new decomposition (cached per set of
+values, least recently used first out). Networks the exact path cannot take run on the
+piecewise or stiff path per evaluation, at tolerances of at most 1e-7.
 """
 
 from __future__ import annotations
 
-import dataclasses
 import warnings
 from collections import OrderedDict
 from dataclasses import dataclass
@@ -35,7 +35,6 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from ..base import suggest
 from ..errors import InputError, ScenarioError
 from ..profiles import Constant, Shifted, Table
 from ..scenario import Scenario
@@ -216,69 +215,35 @@ class Model:
         return bprof, sprof, overrides
 
     def _outputs_exact(self, values, t) -> np.ndarray:
-        from ..modes import modal_decomposition
-        from ..statespace import state_space
-        from ..steady import steady_temperatures
-        from ..transient.exact import ExactPropagator
-        from ..transient.initial import given_temperatures
+        from ..transient import trajectory
 
         structure = self._structure(values)
         asm0 = structure.assembled
         bprof, sprof, overrides = self._inputs(asm0, values)
-        asm = dataclasses.replace(asm0, boundary_profiles=bprof, source_profiles=sprof)
-        # the inputs changed, not K or C: hand the cached reduced system and modes over
-        asm._state_space = state_space(asm0)
-        asm._modes = modal_decomposition(asm0)
-        prop = ExactPropagator(asm)
-        ss = prop.ss
-        u0 = asm.boundary_values(0.0)
-        if self.sc.settings.initial == "steady":
-            T0 = steady_temperatures(asm, u0, asm.source_values(0.0))
-        else:
-            T0 = given_temperatures(structure.network, asm, overrides, u0)
-        z0 = prop.z_from_temperatures(T0[ss.massive])
-        A, D = prop.output_maps(self.node_idx)
-        n = prop.lam.size + prop.n_inputs
-        chunk = max(512, CHUNK_ELEMENTS // max(1, n))
-        Z = np.empty((t.size, prop.lam.size))
-        Z[0] = z0
-        k0, z = 0, z0
-        while k0 < t.size - 1:  # chunks bound memory on long logs; no loop over time steps
-            k1 = min(t.size - 1, k0 + chunk)
-            Zc, _, _ = prop.propagate(t[k0:k1 + 1], z)
-            Z[k0 + 1:k1 + 1] = Zc
-            z = Zc[-1]
-            k0 = k1
-        w = prop.inputs_at(t)
-        return Z @ A.T + w @ D.T
+        # the inputs changed, not K or C: the copy shares the reduced system and the modes
+        asm = asm0.with_inputs(boundary_profiles=bprof, source_profiles=sprof)
+        initial = "steady" if self.sc.settings.initial == "steady" else overrides
+        return trajectory(structure.network, t, self.node_idx, assembled=asm, initial=initial,
+                          solver="exact")
 
     def _outputs_general(self, values, t) -> np.ndarray:
-        subst = {p.key: v for p, v in zip(self.params, values)}
-        for b, tab in self.tables.items():
-            subst[f"boundaries.{b}.temperature"] = {"table": {
-                "times": tab.times.tolist(), "values": tab.values.tolist(), "outside": "hold"}}
-        for src, tab in self.power_tables.items():
-            subst[f"sources.{src}.power"] = {"table": {
-                "times": tab.times.tolist(), "values": tab.values.tolist(), "outside": "hold"}}
+        from ..transient import trajectory
+
+        subst = {p.key: v for p, v in zip(self.params, values)
+                 if p.tier in ("rebuild", "initial")}
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # warnings of trial values are not the user's
+            sc = self.sc.with_values(subst) if subst else self.sc
+            net = sc.network
+            asm0 = net.assemble()
+        bprof, sprof, _ = self._inputs(asm0, values)
+        asm = asm0.with_inputs(boundary_profiles=bprof, source_profiles=sprof)
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
-            sc = self.sc.with_values(subst)
-            if self.offset:  # the scenario's own profiles, read on the log's clock
-                for item in [b for b in sc.network.boundaries.values()
-                             if b.name not in self.tables] + [
-                        src for src in sc.network.sources.values()
-                        if src.name not in self.power_tables]:
-                    item.profile = self._shift(item.profile)
-                sc.network._changed()
-            res = sc.network.simulate(float(t[-1]), float(t[-1]), times=t,
-                                      record=sorted(set(self.measured_nodes)),
-                                      initial=sc.settings.initial,
-                                      solver=self.solver if self.solver in ("stiff", "piecewise")
-                                      else "auto",
-                                      rtol=min(sc.settings.rtol, 1e-7),
-                                      atol=min(sc.settings.atol, 1e-7))
-        temps = res.temperatures
-        return temps[self.measured_nodes].to_numpy(dtype=float)
+            return trajectory(net, t, self.node_idx, assembled=asm, initial=sc.settings.initial,
+                              solver=self.solver if self.solver in ("stiff", "piecewise")
+                              else "auto",
+                              rtol=min(sc.settings.rtol, 1e-7), atol=min(sc.settings.atol, 1e-7))
 
 
     def state_matrices(self, values) -> StateMatrices:
@@ -340,27 +305,21 @@ def _power_tables(log: Log) -> dict:
 
 def _choose_path(sc: Scenario, asm, solver: str) -> tuple[bool, str]:
     """(fast, solver name): whether the exact modal path runs the model, and the path named in
-    the result ('exact', or the solver asked for when the general path runs).
+    the result ('exact', or the solver asked for when the general path runs). The exact-or-not
+    decision is the engine's own (:func:`rcsim.transient.exact_path.exact_declines`).
 
     Raises
     ------
     InputError
         An unknown solver name, or 'exact' for a network the exact path cannot take.
     """
-    from ..modes import DENSE_LIMIT
-    from ..statespace import state_space
-    from ..transient.driver import EXACT_LIMIT, SOLVERS  # the one list of solver names
+    from ..transient.exact_path import exact_declines
+    from ..transient.registry import check_solver
 
-    nonlinear = not asm.is_linear or bool(getattr(sc.network, "thermostats", None))
-    n_states = state_space(asm).n
-    limit = min(DENSE_LIMIT, EXACT_LIMIT)
-    if solver not in SOLVERS:
-        raise InputError(f"solver must be one of {', '.join(map(repr, SOLVERS))}, got "
-                         f"{solver!r}", "solver", suggest(str(solver), list(SOLVERS)))
-    if solver == "exact" and (nonlinear or n_states > limit):
-        raise InputError(f"the exact path needs a linear network of at most {limit} states",
-                         "solver", "use solver='auto' or 'stiff'")
-    fast = (solver != "stiff" and not nonlinear and sc.settings.initial in ("given", "steady")
-            and n_states <= limit)
+    check_solver(solver)
+    declined = exact_declines(asm, tuple(sc.network.thermostats.values()))
+    if solver == "exact" and declined is not None:
+        raise InputError(f"the exact path {declined}", "solver", "use solver='auto' or 'stiff'")
+    fast = solver != "stiff" and declined is None and sc.settings.initial in ("given", "steady")
     path = "exact" if fast else (solver if solver in ("stiff", "piecewise") else "auto")
     return fast, path

@@ -174,9 +174,10 @@ def make_parameters(sc: Scenario, free, bounds, log: Log) -> ParameterSet:
     for key in free:
         tokens = parse_key_path(key, sc.name)
         where = f"{sc.name}: {key}"
-        if tokens[0] not in ("nodes", "links", "boundaries", "sources"):
-            raise ScenarioError("only values under nodes, links, boundaries and sources change "
-                                "the model's temperatures", where)
+        if tokens[0] not in ("nodes", "links", "boundaries", "sources", "radiation",
+                             "enclosures"):
+            raise ScenarioError("only values under nodes, links, boundaries, sources, radiation "
+                                "and enclosures change the model's temperatures", where)
         raw = sc.value(key)
         if isinstance(raw, (dict, list)):
             inner = "sine.mean" if isinstance(raw, dict) and "sine" in raw else "..."

@@ -233,6 +233,17 @@ class FitResult:
 
         return plot_fit(self, **kwargs)
 
+    def report(self, path=None, *, scenario=None, **options):
+        """A self-contained HTML report of the fit (see :mod:`rcsim.report`): written to ``path``
+        (.html; the path is returned), or its text when ``path`` is None.
+
+        ``scenario``: the scenario before the fit (default: the fitted one); ``options`` go to
+        :func:`rcsim.report.build_fit_report` (``log_path``, ``warnings``, ``figures``, ``title``).
+        """
+        from ..report.dispatch import report_page  # the report sits beside fitting; hand-off
+
+        return report_page(self, path, scenario, **options)
+
 
 def scenario_text(sc: Scenario, data: dict) -> str:
     """TOML text that reads as ``data``: the scenario's own text edited (its comments, order

@@ -22,13 +22,19 @@ within a block it is a product with a small lower-triangular Toeplitz matrix of 
 from __future__ import annotations
 
 import math
+from typing import NamedTuple
 
 import numpy as np
 
 from ..modes import modal_decomposition
 from ..statespace import state_space
+from .inputs import input_values, linear_parts
 
-__all__ = ["phi_functions", "linear_recurrence", "ExactPropagator"]
+__all__ = ["phi_functions", "linear_recurrence", "linear_recurrence_times", "scan_stretches",
+           "ExactPropagator", "CHUNK_ELEMENTS"]
+
+#: Samples x (modes + inputs) per chunk of propagation: bounds memory, keeps arrays in cache.
+CHUNK_ELEMENTS = 200_000
 
 _SERIES_TERMS = 18
 _SERIES_BELOW = 1.0
@@ -164,6 +170,38 @@ def linear_recurrence_times(lam: np.ndarray, t: np.ndarray, G: np.ndarray,
     return Z.reshape(nb * L, n)[:N]
 
 
+def scan_stretches(e0, starts, G, z0, lam=None, s=None):
+    """States after each interval of ``z[k+1] = e0[k] z[k] + G[k]``, one vectorised recurrence
+    per stretch of equal decay factors (``e0 = exp(-lam h)``; on a grid of mostly unequal
+    intervals, given ``lam`` and the times ``s``, one recurrence over the whole grid)."""
+    m = G.shape[0]
+    if lam is not None and m > 32 and starts.size > m // 4:
+        return linear_recurrence_times(lam, s, G, z0)
+    out = np.empty_like(G)
+    bounds = np.append(starts, m)
+    z = z0
+    for a, b in zip(bounds[:-1].tolist(), bounds[1:].tolist()):
+        if b - a <= 12:  # short stretches (refined spots): step by step is cheaper
+            decay = e0[a]
+            for i in range(a, b):
+                z = decay * z + G[i]
+                out[i] = z
+        else:
+            out[a:b] = linear_recurrence(np.ascontiguousarray(e0[a]), G[a:b], z)
+            z = out[b - 1]
+    return out
+
+
+class PropagatedChunk(NamedTuple):
+    """States over the output intervals t[k0]..t[k1] (see :meth:`ExactPropagator.chunks`)."""
+
+    k0: int
+    k1: int
+    Z: np.ndarray       # modal states at t[k0+1..k1]
+    Zint: np.ndarray    # integral of the modal states over each interval
+    U: np.ndarray       # integral of each input over each interval
+
+
 class ExactPropagator:
     """Advance the modal state of a linear network over output intervals, exactly.
 
@@ -201,8 +239,7 @@ class ExactPropagator:
     def output_maps(self, nodes: np.ndarray):
         """Matrices (A, D) with ``T[nodes] = z @ A.T + w @ D.T``."""
         ss = self.ss
-        pos_m = {int(i): p for p, i in enumerate(ss.massive)}
-        pos_z = {int(i): q for q, i in enumerate(ss.massless)}
+        pos_m, pos_z = ss.state_of, ss.eliminated_of
         A = np.zeros((len(nodes), ss.n))
         D = np.zeros((len(nodes), self.n_inputs))
         RV = ss.R @ self.V if ss.massless.size else None
@@ -217,9 +254,7 @@ class ExactPropagator:
 
     def inputs_at(self, t: np.ndarray) -> np.ndarray:
         """Input values w(t) (right-continuous), shape (len(t), I)."""
-        if not self.profiles:
-            return np.zeros((t.size, 0))
-        return np.column_stack([p.value(t) for p in self.profiles])
+        return input_values(self.profiles, t)
 
     # -- forcing over output intervals -----------------------------------------------------
     def forcing(self, t_out: np.ndarray):
@@ -244,11 +279,8 @@ class ExactPropagator:
         tau = np.union1d(t_out, allk) if allk.size else t_out
         J = tau.size - 1
         h = np.diff(tau)
-        if self.profiles:
-            right = np.column_stack([p._pl(tau[:-1], "right") for p in self.profiles])
-            left = np.column_stack([p._pl(tau[1:], "left") for p in self.profiles])
-        else:
-            right = left = np.zeros((J, 0))
+        right = linear_parts(self.profiles, tau[:-1], "right")
+        left = linear_parts(self.profiles, tau[1:], "left")
         if J == N:
             k_of = np.arange(N)
             r = np.zeros(N)
@@ -388,6 +420,38 @@ class ExactPropagator:
         if N > 1:
             Zint[1:] += Z[:-1] * (he1[0] if hu.size == 1 else he1[inv[1:]])
         return Z, Zint, U
+
+    def chunk_length(self) -> int:
+        """Output intervals per chunk of :meth:`chunks` (about :data:`CHUNK_ELEMENTS` numbers
+        per array, a multiple of 32)."""
+        chunk = max(256, CHUNK_ELEMENTS // max(1, self.lam.size + self.n_inputs))
+        return chunk - chunk % 32
+
+    def chunks(self, t: np.ndarray, z0: np.ndarray, length: int | None = None):
+        """Propagate from ``z0`` at t[0] over the grid ``t`` (any increasing times) chunk by
+        chunk, so that memory stays bounded on long grids.
+
+        Yields a :class:`PropagatedChunk` for the intervals t[k0]..t[k1]: the states at
+        t[k0+1..k1] and the integrals of the states and of the inputs over each interval (see
+        :meth:`propagate`).
+        """
+        length = self.chunk_length() if length is None else int(length)
+        N = t.size - 1
+        k0, z = 0, z0
+        while k0 < N:
+            k1 = min(N, k0 + length)
+            Z, Zint, U = self.propagate(t[k0:k1 + 1], z)
+            yield PropagatedChunk(k0, k1, Z, Zint, U)
+            z = Z[-1].copy()
+            k0 = k1
+
+    def states_at(self, t: np.ndarray, z0: np.ndarray) -> np.ndarray:
+        """Modal states at every time of ``t`` (t[0] included, where the state is ``z0``)."""
+        Z = np.empty((t.size, self.lam.size))
+        Z[0] = z0
+        for k0, k1, Zc, _, _ in self.chunks(t, z0):
+            Z[k0 + 1:k1 + 1] = Zc
+        return Z
 
     def periodic_state(self, period: float, z_given: np.ndarray | None):
         """Modal state at t = 0 of the periodic regime of period ``period``.

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..base import suggest
 from ..errors import InputError, NetworkError
-from ..materials import suggest
 from ..units import to_si
 
 __all__ = ["given_temperatures", "resolve_initial_option"]
@@ -27,7 +27,9 @@ def resolve_initial_option(initial):
 
 
 def given_temperatures(network, asm, overrides: dict, u0: np.ndarray) -> np.ndarray:
-    """Node temperatures at t = 0 from the nodes' ``initial`` values (and overrides).
+    """Node temperatures at t = 0 [degC] from the nodes' ``initial`` values (and ``overrides``,
+    {node name: temperature}), with boundary temperatures ``u0`` [degC]. ``network`` is not
+    used (kept for older callers); everything comes from the assembly ``asm``.
 
     Every node without a given value — internal nodes of massive layers, massless junctions —
     starts on the steady profile between the given ones: with the nodes that have a value held
@@ -43,7 +45,7 @@ def given_temperatures(network, asm, overrides: dict, u0: np.ndarray) -> np.ndar
         else:
             raise InputError(f"unknown node {name!r}", "initial",
                              suggest(name, asm.node_names))
-    n_user = len(network.nodes)
+    n_user = asm.n_user_nodes
     missing = [i for i in range(n_user) if np.isnan(T[i]) and asm.capacity[i] > 0]
     if missing:
         name = asm.node_names[missing[0]]

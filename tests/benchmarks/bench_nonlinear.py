@@ -30,8 +30,8 @@ from scipy.integrate import solve_ivp
 import rcsim
 from rcsim.limits import excursion_stats
 from rcsim.nonlinear import build_terms
+from rcsim.transient.energy_model import EnergyModel
 from rcsim.transient.initial import given_temperatures
-from rcsim.transient.stiff import StiffModel
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, os.path.join(HERE, ".."))
@@ -48,8 +48,7 @@ def own_rhs_fd(net, t_eval, rtol=1e-6, atol=1e-6):
 
     Returns (seconds, payload temperatures, status)."""
     asm = net.assemble()
-    terms, phase, ctrl = build_terms(net, asm, [])
-    model = StiffModel(asm, terms, phase, ctrl)
+    model = EnergyModel(asm, *build_terms(net, asm, []))
     T0 = given_temperatures(net, asm, {}, asm.boundary_values(0.0))   # as rcsim starts a run
     y0 = model.y0(T0[model.ss.massive])
     atol_v = np.concatenate([atol * model.C, np.full(model.ny - model.n, atol * model.C.sum())])
@@ -85,8 +84,8 @@ def main():
     t_hand, sol_hand = best_of(3, lambda: solve_ivp(rhs, (0.0, t[-1]), y_hand, method="BDF",
                                                     t_eval=t, rtol=1e-6, atol=1e-6 * scale))
     T_hand = sol_hand.y[0] / c_pay
-    st = res.meta["stats"]
-    print(f"insulated shipper, 72 h at 5 min output, {st['states']} states: two phase-change "
+    info = res.run_info
+    print(f"insulated shipper, 72 h at 5 min output, {info.states} states: two phase-change "
           "packs, radiation inside and out, a correlation film (rtol = atol = 1e-6 throughout)")
     print(f"  {'':58s} {'time':>8s}   {'hold time':>11s}   {'max |dT| payload':>16s}")
 
@@ -105,7 +104,8 @@ def main():
           "(target >= 5x)")
     print(f"  -> piecewise vs the model written by hand in solve_ivp:     {t_hand / t_pw:5.1f}x")
     print(f"  -> piecewise vs rcsim's stiff path:                         {t_st / t_pw:5.1f}x")
-    print(f"     piecewise: {st['sweeps']} sweeps, {st['events']} events, {st['grid_points']} grid "
+    print(f"     piecewise: {info.stats.sweeps} sweeps, {info.stats.events} events, "
+          f"{info.stats.grid_points} grid "
           f"points, energy balance {res.energy_balance:.1e}")
     # at equal accuracy: tighten the baseline until its error is no larger than rcsim's
     err_pw = np.abs(res.temperatures["payload"].to_numpy() - T_ref).max()
@@ -126,7 +126,7 @@ def main():
     t_pw2, res2 = best_of(3, sliced.run)
     t_own2, T_own2, status2 = own_rhs_fd(sliced.network, t)
     T2 = res2.temperatures["payload"].to_numpy()
-    print(f"\nthe same shipper with its foam in 10 slices: {res2.meta['stats']['states']} states")
+    print(f"\nthe same shipper with its foam in 10 slices: {res2.run_info.states} states")
     print(f"  rcsim, piecewise-exact path {t_pw2:7.3f}s   hold {hold(t, T2) / 3600:.4f} h")
     print(f"  same model, solve_ivp BDF + FD Jacobian {t_own2:7.3f}s   hold "
           f"{hold(t, T_own2) / 3600:.4f} h   max |dT| payload {np.abs(T2 - T_own2).max():.1e} K "

@@ -1,0 +1,64 @@
+"""Options and arguments several commands share, and the checks made on them before any work.
+
+The checks raise :class:`rcsim.errors.InputError` naming the option, so a bad path is refused
+before a long run rather than after it.
+"""
+
+from __future__ import annotations
+
+import os
+
+import click
+
+from ..errors import InputError
+
+__all__ = ["SOLVERS", "solver_help", "scenario_argument", "allow_absolute_paths_option", "quiet_option",
+           "check_output", "check_folder", "load_scenario", "names"]
+
+#: the transient paths a run may be given (``auto`` chooses): the engine's registry, which
+#: imports nothing heavy, so ``--help`` stays light
+from ..transient.registry import SOLVERS, solver_help  # noqa: E402
+
+scenario_argument = click.argument("scenario", type=click.Path(dir_okay=True))
+allow_absolute_paths_option = click.option(
+    "--allow-absolute-paths", is_flag=True,
+    help="Let the scenario read CSV files by absolute path.")
+quiet_option = click.option("--quiet", is_flag=True,
+                            help="Print nothing but errors and warnings.")
+
+
+def check_output(path, suffixes, option: str) -> None:
+    """Refuse an output file whose folder is missing, that is a folder, or has a wrong suffix."""
+    if path is None:
+        return
+    folder = os.path.dirname(os.path.abspath(path))
+    if not os.path.isdir(folder):
+        raise InputError(f"folder {os.path.dirname(path)!r} does not exist", option,
+                         "create it first")
+    if os.path.isdir(path):
+        raise InputError(f"{path!r} is a directory", option, "give a file name")
+    if suffixes and not str(path).lower().endswith(tuple(suffixes)):
+        raise InputError(f"{path!r} should end with {' or '.join(suffixes)}", option)
+
+
+def check_folder(path, option: str) -> None:
+    """Refuse a folder for figures that exists as something else than a folder."""
+    if path is not None and os.path.exists(path) and not os.path.isdir(path):
+        raise InputError(f"{path!r} exists and is not a folder", option)
+
+
+def load_scenario(path, allow_absolute_paths: bool = False):
+    """The :class:`rcsim.Scenario` in ``path`` (the library is imported here, not before)."""
+    from ..scenario import load
+
+    return load(path, allow_absolute_paths=allow_absolute_paths)
+
+
+def names(values) -> list[str] | None:
+    """Names given as repeated options and/or comma-separated lists (None when none).
+
+    >>> names(("a,b", " c ")), names(())
+    (['a', 'b', 'c'], None)
+    """
+    out = [n.strip() for v in values for n in v.split(",") if n.strip()]
+    return out or None

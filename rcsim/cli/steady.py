@@ -1,0 +1,47 @@
+"""``rcsim steady SCENARIO``: steady-state temperatures and heat flows."""
+
+from __future__ import annotations
+
+import click
+
+from .format import format_time
+from .guard import guard
+from .options import load_scenario, scenario_argument
+
+
+@click.command()
+@scenario_argument
+@click.option("--between", nargs=2, metavar="A B", help="Also print the equivalent resistance "
+              "between two nodes or boundaries.")
+@click.option("--at", "at", default="0 s", show_default=True,
+              help="Time at which boundaries and sources are taken, e.g. '15 h'.")
+@guard
+def steady(scenario, between, at):
+    """Steady-state temperatures and heat flows of SCENARIO."""
+    from ..units import to_si
+
+    sc = load_scenario(scenario)
+    net = sc.network
+    at_seconds = to_si(at, "time", "--at")
+    res = net.steady(at=at_seconds)
+    r_between = net.equivalent_resistance(*between) if between else None
+    width = max([len(n) for n in list(res.temperatures.index) + list(res.heat_flows.index)] + [8])
+    click.echo(f"{sc.name}: steady state ({res.solver}), boundaries and sources at t = "
+               f"{format_time(at_seconds)}")
+    click.echo("")
+    click.echo(f"  {'node':<{width}}  temperature [degC]")
+    for name, t in res.temperatures.items():
+        click.echo(f"  {name:<{width}}  {t:12.4f}")
+    for name, t in res.boundary_temperatures.items():
+        click.echo(f"  {name:<{width}}  {t:12.4f}   (boundary)")
+    click.echo("")
+    click.echo(f"  {'link':<{width}}  heat flow [W]   R [K/W]      U [W/(m^2*K)]")
+    for name, q in res.heat_flows.items():
+        link = net.links[name]
+        u = link.u_value
+        u_text = f"{u:12.4g}" if u is not None else "           -"
+        click.echo(f"  {name:<{width}}  {q:12.4f}  {link.resistance:10.5g}  {u_text}"
+                   f"   ({link.a} -> {link.b})")
+    if between:
+        click.echo("")
+        click.echo(f"  equivalent resistance {between[0]} - {between[1]}: {r_between:.6g} K/W")

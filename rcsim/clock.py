@@ -1,0 +1,263 @@
+"""Time zones and timestamps: placing clock readings on one exact time line.
+
+The rule rcsim follows (the same for weather records, a scenario's start and any timestamp a
+user writes):
+
+* A timestamp **with a UTC offset** (``2021-07-01T12:00+02:00``, ``2021-07-01T10:00Z``) is an exact
+  instant. A record may mix offsets (a daylight-saving change in the record, or ``Z`` beside
+  ``+02:00``); every row is converted to one clock. Where the site's time zone is a named zone
+  with daylight-saving rules and a record's offsets vary, each offset must be UTC or the zone's
+  offset at that instant; anything else (a clock switched on the wrong day, a typing slip) is
+  refused naming the row. A record whose offset never changes is taken as it is.
+* A timestamp **without an offset** is a reading of the site's local clock: with a named zone
+  (``Europe/Zurich``) that is civil time with its daylight-saving changes; with a fixed offset
+  (``+01:00``, ``UTC-05:00``) it is standard time all year. A local time that the clock skips
+  (spring forward) or shows twice (fall back) is refused naming the row: write offsets in such a
+  record, or give the zone as a fixed offset if the record keeps standard time all year.
+* Without a time zone, timestamps without offsets stay naive: they can be compared with a naive
+  start, but the sun cannot be placed on them (sun geometry refuses naive times).
+* Offsets, and fixed-offset zones, lie within -12:00 .. +14:00 (the offsets in use on Earth).
+"""
+
+from __future__ import annotations
+
+import re
+from datetime import timedelta, timezone, tzinfo
+
+import numpy as np
+
+from .errors import DataError, InputError
+
+__all__ = ["parse_time_zone", "parse_timestamps", "to_instant", "zone_name", "line_of"]
+
+_FIXED = re.compile(r"^\s*(?:UTC|GMT)?\s*(?:([+-])\s*(\d{1,2})(?::?(\d{2}))?)?\s*$", re.IGNORECASE)
+# a date, a time, then an optional offset (the time is needed: '2021-03-01' ends in '-01')
+_STAMP = re.compile(r"^(?P<clock>.*?[T ]\d{1,2}(?::\d{2}){0,2}(?:[.,]\d+)?)\s*"
+                    r"(?P<offset>Z|z|[+-]\d{2}(?::?\d{2})?)?$")
+_MIN_OFFSET, _MAX_OFFSET = -12 * 3600, 14 * 3600
+
+
+def line_of(row: int) -> int:
+    """File line of data row ``row`` (0-based) of a CSV file with one header line."""
+    return int(row) + 2
+
+
+def parse_time_zone(value, where: str | None = None) -> tzinfo | None:
+    """A time zone from a name (``"Europe/Zurich"``, ``"UTC"``) or a fixed offset.
+
+    Parameters
+    ----------
+    value : str, tzinfo or None
+        An IANA zone name, ``"UTC"``, a fixed offset such as ``"+01:00"``, ``"UTC-05:00"``,
+        ``"-5"``, or a tzinfo object. None gives None.
+
+    Raises
+    ------
+    InputError
+        Unknown zone name or offset outside -12:00 .. +14:00.
+
+    >>> parse_time_zone("+01:00")
+    datetime.timezone(datetime.timedelta(seconds=3600))
+    >>> zone_name(parse_time_zone("Europe/Zurich"))
+    'Europe/Zurich'
+    """
+    if value is None or isinstance(value, tzinfo):
+        return value
+    if not isinstance(value, str):
+        raise InputError(f"a time zone is a name or an offset, got {value!r}", where,
+                         "write e.g. 'Europe/Zurich' or '+01:00'")
+    match = _FIXED.match(value)
+    if match:
+        sign, hours, minutes = match.groups()
+        if sign is None:
+            return timezone.utc
+        seconds = (int(hours) * 3600 + int(minutes or 0) * 60) * (1 if sign == "+" else -1)
+        if not _MIN_OFFSET <= seconds <= _MAX_OFFSET or int(minutes or 0) >= 60:
+            raise InputError(f"time zone offset {value!r} is outside -12:00 .. +14:00", where)
+        return timezone(timedelta(seconds=seconds))
+    from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
+
+    try:
+        return ZoneInfo(value.strip())
+    except (ZoneInfoNotFoundError, ValueError):
+        raise InputError(f"unknown time zone {value!r}", where,
+                         "use a zone name such as 'Europe/Zurich' or 'America/New_York', or a "
+                         "fixed offset such as '+01:00'") from None
+
+
+def zone_name(zone: tzinfo | None) -> str | None:
+    """The name a user would write for ``zone`` (``"Europe/Zurich"``, ``"UTC+01:00"``)."""
+    if zone is None:
+        return None
+    key = getattr(zone, "key", None)
+    return key if key is not None else str(zone)
+
+
+def _has_rules(zone) -> bool:
+    """True for a zone with daylight-saving rules (a named zone), False for a fixed offset."""
+    return zone is not None and not isinstance(zone, timezone)
+
+
+def parse_timestamps(text, zone: tzinfo | None, label: str, column: str):
+    """Parse a column of ISO-8601 texts into a DatetimeIndex following the module's rule.
+
+    Parameters
+    ----------
+    text : pandas Series of str
+        The column, stripped.
+    zone : tzinfo or None
+        The site's time zone (:func:`parse_time_zone`).
+    label : str
+        File name for error messages.
+    column : str
+        Column name for error messages.
+
+    Returns
+    -------
+    pandas.DatetimeIndex
+        Timezone-aware in ``zone`` (UTC when ``zone`` is None and the texts have offsets), or
+        naive when neither texts nor zone have one.
+
+    Raises
+    ------
+    DataError
+        A row that is not a timestamp, an offset out of range or against the zone's rules, rows
+        with and without offsets mixed, a local time skipped or repeated by the clock; the
+        error names the file line.
+    """
+    import pandas as pd
+
+    parts = text.str.extract(_STAMP)
+    unmatched = parts["clock"].isna().to_numpy()
+    if unmatched.any():   # no time of day: a date alone, or not a timestamp at all
+        dates = pd.to_datetime(text[unmatched], format="ISO8601", errors="coerce")
+        bad = dates.isna().to_numpy()
+        if bad.any():
+            _refuse_row(int(np.flatnonzero(unmatched)[np.argmax(bad)]), text, label, column)
+    offset_text = parts["offset"]
+    has_offset = offset_text.notna().to_numpy()
+    if has_offset.any() and not has_offset.all():
+        i = int(np.argmax(has_offset != has_offset[0]))
+        raise DataError(f"time column {column!r}: {text.iloc[i]!r} "
+                        f"{'has' if has_offset[i] else 'has no'} UTC offset, unlike the rows "
+                        f"before it", f"{label} line {line_of(i)}",
+                        "give every row an offset, or none")
+    if has_offset.all() and not unmatched.any():
+        offsets = _offset_seconds(offset_text, label)
+        stamps = pd.to_datetime(text, format="ISO8601", utc=True, errors="coerce")
+        _refuse_unparsed(stamps, text, label, column)
+        index = pd.DatetimeIndex(stamps)
+        if _has_rules(zone) and np.unique(offsets).size > 1:
+            _check_offsets_follow_zone(index, offsets, zone, text, label, column)
+        return index.tz_convert(zone) if zone is not None else index
+    stamps = pd.to_datetime(text, format="ISO8601", errors="coerce")
+    _refuse_unparsed(stamps, text, label, column)
+    index = pd.DatetimeIndex(stamps)
+    if index.tz is not None:  # pandas found an offset that the pattern did not (should not happen)
+        raise DataError(f"time column {column!r} has offsets in a form rcsim does not read",
+                        label, "write offsets as Z, +02:00 or +0200")
+    if zone is None:
+        return index
+    return _localize(index, zone, text, f"time column {column!r}",
+                     lambda i: f"{label} line {line_of(i)}")
+
+
+def _refuse_unparsed(stamps, text, label, column) -> None:
+    bad = stamps.isna().to_numpy()
+    if bad.any():
+        _refuse_row(int(np.argmax(bad)), text, label, column)
+
+
+def _refuse_row(i, text, label, column) -> None:
+    raise DataError(f"time column {column!r}: {text.iloc[i]!r} is not an ISO-8601 timestamp",
+                    f"{label} line {line_of(i)}",
+                    "write e.g. 2021-07-01T12:00, 2021-07-01T12:00+02:00 or 2021-07-01T10:00Z")
+
+
+def _offset_seconds(offset_text, label) -> np.ndarray:
+    """Offsets ('Z', '+02:00', '-0530', '+02') as seconds east of UTC, checked in range."""
+    digits = offset_text.str.replace(":", "", regex=False)
+    is_utc = digits.str.upper().eq("Z").to_numpy()
+    digits = digits.where(~is_utc, "+0000")
+    sign = np.where(digits.str[0].eq("-").to_numpy(), -1, 1)
+    hours = digits.str[1:3].astype(int).to_numpy()
+    minutes = digits.str[3:5].replace("", "0").astype(int).to_numpy()
+    seconds = sign * (hours * 3600 + minutes * 60)
+    bad = (minutes >= 60) | (seconds < _MIN_OFFSET) | (seconds > _MAX_OFFSET)
+    if bad.any():
+        i = int(np.argmax(bad))
+        raise DataError(f"UTC offset {offset_text.iloc[i]!r} is not one in use on Earth "
+                        "(-12:00 .. +14:00)", f"{label} line {line_of(i)}",
+                        "check the offset of that row")
+    return seconds
+
+
+def _check_offsets_follow_zone(index, offsets, zone, text, label, column) -> None:
+    """Varying offsets must each be UTC or the zone's offset at that instant."""
+    utc_naive = index.tz_convert("UTC").tz_localize(None)
+    local_naive = index.tz_convert(zone).tz_localize(None)
+    expected = (local_naive - utc_naive).total_seconds().to_numpy()
+    bad = (offsets != 0) & (offsets != expected)
+    if bad.any():
+        i = int(np.argmax(bad))
+        want = _format_offset(expected[i])
+        raise DataError(f"time column {column!r}: {text.iloc[i]!r} has offset "
+                        f"{_format_offset(offsets[i])}, but {zone_name(zone)} is at {want} at "
+                        f"that instant", f"{label} line {line_of(i)}",
+                        "a record whose offsets change must follow the site's daylight-saving "
+                        "rules (or be in UTC)")
+
+
+def _format_offset(seconds: float) -> str:
+    sign = "-" if seconds < 0 else "+"
+    minutes = int(round(abs(seconds) / 60))
+    return f"{sign}{minutes // 60:02d}:{minutes % 60:02d}"
+
+
+def _localize(index, zone, text, column, where_of):
+    """Naive local clock readings to instants in ``zone``; skipped or repeated times refused."""
+    localized = index.tz_localize(zone, ambiguous="NaT", nonexistent="NaT")
+    bad = localized.isna()
+    if bad.any():
+        i = int(np.argmax(bad))
+        one = index[i:i + 1].tz_localize(zone, ambiguous=np.array([True]), nonexistent="NaT")
+        what = ("does not exist on the local clock (skipped at a daylight-saving change)"
+                if one.isna()[0] else
+                "occurs twice on the local clock (repeated at a daylight-saving change)")
+        raise DataError(f"{column}: local time {text.iloc[i]!r} {what} in "
+                        f"{zone_name(zone)}", where_of(i),
+                        "write UTC offsets in the record, or give the zone as a fixed offset "
+                        "such as '+01:00' if the record keeps standard time all year")
+    return localized
+
+
+def to_instant(value, zone: tzinfo | None, where: str | None = None):
+    """One timestamp (ISO-8601 text, datetime or pandas Timestamp) under the module's rule.
+
+    With an offset it is an exact instant (converted to ``zone`` if given); without one it is a
+    reading of the local clock of ``zone`` (refused if the clock skips or repeats it), or stays
+    naive when ``zone`` is None.
+
+    >>> str(to_instant("2021-07-01T12:00", parse_time_zone("Europe/Zurich")))
+    '2021-07-01 12:00:00+02:00'
+    >>> str(to_instant("2021-07-01T10:00Z", parse_time_zone("Europe/Zurich")))
+    '2021-07-01 12:00:00+02:00'
+    """
+    import pandas as pd
+
+    try:
+        stamp = pd.Timestamp(value)
+    except (ValueError, TypeError):
+        raise InputError(f"{value!r} is not an ISO-8601 timestamp", where,
+                         "write e.g. 2021-07-01T12:00 or 2021-07-01T12:00+02:00") from None
+    if stamp is pd.NaT:
+        raise InputError(f"{value!r} is not a timestamp", where)
+    if stamp.tzinfo is not None:
+        return stamp.tz_convert(zone) if zone is not None else stamp
+    if zone is None:
+        return stamp
+    text = pd.Series([str(value)])
+    try:
+        return _localize(pd.DatetimeIndex([stamp]), zone, text, "timestamp", lambda i: where)[0]
+    except DataError as err:
+        raise InputError(err.message, where, err.hint) from None

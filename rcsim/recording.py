@@ -1,0 +1,392 @@
+"""Recording a run: chunks of samples from a solver, sinks in memory or streamed to HDF5.
+
+A solver hands consecutive samples to a :class:`Recorder` as :class:`Chunk` objects; the recorder
+keeps the histories asked for (:class:`RecordingPlan`), the heat flows, energies, extremes and
+limit excursions, and writes them to a sink: :class:`MemorySink`, or :class:`H5Sink` which
+streams them to an HDF5 file written under a temporary name and renamed when complete (memory
+stays bounded on long runs).
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from dataclasses import dataclass, field
+from typing import NamedTuple
+
+import numpy as np
+import pandas as pd
+
+from .atomic import commit, discard, temporary_beside
+from .base import suggest
+from .errors import InputError, NetworkError, SolverError
+from .limits import LIMIT_COLUMNS, ExcursionTracker
+
+__all__ = ["Chunk", "MemorySink", "H5Sink", "Recorder", "RecordingPlan", "EnergyTotals",
+           "write_frame", "read_frame"]
+
+
+class Chunk:
+    """A block of consecutive samples handed from a solver to the :class:`Recorder`."""
+
+    __slots__ = ("t", "T", "u", "s", "e_links", "e_sources", "e_stored", "extras")
+
+    def __init__(self, t, T, u, s, e_links, e_sources, e_stored, extras=None):
+        self.t, self.T, self.u, self.s = t, T, u, s
+        self.e_links, self.e_sources, self.e_stored = e_links, e_sources, e_stored
+        self.extras = extras or {}
+
+
+# -- sinks -----------------------------------------------------------------------------------
+class MemorySink:
+    """Keeps every chunk in memory."""
+
+    def __init__(self):
+        self.parts: dict[str, list] = {}
+        self.names: dict[str, list[str]] = {}
+
+    def declare(self, key: str, names: list[str]) -> None:
+        self.names[key] = list(names)
+        self.parts[key] = []
+
+    def append(self, key: str, array: np.ndarray) -> None:
+        # a slice would keep the solver's whole block of states alive: copy those only
+        a = np.asarray(array, dtype=float)
+        self.parts[key].append(a.copy() if a.base is not None else a)
+
+    def arrays(self) -> dict:
+        out = {}
+        for key, chunks in self.parts.items():
+            if chunks:
+                out[key] = np.concatenate(chunks, axis=0)
+            else:
+                width = len(self.names.get(key, []))
+                out[key] = np.empty((0,) if key in ("time", "energy/stored") else (0, width))
+        return out
+
+    def abort(self) -> None:
+        self.parts.clear()
+
+
+class H5Sink:
+    """Streams chunks to an HDF5 file written under a temporary name, renamed on success."""
+
+    def __init__(self, path):
+        import h5py
+
+        self.path = os.fspath(path)
+        self.tmp = temporary_beside(self.path, ".h5.tmp")
+        self.file = h5py.File(self.tmp, "w")
+        self.names: dict[str, list[str]] = {}
+        self._empty: list[str] = []
+        self._open = True
+
+    def declare(self, key: str, names: list[str]) -> None:
+        self.names[key] = list(names)
+        if key not in ("time", "energy/stored") and not names:
+            self._empty.append(key)  # zero-width: written at the end, unchunked
+            return
+        shape = (0,) if key in ("time", "energy/stored") else (0, len(names))
+        maxshape = (None,) if len(shape) == 1 else (None, len(names))
+        chunks = (4096,) if len(shape) == 1 else (max(1, min(4096, 2_000_000 // max(1, len(names)))),
+                                                   max(1, len(names)))
+        ds = self.file.create_dataset(key, shape=shape, maxshape=maxshape, dtype="f8",
+                                      chunks=chunks)
+        if len(shape) == 2:
+            ds.attrs["names"] = np.asarray(names, dtype=object).astype("S") if names else \
+                np.zeros(0, dtype="S1")
+
+    def append(self, key: str, array: np.ndarray) -> None:
+        if key in self._empty:
+            return
+        ds = self.file[key]
+        n0 = ds.shape[0]
+        ds.resize(n0 + array.shape[0], axis=0)
+        ds[n0:] = array
+
+    def write_table(self, group: str, frame: pd.DataFrame) -> None:
+        write_frame(self.file, group, frame)
+
+    def finish(self, attrs: dict) -> None:
+        n_rows = self.file["time"].shape[0] if "time" in self.file else 0
+        for key in self._empty:
+            ds = self.file.create_dataset(key, data=np.empty((n_rows, 0)))
+            ds.attrs["names"] = np.zeros(0, dtype="S1")
+        for k, v in attrs.items():
+            self.file.attrs[k] = v
+        self.file.close()
+        self._open = False
+        commit(self.tmp, self.path)
+
+    def abort(self) -> None:
+        if self._open:
+            try:
+                self.file.close()
+            except Exception:  # pragma: no cover - closing a broken file
+                pass
+            self._open = False
+        discard(self.tmp)
+
+
+def write_frame(h5, group: str, frame: pd.DataFrame) -> None:
+    g = h5.create_group(group)
+    g.attrs["columns"] = json.dumps(list(map(str, frame.columns)))
+    for col in frame.columns:
+        values = frame[col].to_numpy()
+        if values.dtype.kind in "OUS" or str(frame[col].dtype) in ("string", "str"):
+            g.create_dataset(str(col), data=np.asarray([str(v) for v in values], dtype="S"))
+        else:
+            g.create_dataset(str(col), data=values.astype(float))
+
+
+def read_frame(h5, group: str) -> pd.DataFrame:
+    if group not in h5:
+        return pd.DataFrame()
+    g = h5[group]
+    cols = json.loads(g.attrs["columns"])
+    data = {}
+    for c in cols:
+        arr = g[c][()]
+        if arr.dtype.kind == "S":
+            arr = np.asarray([x.decode("utf-8") for x in arr], dtype=object)
+        data[c] = arr
+    return pd.DataFrame(data, columns=cols)
+
+
+# -- what a run records ------------------------------------------------------------------------
+@dataclass
+class RecordingPlan:
+    """What a run records (indices into the assembly's nodes and links).
+
+    Attributes
+    ----------
+    out_nodes : node indices whose temperatures each chunk carries (``Chunk.T``): the recorded
+        nodes, the limits' nodes and the ends of the recorded links.
+    record : node indices (a subset of ``out_nodes``) kept as histories.
+    links : link indices kept as heat-flow histories.
+    boundary_links : link indices touching a boundary, whose energies each chunk carries.
+    limit_nodes, limit_kinds, limit_values : one entry per limit: node index, 'min' or 'max',
+        temperature [degC].
+    extra_names : {series key: names} of extra histories (liquid fraction, thermostat power).
+    extra_sources : names of energy sources after the network's sources (thermostats).
+    """
+
+    out_nodes: list
+    record: list
+    links: list
+    boundary_links: list
+    limit_nodes: list = field(default_factory=list)
+    limit_kinds: list = field(default_factory=list)
+    limit_values: list = field(default_factory=list)
+    extra_names: dict = field(default_factory=dict)
+    extra_sources: list = field(default_factory=list)
+
+    def tracker(self, asm):
+        """A fresh excursion tracker of the limits (None without limits)."""
+        if not self.limit_nodes:
+            return None
+        return ExcursionTracker([asm.node_names[i] for i in self.limit_nodes], self.limit_kinds,
+                                self.limit_values)
+
+
+def plan_recording(asm, record=None, limits=(), thermostat_names=()) -> RecordingPlan:
+    """What to record for ``record`` (node names, one name, or None for every node), the
+    network's ``limits`` (:class:`rcsim.network.Limit`) and thermostats.
+
+    A link's heat flow is kept when both its ends are recorded nodes or boundaries.
+    """
+    names = asm.node_names
+    if record is None:
+        rec_idx = list(range(asm.n_nodes))
+        links = list(range(len(asm.link_names)))
+    else:
+        if isinstance(record, str):
+            record = [record]
+        rec_idx = []
+        for r in record:
+            if r not in names:
+                raise InputError(f"unknown node {r!r}", "record", suggest(r, names))
+            rec_idx.append(names.index(r))
+        avail = set(rec_idx)
+        a, b = asm.link_ends(np.arange(len(asm.link_names)))
+        links = [li for li in range(len(asm.link_names))
+                 if all(p >= asm.n_nodes or int(p) in avail for p in (a[li], b[li]))]
+    plan = RecordingPlan([], rec_idx, links, asm.boundary_segments().links)
+    for lim in limits:
+        if lim.node not in names:
+            raise NetworkError(f"unknown node {lim.node!r}", lim.where, suggest(lim.node, names))
+        for kind, val in (("min", lim.min), ("max", lim.max)):
+            if val is not None:
+                plan.limit_nodes.append(names.index(lim.node))
+                plan.limit_kinds.append(kind)
+                plan.limit_values.append(val)
+    ends = set()
+    if links:
+        a, b = asm.link_ends(links)
+        ends = {int(p) for p in np.concatenate([a, b]) if p < asm.n_nodes}
+        if asm.nl is not None:   # the flows of nonlinear links need both ends of their segments
+            ends |= {int(p) for p in np.concatenate([asm.seg_a[asm.nl.seg],
+                                                     asm.seg_b[asm.nl.seg]]) if p < asm.n_nodes}
+    plan.out_nodes = sorted(set(rec_idx) | set(plan.limit_nodes) | ends)
+    if asm.phase_change:
+        plan.extra_names["liquid_fraction"] = [names[i] for i in sorted(asm.phase_change)]
+    if thermostat_names:
+        plan.extra_names["thermostat_power"] = list(thermostat_names)
+        plan.extra_sources = list(thermostat_names)
+    return plan
+
+
+class EnergyTotals(NamedTuple):
+    """Energies since t = 0 [J] at the last recorded sample."""
+
+    stored: float               # change of stored energy
+    links: np.ndarray           # heat in through each boundary link
+    sources: np.ndarray         # from each source (thermostats last)
+
+
+# -- the recorder ----------------------------------------------------------------------------
+class Recorder:
+    """Receives :class:`Chunk` objects from a solver, writes histories, tracks statistics.
+
+    Parameters
+    ----------
+    asm : Assembled
+    plan : RecordingPlan
+        What to record.
+    sink : MemorySink or H5Sink
+    """
+
+    def __init__(self, asm, plan: RecordingPlan, sink):
+        self.asm = asm
+        self.plan = plan
+        out_nodes = plan.out_nodes
+        self.out_nodes = np.asarray(out_nodes, dtype=np.int64)
+        pos = {int(i): p for p, i in enumerate(self.out_nodes)}
+        self.rec_cols = np.asarray([pos[int(i)] for i in plan.record], dtype=np.int64)
+        # every output column recorded, in order: the chunk's array goes to the sink as it is
+        self._rec_all = np.array_equal(self.rec_cols, np.arange(len(out_nodes)))
+        self.rec_names = [asm.node_names[int(i)] for i in plan.record]
+        self.links = np.asarray(plan.links, dtype=np.int64)
+        n = asm.n_nodes
+        seg = asm.link_first_seg[self.links]
+        self._flow_a = asm.seg_a[seg]
+        self._flow_b = asm.seg_b[seg]
+        self._flow_g = asm.seg_g[seg]
+        # flow ends as columns of [T_out | u]: a node by its place in out_nodes, a boundary after
+        m = len(out_nodes)
+        self._a_col = np.asarray([pos[int(p)] if p < n else m + int(p - n) for p in self._flow_a],
+                                 dtype=np.int64)
+        self._b_col = np.asarray([pos[int(p)] if p < n else m + int(p - n) for p in self._flow_b],
+                                 dtype=np.int64)
+        # links whose first segment is nonlinear: their flows come from the segment laws
+        self._nl_links = np.empty(0, dtype=np.int64)
+        if asm.nl is not None and self.links.size:
+            nl_pos = {int(sg): k for k, sg in enumerate(asm.nl.seg)}
+            which = [(j, nl_pos[int(sg)]) for j, sg in enumerate(seg) if int(sg) in nl_pos]
+            if which:
+                self._nl_links = np.asarray([j for j, _ in which], dtype=np.int64)
+                self._nl_cols = np.asarray([k for _, k in which], dtype=np.int64)
+                self._nl_a = np.asarray([pos[int(p)] if p < n else m + int(p - n)
+                                         for p in asm.seg_a[asm.nl.seg]], dtype=np.int64)
+                self._nl_b = np.asarray([pos[int(p)] if p < n else m + int(p - n)
+                                         for p in asm.seg_b[asm.nl.seg]], dtype=np.int64)
+        self.tracker = plan.tracker(asm)
+        self.limit_cols = np.asarray([pos[int(i)] for i in plan.limit_nodes], dtype=np.int64)
+        self.sink = sink
+        self.boundary_links = list(plan.boundary_links)
+        self.extra_names = dict(plan.extra_names)
+        self.tmin = np.full(self.out_nodes.size, np.inf)
+        self.tmax = np.full(self.out_nodes.size, -np.inf)
+        self.tlast = np.full(self.out_nodes.size, np.nan)
+        self.last_energy: EnergyTotals | None = None
+        self.n_samples = 0
+        self.last_time = None
+        self.tables: dict = {}
+        sink.declare("time", [])
+        sink.declare("temperature", self.rec_names)
+        sink.declare("heat_flow", [asm.link_names[i] for i in self.links])
+        sink.declare("boundary_temperature", asm.boundary_names)
+        sink.declare("source_power", asm.source_names)
+        sink.declare("energy/stored", [])
+        sink.declare("energy/links", [asm.link_names[i] for i in self.boundary_links])
+        sink.declare("energy/sources", list(asm.source_names) + list(plan.extra_sources))
+        for key, names in self.extra_names.items():
+            sink.declare(key, names)
+
+    def add(self, c: Chunk) -> None:
+        if c.t.size == 0:
+            return
+        T = c.T
+        cmin, cmax = T.min(axis=0), T.max(axis=0)       # NaN and infinities show in these too
+        if not (np.isfinite(cmin).all() and np.isfinite(cmax).all()) or \
+                (cmin.size and cmin.min() < -273.15):
+            self._check_physical(c.t, T)
+        self.sink.append("time", c.t)
+        self.sink.append("temperature", T if self._rec_all else T[:, self.rec_cols])
+        if self.links.size:
+            points = np.hstack([T, c.u])
+            with np.errstate(invalid="ignore"):
+                flows = self._flow_g[None, :] * (points[:, self._a_col] - points[:, self._b_col])
+            if self._nl_links.size:
+                q = self.asm.nl.flows(points[:, self._nl_a], points[:, self._nl_b])
+                flows[:, self._nl_links] = q[:, self._nl_cols]
+            self.sink.append("heat_flow", flows)
+        else:
+            self.sink.append("heat_flow", np.zeros((c.t.size, 0)))
+        self.sink.append("boundary_temperature", c.u)
+        self.sink.append("source_power", c.s)
+        self.sink.append("energy/stored", c.e_stored)
+        self.sink.append("energy/links", c.e_links)
+        self.sink.append("energy/sources", c.e_sources)
+        for key in self.extra_names:
+            self.sink.append(key, c.extras[key])
+        self.tmin = np.minimum(self.tmin, cmin)
+        self.tmax = np.maximum(self.tmax, cmax)
+        self.tlast = T[-1].copy()
+        if self.tracker is not None:
+            self.tracker.update(c.t, T[:, self.limit_cols])
+        self.last_energy = EnergyTotals(float(c.e_stored[-1]), c.e_links[-1].copy(),
+                                        c.e_sources[-1].copy())
+        self.last_time = float(c.t[-1])
+        self.n_samples += c.t.size
+
+    def _check_physical(self, t: np.ndarray, T: np.ndarray) -> None:
+        """Refuse non-finite temperatures and temperatures below absolute zero."""
+        bad = ~np.isfinite(T)
+        if bad.any():
+            k, j = np.argwhere(bad)[0]
+            raise SolverError("the solution is no longer a finite number", time=float(t[k]),
+                              node=self.asm.node_names[int(self.out_nodes[j])],
+                              hint="check for huge source powers or conductances, tiny "
+                                   "capacities, or try the stiff solver with a tighter rtol")
+        if T.size and T.min() < -273.15:
+            k = int(np.argmax((T < -273.15).any(axis=1)))   # the first sample below
+            j = int(np.argmin(T[k]))
+            raise SolverError(f"the temperature fell below absolute zero ({T[k, j]:.4g} degC)",
+                              time=float(t[k]), node=self.asm.node_names[int(self.out_nodes[j])],
+                              hint="a cooling source draws more heat than can reach the node; "
+                                   "check source powers, capacities and resistances")
+
+    def energy_balance(self) -> tuple[float, dict]:
+        """Relative closure error and the energy terms at the end of the run.
+
+        The error is ``|dE_stored - E_links - E_sources|`` divided by the larger of the sum of
+        the magnitudes of those terms and the energy needed to move every capacity by 1 K.
+        """
+        stored, links, sources = self.last_energy
+        total_in = float(links.sum() + sources.sum())
+        scale = abs(stored) + float(np.abs(links).sum() + np.abs(sources).sum())
+        scale = max(scale, float(self.asm.capacity.sum()) * 1.0, 1e-300)
+        terms = {"stored [J]": stored, "in through links [J]": float(links.sum()),
+                 "from sources [J]": float(sources.sum())}
+        return abs(stored - total_in) / scale, terms
+
+    def node_table(self) -> pd.DataFrame:
+        names = [self.asm.node_names[i] for i in self.out_nodes]
+        return pd.DataFrame({"node": names, "min [degC]": self.tmin, "max [degC]": self.tmax,
+                             "final [degC]": self.tlast})
+
+    def limits_table(self) -> pd.DataFrame:
+        if self.tracker is None:
+            return ExcursionTracker([], [], []).table()[LIMIT_COLUMNS]
+        return self.tracker.table()

@@ -1,0 +1,107 @@
+"""The report of a fit: estimates with their intervals, how well the model follows the log."""
+
+from __future__ import annotations
+
+import hashlib
+
+import numpy as np
+import pandas as pd
+
+from .common import (inputs_section, network_section, provenance_items, purpose_of,
+                     sha256_of, warning_texts)
+from .formatting import number_text, table_from_frame
+from .model import Paragraph, Preformatted, Report, Section
+
+__all__ = ["build_fit_report", "FIT_CAUTION"]
+
+FIT_CAUTION = ("A fitted model explains the record it was fitted to: check it against data it "
+               "was not fitted to before predicting with it.")
+
+
+def _estimates(fit):
+    table = fit.table()
+    frame = pd.DataFrame({"key": table.index, "estimate": table["value"].to_numpy(),
+                          "std error": table["std_error"].to_numpy(),
+                          "95 % low": table["ci_low"].to_numpy(),
+                          "95 % high": table["ci_high"].to_numpy(),
+                          "unit (SI)": table["unit"].to_numpy(),
+                          "start": table["start"].to_numpy()})
+    return table_from_frame(frame, "Estimates with their standard errors and 95 % intervals",
+                            id="fit-estimates", note="Values in SI units (degC for temperatures; "
+                            "a temperature's standard error in K).")
+
+
+def _quality(fit):
+    rmse = pd.Series(fit.rmse_by_column, dtype=float)
+    auto = pd.Series(fit.autocorrelation, dtype=float).reindex(rmse.index)
+    frame = pd.DataFrame({"log column": rmse.index, "RMSE [K]": rmse.to_numpy(),
+                          "lag-1 autocorrelation [-]": auto.to_numpy(),
+                          "measured values": [int(fit.measured[c].notna().sum())
+                                              if c in fit.measured else 0 for c in rmse.index]})
+    return table_from_frame(frame, "How well the fitted model follows each measured column",
+                            id="fit-quality", note="A lag-1 autocorrelation above 0.5 says the "
+                            "model is too simple for the data.")
+
+
+def build_fit_report(fit, scenario=None, *, log_path=None, warnings=None,
+                     title: str | None = None, figures: bool = True) -> Report:
+    """The report of ``fit`` (a :class:`rcsim.FitResult`).
+
+    ``scenario``: the scenario as it was before the fit (default: the fitted scenario's source
+    text and network with the estimates written in); ``log_path``: the log file, whose SHA-256
+    then goes into the provenance; ``warnings``: further warnings of the command (the fit's own
+    are always listed).
+    """
+    fitted = fit.fitted_scenario
+    base = scenario if scenario is not None else fitted
+    name = getattr(base, "name", "") or "scenario"
+    heading = title or getattr(base, "title", "") or name
+    glance = [("scenario", name), ("log", fit.log_name or "-"),
+              ("measured values", str(fit.n_points)),
+              ("free values", str(len(fit.estimates))),
+              ("RMSE", f"{number_text(fit.rmse, 4)} K"),
+              ("model runs", f"{fit.n_evaluations} ({fit.solver} path"
+                             f"{f', {fit.n_decompositions} decompositions' if fit.n_decompositions else ''})"),
+              ("wall time", f"{number_text(fit.wall_time, 3)} s")]
+    sections = [Section("estimates", "Estimates", [_estimates(fit), _quality(fit)])]
+    if len(fit.estimates) > 1:
+        sections[0].blocks.append(table_from_frame(
+            fit.correlation, "Correlation of the estimates", id="fit-correlation", index="key",
+            note="Beyond \u00b10.95 the data fix a combination of the two values, not each."))
+    if figures:
+        from .figures import figure_of
+
+        drawn = fit.plot()
+        sections.append(Section("figures", "Figures", [figure_of(
+            drawn.figure, "fig-fit", "Measured (dots) and fitted (lines) temperatures, "
+                                      "measured \u2212 fitted below.")]))
+    more = []
+    if fit.gaps is not None and len(fit.gaps):
+        more.append(table_from_frame(fit.gaps, "Spans of the log without data", id="fit-gaps"))
+    if len(fit.starts):
+        more.append(table_from_frame(fit.starts, "Starting points and where they ended",
+                                     id="fit-starts", index="start"))
+    taus = np.asarray(fit.time_constants if fit.time_constants is not None else [], dtype=float)
+    if taus.size:
+        more.append(Paragraph("Time constants of the fitted network: " + ", ".join(
+            f"{number_text(t / 3600.0, 4)} h" for t in taus[:6]) + "."))
+    if more:
+        sections.append(Section("details", "Details of the search", more))
+    sections += [network_section(fitted), inputs_section(
+        fitted, intro="The fitted scenario: the scenario's inputs with the estimates written in.")]
+    sections.append(Section("fitted-scenario", "The fitted scenario", [
+        Paragraph("The scenario with the estimates written in, as `rcsim fit --write-scenario` "
+                  "writes it."), Preformatted(fit.to_toml(), "", "fitted-toml")]))
+    text = getattr(base, "text", "") or ""
+    extra = [("log file", fit.log_name or "")]
+    if log_path is not None:
+        with open(log_path, "rb") as fh:
+            extra.append(("log SHA-256", hashlib.sha256(fh.read()).hexdigest()))
+    extra.append(("fitted scenario SHA-256", sha256_of(fit.to_toml())))
+    report = Report("fit", heading, f"Fit report \u00b7 {name} to {fit.log_name}",
+                    purpose_of(base), glance, sections,
+                    warning_texts(list(fit.warnings) + list(warnings or [])),
+                    provenance_items(text, name, extra), text)
+    report.extra_caution = FIT_CAUTION
+    return report
+

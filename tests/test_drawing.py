@@ -1,0 +1,120 @@
+"""The network picture: what it shows, how it is laid out, the files it writes."""
+
+import itertools
+import math
+import os
+
+import numpy as np
+import pytest
+
+import rcsim
+from rcsim import drawing
+from rcsim.errors import InputError
+
+HERE = os.path.dirname(__file__)
+SCENARIOS = os.path.join(HERE, "..", "scenarios")
+
+
+def _ladder(n):
+    net = rcsim.Network()
+    net.add_boundary("outside", temperature=20.0)
+    prev = "outside"
+    for i in range(1, n + 1):
+        net.add_node(f"n{i}", capacity=1000.0 * i, initial=20.0)
+        net.add_link(prev, f"n{i}", resistance=0.5 * i, name=f"r{i}")
+        prev = f"n{i}"
+    return net
+
+
+def test_a_ladder_reads_as_a_ladder():
+    # a chain boundary - n1 - ... - n6: one point per layer, in a straight evenly spaced line
+    picture = drawing.draw_network(_ladder(6))
+    pos = picture.positions
+    xs = {round(pos[p][0], 9) for p in pos}
+    assert xs == {0.0}
+    ys = [pos[("boundary", "outside")][1]] + [pos[("node", f"n{i}")][1] for i in range(1, 7)]
+    assert np.allclose(np.diff(ys), -drawing._DY)
+    right = drawing.draw_network(_ladder(6), orientation="right").positions
+    assert np.allclose(np.diff([right[("node", f"n{i}")][0] for i in range(1, 7)]), drawing._DX)
+
+
+def test_the_graph_carries_capacities_resistances_and_profiles():
+    sc = rcsim.load(os.path.join(SCENARIOS, "cold-box.toml"))
+    g = drawing.network_graph(sc)
+    kinds = [d["kind"] for _, d in g.nodes(data=True)]
+    assert kinds.count("node") == 6 and kinds.count("boundary") == 1
+    assert g.number_of_edges() == len(sc.network.links) == 10   # the ten [links.*] of the file
+    foam = [d for _, _, d in g.edges(data=True) if d["link"] == "foam"][0]
+    # plane layers in series, R = L/(kA) (Incropera ch. 3): 50 mm foam at k 0.025 W/(m K)
+    # (the bundled table's polyurethane foam) over 1.05 m^2, 4 mm carton at 0.065 over 1.2 m^2
+    assert foam["resistance"] == pytest.approx(0.05 / (0.025 * 1.05) + 0.004 / (0.065 * 1.2),
+                                               rel=1e-12)
+    assert foam["kinds"] == "conduction + conduction"
+    film = [d for _, _, d in g.edges(data=True) if d["link"] == "outer_film"][0]
+    assert film["nonlinear"] and math.isnan(film["resistance"])
+    payload = g.nodes[("node", "payload")]
+    assert "21.6 kJ/K" in payload["detail"]          # 6 kg x 3.6 kJ/(kg K), by hand
+    assert "sine" in g.nodes[("boundary", "bay")]["detail"]
+
+
+def test_sliced_layers_are_one_block_unless_asked():
+    sc = rcsim.load(os.path.join(SCENARIOS, "room-day.toml"))
+    wall = sc.network.links["wall"]
+    collapsed = drawing.network_graph(sc)
+    assert ("layer", "wall") in collapsed
+    assert not [p for p in collapsed if p[0] == "internal"]
+    expanded = drawing.network_graph(sc, expand_layers=True)
+    inner = [p for p in expanded if p[0] == "internal"]
+    assert [p[1] for p in inner] == [f"wall.{i}" for i in range(1, 15)]    # 10 + 4 slices
+    # the slices share the layer's capacity, and the steps of the ladder add up to the link's
+    # series resistance (each slice split in two halves around its node)
+    assert sum(expanded.nodes[p]["capacity"] for p in inner) == pytest.approx(wall.capacity,
+                                                                             rel=1e-12)
+    steps = [d["resistance"] for _, _, d in expanded.edges(data=True) if d["link"] == "wall"]
+    assert len(steps) == 15 and sum(steps) == pytest.approx(wall.resistance, rel=1e-12)
+
+
+def test_a_thirty_node_network_keeps_its_labels_apart():
+    # three ladders of ten nodes from three boundaries, rungs between them at every depth
+    net = rcsim.Network()
+    for side in "abc":
+        net.add_boundary(f"out_{side}", temperature=20.0)
+        prev = f"out_{side}"
+        for i in range(10):
+            net.add_node(f"{side}{i}", capacity=500.0, initial=20.0)
+            net.add_link(prev, f"{side}{i}", resistance=1.0, name=f"{side}_r{i}")
+            prev = f"{side}{i}"
+    for i in range(10):
+        net.add_link(f"a{i}", f"b{i}", resistance=2.0, name=f"ab{i}")
+        net.add_link(f"b{i}", f"c{i}", resistance=2.0, name=f"bc{i}")
+    picture = drawing.draw_network(net)
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    renderer = FigureCanvasAgg(picture.figure).get_renderer()
+    ax = picture.figure.axes[0]
+    names = {f"{s}{i}" for s in "abc" for i in range(10)} | {"out_a", "out_b", "out_c"}
+    boxes = [t.get_window_extent(renderer) for t in ax.texts if t.get_text() in names]
+    assert len(boxes) == 33
+    for a, b in itertools.combinations(boxes, 2):
+        assert not a.overlaps(b)
+    # every point of a ladder one layer further than the one before
+    ys = [picture.positions[("node", f"b{i}")][1] for i in range(10)]
+    assert np.all(np.diff(ys) < 0)
+
+
+def test_files_in_each_format_and_bad_names(tmp_path):
+    sc = rcsim.load(os.path.join(SCENARIOS, "enclosure.toml"))
+    for fmt in ("svg", "png", "pdf"):
+        path = drawing.save_network_picture(sc, tmp_path / f"net.{fmt}")
+        assert os.path.getsize(path) > 1000
+    from PIL import Image
+
+    with Image.open(tmp_path / "net.png") as im:
+        assert im.size[0] > 300 and im.size[1] > 300
+    svg = open(tmp_path / "net.svg").read()
+    assert svg.lstrip().startswith("<?xml") and "<svg" in svg
+    with pytest.raises(InputError, match="use .svg, .png or .pdf"):
+        drawing.save_network_picture(sc, tmp_path / "net.jpg")
+    assert sorted(os.listdir(tmp_path)) == ["net.pdf", "net.png", "net.svg"]
+    with pytest.raises(InputError, match="orientation"):
+        drawing.draw_network(sc, orientation="up")

@@ -1,41 +1,43 @@
 """The fit procedure: scenario and log in, :class:`FitResult` out (read and check the log, free
-the values, build the model, search from several starts, summarise, warn)."""
+the values, build the model, search from several starts, summarise, warn).
+
+:func:`fit` is also the door to the other fits: several candidate scenarios are compared
+(:func:`rcsim.fitting.compare.compare`), several logs are fitted at once
+(:func:`rcsim.fitting.records.fit_records`), and ``noise="process"`` fits a stochastic model by
+a Kalman filter (:mod:`rcsim.fitting.stochastic`).
+"""
 
 from __future__ import annotations
 
-import time as _time
-import warnings
-
-import numpy as np
-
-from ..errors import DataError, InputError
-from ..scenario import Scenario, load
-from .logs import gap_notes, read_log
-from .model import Model
-from .notes import Notes
-from .parameters import make_parameters
-from .problem import Problem, column_weights, search
-from .result import FitResult
-from .summary import summarise
+from .candidates import FitSpec, read_candidate
+from .compare import compare
+from .procedure import as_tuple, fit_scenario, issue_warnings
+from .records import fit_records
 
 __all__ = ["fit"]
 
 
-def fit(scenario, data, free, *, columns=None, ignore=(), bounds=None, sigma=None, time=None,
-        time_unit=None, max_gap=None, starts=4, solver="auto", seed=0) -> FitResult:
-    """Fit freed values of a scenario to a logged record.
+def fit(scenario, data, free=None, *, columns=None, ignore=None, bounds=None, sigma=None,
+        time=None, time_unit=None, max_gap=None, starts=4, solver="auto", seed=0, holdout=None,
+        noise=None, per_record=None, candidates=None, select="bic", lags=None):
+    """Fit freed values of a scenario to a logged record (or several), or compare candidates.
 
     Parameters
     ----------
-    scenario : rcsim.Scenario or path
-        The model; its values are the starting guesses.
-    data : path or pandas.DataFrame
-        The log (see :func:`read_log`).
-    free : list of str
+    scenario : rcsim.Scenario, path, or a list of them
+        The model; its values are the starting guesses. A scenario file may carry a ``[fit]``
+        section (:mod:`rcsim.fitting.candidates`) giving its free keys and bounds. A list (or
+        ``candidates=``) compares several candidate scenarios and returns a
+        :class:`rcsim.fitting.compare.Comparison`.
+    data : path or pandas.DataFrame, or a list of them
+        The log (see :func:`read_log`). Several logs are fitted at once, values shared across
+        them except those in ``per_record``; the result is a
+        :class:`rcsim.fitting.records.JointFit`.
+    free : list of str, optional
         Key paths of the values to fit, e.g. ``["nodes.block.capacity",
-        "links.skin.resistance", "nodes.block.initial"]``.
+        "links.skin.resistance", "nodes.block.initial"]`` (default: the ``[fit]`` section's).
     columns : dict, optional
-        ``{"log column": "node or boundary"}`` for columns not named after one.
+        ``{"log column": "node, boundary or source"}`` for columns not named after one.
     ignore : sequence of str
         Log columns to leave out.
     bounds : dict, optional
@@ -53,10 +55,27 @@ def fit(scenario, data, free, *, columns=None, ignore=(), bounds=None, sigma=Non
         'auto' uses the exact modal path where it applies.
     seed : int
         Seed of the spread of starts.
+    holdout : float or str or pair, optional
+        A span the fit leaves out and scores its prediction on: a fraction at the end (``0.2``)
+        or a time range from the first row (``"20h..24h"``); see :mod:`rcsim.fitting.holdout`.
+    noise : 'measurement' or 'process', optional
+        'measurement' (default): a deterministic model with independent measurement errors
+        (weighted least squares). 'process': a stochastic model with process noise on the
+        states, fitted by maximum likelihood with a Kalman filter (linear networks only; see
+        :mod:`rcsim.fitting.stochastic`).
+    per_record : list of str, optional
+        With several logs: the free values fitted once per log (each record's starting
+        temperature, say); the other free values are shared.
+    candidates : list, optional
+        More candidate scenarios to compare with ``scenario``.
+    select : 'bic', 'aic' or 'holdout'
+        How a comparison selects its candidate.
+    lags : int, optional
+        Lags of the Ljung-Box test of the residuals (default min(10, n // 5)).
 
     Returns
     -------
-    FitResult
+    FitResult, or JointFit (several logs), or Comparison (several candidates)
 
     Raises
     ------
@@ -65,29 +84,20 @@ def fit(scenario, data, free, *, columns=None, ignore=(), bounds=None, sigma=Non
         a log that cannot be placed against ``simulation.start`` (see
         :func:`rcsim.fitting.model.log_offset`).
     """
-    wall0 = _time.perf_counter()
-    sc = scenario if isinstance(scenario, Scenario) else load(scenario)
-    if not isinstance(starts, int) or isinstance(starts, bool) or starts < 1:
-        raise InputError(f"starts must be a positive whole number, got {starts!r}", "starts")
-    asm = sc.network.assemble()
-    log = read_log(data, asm.node_names, asm.boundary_names, columns=columns, ignore=ignore,
-                   time=time, time_unit=time_unit, max_gap=max_gap)
-    params = make_parameters(sc, free, bounds, log)
-    notes = Notes()
-    notes.extend(gap_notes(log))
-    model = Model(sc, log, params, solver)
-    Y = log.values[log.measured].to_numpy(dtype=float)
-    mask = np.isfinite(Y)
-    n_points = int(mask.sum())
-    if n_points <= len(params):
-        raise DataError(f"{n_points} measured values cannot determine {len(params)} free "
-                        "values", log.name, "log more data or free fewer values")
-    weights = column_weights(sigma, log)
-    notes.extend(params.start_from_log(log, Y))
-    problem = Problem(model, params, Y, mask, weights)
-    found = search(problem, starts, seed, reweight=sigma is None and len(log.measured) > 1)
-    result = summarise(problem, found, log, sc, notes)
-    result.wall_time = _time.perf_counter() - wall0
-    for text, category in zip(result.warnings, result._categories):
-        warnings.warn(text, category, stacklevel=2)
+    caller = FitSpec(free=as_tuple(free), bounds=bounds, per_record=as_tuple(per_record),
+                     columns=columns, ignore=as_tuple(ignore), sigma=sigma, noise=noise)
+    settings = dict(time=time, time_unit=time_unit, max_gap=max_gap, starts=starts,
+                    solver=solver, seed=seed, holdout=holdout, lags=lags)
+    if candidates is not None or isinstance(scenario, (list, tuple)):
+        pool = list(scenario) if isinstance(scenario, (list, tuple)) else [scenario]
+        return compare(pool + list(candidates or []), data, spec=caller, select=select,
+                       **settings)
+    cand = read_candidate(scenario)
+    spec = cand.spec.over(caller)
+    if isinstance(data, (list, tuple)):
+        result = fit_records(cand.scenario, list(data), spec, **settings)
+    else:
+        result = fit_scenario(cand.scenario, data, spec, **settings)
+        result.label = cand.label
+    issue_warnings(result, stacklevel=2)
     return result

@@ -1,15 +1,17 @@
 """The log: reading a logged record (CSV or DataFrame), checking it and matching its columns.
 
 Columns named like a node (or mapped to one) are *measured*; columns named like a boundary (or
-mapped to one) *drive* the model. Every problem is one :class:`rcsim.errors.DataError` naming the
-file, the column and the line.
+mapped to one) *drive* the model as its temperature; columns named like a source (or mapped to
+one) drive the model as that source's power (in W, or in the unit of the header, as in
+``heater [kW]``). Every problem is one :class:`rcsim.errors.DataError` naming the file, the
+column and the line.
 """
 
 from __future__ import annotations
 
 import os
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
@@ -19,7 +21,7 @@ from ..errors import DataError, InputError
 from ..profiles import read_csv_text, read_time_series
 from ..units import to_si
 
-__all__ = ["Log", "read_log", "gap_notes"]
+__all__ = ["Log", "read_log", "gap_notes", "log_header"]
 
 TIME_NAMES = {"time", "t", "timestamp", "datetime", "date", "seconds", "elapsed", "time_s"}
 NA_TOKENS = {"", "nan", "na", "n/a", "null", "none", "-", "--"}
@@ -39,6 +41,9 @@ class Log:
         Log column -> node or boundary name.
     measured, inputs : list of str
         Log columns matched to nodes (fitted) and to boundaries (driving the model).
+    powers : list of str
+        Log columns matched to sources (their power drives the model; values in ``values`` are
+        in W).
     start_time : pandas.Timestamp or None
         Time of the first row when the log has timestamps.
     name : str
@@ -65,6 +70,7 @@ class Log:
     gaps: pd.DataFrame
     max_gap: float
     first_time: float = 0.0
+    powers: list = field(default_factory=list)
 
 
 @dataclass
@@ -110,7 +116,7 @@ def _find_time_column(columns, time, mapped_targets, names, label) -> str:
 
 
 def read_log(source, nodes, boundaries, *, columns=None, ignore=(), time=None, time_unit=None,
-             max_gap=None, start=None) -> Log:
+             max_gap=None, start=None, sources=()) -> Log:
     """Read and check a log and match its columns to nodes and boundaries.
 
     Parameters
@@ -120,6 +126,8 @@ def read_log(source, nodes, boundaries, *, columns=None, ignore=(), time=None, t
         numbers in ``time_unit`` or a DatetimeIndex).
     nodes, boundaries : list of str
         Names in the network (nodes may include internal ``<link>.<i>`` nodes).
+    sources : list of str
+        Names of the network's sources; a column matched to one drives its power.
     columns : dict, optional
         ``{"log column": "node or boundary"}``; other columns are matched by name.
     ignore : sequence of str
@@ -144,8 +152,8 @@ def read_log(source, nodes, boundaries, *, columns=None, ignore=(), time=None, t
     """
     columns = dict(columns or {})
     ignore = list(ignore or [])
-    nodes, boundaries = list(nodes), list(boundaries)
-    names = set(nodes) | set(boundaries)
+    nodes, boundaries, sources = list(nodes), list(boundaries), list(sources)
+    names = set(nodes) | set(boundaries) | set(sources)
     if isinstance(source, pd.DataFrame):
         label = "<data>"
         raw = _from_frame(source, time, time_unit, label, columns, names)
@@ -160,7 +168,8 @@ def read_log(source, nodes, boundaries, *, columns=None, ignore=(), time=None, t
                             "columns are: " + ", ".join(map(repr, header)))
     targets = _match_columns(used, columns, names, label)
     measured = [c for c in used if targets[c] in set(nodes)]
-    inputs = [c for c in used if targets[c] in set(boundaries)]
+    inputs = [c for c in used if c not in measured and targets[c] in set(boundaries)]
+    powers = [c for c in used if c not in measured and c not in inputs]
     if not measured:
         raise DataError("no column is matched to a node, so there is nothing to fit", label,
                         f"name a column after a node ({', '.join(nodes[:8])}) or map it "
@@ -170,6 +179,8 @@ def read_log(source, nodes, boundaries, *, columns=None, ignore=(), time=None, t
     t = raw.seconds - raw.seconds[0]
     values = raw.frame[used].copy()
     values.index = pd.Index(t, name="time [s]")
+    for c in powers:  # powers in W
+        values[c] = values[c] * _power_factor(c, label)
     for c in used:
         if not np.isfinite(values[c].to_numpy()).any():
             raise DataError(f"column {c!r} has no numeric values", label)
@@ -182,7 +193,48 @@ def read_log(source, nodes, boundaries, *, columns=None, ignore=(), time=None, t
     gaps = find_gaps(t, values, gap_limit, raw.lines)
     start_time = raw.origin if raw.is_datetime else None
     return Log(t, values, targets, measured, inputs, start_time, label, raw.lines, gaps,
-               gap_limit, 0.0 if raw.is_datetime else float(raw.seconds[0]))
+               gap_limit, 0.0 if raw.is_datetime else float(raw.seconds[0]), powers)
+
+
+def _power_factor(column: str, label: str) -> float:
+    """Watts per unit of a power column: 1, or the factor of the unit in its header."""
+    unit = strip_unit(column)[1]
+    if unit is None:
+        return 1.0
+    try:
+        return to_si(f"1 {unit}", "power", column)
+    except InputError:
+        raise DataError(f"column {column!r} drives a source, but {unit!r} is not a unit of "
+                        "power", label, "write e.g. 'heater [W]' or 'heater [kW]'") from None
+
+
+def log_header(source, time=None) -> tuple[str | None, list[str]]:
+    """(time column, the other columns) of a log, as :func:`read_log` will see them: the time
+    column is ``time``, or one named time, t, timestamp, ..., or else the first (None for a
+    DataFrame whose index holds the time)."""
+    if isinstance(source, pd.DataFrame):
+        header = [str(c).strip() for c in source.columns]
+        named = time is not None or any(strip_unit(c)[0].lower() in TIME_NAMES for c in header)
+        index_time = not named and (isinstance(source.index, pd.DatetimeIndex) or (
+            pd.api.types.is_numeric_dtype(source.index.dtype)
+            and not isinstance(source.index, pd.RangeIndex)))
+        if index_time:
+            return None, header
+        label = "<data>"
+    else:
+        path = os.fspath(source)
+        label = os.path.basename(path) or path
+        if not os.path.isfile(path):
+            raise DataError("file not found", label, f"looked for {os.path.abspath(path)}")
+        try:
+            header = [str(c).strip() for c in pd.read_csv(path, nrows=0, skipinitialspace=True,
+                                                            encoding="utf-8").columns]
+        except (UnicodeDecodeError, pd.errors.ParserError, pd.errors.EmptyDataError):
+            raise DataError("cannot be read as a CSV file with a header", label) from None
+    if not header:
+        raise DataError("has no columns", label)
+    tcol = _find_time_column(header, time, set(), set(), label)
+    return tcol, [c for c in header if c != tcol]
 
 
 def _match_columns(used, columns, names, label) -> dict:
@@ -192,11 +244,12 @@ def _match_columns(used, columns, names, label) -> dict:
         target = columns.get(c, c)
         if target not in names:
             if c in columns:
-                raise DataError(f"column {c!r} is mapped to {target!r}, which is no node or "
-                                "boundary", label, suggest(target, sorted(names)))
+                raise DataError(f"column {c!r} is mapped to {target!r}, which is no node, "
+                                "boundary or source", label, suggest(target, sorted(names)))
             raise DataError(f"column {c!r} matches no node or boundary", label,
-                            f"map it to one (columns= / --map {c}=NAME; names: "
-                            f"{', '.join(sorted(names)[:8])}) or leave it out (ignore= / --ignore)")
+                            f"map it to a node, boundary or source (columns= / --map {c}=NAME; "
+                            f"names: {', '.join(sorted(names)[:8])}) or leave it out (ignore= / "
+                            "--ignore)")
         if target in targets.values():
             other = next(k for k, v in targets.items() if v == target)
             raise DataError(f"columns {other!r} and {c!r} both give {target!r}", label,
@@ -344,7 +397,7 @@ def gap_notes(log: Log) -> list[str]:
     """One note per column with spans longer than the log's ``max_gap`` (the longest named)."""
     notes = []
     for column, g in log.gaps.groupby("column", sort=False):
-        kind = "interpolated linearly across" if column in log.inputs else \
+        kind = "interpolated linearly across" if column in log.inputs + log.powers else \
             "skipped in the residuals"
         worst = g.loc[g["length [s]"].idxmax()]
         where = (f"{fmt_span(worst['length [s]'])} (from {fmt_span(worst['from [s]'])} after "

@@ -8,10 +8,11 @@ that touches its internals; the rest of the package sees this interface::
     model.outputs(values, times=t)   # the same at other times (0 .. end of the log)
     model.fast                       # True on the exact modal path (see below)
     model.stats                      # ModelStats: solver, evaluations, decompositions
+    model.state_matrices(values)     # StateMatrices: A, H of the linear network (exact path)
 
-Inputs: log columns that drive boundaries become tables (linear between samples, held at the
-ends); the scenario's own profiles are read on the log's clock (:func:`log_offset`, wrapped in
-:class:`rcsim.profiles.Shifted`).
+Inputs: log columns that drive boundaries or sources become tables (linear between samples, held
+at the ends); the scenario's own profiles are read on the log's clock (:func:`log_offset`,
+wrapped in :class:`rcsim.profiles.Shifted`).
 
 Paths. Every evaluation goes through the engine's :func:`rcsim.transient.trajectory`, which
 makes the same checks, start and path choice as a run. On a linear network (given or steady
@@ -40,7 +41,7 @@ from ..scenario import Scenario
 from .logs import Log
 from .parameters import ParameterSet
 
-__all__ = ["Model", "ModelStats", "log_offset"]
+__all__ = ["Model", "ModelStats", "StateMatrices", "log_offset"]
 
 #: Elements (times x (modes + inputs)) of one block of the exact propagation; bounds memory on
 #: long logs.
@@ -56,6 +57,22 @@ class ModelStats:
     solver: str
     evaluations: int = 0
     decompositions: int = 0
+
+
+@dataclass
+class StateMatrices:
+    """The linear network at given values, for a Kalman filter: dx/dt = A x + ..., y = H x + ...
+
+    ``A`` (n, n) is -C^-1 K of the reduced system (massless nodes eliminated), ``H`` (m, n) maps
+    the states to the measured columns, ``groups`` names each state's process-noise group (its
+    node, or the link of an internal node of a sliced layer), ``time_constants`` (n,) is
+    C_i / K_ii of each state [s] (a scale for starting values).
+    """
+
+    A: np.ndarray
+    H: np.ndarray
+    groups: list
+    time_constants: np.ndarray
 
 
 @dataclass
@@ -116,8 +133,11 @@ class Model:
         self.node_idx = np.array([asm.node_index(log.targets[c]) for c in log.measured])
         self.measured_nodes = [log.targets[c] for c in log.measured]
         self.tables = _log_tables(log)
+        self.power_tables = _power_tables(log)
         own = [p for nm, p in zip(asm.boundary_names, asm.boundary_profiles)
-               if nm not in self.tables] + list(asm.source_profiles)
+               if nm not in self.tables] + [p for nm, p in zip(asm.source_names,
+                                                             asm.source_profiles)
+                                            if nm not in self.power_tables]
         self.offset = log_offset(sc, log, varies=any(not p.is_constant for p in own))
         for prof in own:
             prof.check_span(self.offset, self.offset + float(self.t[-1]))
@@ -182,7 +202,8 @@ class Model:
         in, and the freed initial temperatures {node: degC}."""
         bprof = [self.tables[nm] if nm in self.tables else self._shift(p)
                  for nm, p in zip(asm0.boundary_names, asm0.boundary_profiles)]
-        sprof = [self._shift(p) for p in asm0.source_profiles]
+        sprof = [self.power_tables[nm] if nm in self.power_tables else self._shift(p)
+                 for nm, p in zip(asm0.source_names, asm0.source_profiles)]
         overrides = {}
         for p, v in zip(self.params, values):
             if p.tier == "initial":
@@ -225,6 +246,41 @@ class Model:
                               rtol=min(sc.settings.rtol, 1e-7), atol=min(sc.settings.atol, 1e-7))
 
 
+    def state_matrices(self, values) -> StateMatrices:
+        """A and H of the reduced linear system at the free values (SI), for a Kalman filter.
+
+        Raises
+        ------
+        InputError
+            A network the exact path cannot take (nonlinear parts, thermostats, a periodic
+            start, too many states): a stochastic fit needs a linear network.
+        """
+        from ..statespace import state_space
+
+        if not self.fast:
+            raise InputError("a fit with process noise needs a linear network on the exact path "
+                             f"(this one runs on the {self.solver} path: nonlinear parts, "
+                             "thermostats, a periodic start or too many states)", "noise",
+                             "fit with noise='measurement', or make the network linear")
+        asm = self._structure([float(v) for v in values]).assembled
+        ss = state_space(asm)
+        K = ss.K.toarray()
+        A = -K / ss.C[:, None]
+        position = {int(node): i for i, node in enumerate(ss.massive)}
+        zpos = {int(node): i for i, node in enumerate(ss.massless)}
+        R = np.asarray(ss.R.toarray() if hasattr(ss.R, "toarray") else ss.R, dtype=float)
+        H = np.zeros((self.node_idx.size, ss.n))
+        for row, node in enumerate(self.node_idx):
+            if int(node) in position:
+                H[row, position[int(node)]] = 1.0
+            else:  # a massless node follows the states algebraically
+                H[row] = R[zpos[int(node)]]
+        names = [asm.node_names[i] for i in ss.massive]
+        groups = [asm.internal_of.get(nm, nm) for nm in names]
+        tau = ss.C / np.maximum(np.diag(K), 1e-300)
+        return StateMatrices(A, H, groups, tau)
+
+
 def _log_tables(log: Log) -> dict:
     """Boundary name -> a table of its log column (finite values; held outside the log)."""
     tables = {}
@@ -233,6 +289,17 @@ def _log_tables(log: Log) -> dict:
         ok = np.isfinite(vals)
         tables[log.targets[c]] = Table(log.time[ok], vals[ok], outside="hold").bind(
             "temperature", f"{log.name}: column {c!r}")
+    return tables
+
+
+def _power_tables(log: Log) -> dict:
+    """Source name -> a table of its log column [W] (finite values; held outside the log)."""
+    tables = {}
+    for c in getattr(log, "powers", []):
+        vals = log.values[c].to_numpy()
+        ok = np.isfinite(vals)
+        tables[log.targets[c]] = Table(log.time[ok], vals[ok], outside="hold").bind(
+            "power", f"{log.name}: column {c!r}")
     return tables
 
 

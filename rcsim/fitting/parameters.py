@@ -233,8 +233,15 @@ def _tier(sc: Scenario, log: Log, tokens, measured_boundaries, where) -> tuple[s
                                 f"leave the column out (--ignore {col}) to fit it")
         if tokens[2:] in (["temperature"], ["temperature", "constant"]):
             return "constant", tokens[1]
-    elif tokens[0] == "sources" and tokens[2:] in (["power"], ["power", "constant"]):
-        return "constant", tokens[1]
+    elif tokens[0] == "sources" and len(tokens) >= 3:
+        driven = {log.targets[c]: c for c in getattr(log, "powers", [])}
+        if tokens[1] in driven:
+            col = driven[tokens[1]]
+            raise ScenarioError(f"source {tokens[1]!r} follows log column {col!r}, so its "
+                                "scenario values are not used", where,
+                                f"leave the column out (--ignore {col}) to fit it")
+        if tokens[2:] in (["power"], ["power", "constant"]):
+            return "constant", tokens[1]
     return "rebuild", None
 
 

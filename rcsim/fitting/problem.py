@@ -19,7 +19,7 @@ from .logs import Log
 from .model import Model
 from .parameters import ParameterSet
 
-__all__ = ["Problem", "Run", "Search", "column_weights", "search"]
+__all__ = ["Problem", "Run", "Search", "column_weights", "search", "run_least_squares"]
 
 #: Residual [K/sigma] given to a trial value the model cannot run.
 PENALTY = 1e6
@@ -63,6 +63,7 @@ class Problem:
         self.model, self.params, self.Y, self.mask = model, params, Y, mask
         self.weights = np.asarray(weights, dtype=float)
         self._last: _Evaluation | None = None
+        self.options: dict = {}  # of run_least_squares (tolerances, evaluations per value)
 
     def set_weights(self, weights) -> None:
         self.weights = np.asarray(weights, dtype=float)
@@ -86,7 +87,8 @@ class Problem:
     def jacobian(self, x, central: bool = False) -> np.ndarray:
         """d residuals / d x.
 
-        Values entering the output linearly get exact differences. The others get forward
+        Values entering the output linearly get exact columns (in closed form when the model
+        gives them, else exact differences). The others get forward
         differences while searching (one model run each; the model is exact to rounding, so a
         step of 1e-7 loses about half the digits) and central differences (step 1e-4, error
         of order 1e-8) for the covariance at the optimum. A model run by a tolerance-controlled
@@ -96,8 +98,11 @@ class Problem:
         x = np.asarray(x, dtype=float)
         r0 = self.residuals(x)
         J = np.empty((r0.size, x.size))
+        exact = self._linear_columns(x)
         for i, p in enumerate(self.params):
-            if p.linear:
+            if i in exact:
+                J[:, i] = exact[i]
+            elif p.linear:
                 step = 1.0  # linear in the output: any step is exact
                 xp = x.copy()
                 xp[i] += step
@@ -115,6 +120,16 @@ class Problem:
                 J[:, i] = (self._eval(xp) - r0) / step
         return J
 
+    def _linear_columns(self, x) -> dict:
+        """Exact Jacobian columns of the linear values when the model gives them in closed
+        form (:meth:`rcsim.fitting.linear.LinearModel.linear_jacobian`)."""
+        hook = getattr(self.model, "linear_jacobian", None)
+        linear = [i for i, p in enumerate(self.params) if p.linear]
+        if hook is None or not linear:
+            return {}
+        cols = hook(self.values(x), linear)
+        return {i: (-c * self.weights[None, :])[self.mask] for i, c in cols.items()}
+
     def _eval(self, x) -> np.ndarray:
         with np.errstate(over="raise", invalid="raise"):
             try:
@@ -125,30 +140,51 @@ class Problem:
         return np.where(np.isfinite(r), r, PENALTY)
 
     def solve(self, x0) -> Run:
-        from scipy.optimize import least_squares
+        return run_least_squares(self, x0, **self.options)
 
-        lo, hi = self.params.x_limits()
-        x0 = np.clip(np.asarray(x0, dtype=float), lo, hi)
-        res = least_squares(self.residuals, x0, jac=self.jacobian, bounds=(lo, hi),
-                            method="trf", x_scale="jac", ftol=1e-12, xtol=1e-10, gtol=1e-10,
-                            max_nfev=100 * (1 + x0.size))
-        return Run(np.asarray(res.x, dtype=float), float(np.sum(res.fun ** 2)), int(res.status),
-                   str(res.message), int(res.nfev), x0)
+    def reweight(self, x) -> None:
+        """Weight each column by the spread of its own residuals at ``x`` (1 / RMS)."""
+        r = self.residual_matrix(x)
+        spread = np.sqrt(np.nanmean(np.where(self.mask, r, np.nan) ** 2, axis=0))
+        self.set_weights(1.0 / np.maximum(spread, 1e-12))
 
 
-def search(problem: Problem, starts: int, seed, reweight: bool) -> Search:
+def run_least_squares(problem, x0, ftol=1e-12, xtol=1e-10, evaluations=100) -> Run:
+    """One trust-region reflective run of ``problem`` (residuals, jacobian, params) from x0,
+    with at most ``evaluations`` * (1 + free values) evaluations."""
+    from scipy.optimize import least_squares
+
+    lo, hi = problem.params.x_limits()
+    x0 = np.clip(np.asarray(x0, dtype=float), lo, hi)
+    res = least_squares(problem.residuals, x0, jac=problem.jacobian, bounds=(lo, hi),
+                        method="trf", x_scale="jac", ftol=ftol, xtol=xtol, gtol=1e-10,
+                        max_nfev=evaluations * (1 + x0.size))
+    return Run(np.asarray(res.x, dtype=float), float(np.sum(res.fun ** 2)), int(res.status),
+               str(res.message), int(res.nfev), x0)
+
+
+def search(problem, starts: int, seed, reweight: bool, points=None, screen=None) -> Search:
     """Solve from each starting point and keep the best. With ``reweight`` (no sigma given and
     several columns), each column is then weighted by the spread of its own residuals at the
-    optimum and the fit refined from there."""
-    runs = [problem.solve(x0) for x0 in problem.params.starting_points(starts, seed)]
+    optimum and the fit refined from there. ``points`` (fitted coordinates) replace the
+    starting points made from the scenario's values when given. With ``screen`` (options of
+    :func:`run_least_squares`, a small budget), every start first runs under it and only the
+    best goes on to the end."""
+    if points is None:
+        points = problem.params.starting_points(starts, seed)
+    if screen is not None and len(points) > 1:
+        trial = [run_least_squares(problem, x0, **screen) for x0 in points]
+        lead = min(trial, key=lambda r: r.cost)
+        runs = [r for r in trial if r is not lead] + [problem.solve(lead.x)]
+        runs[-1].x0 = lead.x0
+    else:
+        runs = [problem.solve(x0) for x0 in points]
     best = min(runs, key=lambda r: r.cost)
     # other starts that ended elsewhere with about as good a fit (compared under one weighting)
     rivals = sum(1 for rn in runs if rn is not best and rn.cost <= best.cost * 1.01 + 1e-300
                  and np.max(np.abs(rn.x - best.x)) > 0.1)
     if reweight:
-        r = problem.residual_matrix(best.x)
-        spread = np.sqrt(np.nanmean(np.where(problem.mask, r, np.nan) ** 2, axis=0))
-        problem.set_weights(1.0 / np.maximum(spread, 1e-12))
+        problem.reweight(best.x)
         best = problem.solve(best.x)
         runs.append(best)
     return Search(best, runs, rivals)

@@ -23,7 +23,7 @@ from ..scenario import Scenario, loads
 from ..units import si_unit, to_si
 from .notes import FitWarning
 
-__all__ = ["FitResult"]
+__all__ = ["FitResult", "write_text_atomic", "display_unit", "scenario_text"]
 
 #: First words of the comment header of a fitted scenario, and of its last line.
 HEADER_FIRST = "# Fitted to "
@@ -81,6 +81,33 @@ class FitResult:
         Spans of the log without values (see :class:`rcsim.fitting.Log`).
     time_constants : ndarray
         Time constants of the fitted network [s].
+    noise : str
+        ``"measurement"`` (deterministic model, independent measurement errors: output error)
+        or ``"process"`` (stochastic model, Kalman filter; see :mod:`rcsim.fitting.kalman`).
+        With process noise, ``residuals`` are the one-step-ahead prediction errors (the
+        innovations), ``fitted`` the one-step-ahead predictions and ``rmse`` their RMS; ``curve``
+        is the deterministic run of the fitted model and ``simulation_rmse`` its error.
+    log_likelihood, n_parameters, aic, bic : float, int, float, float
+        Gaussian log-likelihood of the fitted values, the number of values estimated (free
+        values plus noise parameters) and the information criteria
+        (:mod:`rcsim.fitting.diagnostics`).
+    whiteness : DataFrame
+        The Ljung-Box test of each column's residuals (standardised innovations with process
+        noise): ``statistic``, ``lags``, ``p_value``, ``n``.
+    holdout : rcsim.fitting.holdout.Holdout or None
+        The held-out span, if any; ``holdout_rmse`` [K], ``holdout_rmse_by_column`` and
+        ``holdout_residuals`` (measured - predicted on it, NaN elsewhere) score the prediction
+        there.
+    simulation_rmse : float
+        RMS of measured - deterministic run over the fitted values [K] (equal to ``rmse``
+        without process noise).
+    noise_estimates : DataFrame or None
+        With process noise: each noise parameter (``process.<state group>`` [K/s^0.5],
+        ``measurement.<column>`` [K]) with ``value``, ``std_error``, ``ci_low``, ``ci_high``.
+    n_states : int
+        Number of states of the fitted network (nodes with a heat capacity).
+    label : str
+        Name of the scenario (or candidate) fitted.
     """
 
     estimates: pd.DataFrame
@@ -109,7 +136,29 @@ class FitResult:
     wall_time: float = 0.0
     gaps: pd.DataFrame | None = None
     time_constants: np.ndarray | None = None
+    noise: str = "measurement"
+    log_likelihood: float = float("nan")
+    n_parameters: int = 0
+    aic: float = float("nan")
+    bic: float = float("nan")
+    whiteness: pd.DataFrame | None = None
+    holdout: object = None
+    holdout_rmse: float = float("nan")
+    holdout_rmse_by_column: pd.Series | None = None
+    holdout_residuals: pd.DataFrame | None = None
+    simulation_rmse: float = float("nan")
+    noise_estimates: pd.DataFrame | None = None
+    n_states: int = 0
+    label: str = ""
     _categories: list = field(default_factory=list, repr=False)
+
+    @property
+    def whiteness_p(self) -> float:
+        """The smallest Ljung-Box p-value over the measured columns (NaN without a test)."""
+        if self.whiteness is None or not len(self.whiteness):
+            return float("nan")
+        return float(np.nanmin(self.whiteness["p_value"].to_numpy(dtype=float))) \
+            if np.isfinite(self.whiteness["p_value"].to_numpy(dtype=float)).any() else float("nan")
 
     @property
     def time(self) -> np.ndarray:
@@ -134,6 +183,9 @@ class FitResult:
         standard errors and intervals, the warnings."""
         lines = [f"{HEADER_FIRST}{self.log_name} by rcsim fit: {self.n_points} measured values, "
                  f"RMSE {self.rmse:.4g} K.", "# estimate +- standard error (95 % interval):"]
+        if self.noise == "process":
+            lines.insert(1, "# with process noise (Kalman filter); the RMSE is that of the "
+                            "one-step-ahead predictions")
         for k, row in self.estimates.iterrows():
             u = _display_unit(self.units.get(k, ""))
             lines.append(f"#   {k} = {row['value']:.6g} +- {row['std_error']:.3g} "
@@ -231,8 +283,12 @@ def _with_header(header: str, body: str) -> str:
     return header.replace("\n", newline) + newline + newline + body
 
 
-def _display_unit(kind: str) -> str:
+def display_unit(kind: str) -> str:
+    """The unit a value of quantity ``kind`` is shown in (empty without a kind)."""
     return si_unit(kind, display=True) if kind else ""
+
+
+_display_unit = display_unit
 
 
 def _relocate_csv_paths(data, old_dir, new_dir):
@@ -256,6 +312,11 @@ def _relocate_csv_paths(data, old_dir, new_dir):
     if os.path.abspath(old_dir) != os.path.abspath(new_dir):
         walk(data)
     return data
+
+
+def write_text_atomic(path, text: str) -> str:
+    """Write ``text`` to ``path`` under a temporary name, renamed when complete."""
+    return _write_text_atomic(path, text)
 
 
 def _write_text_atomic(path, text: str) -> str:

@@ -132,23 +132,30 @@ def estimate_warnings(params: ParameterSet, est: pd.DataFrame, unc: Uncertainty)
     """Estimates the data do not identify, identify poorly, or push against a bound."""
     out = []
     for p, se, (k, row) in zip(params, unc.std_errors, est.iterrows()):
-        v = row["value"]
-        if not np.isfinite(se) or (p.log and not (row["ci_low"] > 0
-                                                  and np.isfinite(row["ci_high"]))):
-            out.append(f"{k} is not identifiable from the data (the fit does not depend on it "
-                       "in a way it can separate from the other values)")
-        elif p.log and row["ci_high"] / row["ci_low"] > WIDE_FACTOR:
-            out.append(f"{k} is poorly identified: its 95 % interval {row['ci_low']:.4g} .. "
-                       f"{row['ci_high']:.4g} spans a factor {row['ci_high'] / row['ci_low']:.3g}")
-        elif not p.log and (row["ci_high"] - row["ci_low"]) / 2 > (
-                WIDE_KELVIN if p.kind.startswith("temperature") else 0.5 * abs(v)):
-            out.append(f"{k} is poorly identified: its 95 % interval is {row['ci_low']:.4g} .. "
-                       f"{row['ci_high']:.4g}")
-        at_lo = np.isfinite(p.lo) and v <= p.lo * (1 + 1e-6) + 1e-12
-        at_hi = np.isfinite(p.hi) and v >= p.hi * (1 - 1e-6) - 1e-12
-        if at_lo or at_hi:
-            out.append(f"{k} ended at its {'lower' if at_lo else 'upper'} bound ({v:.6g}); the "
-                       "data want it beyond, and its interval is not reliable")
+        with np.errstate(over="ignore", divide="ignore"):
+            out.extend(_estimate_warnings(p, se, k, row))
+    return out
+
+
+def _estimate_warnings(p, se, k, row) -> list[str]:
+    """The warnings of one estimate (see :func:`estimate_warnings`)."""
+    out = []
+    v = row["value"]
+    if not np.isfinite(se) or (p.log and not (row["ci_low"] > 0 and np.isfinite(row["ci_high"]))):
+        out.append(f"{k} is not identifiable from the data (the fit does not depend on it "
+                   "in a way it can separate from the other values)")
+    elif p.log and row["ci_high"] / row["ci_low"] > WIDE_FACTOR:
+        out.append(f"{k} is poorly identified: its 95 % interval {row['ci_low']:.4g} .. "
+                   f"{row['ci_high']:.4g} spans a factor {row['ci_high'] / row['ci_low']:.3g}")
+    elif not p.log and (row["ci_high"] - row["ci_low"]) / 2 > (
+            WIDE_KELVIN if p.kind.startswith("temperature") else 0.5 * abs(v)):
+        out.append(f"{k} is poorly identified: its 95 % interval is {row['ci_low']:.4g} .. "
+                   f"{row['ci_high']:.4g}")
+    at_lo = np.isfinite(p.lo) and v <= p.lo * (1 + 1e-6) + 1e-12
+    at_hi = np.isfinite(p.hi) and v >= p.hi * (1 - 1e-6) - 1e-12
+    if at_lo or at_hi:
+        out.append(f"{k} ended at its {'lower' if at_lo else 'upper'} bound ({v:.6g}); the "
+                   "data want it beyond, and its interval is not reliable")
     return out
 
 

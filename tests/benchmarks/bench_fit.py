@@ -9,6 +9,13 @@
 2. Newton cooling toward a constant ambient (closed form): rcsim.fit of the resistance, ambient
    and start against scipy's curve_fit on the closed-form exponential (the floor: no model run
    at all). Both must agree.
+3. The Kalman filter of a one-node record (issue 20): rcsim's filter (covariances jumped over
+   once settled, state estimates by one recurrence) against the textbook scalar recursion in
+   plain Python floats, on the same rows; both give the same log-likelihood.
+4. A fit with process noise (Kalman filter, maximum likelihood) against the deterministic fit
+   of the same record.
+5. Identification: one model run of a two-node structure by the direct linear model against
+   the engine's exact path (the same numbers), and a whole forward selection.
 
 Run:  python tests/benchmarks/bench_fit.py [--quick]
 Ratios are measured in one run on the same machine; absolute times are only indicative.
@@ -129,5 +136,85 @@ def main():
     print(f"   largest relative difference of the estimates: {d:.1e}")
 
 
+def scalar_filter(r, t, a, sigma2, s2, P0):
+    """The textbook scalar filter in floats (the baseline of part 3)."""
+    import math
+
+    x, P, loglik = 0.0, P0, 0.0
+    for k in range(len(r)):
+        S = P + s2
+        e = r[k] - x
+        gain = P / S
+        loglik += -0.5 * (math.log(2 * math.pi * S) + e * e / S)
+        x, P = x + gain * e, (1 - gain) * P
+        if k < len(r) - 1:
+            phi = math.exp(a * (t[k + 1] - t[k]))
+            x, P = phi * x, phi * P * phi + sigma2 * (1 - phi * phi) / (-2 * a)
+    return loglik
+
+
+def kalman_parts(days: float) -> None:
+    from rcsim.fitting.kalman import kalman_filter
+
+    t = np.arange(0.0, days * 86400.0 + 1.0, 60.0)
+    r = np.random.default_rng(3).normal(0.0, 0.3, t.size)
+    a, sigma2, s2 = -1.0 / 3000.0, 1e-4, 0.01
+    args = (r[:, None], np.ones((t.size, 1), bool), t, np.array([[a]]), np.array([[1.0]]),
+            np.array([sigma2]), np.array([s2]), np.array([[0.05]]))
+    t_k, out = best_of(5, lambda: kalman_filter(*args))
+    t_s, ll = best_of(2, lambda: scalar_filter(r, t, a, sigma2, s2, 0.05))
+    print(f"3. Kalman filter, one node, {t.size} rows: rcsim {t_k * 1e3:.2f} ms, scalar loop "
+          f"{t_s * 1e3:.1f} ms, ratio {t_s / t_k:.1f}x; log-likelihoods differ by "
+          f"{abs(out.log_likelihood - ll):.1e}")
+
+
+def process_noise_part(days: float) -> None:
+    sc, log = heated_block_log(days)
+    t_d, det = best_of(1, lambda: rcsim.fit(sc, log, FREE, starts=1), warmup=False)
+    t_p, sto = best_of(1, lambda: rcsim.fit(sc, log, FREE, starts=1, noise="process"),
+                       warmup=False)
+    print(f"4. heated block, {len(log)} rows: deterministic fit {t_d:.2f} s, with process noise "
+          f"{t_p:.2f} s ({t_p / t_d:.1f}x); capacity {det.estimates.iloc[0]['value']:.1f} and "
+          f"{sto.estimates.iloc[0]['value']:.1f} J/K")
+
+
+def identification_part() -> None:
+    import sys
+    import os
+
+    sys.path.insert(0, os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+    from test_identify import truth_log  # the synthetic two-node room of the tests
+
+    from rcsim.fitting.candidates import FitSpec
+    from rcsim.fitting.procedure import read_for
+    from rcsim.fitting.linear import LinearModel
+    from rcsim.fitting.model import Model
+    from rcsim.fitting.parameters import make_parameters
+
+    log = truth_log(2, seed=0)
+    res = rcsim.identify(log, measured="indoor", drivers=["heater [W]"], ambient="outdoor",
+                         max_nodes=3)
+    sc = res.selected
+    lg = read_for(sc, log, FitSpec(columns=res.columns))
+    params = make_parameters(sc, res.free, None, lg)
+    fast, engine = LinearModel(sc, lg, params), Model(sc, lg, params, "auto")
+    values = list(res.fit.estimates["value"] * 1.01)  # a value set neither has cached
+    t_f, _ = best_of(20, lambda: fast.outputs(values))
+    bumps = iter(range(1, 1000))
+    t_e, _ = best_of(5, lambda: engine.outputs([v * (1 + 1e-6 * next(bumps)) for v in values]),
+                     warmup=False)
+    diff = np.abs(fast.outputs(values) - engine.outputs(values)).max()
+    t_i, _ = best_of(1, lambda: rcsim.identify(log, measured="indoor", drivers=["heater [W]"],
+                                               ambient="outdoor", max_nodes=3), warmup=False)
+    print(f"5. two-node room, {len(log)} rows: one model run with new capacities, direct model "
+          f"{t_f * 1e3:.2f} ms, engine (rebuild and decomposition) {t_e * 1e3:.2f} ms, ratio "
+          f"{t_e / t_f:.1f}x (largest difference {diff:.0e} K);"
+          f" identify ({len(res.steps)} structures) {t_i:.2f} s")
+
+
 if __name__ == "__main__":
     main()
+    quick = "--quick" in __import__("sys").argv
+    kalman_parts(1.0 if quick else 3.0)
+    process_noise_part(0.5 if quick else 1.0)
+    identification_part()

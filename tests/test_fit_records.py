@@ -1,0 +1,156 @@
+"""Several records at once: values shared across logs and values per log; log columns that drive
+a source's power.
+
+Logs are made with scipy.signal.lsim on an invented heated block (one node), each record with
+its own starting temperature and its own heater schedule.
+"""
+
+import warnings
+
+import numpy as np
+import pandas as pd
+import pytest
+import scipy.signal as sig
+
+import rcsim
+from rcsim.errors import InputError
+from rcsim.fitting import FitWarning, JointFit
+
+C_TRUE, R_TRUE = 1794.0, 1.5
+BLOCK = """
+[nodes.block]
+capacity = "1.2 kJ/K"
+initial = "10 degC"
+[boundaries.room]
+temperature = "20 degC"
+[links.skin]
+between = ["block", "room"]
+resistance = "1 K/W"
+[sources.heater]
+node = "block"
+power = "0 W"
+"""
+SHARED = ["nodes.block.capacity", "links.skin.resistance"]
+
+
+def record(T0, on, off, seed, noise=0.05, dt=120.0, span=8 * 3600.0):
+    """A heating test: heater 10 W from ``on`` to ``off`` [h] (a log column 'heater [W]' that
+    drives the source), room logged, the block by lsim (inputs linear between samples)."""
+    t = np.arange(0.0, span + 1, dt)
+    P = np.where((t >= on * 3600) & (t < off * 3600), 10.0, 0.0)
+    room = 20.0 + 1.5 * np.sin(2 * np.pi * t / 30000.0 + seed)
+    tau = R_TRUE * C_TRUE
+    system = sig.StateSpace([[-1 / tau]], [[1 / tau, 1 / C_TRUE]], [[1.0]], [[0.0, 0.0]])
+    _, y, _ = sig.lsim(system, np.column_stack([room, P]), t, X0=[T0])
+    rng = np.random.default_rng(seed)
+    return pd.DataFrame({"time": t, "block": y + rng.normal(0, noise, t.size), "room": room,
+                         "heater [W]": P})
+
+
+def quiet_fit(*args, **kwargs):
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", FitWarning)
+        return rcsim.fit(*args, **kwargs)
+
+
+def test_a_log_column_drives_a_source():
+    # the heater column (in W, named after the source with --map) drives the source's power:
+    # the fit recovers the values that made the log
+    res = quiet_fit(rcsim.loads(BLOCK), record(6.0, 2, 5, seed=1), SHARED + ["nodes.block.initial"],
+                    columns={"heater [W]": "heater"})
+    for key, truth in (("nodes.block.capacity", C_TRUE), ("links.skin.resistance", R_TRUE),
+                       ("nodes.block.initial", 6.0)):
+        row = res.estimates.loc[key]
+        assert row["ci_low"] <= truth <= row["ci_high"], key
+
+
+def test_a_power_column_in_kilowatts_is_converted():
+    log = record(6.0, 2, 5, seed=1)
+    log["heater [kW]"] = log.pop("heater [W]") / 1000.0
+    res = quiet_fit(rcsim.loads(BLOCK), log, SHARED + ["nodes.block.initial"],
+                    columns={"heater [kW]": "heater"})
+    assert res.estimates.loc["nodes.block.capacity", "value"] == pytest.approx(C_TRUE, rel=0.02)
+
+
+def test_a_source_driven_by_the_log_cannot_be_freed():
+    with pytest.raises(InputError, match="follows log column"):
+        rcsim.fit(rcsim.loads(BLOCK), record(6.0, 2, 5, seed=1), ["sources.heater.power"],
+                  columns={"heater [W]": "heater"})
+
+
+def test_shared_and_per_record_values_of_three_logs():
+    logs = [record(6.0, 2, 5, seed=1), record(14.0, 1, 3, seed=2), record(25.0, 4, 7, seed=3)]
+    res = quiet_fit(rcsim.loads(BLOCK), logs, SHARED, per_record=["nodes.block.initial"],
+                    columns={"heater [W]": "heater"})
+    assert isinstance(res, JointFit)
+    assert list(res.estimates.index) == SHARED + [
+        f"nodes.block.initial@record {i}" for i in (1, 2, 3)]
+    truth = {"nodes.block.capacity": C_TRUE, "links.skin.resistance": R_TRUE,
+             "nodes.block.initial@record 1": 6.0, "nodes.block.initial@record 2": 14.0,
+             "nodes.block.initial@record 3": 25.0}
+    for key, value in truth.items():
+        row = res.estimates.loc[key]
+        assert row["ci_low"] <= value <= row["ci_high"], key
+    # each record has its own result: its residuals, and its scenario with its starting state
+    assert set(res.records) == {"record 1", "record 2", "record 3"}
+    rec2 = res.records["record 2"]
+    assert rec2.estimates.loc["nodes.block.initial", "value"] == \
+        res.estimates.loc["nodes.block.initial@record 2", "value"]
+    assert res.scenario_for("record 2").si_value("nodes.block.initial") == pytest.approx(
+        res.estimates.loc["nodes.block.initial@record 2", "value"], rel=1e-9)
+    assert res.residuals.index.names == ["record", "time [s]"]
+    assert len(res.residuals) == sum(len(log) for log in logs)
+    # the joint log-likelihood is the records' sum; k = 5 values + 3 variances
+    assert res.log_likelihood == pytest.approx(sum(r.log_likelihood for r in
+                                                   res.records.values()))
+    assert res.n_parameters == 8
+
+
+def test_a_shared_value_is_surer_with_more_records():
+    # three records hold about three times the information of one: the standard error of the
+    # shared capacity shrinks by about sqrt(3) (0.58); allow 0.4 .. 0.8
+    logs = [record(6.0, 2, 5, seed=1), record(14.0, 1, 3, seed=2), record(25.0, 4, 7, seed=3)]
+    one = quiet_fit(rcsim.loads(BLOCK), logs[0], SHARED + ["nodes.block.initial"],
+                    columns={"heater [W]": "heater"})
+    joint = quiet_fit(rcsim.loads(BLOCK), logs, SHARED, per_record=["nodes.block.initial"],
+                      columns={"heater [W]": "heater"})
+    ratio = joint.estimates.loc["nodes.block.capacity", "std_error"] / \
+        one.estimates.loc["nodes.block.capacity", "std_error"]
+    assert 0.4 < ratio < 0.8
+
+
+def test_records_written_out(tmp_path):
+    logs = [record(6.0, 2, 5, seed=1), record(14.0, 1, 3, seed=2)]
+    for i, log in enumerate(logs):
+        log.to_csv(tmp_path / f"day{i + 1}.csv", index=False)
+    res = quiet_fit(rcsim.loads(BLOCK), [str(tmp_path / "day1.csv"), str(tmp_path / "day2.csv")],
+                    SHARED, per_record=["nodes.block.initial"], columns={"heater [W]": "heater"})
+    assert set(res.records) == {"day1.csv", "day2.csv"}
+    table = pd.read_csv(res.to_csv(tmp_path / "estimates.csv"), index_col="key")
+    assert table.loc["nodes.block.initial@day2.csv", "unit"] == "degC"
+    back = rcsim.load(res.write_scenario(tmp_path / "day2.toml", record="day2.csv"))
+    assert back.si_value("nodes.block.initial") == pytest.approx(
+        res.estimates.loc["nodes.block.initial@day2.csv", "value"], rel=1e-9)
+
+
+def test_records_with_process_noise():
+    logs = [record(6.0, 2, 5, seed=1, dt=240.0, span=6 * 3600.0),
+            record(14.0, 1, 3, seed=2, dt=240.0, span=6 * 3600.0)]
+    res = quiet_fit(rcsim.loads(BLOCK), logs, SHARED, per_record=["nodes.block.initial"],
+                    columns={"heater [W]": "heater"}, noise="process", starts=1)
+    assert res.noise == "process"
+    assert {"process.block", "measurement.block"} <= set(res.noise_estimates.index)
+    row = res.estimates.loc["nodes.block.capacity"]
+    assert row["ci_low"] <= C_TRUE <= row["ci_high"]
+
+
+@pytest.mark.parametrize("data, kwargs, expected", [
+    ([], {}, "no log to fit"),
+    (None, {"per_record": ["links.skin.resistance"]}, "both as shared"),
+    ("one", {"per_record": ["nodes.block.initial"]}, "need several logs"),
+])
+def test_bad_record_options(data, kwargs, expected):
+    logs = [record(6.0, 2, 5, seed=1), record(14.0, 1, 3, seed=2)]
+    data = logs if data is None else (logs[0] if data == "one" else data)
+    with pytest.raises(InputError, match=expected):
+        rcsim.fit(rcsim.loads(BLOCK), data, SHARED, columns={"heater [W]": "heater"}, **kwargs)

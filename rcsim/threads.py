@@ -95,6 +95,7 @@ def current():
 
 def _get_controller():
     if not _controller:
+        import scipy.linalg  # noqa: F401  (scipy's BLAS loaded before the libraries are listed)
         from threadpoolctl import ThreadpoolController
 
         _controller.append(ThreadpoolController())

@@ -163,7 +163,7 @@ def identify(log, measured, drivers=(), ambient=None, *, time=None, time_unit=No
         A column that is not in the log, an ambient that is neither a temperature, a column nor
         'free', nothing for the body to exchange heat with, a bad option.
     """
-    from .threads import one_blas_thread
+    from ..threads import kernels
 
     wall0 = _time.perf_counter()
     _check_options(noise, significance, max_nodes, starts)
@@ -171,7 +171,7 @@ def identify(log, measured, drivers=(), ambient=None, *, time=None, time_unit=No
     for m in moves:
         if m not in MOVES:
             raise InputError(f"unknown extension {m!r}", "moves", suggest(m, list(MOVES)))
-    with one_blas_thread():  # many small matrices: threads only cost
+    with kernels():  # many small matrices: threads only cost
         result = _identify(log, measured, drivers, ambient, dict(
             time=time, time_unit=time_unit, max_gap=max_gap), holdout, noise, significance,
             max_nodes, capacity, sigma, starts, lags, moves)

@@ -262,10 +262,10 @@ def kalman_filter(r: np.ndarray, observed: np.ndarray, t: np.ndarray, A: np.ndar
     P0 : (n, n) ndarray, optional
         Covariance of the first prior (default: stationary, see the module's docstring).
     """
-    from .threads import one_blas_thread
+    from ..threads import kernels
 
     # many small matrices: BLAS threads only cost (and much more on a busy machine)
-    with one_blas_thread():
+    with kernels():
         return _filter(r, observed, t, A, H, process, measurement, P0)
 
 

@@ -13,7 +13,7 @@ from .parameters import ParameterSet
 from .record import Record
 from .stochastic import PENALTY, StochasticProblem, noise_start
 from .stochastic_result import stochastic_results
-from .threads import one_blas_thread
+from ..threads import kernels
 
 __all__ = ["fit_stochastic", "single_record"]
 
@@ -32,7 +32,7 @@ def fit_stochastic(records: list, params: ParameterSet, x_phys, notes: Notes, *,
     intervals); the result's ``_refine()`` computes them later (for the one structure of many
     that is kept).
     """
-    with one_blas_thread():  # small matrices: threads only cost
+    with kernels():  # small matrices: threads only cost
         return _fit_stochastic(records, params, x_phys, notes, sigma, starts, lags, iterations,
                                final)
 
@@ -63,7 +63,7 @@ def _fit_stochastic(records, params, x_phys, notes, sigma, starts, lags, iterati
                                 uncertainty=False)
 
     def refine():
-        with one_blas_thread():
+        with kernels():
             return stochastic_results(problem, x, best.search_bounds, kept, lags=lags)
 
     result._refine = refine

@@ -31,7 +31,7 @@ from .transient.registry import check_solver
 from .units import to_si
 
 __all__ = ["Scenario", "Settings", "load", "loads", "parse_key_path", "format_key_path",
-           "profile_from_spec"]
+           "profile_from_spec", "in_file"]
 
 _TOP = {"title", "description", "simulation", "nodes", "boundaries", "links", "sources", "limits",
         "thermostats", "radiation", "enclosures", "site", "weather", "surfaces"}
@@ -96,14 +96,23 @@ class Scenario:
             missing = "duration" if duration is None else "step"
             raise ScenarioError(f"missing key {missing!r}", f"{self.name}: simulation",
                                 "add e.g. duration = '72 h' and step = '5 min'")
-        result = self.network.simulate(
-            duration, step,
-            initial=st.initial if initial is None else initial,
-            solver=st.solver if solver is None else solver,
-            record=st.record if record is None else record,
-            output=output, rtol=st.rtol, atol=st.atol, progress=progress,
-            start_time=st.start, scenario_text=self.text)
-        return result
+        try:
+            return self.network.simulate(
+                duration, step,
+                initial=st.initial if initial is None else initial,
+                solver=st.solver if solver is None else solver,
+                record=st.record if record is None else record,
+                output=output, rtol=st.rtol, atol=st.atol, progress=progress,
+                start_time=st.start, scenario_text=self.text)
+        except InputError as err:
+            raise in_file(err, self.name) from None
+
+    def steady(self, at: float = 0.0):
+        """The network's steady state (:meth:`rcsim.Network.steady`); errors name the file."""
+        try:
+            return self.network.steady(at=at)
+        except InputError as err:
+            raise in_file(err, self.name) from None
 
     def with_values(self, values: dict[str, Any]) -> "Scenario":
         """A new scenario with the values at the given key paths replaced.
@@ -281,9 +290,14 @@ def build(data: dict, text: str, path: str | None, base_dir: str,
     try:
         return _build(data, text, path, base_dir, allow_absolute_paths, name)
     except InputError as err:
-        if err.where and err.where.startswith(name + ":"):
-            raise
-        raise err.at(name) from None
+        raise in_file(err, name) from None
+
+
+def in_file(err: InputError, name: str) -> InputError:
+    """``err`` with the scenario file's ``name`` in front of its place (unless already there)."""
+    if err.where and (err.where == name or err.where.startswith(name + ":")):
+        return err
+    return err.at(name)
 
 
 def _table(value, where, allow_empty=True) -> dict:

@@ -100,3 +100,23 @@ def test_every_readme_command_runs(index, tmp_path, monkeypatch, cli):
     if not ran:
         pytest.skip("only install/test commands in this block: " + ", ".join(
             SKIPPED[c[0]] for c in BLOCKS[index]))
+
+
+def test_every_dependency_is_in_the_readme_table():
+    # every runtime, optional and test dependency of pyproject.toml has a row in "Dependencies
+    # and why" saying what it is there for (the project's rule: say in README why a dependency is)
+    import tomllib
+
+    with open(os.path.join(ROOT, "pyproject.toml"), "rb") as fh:
+        project = tomllib.load(fh)["project"]
+    specs = list(project["dependencies"])
+    for extra in project.get("optional-dependencies", {}).values():
+        specs += extra
+    wanted = {re.split(r"[\[<>=!~; ]", spec, maxsplit=1)[0].lower() for spec in specs}
+    with open(README, encoding="utf-8") as fh:
+        text = fh.read()
+    section = text.split("## Dependencies and why", 1)[1].split("\n## ", 1)[0]
+    listed = set()
+    for row in re.findall(r"^\| ([^|]+) \|", section, re.M):
+        listed |= {w.lower() for w in re.findall(r"[A-Za-z][A-Za-z0-9_.-]*", row)}
+    assert wanted - listed == set(), f"no row in README's 'Dependencies and why' for {wanted - listed}"

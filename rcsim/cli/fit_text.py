@@ -143,7 +143,7 @@ def _fit_header(sc, res) -> list[str]:
             f"({cols}){'; measured inputs: ' + inputs if inputs else ''}{noise}",
             f"  {len(res.estimates)} free value(s), {len(res.starts)} start(s), "
             f"{res.n_evaluations} model runs ({res.solver} path, {res.n_decompositions} "
-            f"decompositions), {res.wall_time:.3g} s",
+            f"decompositions)" + (f", {res.wall_time:.3g} s" if res.wall_time > 0 else ""),
             ""]
 
 
@@ -183,14 +183,16 @@ def _number(x, digits: int = 6) -> str:
     return f"{x:.{digits}g}"
 
 
-def _table(rows: list[list[str]], header: list[str]) -> list[str]:
+def _table(rows: list[list[str]], header: list[str], left: int = 0) -> list[str]:
+    """Rows under a header, column ``left`` (a name) and the last (a mark) left-aligned."""
     widths = [max(len(r[i]) for r in rows + [header]) for i in range(len(header))]
-    out = ["  " + "  ".join(h.ljust(w) if i == 0 else h.rjust(w)
-                            for i, (h, w) in enumerate(zip(header, widths)))]
-    for r in rows:
-        out.append("  " + "  ".join(c.ljust(w) if i == 0 else c.rjust(w)
-                                    for i, (c, w) in enumerate(zip(r, widths))))
-    return out
+    last = len(header) - 1
+
+    def line(cells):
+        return ("  " + "  ".join(c.ljust(w) if i in (left, last) else c.rjust(w)
+                                 for i, (c, w) in enumerate(zip(cells, widths)))).rstrip()
+
+    return [line(header)] + [line(r) for r in rows]
 
 
 def format_comparison(cmp) -> str:
@@ -228,8 +230,9 @@ def format_steps(ident) -> str:
              _p(float(r["whiteness_p"])),
              "selected" if r["selected"] else "kept" if r["accepted"] else ""]
             for _, r in s.iterrows()]
-    lines = ident.path.splitlines()[:1] + ["structures tried:"]
-    lines += _table(rows, header)
+    lines = ident.path.splitlines()[:1] + [f"{len(s)} structures fitted in "
+                                           f"{ident.wall_time:.3g} s:"]
+    lines += _table(rows, header, left=1)
     lines += ident.path.splitlines()[1:]
     lines += [f"  note: {n}" for n in ident.notes]
     return "\n".join(lines)

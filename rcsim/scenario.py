@@ -31,10 +31,13 @@ from .transient.registry import check_solver
 from .units import to_si
 
 __all__ = ["Scenario", "Settings", "load", "loads", "parse_key_path", "format_key_path",
-           "profile_from_spec"]
+           "profile_from_spec", "FIT_KEYS"]
 
 _TOP = {"title", "description", "simulation", "nodes", "boundaries", "links", "sources", "limits",
-        "thermostats", "radiation", "enclosures", "site", "weather", "surfaces"}
+        "thermostats", "radiation", "enclosures", "site", "weather", "surfaces", "fit"}
+#: keys of the ``[fit]`` section: how ``rcsim fit`` fits this scenario (its free keys, bounds,
+#: ...); read and checked in full by :mod:`rcsim.fitting.candidates`, its keys checked here
+FIT_KEYS = {"free", "bounds", "per_record", "columns", "ignore", "sigma", "noise", "label"}
 _SIM = {"duration", "step", "initial", "solver", "record", "start", "rtol", "atol"}
 _NODE = {"capacity", "initial", "mass", "specific_heat", "material", "volume", "density",
          "phase_change"}
@@ -294,6 +297,8 @@ def _table(value, where, allow_empty=True) -> dict:
 
 def _build(data, text, path, base_dir, allow_abs, name) -> Scenario:
     check_keys(data, _TOP, [], "")
+    if "fit" in data:           # used by fits only; its values are checked by the fitting
+        check_keys(data["fit"], FIT_KEYS, [], "fit")
     title = data.get("title", "")
     if not isinstance(title, str):
         raise ScenarioError("title must be a string", "title")

@@ -9,6 +9,7 @@ stays bounded on long runs).
 
 from __future__ import annotations
 
+import unicodedata
 from dataclasses import dataclass, field
 from typing import NamedTuple
 
@@ -193,7 +194,7 @@ def plan_recording(asm, record=None, limits=(), thermostat_names=(),
         if isinstance(record, str):
             record = [record]
         rec_idx = []
-        for r in record:
+        for r in (unicodedata.normalize("NFC", r) if isinstance(r, str) else r for r in record):
             if r not in names:
                 raise InputError(f"unknown node {r!r}", "record", suggest(r, names))
             rec_idx.append(names.index(r))

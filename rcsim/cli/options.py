@@ -6,6 +6,7 @@ before a long run rather than after it.
 
 from __future__ import annotations
 
+import unicodedata
 
 import click
 
@@ -61,5 +62,6 @@ def names(values) -> list[str] | None:
     >>> names(("a,b", " c ")), names(())
     (['a', 'b', 'c'], None)
     """
-    out = [n.strip() for v in values for n in v.split(",") if n.strip()]
+    out = [unicodedata.normalize("NFC", n.strip()) for v in values for n in v.split(",")
+           if n.strip()]   # names are kept in Unicode normal form C (README "Names")
     return out or None

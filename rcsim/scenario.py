@@ -201,12 +201,14 @@ _KIND_BY_KEY = {
     "inner_diameter": "length", "outer_diameter": "length",
     "absorptance": "dimensionless", "sky_view": "dimensionless", "albedo": "dimensionless",
     "tilt": "dimensionless", "azimuth": "dimensionless", "latitude": "dimensionless",
-    "longitude": "dimensionless", "elevation": "length",
+    "longitude": "dimensionless", "elevation": "length", "melting": "temperature",
+    "freezes_at": "temperature",
 }
 
 #: list-valued keys whose entries are quantities (``...box.inside[0]``, ``...areas[1]``)
 _KIND_OF_ENTRIES = {"inside": "length", "outside": "length", "areas": "area",
-                    "emissivities": "dimensionless", "temperatures": "temperature"}
+                    "emissivities": "dimensionless", "temperatures": "temperature",
+                    "melting": "temperature"}
 
 
 def quantity_kind(tokens: list) -> str | None:

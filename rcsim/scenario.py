@@ -16,6 +16,7 @@ import math
 import os
 import re
 import tomllib
+import unicodedata
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -281,6 +282,7 @@ def loads(text: str, name: str = "<scenario>", base_dir: str = ".", path: str | 
     """Read a scenario from a string."""
     if not text.strip():
         raise ScenarioError("is empty", name, "a scenario needs at least [nodes] and [links]")
+    text = unicodedata.normalize("NFC", text)   # names in one Unicode form (README "Names")
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:

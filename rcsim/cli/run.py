@@ -60,9 +60,10 @@ def run(scenario, output, csv_path, xlsx_path, plots_dir, solver, record, allow_
             write_xlsx(res, xlsx_path, scenario=sc)
     written = [p for p in (output, csv_path, xlsx_path) if p]
     if plots_dir:
+        from ..atomic import make_folder
         from ..plotting import standard_figures
 
-        os.makedirs(plots_dir, exist_ok=True)
+        make_folder(plots_dir, "--plots")
         written += standard_figures(res, plots_dir, stem=os.path.splitext(sc.name)[0])
     if not quiet:
         click.echo(format_run_summary(sc, res, all_nodes=all_nodes))

@@ -41,7 +41,7 @@ _TOP = {"title", "description", "simulation", "nodes", "boundaries", "links", "s
 FIT_KEYS = {"free", "bounds", "per_record", "columns", "ignore", "sigma", "noise", "label"}
 _SIM = {"duration", "step", "initial", "solver", "record", "start", "rtol", "atol"}
 _NODE = {"capacity", "initial", "mass", "specific_heat", "material", "volume", "density",
-         "phase_change"}
+         "phase_change", "freezes_at"}
 _LINK = {"between", "resistance", "conductance", "parts", "area"}
 _MAX_BYTES = 20_000_000
 
@@ -328,6 +328,7 @@ def _build(data, text, path, base_dir, allow_abs, name) -> Scenario:
     settings = _settings(_table(data.get("simulation", {}), "simulation"))
     ctx.outdoors = read_outdoors(data, settings.start, base_dir, allow_abs)  # [site], [weather]
     net = Network(title or None)
+    net.source_name = name
 
     nodes = _table(data["nodes"], "nodes")
     for nm, spec in nodes.items():

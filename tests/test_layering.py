@@ -48,7 +48,7 @@ LAYERS = [
                "rcsim.summaries", "rcsim.varying", "rcsim.surfaces"]),
     ("steady state, modes, records", ["rcsim.nonlinear", "rcsim.steady", "rcsim.modes",
                                       "rcsim.recording", "rcsim.results",
-                                      "rcsim.h5files"]),
+                                      "rcsim.h5files", "rcsim.run_warnings"]),
     ("transient", ["rcsim.transient"]),
     ("scenario", ["rcsim.scenario", "rcsim.outdoors"]),
     ("applications", ["rcsim.fitting", "rcsim.sweep", "rcsim.plotting", "rcsim.sizing",

@@ -54,7 +54,7 @@ def test_the_picture_of_the_layers_is_the_layering_table():
         rest = rest.split("#")[0]
         # module names are lower-case words, folders end with '/'; floor names are words the
         # table does not hold or the name of a module of the same floor
-        drawn.setdefault(floor, set()).update(re.findall(r"(?<![\w.>-])([a-z_]+/?)(?![\w.(])", rest))
+        drawn.setdefault(floor, set()).update(re.findall(r"(?<![\w.>-])([a-z_][a-z0-9_]*/?)(?![\w.(])", rest))
     table = {}
     for k, (_, members) in enumerate(LAYERS, start=1):
         for m in members:

@@ -17,6 +17,7 @@ __all__ = [
     "NetworkError",
     "ProfileError",
     "DataError",
+    "OutputError",
     "SolverError",
     "Interrupted",
     "RcsimWarning",
@@ -80,6 +81,11 @@ class ProfileError(InputError):
 
 class DataError(InputError):
     """A data file (CSV log, table) is malformed."""
+
+
+class OutputError(DataError):
+    """An output file cannot be written: its folder is missing, is not a folder or is not
+    writable, or the disk filled up while writing (nothing is left under the name then)."""
 
 
 class SolverError(RcsimError, RuntimeError):

@@ -8,7 +8,8 @@ temperature follows from H through a piecewise-linear curve,
 * liquid, T > T_high:          H = m (c_s (T_high - T_low) + L) + m c_l (T - T_high)
 
 (H = 0 at the start of melting). A zero-width range (T_low = T_high) is allowed: the temperature
-then stays at the melting point while H crosses the latent band [0, m L].
+then stays at the melting point while H crosses the latent band [0, m L]. A single melting
+temperature T_m (as handbooks give it) melts over T_m +- 0.25 K (:data:`MELTING_HALF_WIDTH`).
 
 Not modelled: supercooling (a liquid that stays liquid below its freezing point), hysteresis
 between melting and freezing temperatures, the dependence of the melting range on the rate, and
@@ -25,10 +26,15 @@ import numpy as np
 from .errors import InputError
 from .units import to_si
 
-__all__ = ["PhaseChange", "make_phase_change", "PHASE_KEYS"]
+__all__ = ["PhaseChange", "make_phase_change", "PHASE_KEYS", "MELTING_HALF_WIDTH"]
 
 PHASE_KEYS = {"latent_heat", "melting", "specific_heat_solid", "specific_heat_liquid",
               "liquid_fraction", "material"}
+
+#: A single melting temperature T_m (``melting = "0 degC"``) melts over [T_m - 0.25 K,
+#: T_m + 0.25 K] [K]: narrow enough for a pure substance's plateau (0.5 K wide), wide enough that
+#: the temperature still follows the enthalpy smoothly (common practice for enthalpy methods).
+MELTING_HALF_WIDTH = 0.25
 
 
 @dataclass
@@ -116,7 +122,8 @@ class PhaseChange:
 def make_phase_change(spec, where: str, material=None) -> PhaseChange:
     """Build a :class:`PhaseChange` from a mapping (scenario or API) or return one unchanged.
 
-    Keys: ``latent_heat``, ``melting = [low, high]``, ``specific_heat_solid``,
+    Keys: ``latent_heat``, ``melting = [low, high]`` (or one melting temperature T_m, which melts
+    over T_m +- :data:`MELTING_HALF_WIDTH` = 0.25 K), ``specific_heat_solid``,
     ``specific_heat_liquid``, optional ``liquid_fraction`` (initial, for a node starting at a
     zero-width melting point) and ``material`` (a phase-change material of the table, whose values
     fill the keys not given). The node's own ``material`` is used the same way.
@@ -152,12 +159,7 @@ def make_phase_change(spec, where: str, material=None) -> PhaseChange:
     latent = to_si(values["latent_heat"], "specific_energy", f"{where}.latent_heat")
     if latent <= 0:
         raise InputError("latent_heat must be positive", f"{where}.latent_heat")
-    melt = values["melting"]
-    if not isinstance(melt, (list, tuple)) or len(melt) != 2:
-        raise InputError("melting must be a list of two temperatures [low, high]",
-                         f"{where}.melting")
-    lo = to_si(melt[0], "temperature", f"{where}.melting[0]")
-    hi = to_si(melt[1], "temperature", f"{where}.melting[1]")
+    lo, hi = _melting_range(values["melting"], f"{where}.melting")
     if lo > hi:
         raise InputError(f"melting range is inverted ({lo:g} degC above {hi:g} degC)",
                          f"{where}.melting", "give [low, high]")
@@ -175,3 +177,24 @@ def make_phase_change(spec, where: str, material=None) -> PhaseChange:
     if not all(math.isfinite(x) for x in (latent, lo, hi, cs, cl)):  # pragma: no cover
         raise InputError("phase-change values must be finite", where)
     return PhaseChange(latent, lo, hi, cs, cl, 1.0, frac)
+
+
+def _melting_range(melt, where: str) -> tuple[float, float]:
+    """(low, high) [degC] of ``melting``: a list [low, high], or one melting temperature T_m
+    taken as [T_m - 0.25 K, T_m + 0.25 K] (:data:`MELTING_HALF_WIDTH`)."""
+    if isinstance(melt, (list, tuple)):
+        if len(melt) != 2:
+            raise InputError(f"melting must be one temperature or a list of two temperatures "
+                             f"[low, high], got a list of {len(melt)}", where,
+                             'write e.g. melting = "0 degC" or melting = ["-0.5 degC", "0 degC"]')
+        lo = to_si(melt[0], "temperature", f"{where}[0]")
+        hi = to_si(melt[1], "temperature", f"{where}[1]")
+    elif isinstance(melt, (int, float, str)) and not isinstance(melt, bool):
+        mid = to_si(melt, "temperature", where)
+        lo, hi = mid - MELTING_HALF_WIDTH, mid + MELTING_HALF_WIDTH
+    else:
+        raise InputError("melting must be one temperature or a list of two temperatures "
+                         "[low, high]", where, 'write e.g. melting = "0 degC"')
+    if lo <= -273.15:
+        raise InputError(f"melting temperature {lo:g} degC is at or below absolute zero", where)
+    return lo, hi

@@ -16,11 +16,12 @@ import math
 import os
 import re
 import tomllib
+import unicodedata
 from dataclasses import dataclass, field
 from typing import Any
 
 from .base import suggest
-from .errors import InputError, ScenarioError
+from .errors import InputError, ProfileError, ScenarioError
 from .network import Network
 from .outdoors import add_surfaces, csv_reader, read_outdoors, weather_profile
 from .parts import check_keys
@@ -31,13 +32,16 @@ from .transient.registry import check_solver
 from .units import to_si
 
 __all__ = ["Scenario", "Settings", "load", "loads", "parse_key_path", "format_key_path",
-           "profile_from_spec"]
+           "profile_from_spec", "FIT_KEYS", "in_file"]
 
 _TOP = {"title", "description", "simulation", "nodes", "boundaries", "links", "sources", "limits",
-        "thermostats", "radiation", "enclosures", "site", "weather", "surfaces"}
+        "thermostats", "radiation", "enclosures", "site", "weather", "surfaces", "fit"}
+#: keys of the ``[fit]`` section: how ``rcsim fit`` fits this scenario (its free keys, bounds,
+#: ...); read and checked in full by :mod:`rcsim.fitting.candidates`, its keys checked here
+FIT_KEYS = {"free", "bounds", "per_record", "columns", "ignore", "sigma", "noise", "label"}
 _SIM = {"duration", "step", "initial", "solver", "record", "start", "rtol", "atol"}
 _NODE = {"capacity", "initial", "mass", "specific_heat", "material", "volume", "density",
-         "phase_change"}
+         "phase_change", "freezes_at"}
 _LINK = {"between", "resistance", "conductance", "parts", "area"}
 _MAX_BYTES = 20_000_000
 
@@ -96,14 +100,26 @@ class Scenario:
             missing = "duration" if duration is None else "step"
             raise ScenarioError(f"missing key {missing!r}", f"{self.name}: simulation",
                                 "add e.g. duration = '72 h' and step = '5 min'")
-        result = self.network.simulate(
-            duration, step,
-            initial=st.initial if initial is None else initial,
-            solver=st.solver if solver is None else solver,
-            record=st.record if record is None else record,
-            output=output, rtol=st.rtol, atol=st.atol, progress=progress,
-            start_time=st.start, scenario_text=self.text)
-        return result
+        try:
+            return self.network.simulate(
+                duration, step,
+                initial=st.initial if initial is None else initial,
+                solver=st.solver if solver is None else solver,
+                record=st.record if record is None else record,
+                output=output, rtol=st.rtol, atol=st.atol, progress=progress,
+                start_time=st.start, scenario_text=self.text)
+        except InputError as err:  # a run setting: name the file and the [simulation] key
+            if err.where in _SIM:
+                raise type(err)(err.message, f"{self.name}: simulation.{err.where}",
+                                err.hint) from None
+            raise in_file(err, self.name) from None
+
+    def steady(self, at: float = 0.0):
+        """The network's steady state (:meth:`rcsim.Network.steady`); errors name the file."""
+        try:
+            return self.network.steady(at=at)
+        except InputError as err:
+            raise in_file(err, self.name) from None
 
     def with_values(self, values: dict[str, Any]) -> "Scenario":
         """A new scenario with the values at the given key paths replaced.
@@ -200,12 +216,14 @@ _KIND_BY_KEY = {
     "inner_diameter": "length", "outer_diameter": "length",
     "absorptance": "dimensionless", "sky_view": "dimensionless", "albedo": "dimensionless",
     "tilt": "dimensionless", "azimuth": "dimensionless", "latitude": "dimensionless",
-    "longitude": "dimensionless", "elevation": "length",
+    "longitude": "dimensionless", "elevation": "length", "melting": "temperature",
+    "freezes_at": "temperature",
 }
 
 #: list-valued keys whose entries are quantities (``...box.inside[0]``, ``...areas[1]``)
 _KIND_OF_ENTRIES = {"inside": "length", "outside": "length", "areas": "area",
-                    "emissivities": "dimensionless", "temperatures": "temperature"}
+                    "emissivities": "dimensionless", "temperatures": "temperature",
+                    "melting": "temperature"}
 
 
 def quantity_kind(tokens: list) -> str | None:
@@ -264,6 +282,7 @@ def loads(text: str, name: str = "<scenario>", base_dir: str = ".", path: str | 
     """Read a scenario from a string."""
     if not text.strip():
         raise ScenarioError("is empty", name, "a scenario needs at least [nodes] and [links]")
+    text = unicodedata.normalize("NFC", text)   # names in one Unicode form (README "Names")
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
@@ -279,9 +298,14 @@ def build(data: dict, text: str, path: str | None, base_dir: str,
     try:
         return _build(data, text, path, base_dir, allow_absolute_paths, name)
     except InputError as err:
-        if err.where and err.where.startswith(name + ":"):
-            raise
-        raise err.at(name) from None
+        raise in_file(err, name) from None
+
+
+def in_file(err: InputError, name: str) -> InputError:
+    """``err`` with the scenario file's ``name`` in front of its place (unless already there)."""
+    if err.where and (err.where == name or err.where.startswith(name + ":")):
+        return err
+    return err.at(name)
 
 
 def _table(value, where, allow_empty=True) -> dict:
@@ -292,6 +316,8 @@ def _table(value, where, allow_empty=True) -> dict:
 
 def _build(data, text, path, base_dir, allow_abs, name) -> Scenario:
     check_keys(data, _TOP, [], "")
+    if "fit" in data:           # used by fits only; its values are checked by the fitting
+        check_keys(data["fit"], FIT_KEYS, [], "fit")
     title = data.get("title", "")
     if not isinstance(title, str):
         raise ScenarioError("title must be a string", "title")
@@ -302,6 +328,7 @@ def _build(data, text, path, base_dir, allow_abs, name) -> Scenario:
     settings = _settings(_table(data.get("simulation", {}), "simulation"))
     ctx.outdoors = read_outdoors(data, settings.start, base_dir, allow_abs)  # [site], [weather]
     net = Network(title or None)
+    net.source_name = name
 
     nodes = _table(data["nodes"], "nodes")
     for nm, spec in nodes.items():
@@ -432,6 +459,10 @@ def profile_from_spec(spec, where: str, ctx: _Context | None = None) -> Profile:
     ctx = ctx or _Context(".", False)
     if isinstance(spec, (int, float, str)) and not isinstance(spec, bool):
         return Constant(spec)
+    if isinstance(spec, dict) and len(spec) == 2 and "repeat" in spec:
+        kind = next(k for k in spec if k != "repeat")
+        raise ScenarioError(f"repeat goes inside the {kind} table, not beside it", where,
+                            f"write {{ {kind} = {{ ..., repeat = {spec['repeat']!r} }} }}")
     if not isinstance(spec, dict) or len(spec) != 1:
         raise ScenarioError("a profile is a value like \"30 degC\" or a table with one key: "
                             + ", ".join(_PROFILE_KEYS), where)
@@ -447,6 +478,16 @@ def profile_from_spec(spec, where: str, ctx: _Context | None = None) -> Profile:
         return Constant(body)
     allowed, required = _PROFILE_KEYS[kind]
     check_keys(body, allowed, required, w)
+    try:
+        prof = _profile_of_kind(kind, body, w, ctx)
+    except ProfileError as err:   # checked when built from plain numbers: name the key
+        raise (err.at(w) if err.where is None else err) from None
+    if "repeat" in body:
+        prof = Repeat(prof, body["repeat"])
+    return prof
+
+
+def _profile_of_kind(kind, body, w, ctx) -> Profile:
     if kind == "sine":
         prof: Profile = Sine(body["mean"], body["amplitude"], body["period"], body.get("peak"))
     elif kind == "steps":
@@ -477,11 +518,9 @@ def profile_from_spec(spec, where: str, ctx: _Context | None = None) -> Profile:
         read_csv = csv_reader(ctx.outdoors)   # Table.from_csv, or on the site's clock
         prof = read_csv(full, column, time=_opt_str(body, "time", w), start=ctx.start,
                               unit=_opt_str(body, "unit", w),
-                              time_unit=_opt_str(body, "time_unit", w) or "s",
+                              time_unit=_opt_str(body, "time_unit", w),
                               missing=missing, outside=_outside(body, w),
                               where=f"{w}.file ({file})")
-    if "repeat" in body:
-        prof = Repeat(prof, body["repeat"])
     return prof
 
 

@@ -3,6 +3,7 @@
 import os
 
 import pandas as pd
+import pytest
 
 import rcsim
 
@@ -105,3 +106,145 @@ def test_fit_sigma_option(cli):
     assert r.exit_code == 2 and "sigma is given for 'room', which is no measured column" in r.output
     r = cli("fit", BLOCK, LOG, *FREE, "--sigma", "-1 K")
     assert r.exit_code == 2 and "sigma must be positive" in r.output
+
+
+# -- candidates, several logs, held-out span, process noise (issue 20) ------------------------
+# Numbers checked against the Python API run in the same test on the same files; the API is
+# checked against synthetic truth in tests/test_fit_compare.py and tests/test_fit_records.py.
+def _quiet(fn, *args, **kwargs):
+    import warnings
+
+    from rcsim.fitting import FitWarning
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", FitWarning)
+        return fn(*args, **kwargs)
+
+
+def _one_node_log(path, initial, seed, n=240, dt=120.0):
+    """A log of one invented node (3 kJ/K behind 2 K/W, heated 20 W from 1 h to 4 h) by
+    scipy.signal.lsim: columns M (measured), room and heat (drive the model)."""
+    import numpy as np
+    import scipy.signal as sig
+
+    t = np.arange(n) * dt
+    room = 15 + 2 * np.sin(2 * np.pi * t / 86400)
+    heat = np.where((t >= 3600) & (t < 4 * 3600), 20.0, 0.0)
+    C, R = 3000.0, 2.0
+    _, y, _ = sig.lsim(sig.StateSpace([[-1 / (R * C)]], [[1 / C, 1 / (R * C)]], [[1.0]],
+                                      [[0.0, 0.0]]), np.column_stack([heat, room]), t,
+                       X0=[initial])
+    rng = np.random.default_rng(seed)
+    pd.DataFrame({"time": t, "M": y + rng.normal(0, 0.03, n), "room": room,
+                  "heat": heat}).to_csv(path, index=False)
+    return str(path)
+
+
+def _candidate_files(tmp_path):
+    from test_fit_compare import FREE_ONE, FREE_TWO, ONE, TWO
+
+    one, two = tmp_path / "one.toml", tmp_path / "two.toml"
+    one.write_text(f"[fit]\nfree = {FREE_ONE!r}\nlabel = 'one node'\n".replace("'", '"') + ONE,
+                   encoding="utf-8")
+    two.write_text(f"[fit]\nfree = {FREE_TWO!r}\nlabel = 'two nodes'\n".replace("'", '"') + TWO,
+                   encoding="utf-8")
+    return str(one), str(two)
+
+
+@pytest.mark.slow
+def test_candidates_compared_on_the_command_line(cli, tmp_path):
+    from test_fit_compare import two_node_log
+
+    log = tmp_path / "box.csv"
+    two_node_log().to_csv(log, index=False)
+    one, two = _candidate_files(tmp_path)
+    table, chosen, fig = tmp_path / "cmp.csv", tmp_path / "chosen.toml", tmp_path / "all.png"
+    r = cli("fit", one, log, "--candidate", two, "--holdout", "0.2", "--select", "lr",
+            "--starts", "1", "--comparison", table, "--write-scenario", chosen, "--plot", fig)
+    assert r.exit_code == 0, r.output
+    api = _quiet(rcsim.fit, [one, two], str(log), holdout=0.2, select="lr", starts=1)
+    written = pd.read_csv(table, index_col="candidate")
+    assert list(written.index) == ["one node", "two nodes"]
+    for col in ("log_likelihood", "aic", "bic", "rmse_holdout", "whiteness_p"):
+        pd.testing.assert_series_equal(written[col], api.table[col].astype(float),
+                                       check_names=False, rtol=1e-9)
+    # the log came from two nodes: the likelihood-ratio test keeps the second
+    assert api.selected == "two nodes" and written.loc["two nodes", "selected"]
+    lr = 2 * (written.loc["two nodes", "log_likelihood"] - written.loc["one node",
+                                                                       "log_likelihood"])
+    assert "selected 'two nodes' by likelihood-ratio tests" in r.output
+    assert f"LR {lr:.4g} on 3 df" in r.output
+    assert rcsim.load(chosen).si_value("nodes.E.capacity") == pytest.approx(
+        api.selected_fit.estimates.loc["nodes.E.capacity", "value"], rel=1e-9)
+    assert fig.read_bytes()[:4] == b"\x89PNG"
+
+
+@pytest.mark.slow
+def test_several_logs_with_values_per_record(cli, tmp_path):
+    from test_fit_compare import ONE
+
+    sc = tmp_path / "one.toml"
+    sc.write_text(ONE, encoding="utf-8")
+    a = _one_node_log(tmp_path / "a.csv", 22.0, seed=1)
+    b = _one_node_log(tmp_path / "b.csv", 9.0, seed=2)
+    est = tmp_path / "est.csv"
+    r = cli("fit", sc, "--log", a, "--log", b, "--free", "nodes.M.capacity", "--free",
+            "links.out.resistance", "--per-record", "nodes.M.initial", "--starts", "1",
+            "-o", est, "--plot", tmp_path / "fig.png")
+    assert r.exit_code == 0, r.output
+    api = _quiet(rcsim.fit, rcsim.load(sc), [a, b], ["nodes.M.capacity", "links.out.resistance"],
+                 per_record=["nodes.M.initial"], starts=1)
+    table = pd.read_csv(est, index_col="key")
+    assert list(table.index) == list(api.estimates.index)
+    pd.testing.assert_series_equal(table["value"], api.estimates["value"], rtol=1e-9,
+                                   check_names=False)
+    # each record's own starting temperature, near the one that made it
+    assert table.loc["nodes.M.initial@a.csv", "value"] == pytest.approx(22.0, abs=0.1)
+    assert table.loc["nodes.M.initial@b.csv", "value"] == pytest.approx(9.0, abs=0.1)
+    assert "one.toml fitted to 2 logs at once" in r.output
+    assert "a.csv: 240 values" in r.output and "b.csv: 240 values" in r.output
+    assert (tmp_path / "fig-a.csv.png").exists() and (tmp_path / "fig-b.csv.png").exists()
+
+
+@pytest.mark.slow
+def test_process_noise_holdout_and_lags(cli, tmp_path):
+    from test_fit_compare import ONE
+
+    sc = tmp_path / "one.toml"
+    sc.write_text(ONE, encoding="utf-8")
+    log = _one_node_log(tmp_path / "a.csv", 22.0, seed=1)
+    free = ["nodes.M.capacity", "links.out.resistance", "nodes.M.initial"]
+    est = tmp_path / "est.csv"
+    r = cli("fit", sc, log, *[a for k in free for a in ("--free", k)], "--noise", "process",
+            "--holdout", "6 h..", "--lags", "6", "--starts", "1", "-o", est)
+    assert r.exit_code == 0, r.output
+    api = _quiet(rcsim.fit, rcsim.load(sc), log, free, noise="process", holdout="6 h..",
+                 lags=6, starts=1)
+    table = pd.read_csv(est, index_col="key")
+    pd.testing.assert_series_equal(table["value"], api.estimates["value"], rtol=1e-9,
+                                   check_names=False)
+    assert "with process noise (Kalman filter)" in r.output
+    assert f"RMSE {api.holdout_rmse:.4g} K over" in r.output
+    q = api.whiteness.loc["M", "statistic"]
+    assert f"M Q {q:.4g} on 6 lags" in r.output
+    assert "measurement.M" in r.output
+
+
+def test_new_fit_options_refuse_bad_input(cli, tmp_path):
+    a = _one_node_log(tmp_path / "a.csv", 22.0, seed=1)
+    before = set(os.listdir(tmp_path))
+    cases = [
+        (["fit", BLOCK, *FREE], "no log to fit"),
+        (["fit", BLOCK, LOG, *FREE, "--comparison", tmp_path / "c.csv"],
+         "there is no comparison without candidates"),
+        (["fit", BLOCK, LOG, "--log", a, *FREE, "--report", tmp_path / "r.html"],
+         "a report covers the fit of one log"),
+        (["fit", BLOCK, LOG, *FREE, "--holdout", "5 kg"], "holdout"),
+        (["fit", BLOCK, LOG, *FREE, "--candidate", tmp_path / "none.toml"], "file not found"),
+    ]
+    for args, expected in cases:
+        r = cli(*args)
+        assert r.exit_code == 2, (args, r.output)
+        errors = [ln for ln in r.output.splitlines() if ln.startswith("error:")]
+        assert len(errors) == 1 and expected in errors[0], (args, r.output)
+    assert set(os.listdir(tmp_path)) == before

@@ -284,3 +284,28 @@ def test_comparison_options_are_checked():
         rcsim.fitting.compare([rcsim.loads(ONE)], two_node_log(), FREE_ONE, select="holdout")
     with pytest.raises(InputError, match="frees no value"):
         rcsim.fit([rcsim.loads(ONE), rcsim.loads(TWO)], two_node_log())
+
+
+def test_selection_by_likelihood_ratio_tests_against_the_chi_square_closed_form():
+    # forward selection over candidates of 3, 5 and 7 estimated values (2 df per step). With
+    # 2 degrees of freedom the chi-square survival function is exp(-x/2) (closed form):
+    # 3 -> 5 values: LR = 2 (4 - 0) = 8, p = exp(-4) = 0.0183 < 0.05: kept;
+    # 5 -> 7 values: LR = 2 (5 - 4) = 2, p = exp(-1) = 0.368: not significant, stop.
+    # (The 5-value candidate 'b2' is less likely than 'b' and is not the one tested.)
+    from rcsim.fitting.compare import choose
+
+    table = pd.DataFrame({"parameters": [3, 5, 5, 7], "log_likelihood": [0.0, 4.0, 3.0, 5.0],
+                          "rmse_holdout": [np.nan] * 4, "whiteness_p": [np.nan] * 4,
+                          "noise": ["measurement"] * 4}, index=["a", "b", "b2", "c"])
+    best, reason = choose(table, "lr")
+    assert best == "b"
+    assert f"'b' over 'a': LR 8 on 2 df, p = {math.exp(-4):.3g}, kept" in reason
+    assert f"'c' over 'b': LR 2 on 2 df, p = {math.exp(-1):.3g}, not significant" in reason
+    # a first extension that is not significant leaves the smallest candidate selected
+    table.loc["b", "log_likelihood"] = 0.5             # LR 1, p = exp(-0.5) = 0.607
+    table.loc["b2", "log_likelihood"] = 0.2
+    assert choose(table, "lr")[0] == "a"
+    # candidates of one size: no test applies; the most likely is taken and the reason says so
+    same = table.assign(parameters=4)
+    best, reason = choose(same, "lr")
+    assert best == "c" and "no likelihood-ratio test applies" in reason

@@ -228,6 +228,44 @@ def test_ice_melting_piecewise_analytic():
     assert res.energy_balance < 1e-6
 
 
+def test_a_single_melting_temperature_melts_over_half_a_kelvin():
+    # a handbook gives one melting point: it melts over T_m +- 0.25 K (the documented default,
+    # rcsim.phase.MELTING_HALF_WIDTH). The stored energy of a pack warmed from -10 degC is its
+    # enthalpy change written out here (closed form derived here): solid to T_m - 0.25, the
+    # melting range (sensible m cs 0.5 K plus latent m L), liquid from T_m + 0.25 to the end.
+    m, L, cs, cl = 2.0, 333.6e3, 2050.0, 4180.0
+    net = rcsim.Network()
+    net.add_node("pack", mass=m, initial=-10.0, phase_change={
+        "latent_heat": "333.6 kJ/kg", "melting": "0 degC",
+        "specific_heat_solid": "2.05 kJ/(kg*K)", "specific_heat_liquid": "4.18 kJ/(kg*K)"})
+    net.add_boundary("air", temperature=25.0)
+    net.add_link("pack", "air", resistance=0.5)
+    pc = net.nodes["pack"].phase_change
+    assert (pc.melting_low, pc.melting_high) == (-0.25, 0.25)
+    res = net.simulate("3 d", "10 min", rtol=1e-8, atol=1e-8)
+    T_end = res.temperatures["pack"].iloc[-1]
+    assert res.liquid_fraction["pack"].iloc[-1] == 1.0 and T_end > 0.25
+    expected = m * cs * (-0.25 + 10.0) + m * cs * 0.5 + m * L + m * cl * (T_end - 0.25)
+    assert res.energy["stored"].iloc[-1] == pytest.approx(expected, rel=1e-9)
+    # the scenario form reads the same single value
+    sc = rcsim.loads(_SINGLE_MELTING)
+    pc = sc.network.nodes["pack"].phase_change
+    assert (pc.melting_low, pc.melting_high) == (4.75, 5.25)
+
+
+_SINGLE_MELTING = """
+[nodes.pack]
+mass = "1 kg"
+initial = "0 degC"
+phase_change = { latent_heat = "200 kJ/kg", melting = "5 degC", specific_heat_solid = 2000, specific_heat_liquid = 3000 }
+[boundaries.air]
+temperature = "20 degC"
+[links.skin]
+between = ["pack", "air"]
+resistance = "1 K/W"
+"""
+
+
 def test_freezing_works_too():
     # water at 20 degC in a -15 degC freezer: time to freeze completely is
     # t = R m cl ln((20 + 15)/15) + m L R / 15 (the same piecewise solution, reversed)
@@ -412,8 +450,10 @@ power = "1 kW"
       "specific_heat_liquid": 4000}, "melting range is inverted"),
     ({"latent_heat": "-3 kJ/kg", "melting": [0, 0], "specific_heat_solid": 2000,
       "specific_heat_liquid": 4000}, "latent_heat must be positive"),
-    ({"latent_heat": "300 kJ/kg", "melting": [0], "specific_heat_solid": 2000,
-      "specific_heat_liquid": 4000}, "melting must be a list of two"),
+    ({"latent_heat": "300 kJ/kg", "melting": [0, 1, 2], "specific_heat_solid": 2000,
+      "specific_heat_liquid": 4000}, "melting must be one temperature or a list of two"),
+    ({"latent_heat": "300 kJ/kg", "melting": "-300 degC", "specific_heat_solid": 2000,
+      "specific_heat_liquid": 4000}, "below absolute zero"),
     ({"latent_heat": "300 kJ/kg", "melting": [0, 0], "specific_heat_solid": 2000},
      "missing key 'specific_heat_liquid'"),
     ({"material": "copper"}, "has no latent heat"),

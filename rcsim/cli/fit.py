@@ -1,25 +1,54 @@
-"""``rcsim fit SCENARIO LOG.csv --free KEY ...``: fit values of a scenario to a logged record."""
+"""``rcsim fit SCENARIO LOG.csv --free KEY ...``: fit values of a scenario to a logged record;
+with ``--candidate FILE`` several scenarios compared, with ``--log FILE`` several logs at once."""
 
 from __future__ import annotations
 
-import math
+import os
 
 import click
 
 from ..errors import InputError
-from .format import CAUTION, format_time
+from .fit_text import format_comparison, format_fit_summary, format_joint_summary
 from .guard import guard
 from .options import (SOLVERS, solver_help, allow_absolute_paths_option, check_output, load_scenario,
                       scenario_argument)
 
 __all__ = ["fit", "format_fit_summary"]
 
+#: the choices of --select and --noise (as rcsim.fitting.compare and .candidates define them;
+#: written here so that ``rcsim --help`` does not import the fitting)
+SELECT = ("bic", "aic", "lr", "holdout")
+NOISE_KINDS = ("measurement", "process")
+
 
 @click.command()
 @scenario_argument
-@click.argument("log", type=click.Path(dir_okay=True))
+@click.argument("log", type=click.Path(dir_okay=True), required=False)
+@click.option("--log", "more_logs", multiple=True, type=click.Path(dir_okay=True), metavar="FILE",
+              help="A further log (repeatable): the logs are fitted at once, values shared "
+                   "across them except those given by --per-record.")
 @click.option("--free", "free", multiple=True, metavar="KEY", help="Key path of a value to fit, "
-              "e.g. nodes.block.capacity (repeatable).")
+              "e.g. nodes.block.capacity (repeatable). A scenario's [fit] section gives its "
+              "own free values, bounds, ...; these options apply where it does not.")
+@click.option("--per-record", "per_record", multiple=True, metavar="KEY",
+              help="With several logs: a value fitted once per log, e.g. nodes.block.initial "
+                   "(repeatable).")
+@click.option("--candidate", "candidates", multiple=True, type=click.Path(dir_okay=True),
+              metavar="FILE", help="Another candidate scenario to compare with SCENARIO "
+              "(repeatable; each may carry its own [fit] section).")
+@click.option("--select", type=click.Choice(SELECT), default="bic", show_default=True,
+              help="How a comparison of candidates selects one: lowest BIC or AIC, forward "
+                   "selection by likelihood-ratio tests (lr), or lowest held-out RMSE "
+                   "(holdout).")
+@click.option("--holdout", metavar="SPAN", help="Leave a span out of the fit and score the "
+              "prediction on it: a fraction at the end (0.2, '20 %') or a time range from the "
+              "first row ('20 h..24 h', '20 h..').")
+@click.option("--noise", type=click.Choice(NOISE_KINDS), default=None,
+              help="measurement (default): a deterministic model and measurement errors; "
+                   "process: a stochastic model with process noise, fitted by maximum "
+                   "likelihood with a Kalman filter (linear networks).")
+@click.option("--lags", type=click.IntRange(1), metavar="N",
+              help="Lags of the Ljung-Box test of the residuals (default min(10, n/5)).")
 @click.option("--map", "mapping", multiple=True, metavar="COLUMN=NAME", help="Match a log "
               "column to a node (fitted) or a boundary (drives the model) (repeatable).")
 @click.option("--ignore", multiple=True, metavar="COLUMN", help="Leave a log column out "
@@ -40,63 +69,148 @@ __all__ = ["fit", "format_fit_summary"]
               help="Number of starting points (against local minima).")
 @click.option("--solver", type=click.Choice(SOLVERS), default="auto",
               show_default=True, help="How the model is run at each evaluation: " + solver_help())
-@click.option("-o", "--output", type=click.Path(), help="Write the estimates table to this CSV "
-              "file.")
-@click.option("--write-scenario", type=click.Path(), help="Write the fitted scenario to this "
-              "TOML file.")
+@click.option("-o", "--output", type=click.Path(), help="Write the estimates table (of the "
+              "selected candidate) to this CSV file.")
+@click.option("--comparison", "comparison_path", type=click.Path(), metavar="FILE.csv",
+              help="With candidates: write the comparison table to this CSV file.")
+@click.option("--write-scenario", type=click.Path(), help="Write the fitted scenario (of the "
+              "selected candidate; of the first log) to this TOML file.")
 @click.option("--plot", "plot_path", type=click.Path(), help="Write the measured vs fitted "
-              "figure (with residuals) to this PNG, SVG or PDF file.")
+              "figure (with residuals; with candidates every fit overlaid; with several logs "
+              "one file per log, named after it) to this PNG, SVG or PDF file.")
 @click.option("--report", "report_path", type=click.Path(), metavar="REPORT.html",
-              help="Write the fit's report (estimates, quality, figure, fitted scenario, "
-              "warnings, provenance) to this .html file.")
+              help="Write the fit's report (of the selected candidate; estimates, quality, "
+              "figure, fitted scenario, warnings, provenance) to this .html file.")
 @allow_absolute_paths_option
 @guard
-def fit(scenario, log, free, mapping, ignore, bound_items, sigma_items, time_column, time_unit,
-        max_gap, starts, solver, output, write_scenario, plot_path, report_path,
+def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout, noise, lags,
+        mapping, ignore, bound_items, sigma_items, time_column, time_unit, max_gap, starts,
+        solver, output, comparison_path, write_scenario, plot_path, report_path,
         allow_absolute_paths):
     """Fit values of SCENARIO (capacities, resistances, starting state, ...) to LOG.csv.
 
     LOG has a time column (seconds or ISO-8601) and temperature columns named after nodes
     (fitted) or boundaries (measured ambient that drives the model); --map matches others.
+    Without --free the scenario's [fit] section says what is free. With --candidate the
+    candidates are compared and one is selected; with --log several logs are fitted at once.
     """
     from ..fitting import fit as run_fit, parse_bound
+    from ..fitting.candidates import Candidate, FitSpec, read_candidate
 
-    if not free:
-        raise InputError("nothing to fit", "--free", "free at least one value, e.g. "
-                         "--free nodes.block.capacity")
-    check_output(output, (".csv",), "--output")
-    check_output(write_scenario, (".toml",), "--write-scenario")
-    check_output(plot_path, (".png", ".svg", ".pdf"), "--plot")
-    if report_path is not None:
-        from ..report.render import check_report_path
-
-        check_report_path(report_path, "--report")
-    columns = _pairs(mapping, "--map")
+    logs = ([log] if log is not None else []) + list(more_logs)
+    if not logs:
+        raise InputError("no log to fit", "LOG", "give LOG.csv after the scenario (or --log "
+                         "FILE, repeatable)")
+    _check_outputs(output, comparison_path, write_scenario, plot_path, report_path,
+                   candidates, logs)
     bounds = {}
     for item in bound_items:
         key, low, high = parse_bound(item)
         if key in bounds:
             raise InputError(f"{key!r} is bounded twice", "--bound")
         bounds[key] = (low, high)
+    given = FitSpec(free=tuple(free) or None, bounds=bounds or None,
+                    per_record=tuple(per_record) or None,
+                    columns=_pairs(mapping, "--map") or None, ignore=tuple(ignore) or None,
+                    sigma=_sigma_option(sigma_items), noise=noise)
     from ..report.collect import kept_warnings
 
     with kept_warnings() as caught:          # for the report; printed as usual all the same
-        sc = load_scenario(scenario, allow_absolute_paths)
-        res = run_fit(sc, log, list(free), columns=columns, ignore=list(ignore), bounds=bounds,
-                      sigma=_sigma_option(sigma_items), time=time_column, time_unit=time_unit,
-                      max_gap=max_gap, starts=starts, solver=solver)
+        pool = []
+        for path in (scenario, *candidates):  # a [fit] section wins, as in rcsim.fit
+            cand = read_candidate(path, allow_absolute_paths=allow_absolute_paths)
+            _say_overridden(cand, given)
+            pool.append(Candidate(cand.scenario, cand.spec.over(given)))
+            if not pool[-1].spec.free and not pool[-1].spec.per_record:
+                raise InputError("nothing to fit", os.path.basename(path),
+                                 "free at least one value, e.g. --free nodes.block.capacity, "
+                                 "or list them in its [fit] section: free = "
+                                 "[\"nodes.block.capacity\"]")
+        res = run_fit(pool if candidates else pool[0], logs if len(logs) > 1 else logs[0],
+                      time=time_column, time_unit=time_unit, max_gap=max_gap, starts=starts,
+                      solver=solver, holdout=_holdout_option(holdout), select=select, lags=lags)
+    chosen = res.selected_fit if candidates else res
+    sc = dict(zip(res.fits, pool))[res.selected].scenario if candidates else pool[0].scenario
     written = []
+    if comparison_path:
+        written.append(res.to_csv(comparison_path))
     if output:
-        written.append(res.to_csv(output))
+        written.append(chosen.to_csv(output))
     if write_scenario:
-        written.append(res.write_scenario(write_scenario))
+        written.append(chosen.write_scenario(write_scenario))
     if plot_path:
-        written.append(_save_plot(res, plot_path))
+        written += _save_plots(res, plot_path)
     if report_path:
-        written.append(res.report(report_path, scenario=sc, log_path=log, warnings=list(caught)))
-    click.echo(format_fit_summary(sc, res))
+        written.append(chosen.report(report_path, scenario=sc, log_path=logs[0],
+                                     warnings=list(caught)))
+    if candidates:
+        click.echo(format_comparison(res))
+        click.echo("")
+    click.echo(format_joint_summary(sc, chosen) if hasattr(chosen, "records")
+               else format_fit_summary(sc, chosen))
     for p in written:
         click.echo(f"wrote {p}")
+
+
+def _check_outputs(output, comparison_path, write_scenario, plot_path, report_path, candidates,
+                   logs) -> None:
+    """Refuse bad output paths, and outputs that do not apply, before any work."""
+    check_output(output, (".csv",), "--output")
+    check_output(comparison_path, (".csv",), "--comparison")
+    check_output(write_scenario, (".toml",), "--write-scenario")
+    check_output(plot_path, (".png", ".svg", ".pdf"), "--plot")
+    if comparison_path and not candidates:
+        raise InputError("there is no comparison without candidates", "--comparison",
+                         "add --candidate FILE (repeatable), or leave --comparison out")
+    if report_path is not None:
+        if len(logs) > 1:
+            raise InputError("a report covers the fit of one log", "--report",
+                             "fit one log for the report, or leave --report out")
+        from ..report.render import check_report_path
+
+        check_report_path(report_path, "--report")
+
+
+#: FitSpec field -> the option that gives it
+_OPTIONS = {"free": "--free", "bounds": "--bound", "per_record": "--per-record",
+            "columns": "--map", "ignore": "--ignore", "sigma": "--sigma", "noise": "--noise"}
+
+
+def _say_overridden(cand, given) -> None:
+    """Warn where a candidate's [fit] section gives what an option also gives (the section's
+    is used), so that no option is dropped unsaid."""
+    import warnings
+
+    from ..fitting import FitWarning
+
+    for field, option in _OPTIONS.items():
+        mine, theirs = getattr(cand.spec, field), getattr(given, field)
+        if mine is not None and theirs is not None and mine != theirs:
+            warnings.warn(f"{cand.scenario.name}: its [fit] section gives {field}, used instead "
+                          f"of {option} (which applies to candidates whose section does not)",
+                          FitWarning, stacklevel=2)
+
+
+def _holdout_option(text):
+    """A fraction as a number, anything else as written (read by parse_holdout)."""
+    if text is None:
+        return None
+    try:
+        return float(text)
+    except ValueError:
+        return text
+
+
+def _save_plots(res, path) -> list:
+    """The figure(s): one per log with several logs (``fit-<log>.png``), else one."""
+    if hasattr(res, "records"):
+        stem, suffix = os.path.splitext(path)
+        out = []
+        for record in res.records:
+            safe = "".join(ch if ch.isalnum() or ch in "-_." else "_" for ch in record)
+            out.append(_save_plot(res.records[record], f"{stem}-{safe}{suffix}"))
+        return out
+    return [_save_plot(res, path)]
 
 
 def _save_plot(res, path) -> str:
@@ -139,83 +253,3 @@ def _sigma_option(items):
     if len(items) == 1 and "=" not in items[0]:
         return items[0]
     return _pairs(items, "--sigma")
-
-
-def _display_unit(kind: str, raw) -> tuple[float, str]:
-    """(factor, unit): a value of ``kind`` (SI) times factor is in the unit the scenario used."""
-    from ..units import KINDS, registry
-
-    if kind == "temperature":
-        return 1.0, "degC"
-    si = KINDS[kind][0]
-    if isinstance(raw, str):
-        parts = raw.strip().split(None, 1)
-        if len(parts) == 2:
-            ureg = registry()
-            try:
-                return float(ureg.Quantity(1.0, ureg.parse_units(si)).to(
-                    ureg.parse_units(parts[1])).magnitude), parts[1]
-            except Exception:  # noqa: BLE001 - pint raises many types; fall back to SI
-                pass
-    return 1.0, si.replace("**", "^")
-
-
-def format_fit_summary(sc, res) -> str:
-    """The text printed by ``rcsim fit``."""
-    lines = _fit_header(sc, res)
-    lines += _estimates(sc, res)
-    lines.append("")
-    per = ", ".join(f"{c} {v:.3g} K" for c, v in res.rmse_by_column.items())
-    lines.append(f"  RMSE {res.rmse:.3g} K ({per}); residual lag-1 autocorrelation "
-                 + ", ".join(f"{c} {v:.2f}" for c, v in res.autocorrelation.items()))
-    lines.append("  correlations of 0.8 or more: " + (_strong_correlations(res.correlation)
-                                                       or "none"))
-    if res.time_constants is not None and len(res.time_constants):
-        tau = ", ".join(format_time(x) for x in list(res.time_constants)[:4])
-        lines.append(f"  time constants of the fitted network: {tau}"
-                     + (" ..." if len(res.time_constants) > 4 else ""))
-    if res.warnings:
-        lines.append(f"  {len(res.warnings)} warning(s): see the lines starting with 'warning:'")
-    lines += ["", "check the fitted model against data it was not fitted to before predicting "
-                  "with it.", CAUTION]
-    return "\n".join(lines)
-
-
-def _fit_header(sc, res) -> list[str]:
-    def described(columns):
-        return ", ".join(f"{c}" if res.targets[c] == c else f"{c} -> {res.targets[c]}"
-                         for c in columns)
-
-    cols, inputs = described(res.measured.columns), described(res.inputs.columns)
-    return [f"{sc.name} fitted to {res.log_name}: {res.n_points} measured values "
-            f"({cols}){'; measured inputs: ' + inputs if inputs else ''}",
-            f"  {len(res.estimates)} free value(s), {len(res.starts)} start(s), "
-            f"{res.n_evaluations} model runs ({res.solver} path, {res.n_decompositions} "
-            f"decompositions), {res.wall_time:.3g} s",
-            ""]
-
-
-def _estimates(sc, res) -> list[str]:
-    width = max([len(k) for k in res.estimates.index] + [3])
-    lines = [f"  {'key':<{width}}  {'estimate':>12}  {'std error':>10}  "
-             f"{'95 % interval':>25}  unit"]
-    for k, row in res.estimates.iterrows():
-        kind = res.units[k]
-        factor, unit = _display_unit(kind, sc.value(k))
-        if kind == "temperature":
-            unit = "degC (std error in K)"
-        lines.append(f"  {k:<{width}}  {row['value'] * factor:>12.5g}  "
-                     f"{row['std_error'] * factor:>10.3g}  {row['ci_low'] * factor:>11.5g} .. "
-                     f"{row['ci_high'] * factor:<11.5g}  {unit}")
-    return lines
-
-
-def _strong_correlations(corr) -> str:
-    keys = list(corr.index)
-    strong = []
-    for i in range(len(keys)):
-        for j in range(i + 1, len(keys)):
-            c = corr.iloc[i, j]
-            if math.isfinite(c) and abs(c) >= 0.8:
-                strong.append(f"{keys[i]} ~ {keys[j]} {c:+.3f}")
-    return "; ".join(strong)

@@ -9,12 +9,13 @@ from __future__ import annotations
 
 import click
 
-from . import check, draw, fit, materials, modes, plot, report, run, size, steady, sweep
+from . import check, draw, fit, identify, materials, modes, plot, report, run, size, steady, sweep
 
 __all__ = ["main", "COMMANDS"]
 
 COMMANDS = (check.check, steady.steady, modes.modes, materials.materials, run.run, plot.plot,
-            fit.fit, sweep.sweep_command, size.size_command, report.report, draw.draw)
+            fit.fit, identify.identify, sweep.sweep_command, size.size_command, report.report,
+            draw.draw)
 
 
 def _print_version(ctx, _param, value) -> None:

@@ -60,9 +60,10 @@ def run(scenario, output, csv_path, xlsx_path, plots_dir, solver, record, allow_
             write_xlsx(res, xlsx_path, scenario=sc)
     written = [p for p in (output, csv_path, xlsx_path) if p]
     if plots_dir:
+        from ..atomic import make_folder
         from ..plotting import standard_figures
 
-        os.makedirs(plots_dir, exist_ok=True)
+        make_folder(plots_dir, "--plots")
         written += standard_figures(res, plots_dir, stem=os.path.splitext(sc.name)[0])
     if not quiet:
         click.echo(format_run_summary(sc, res, all_nodes=all_nodes))
@@ -94,6 +95,7 @@ def format_run_summary(sc, res, all_nodes: bool = False) -> str:
     lines += _phase_change(res)
     lines += _thermostats(res)
     lines += _energy(res)
+    lines += _warnings(res)
     lines += ["", CAUTION]
     return "\n".join(lines)
 
@@ -213,3 +215,10 @@ def _energy(res) -> list[str]:
                 f"through boundary links {format_energy(terms.get('in through links [J]', 0.0))}"
                 f", from sources {format_energy(terms.get('from sources [J]', 0.0))}; balance "
                 f"error {res.energy_balance_error:.1e}"]
+
+
+def _warnings(res) -> list[str]:
+    """The run's warnings (Result.warnings), also printed as 'warning: ...' lines."""
+    if not res.warnings:
+        return []
+    return ["", f"  warnings ({len(res.warnings)})"] + [f"    {text}" for text in res.warnings]

@@ -17,10 +17,11 @@ structure is one file.
 Values given to :func:`rcsim.fit` or :func:`rcsim.fitting.compare` apply to the candidates
 whose section does not give them; a candidate's own values win.
 
-The scenario reader does not know the ``[fit]`` table yet, so a candidate file is read here:
-its ``[fit]`` table is taken out of the text (with :mod:`tomlkit`, which keeps the rest of the
-text as written) and the rest is read by :func:`rcsim.loads`. A scenario that already carries a
-``fit`` table in its data is read the same way.
+The scenario reader accepts a ``[fit]`` table and checks its keys (:data:`rcsim.scenario.FIT_KEYS`,
+an unknown one refused with the nearest valid key); its values are checked here. A candidate
+file is read here: its ``[fit]`` table is taken out of the text (with :mod:`tomlkit`, which keeps
+the rest of the text as written) and the rest is read by :func:`rcsim.loads`. A scenario loaded
+with a ``fit`` table in its data (:func:`rcsim.load`) gives the same candidate.
 """
 
 from __future__ import annotations
@@ -31,11 +32,10 @@ from dataclasses import dataclass, field, replace
 
 from ..errors import InputError, ScenarioError
 from ..parts import check_keys
-from ..scenario import Scenario, loads
+from ..scenario import FIT_KEYS, Scenario, loads
 
 __all__ = ["FitSpec", "Candidate", "read_candidate", "fit_spec", "split_fit_section", "FIT_KEYS"]
 
-FIT_KEYS = {"free", "bounds", "per_record", "columns", "ignore", "sigma", "noise", "label"}
 NOISE_KINDS = ("measurement", "process")
 
 

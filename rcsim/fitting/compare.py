@@ -8,8 +8,13 @@ parameters), the Gaussian log-likelihood, AIC and BIC (:mod:`rcsim.fitting.diagn
 RMSE of the deterministic run over the fitted span and over the held-out span, and the Ljung-Box
 test of the residuals (its statistic, lags and p-value; the smallest p-value over the measured
 columns). The selected candidate has the lowest BIC (``select="bic"``, the default), the lowest
-AIC (``"aic"``) or the lowest held-out RMSE (``"holdout"``); the reason says by how much, and
-what its held-out error and residuals say.
+AIC (``"aic"``) or the lowest held-out RMSE (``"holdout"``), or is the one forward selection by
+likelihood-ratio tests keeps (``"lr"``: from the candidate with the fewest estimated values up,
+each larger one is kept when LR = 2 (l_larger - l_current) is significant against the chi-square
+distribution with the difference in values as degrees of freedom, at the 5 % level; the search
+stops at the first extension that is not, as in the forward selection of Bacher & Madsen,
+*Energy and Buildings* 43 (2011) 1511-1522; the test assumes each candidate contains the smaller
+ones). The reason says by how much, and what its held-out error and residuals say.
 
 Differences of BIC above about 10 are read as very strong evidence (Kass & Raftery, *Journal of
 the American Statistical Association* 90 (1995) 773-795); of AIC above about 10 as essentially no
@@ -31,7 +36,9 @@ from .diagnostics import WHITE_P
 
 __all__ = ["compare", "Comparison", "SELECT"]
 
-SELECT = ("bic", "aic", "holdout")
+SELECT = ("bic", "aic", "holdout", "lr")
+#: level of the likelihood-ratio tests of ``select="lr"``
+LR_SIGNIFICANCE = 0.05
 
 
 @dataclass
@@ -52,7 +59,7 @@ class Comparison:
     reason : str
         Why, in words.
     criterion : str
-        'bic', 'aic' or 'holdout'.
+        'bic', 'aic', 'holdout' or 'lr'.
     """
 
     table: pd.DataFrame
@@ -105,8 +112,9 @@ def compare(candidates, data, free=None, *, columns=None, ignore=None, bounds=No
         The log (or logs, fitted at once by each candidate).
     free, columns, ignore, bounds, sigma, noise, per_record : optional
         For the candidates whose ``[fit]`` section does not say (see :func:`rcsim.fit`).
-    select : 'bic', 'aic' or 'holdout'
-        The rule that selects a candidate ('holdout' needs ``holdout``).
+    select : 'bic', 'aic', 'holdout' or 'lr'
+        The rule that selects a candidate ('holdout' needs ``holdout``; 'lr': forward selection
+        by likelihood-ratio tests over candidates that contain one another).
     other arguments
         As for :func:`rcsim.fit`.
 
@@ -231,12 +239,14 @@ def comparison_table(fits: dict) -> pd.DataFrame:
 
 def choose(table: pd.DataFrame, select: str) -> tuple[str, str]:
     """The selected candidate and the reason, in words."""
+    if select == "lr":
+        best, parts = _forward_lr(table)
+        return best, "; ".join(parts + _verdicts(table, best, select))
     column = {"bic": "bic", "aic": "aic", "holdout": "rmse_holdout"}[select]
     values = table[column].astype(float)
     if not np.isfinite(values).any():
         raise InputError(f"no candidate has a finite {column}", "select")
     best = str(values.idxmin())
-    row = table.loc[best]
     name = {"bic": "BIC", "aic": "AIC", "holdout": "held-out RMSE"}[select]
     parts = []
     others = values.drop(best)
@@ -252,6 +262,47 @@ def choose(table: pd.DataFrame, select: str) -> tuple[str, str]:
         parts.append(text)
     else:
         parts.append(f"the only candidate ({name} {values[best]:.6g}{unit})")
+    return best, "; ".join(parts + _verdicts(table, best, select))
+
+
+def _forward_lr(table: pd.DataFrame) -> tuple[str, list]:
+    """Forward selection by likelihood-ratio tests over the candidates, fewest values first
+    (at each number of values the most likely candidate is the one tested)."""
+    from scipy import stats
+
+    ll = table["log_likelihood"].astype(float)
+    if not np.isfinite(ll).all():
+        raise InputError("a candidate has no finite log-likelihood", "select",
+                         "select by 'bic' or 'aic'")
+    k = table["parameters"].astype(int)
+    levels = sorted(set(k))
+    best_at = {n: str(ll[k == n].idxmax()) for n in levels}
+    current = best_at[levels[0]]
+    if len(levels) == 1:
+        return current, [f"every candidate estimates {levels[0]} values, so none extends another "
+                         f"and no likelihood-ratio test applies: the most likely ({current!r}, "
+                         f"log-likelihood {ll[current]:.6g})"]
+    tests = []
+    for n in levels[1:]:
+        other = best_at[n]
+        lr = 2.0 * (ll[other] - ll[current])
+        df = int(n - k[current])
+        p = float(stats.chi2.sf(lr, df)) if lr > 0 else 1.0
+        keep = p < LR_SIGNIFICANCE
+        p_text = "p < 1e-12" if p < 1e-12 else f"p = {p:.3g}"
+        tests.append(f"{other!r} over {current!r}: LR {lr:.4g} on {df} df, {p_text}, "
+                     + ("kept" if keep else "not significant, stop"))
+        if not keep:
+            break
+        current = other
+    return current, [f"forward selection by likelihood-ratio tests at {LR_SIGNIFICANCE:g} "
+                     f"(each candidate taken to contain the smaller ones): " + "; ".join(tests)]
+
+
+def _verdicts(table: pd.DataFrame, best: str, select: str) -> list:
+    """What the held-out error and the residuals of the selected candidate say."""
+    parts = []
+    row = table.loc[best]
     held = table["rmse_holdout"].astype(float)
     if select != "holdout" and np.isfinite(held).any():
         best_held = str(held.idxmin())
@@ -269,4 +320,4 @@ def choose(table: pd.DataFrame, select: str) -> tuple[str, str]:
                 "(noise='process' gives honest ones)"
             parts.append(f"its residuals are not white (Ljung-Box p = {p:.2g}): it still misses "
                          f"a dynamic of the data{hint}")
-    return best, "; ".join(parts)
+    return parts

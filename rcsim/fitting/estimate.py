@@ -68,8 +68,8 @@ def fit(scenario, data, free=None, *, columns=None, ignore=None, bounds=None, si
         temperature, say); the other free values are shared.
     candidates : list, optional
         More candidate scenarios to compare with ``scenario``.
-    select : 'bic', 'aic' or 'holdout'
-        How a comparison selects its candidate.
+    select : 'bic', 'aic', 'holdout' or 'lr'
+        How a comparison selects its candidate (see :mod:`rcsim.fitting.compare`).
     lags : int, optional
         Lags of the Ljung-Box test of the residuals (default min(10, n // 5)).
 

@@ -13,7 +13,8 @@
   ``Result.warnings`` and raised again for the caller.
 
 Both watchers judge the output samples: a freezing point crossed and left again between two
-samples is not seen (a shorter output step sees it).
+samples is not seen (a shorter output step sees it); the time of a crossing is interpolated
+linearly between the samples on either side.
 
 Messages start with the scenario file's name when the network was read from one
 (``network.source_name``).
@@ -100,16 +101,24 @@ class FreezingWatch:
     def observe(self, t: np.ndarray, T: np.ndarray, u: np.ndarray) -> None:
         if self.start_below is None:
             self.start_below = T[0] < self.points
+            self.last_t, self.last_T = t[0], T[0]
         below = T < self.points
         other = below != self.start_below          # (samples, nodes) on the far side
-        hit = other.any(axis=0)
-        first = np.argmax(other, axis=0)
-        new = hit & np.isnan(self.crossed_at)
-        self.crossed_at[new] = t[first[new]]
+        new = other.any(axis=0) & np.isnan(self.crossed_at)
+        if new.any():       # the crossing, linear between the samples on either side
+            k = np.argmax(other, axis=0)[new]
+            cols = np.flatnonzero(new)
+            t_prev = np.where(k > 0, t[np.maximum(k - 1, 0)], self.last_t)
+            T_prev = np.where(k > 0, T[np.maximum(k - 1, 0), cols], self.last_T[cols])
+            T_next = T[k, cols]
+            f = np.clip((self.points[cols] - T_prev) / np.where(T_next != T_prev,
+                                                                 T_next - T_prev, 1.0), 0, 1)
+            self.crossed_at[cols] = t_prev + f * (t[k] - t_prev)
         far = np.where(self.start_below, T.max(axis=0), T.min(axis=0))
         self.extreme = np.where(np.isnan(self.extreme), far,
                                 np.where(self.start_below, np.fmax(self.extreme, far),
                                          np.fmin(self.extreme, far)))
+        self.last_t, self.last_T = t[-1], T[-1]
 
     def warnings(self) -> list[str]:
         texts = []
@@ -129,10 +138,14 @@ class FreezingWatch:
 
 class CorrelationWatch:
     """Films whose h comes from a correlation: warns once per film whose Rayleigh, Reynolds or
-    Prandtl number leaves the range of the correlation's source at some output sample, saying
-    how far, at what share of the samples and what share of the film's heat they carried."""
+    Prandtl number leaves the range of the correlation's source at output samples carrying at
+    least :attr:`min_share` (1 %) of the heat the film carries over the run, saying how far, at
+    what share of the samples and what share of the film's heat. (A film whose surface passes
+    the air temperature has Ra near 0 for a moment, below every lower bound; h hardly matters
+    there, since the film carries almost no heat, and the rule keeps those moments quiet.)"""
 
     category = CorrelationRangeWarning
+    min_share = 0.01
 
     def __init__(self, network, asm):
         nl = asm.nl
@@ -183,15 +196,19 @@ class CorrelationWatch:
             law = self.nl.laws[k]
             parts, sources = [], []
             for rng, (count, heat, lo, hi) in self.found[j].items():
+                share = heat / self.heat[j] if self.heat[j] > 0 else 0.0
+                if share < self.min_share:
+                    continue
                 span = f"{rng.low:g}..{rng.high:g}"
                 seen = (f"down to {lo:.3g}" if lo < rng.low else "") + \
                     (" and " if lo < rng.low and hi > rng.high else "") + \
                     (f"up to {hi:.3g}" if hi > rng.high else "")
-                share = heat / self.heat[j] if self.heat[j] > 0 else 0.0
                 parts.append(f"{rng.number} {seen} against {span} at "
                              f"{100 * count / self.samples:.3g} % of the output samples "
                              f"(carrying {100 * share:.3g} % of its heat)")
                 sources.append(rng.source)
+            if not parts:
+                continue
             where = f"{law.where}: " if law.where else ""
             texts.append(f"{self.prefix}{where}the {law.correlation.name} correlation left "
                          f"its validity range: {'; '.join(parts)}; h there is extrapolated "

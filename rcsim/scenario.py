@@ -23,6 +23,7 @@ from typing import Any
 from .base import suggest
 from .errors import InputError, ProfileError, ScenarioError
 from .network import Network
+from .inputfiles import check_regular_file, resolve_input
 from .outdoors import add_surfaces, csv_reader, read_outdoors, weather_profile
 from .parts import check_keys
 from .profiles import Constant, Profile, Repeat, Sine, Steps, Table
@@ -254,13 +255,16 @@ def load(path, *, allow_absolute_paths: bool = False) -> Scenario:
                             "give the path of a .toml file")
     if not os.path.exists(path):
         raise ScenarioError("file not found", path)
-    size = os.path.getsize(path)
+    size = check_regular_file(path, name).st_size   # no FIFO or device (rcsim.inputfiles)
     if size > _MAX_BYTES:
         raise ScenarioError(f"file is {size / 1e6:.1f} MB; a scenario file is at most "
                             f"{_MAX_BYTES / 1e6:.0f} MB", name, "put large data in CSV files")
     try:
         with open(path, "rb") as fh:
-            raw = fh.read()
+            raw = fh.read(_MAX_BYTES + 1)     # bounded even where the size says nothing
+        if len(raw) > _MAX_BYTES:
+            raise ScenarioError(f"file is over {_MAX_BYTES / 1e6:.0f} MB, the most a scenario "
+                                "file may be", name, "put large data in CSV files")
         text = raw.decode("utf-8")
     except UnicodeDecodeError:
         raise ScenarioError("is not UTF-8 text", name) from None
@@ -490,11 +494,8 @@ def _profile_of_kind(kind, body, w, ctx) -> Profile:
         file = body["file"]
         if not isinstance(file, str) or not file:
             raise ScenarioError("file must be a path", f"{w}.file")
-        if os.path.isabs(file) and not ctx.allow_absolute:
-            raise ScenarioError(f"absolute path {file!r} refused", f"{w}.file",
-                                "use a path relative to the scenario file, or allow absolute "
-                                "paths explicitly (--allow-absolute-paths)")
-        full = os.path.join(ctx.base_dir, file)
+        # inside the scenario's folder once '..' and links are resolved (rcsim.inputfiles)
+        full = resolve_input(file, ctx.base_dir, ctx.allow_absolute, f"{w}.file")
         missing = body.get("missing", "error")
         if missing not in ("error", "interpolate"):
             raise ScenarioError(f"missing must be 'error' or 'interpolate', got {missing!r}",

@@ -293,3 +293,126 @@ def test_names_are_kept_in_normal_form_c():
         net.add_node(composed, capacity=1.0)
     res = net.simulate("1 min", "10 s", record=[decomposed])
     assert list(res.temperatures.columns) == [composed]
+
+
+# ---- 16.5: files a scenario names stay in its folder; special files are never opened ----------
+SECRET = "s3cr3t-row,never-shown-" + "x" * 200
+
+PROFILE = BLOCK.replace('temperature = "20 degC"',
+                        'temperature = { csv = { file = "FILE", column = "t_out" } }')
+GOOD_CSV = "time,t_out\n0,20\n3600,21\n7200,22\n"
+
+
+@pytest.fixture
+def nest(tmp_path):
+    """tmp_path/outside.csv (a file not the user's, with a secret header) and a scenario folder
+    tmp_path/sc/ holding good.csv; returns a function writing sc/s.toml naming FILE."""
+    (tmp_path / "outside.csv").write_text(SECRET + "\n1,2\n")
+    (tmp_path / "elsewhere").mkdir()
+    (tmp_path / "elsewhere" / "data.csv").write_text(GOOD_CSV)
+    sc = tmp_path / "sc"
+    sc.mkdir()
+    (sc / "good.csv").write_text(GOOD_CSV)
+    (sc / "sub").mkdir()
+
+    def scenario(file):
+        p = sc / "s.toml"
+        p.write_text(PROFILE.replace("FILE", file), encoding="utf-8")
+        return p
+
+    return scenario
+
+
+OUTSIDE = [
+    ("../outside.csv", None),
+    ("sub/../../outside.csv", None),
+    ("./sub/../../sc/../outside.csv", None),
+    ("link.csv", ("link.csv", "../outside.csv")),                 # a link to a file outside
+    ("linked/data.csv", ("linked", "../elsewhere")),               # a linked folder
+    ("sub/up/outside.csv", ("sub/up", "../..")),                   # a link to a parent
+    ("chain.csv", ("chain.csv", "sub/hop.csv"), ("sub/hop.csv", "../../outside.csv")),
+]
+
+
+@pytest.mark.parametrize("case", OUTSIDE, ids=[c[0] for c in OUTSIDE])
+def test_a_csv_outside_the_scenarios_folder_is_refused_without_showing_it(cli, nest, tmp_path,
+                                                                         case):
+    file, *links = case
+    for link, target in [x for x in links if x]:
+        os.symlink(target, tmp_path / "sc" / link)
+    s = nest(file)
+    line = one_line(cli("check", s), "leads outside the scenario's folder")
+    assert "s3cr3t" not in line and "never-shown" not in line
+    # allowed explicitly, the same file is read (and its header quoted short at most)
+    r = cli("check", s, "--allow-absolute-paths")
+    assert "Traceback" not in r.output and "x" * 41 not in r.output
+
+
+def test_links_and_dots_that_stay_inside_the_folder_are_read(cli, nest, tmp_path):
+    os.symlink("good.csv", tmp_path / "sc" / "alias.csv")
+    for file in ("good.csv", "sub/../good.csv", "alias.csv", "./good.csv"):
+        r = cli("check", nest(file))
+        assert r.exit_code == 0, (file, r.output)
+
+
+def test_an_absolute_path_stays_refused_unless_allowed(cli, nest, tmp_path):
+    s = nest(str(tmp_path / "elsewhere" / "data.csv"))
+    one_line(cli("check", s), "absolute path", "--allow-absolute-paths")
+    assert cli("check", s, "--allow-absolute-paths").exit_code == 0
+
+
+def test_a_weather_file_outside_the_folder_is_refused(cli, nest, tmp_path):
+    s = tmp_path / "sc" / "w.toml"
+    s.write_text(BLOCK + '[site]\nlatitude = 48.0\nlongitude = 11.0\ntime_zone = "+01:00"\n'
+                 '[weather]\nfile = "../outside.csv"\ncolumns = { air_temperature = "t" }\n',
+                 encoding="utf-8")
+    r = cli("check", s)
+    assert r.exit_code == 2 and "s3cr3t" not in r.output and "Traceback" not in r.output
+    assert "leads outside the scenario's folder" in r.output or "site" in r.output
+
+
+def _run_with_timeout(args, cwd, seconds=120):
+    """rcsim ARGS in a child that must end within ``seconds`` (a FIFO read would block)."""
+    r = subprocess.run([sys.executable, "-m", "rcsim", *map(str, args)], capture_output=True,
+                       text=True, cwd=cwd, timeout=seconds)
+    r.exit_code = r.returncode
+    return r
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="no FIFOs here")
+def test_a_fifo_is_refused_not_waited_on(nest, tmp_path):
+    os.mkfifo(tmp_path / "sc" / "pipe.csv")
+    one_line(_run_with_timeout(["check", nest("pipe.csv")], tmp_path), "pipe.csv",
+             "FIFO", "only regular files are read")
+    os.mkfifo(tmp_path / "scenario.toml")
+    one_line(_run_with_timeout(["run", tmp_path / "scenario.toml"], tmp_path), "scenario.toml",
+             "FIFO")
+    os.mkfifo(tmp_path / "log.csv")
+    with pytest.raises(InputError, match="FIFO"):
+        rcsim.fit(rcsim.loads(BLOCK), tmp_path / "log.csv", ["nodes.block.capacity"])
+
+
+@pytest.mark.skipif(not os.path.exists("/dev/zero"), reason="no /dev/zero here")
+def test_a_device_is_refused_and_memory_stays_bounded(nest, tmp_path):
+    os.symlink("/dev/zero", tmp_path / "sc" / "zeros.csv")
+    for file, extra in (("/dev/zero", ["--allow-absolute-paths"]), ("zeros.csv", []),
+                        ("zeros.csv", ["--allow-absolute-paths"])):
+        r = Child(["check", nest(file), *extra], tmp_path)
+        one_line(r, "outside" if not extra and file == "zeros.csv" else "character device")
+        assert r.peak < 600e6, r.peak        # a child that read /dev/zero would take it all
+    with pytest.raises(InputError, match="character device"):
+        rcsim.fit(rcsim.loads(BLOCK), "/dev/zero", ["nodes.block.capacity"])
+    r = Child(["run", "/dev/zero"], tmp_path)
+    one_line(r, "character device")
+
+
+@pytest.mark.parametrize("text,column", [
+    ("time," + "h" * 300 + "\n0,1\n60,2\n", "t_out"),                  # a long header cell
+    ("time,t_out\n0,1\n60," + "v" * 300 + "\n", "t_out"),              # a long value cell
+    ("time,t_out\n60,1\n" + "9" * 300 + "x,2\n", "t_out"),             # a long time cell
+    ("t," + ",".join(f"c{i}{'w' * 60}" for i in range(40)) + "\n0,1\n", "t_out"),
+])
+def test_errors_quote_at_most_a_short_cell_of_a_file(cli, nest, tmp_path, text, column):
+    (tmp_path / "sc" / "odd.csv").write_text(text)
+    line = one_line(cli("check", nest("odd.csv")), "odd.csv")
+    assert len(line) < 400 and not any(ch * 41 in line for ch in "hv9w"), line

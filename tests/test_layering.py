@@ -49,7 +49,7 @@ LAYERS = [
                "rcsim.summaries", "rcsim.varying", "rcsim.surfaces"]),
     ("steady state, modes, records", ["rcsim.nonlinear", "rcsim.steady", "rcsim.modes",
                                       "rcsim.recording", "rcsim.results",
-                                      "rcsim.h5files"]),
+                                      "rcsim.h5files", "rcsim.resultfile"]),
     ("transient", ["rcsim.transient"]),
     ("scenario", ["rcsim.scenario", "rcsim.outdoors"]),
     ("applications", ["rcsim.fitting", "rcsim.sweep", "rcsim.plotting", "rcsim.sizing",

@@ -22,13 +22,14 @@ from typing import Any
 
 from .base import suggest
 from .errors import InputError, ProfileError, ScenarioError
-from .network import Network
 from .inputfiles import check_regular_file, resolve_input
+from .network import Network
 from .outdoors import add_surfaces, csv_reader, read_outdoors, weather_profile
 from .parts import check_keys
 from .profiles import Constant, Profile, Repeat, Sine, Steps, Table
 from .radiation_links import enclosures_from_scenario, radiation_from_scenario
 from .thermostat import add_thermostats_from_scenario
+from .tomlscan import check_nesting
 from .transient.registry import check_solver
 from .units import to_si
 
@@ -280,6 +281,7 @@ def loads(text: str, name: str = "<scenario>", base_dir: str = ".", path: str | 
     if not text.strip():
         raise ScenarioError("is empty", name, "a scenario needs at least [nodes] and [links]")
     text = unicodedata.normalize("NFC", text)   # names in one Unicode form (README "Names")
+    check_nesting(text, name)     # a cheap scan first: deep keys cost the parser gigabytes
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:

@@ -637,3 +637,32 @@ def test_a_result_file_that_is_a_fifo_or_device_is_refused(tmp_path):
     if os.path.exists("/dev/zero"):
         with pytest.raises(InputError, match="character device"):
             rcsim.Result.load("/dev/zero")
+
+
+# ---- 16.7: scenario text that nests too deep for the TOML reader -------------------------------
+DEEP = {
+    "dotted key": "a" + ".a" * 50_000 + " = 1\n",
+    "table header": "[a" + ".a" * 50_000 + "]\nx = 1\n",
+    "array of tables": "[[a" + ".a" * 50_000 + "]]\nx = 1\n",
+    "inline tables": "x = " + "{a=" * 30_000 + "1" + "}" * 30_000 + "\n",
+    "arrays": "x = " + "[" * 50_000 + "1" + "]" * 50_000 + "\n",
+    "dotted key in an inline table": "x = {" + "a." * 30_000 + "b = 1}\n",
+    "quoted dotted key": "a" + '."a"' * 30_000 + " = 1\n",
+}
+
+
+@pytest.mark.parametrize("kind", list(DEEP))
+def test_deeply_nested_scenario_text_is_refused_cheaply(tmp_path, kind):
+    (tmp_path / "deep.toml").write_text(BLOCK + DEEP[kind], encoding="utf-8")
+    r = Child(["check", "deep.toml"], tmp_path)
+    one_line(r, "deep.toml", "line 13")
+    # the tomllib reader took about 1.5 GB for a dotted key of 20,000 parts (measured)
+    assert r.peak < 400e6, r.peak
+
+
+def test_strings_and_comments_full_of_dots_and_brackets_are_not_nesting(cli, tmp_path):
+    text = (BLOCK.replace('[simulation]', 'title = "' + "a.b[c{" * 500 + '"\n'
+                          "description = '''" + "[[[.{{{" * 500 + "'''\n[simulation]")
+            + "# " + "." * 5000 + "\n")
+    (tmp_path / "ok.toml").write_text(text, encoding="utf-8")
+    assert cli("check", tmp_path / "ok.toml").exit_code == 0

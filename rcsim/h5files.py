@@ -21,7 +21,7 @@ import pandas as pd
 
 from .atomic import commit, discard, temporary_beside, write_failure
 
-__all__ = ["H5Sink", "GuardedFile", "write_frame", "read_frame", "write_names", "read_names",
+__all__ = ["H5Sink", "GuardedFile", "guarded_h5", "write_frame", "read_frame", "write_names", "read_names",
            "names_dataset", "NAMES_ATTRIBUTE_BYTES", "ONE_D"]
 
 #: series with one value per sample (no names)
@@ -247,6 +247,23 @@ class H5Sink:
         if self._io is not None:
             self._io.close()
         discard(self.tmp)
+
+
+@contextlib.contextmanager
+def guarded_h5(tmp: str):
+    """An HDF5 file opened for writing at ``tmp`` through a :class:`GuardedFile`: a write that
+    fails (disk full) raises its OSError once the file is closed, instead of surfacing inside
+    the HDF5 library (use it inside :func:`rcsim.atomic.atomic_path`)."""
+    import h5py
+
+    io_ = GuardedFile(tmp)
+    try:
+        with h5py.File(io_, "w") as h5:
+            yield h5
+    finally:
+        io_.close()
+    if io_.failed is not None:
+        raise io_.failed
 
 
 def write_frame(h5, group: str, frame: pd.DataFrame) -> None:

@@ -666,3 +666,22 @@ def test_strings_and_comments_full_of_dots_and_brackets_are_not_nesting(cli, tmp
             + "# " + "." * 5000 + "\n")
     (tmp_path / "ok.toml").write_text(text, encoding="utf-8")
     assert cli("check", tmp_path / "ok.toml").exit_code == 0
+
+
+@pytest.mark.parametrize("room", [0, 2000])
+def test_a_disk_filling_up_while_a_sweep_table_is_written_leaves_nothing(tmp_path, monkeypatch,
+                                                                         room):
+    import builtins
+
+    import rcsim.h5files
+    from rcsim.sweep.tables import write_table
+
+    def filling_open(path, *args, **kwargs):
+        return _FillingFile(builtins.open(path, *args, **kwargs), room)
+
+    monkeypatch.setattr(rcsim.h5files, "open", filling_open, raising=False)
+    table = pd.DataFrame({"a": np.arange(500.0), "error": [""] * 500},
+                         index=pd.RangeIndex(500, name="run"))
+    with pytest.raises(OutputError, match="No space left on device"):
+        write_table(table, tmp_path / "t.h5")
+    assert leftovers(tmp_path) == [] and not (tmp_path / "t.h5").exists()

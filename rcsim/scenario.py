@@ -250,6 +250,17 @@ def load(path, *, allow_absolute_paths: bool = False) -> Scenario:
         With the file name and key path in the message.
     """
     path = os.fspath(path)
+    text = read_text(path)
+    return loads(text, name=os.path.basename(path) or path,
+                 base_dir=os.path.dirname(os.path.abspath(path)), path=path,
+                 allow_absolute_paths=allow_absolute_paths)
+
+
+def read_text(path) -> str:
+    """The text of a scenario file: a regular file (no FIFO or device) of at most 20 MB of
+    UTF-8 whose keys and values do not nest too deep (:mod:`rcsim.tomlscan`), or
+    ScenarioError."""
+    path = os.fspath(path)
     name = os.path.basename(path) or path
     if os.path.isdir(path):
         raise ScenarioError("is a directory, not a scenario file", path,
@@ -271,8 +282,8 @@ def load(path, *, allow_absolute_paths: bool = False) -> Scenario:
         raise ScenarioError("is not UTF-8 text", name) from None
     except OSError as exc:
         raise ScenarioError(f"cannot be read ({exc.strerror})", name) from None
-    return loads(text, name=name, base_dir=os.path.dirname(os.path.abspath(path)),
-                 path=path, allow_absolute_paths=allow_absolute_paths)
+    check_nesting(text, name)
+    return text
 
 
 def loads(text: str, name: str = "<scenario>", base_dir: str = ".", path: str | None = None,

@@ -685,3 +685,14 @@ def test_a_disk_filling_up_while_a_sweep_table_is_written_leaves_nothing(tmp_pat
     with pytest.raises(OutputError, match="No space left on device"):
         write_table(table, tmp_path / "t.h5")
     assert leftovers(tmp_path) == [] and not (tmp_path / "t.h5").exists()
+
+
+def test_a_fit_candidate_is_read_with_the_same_guards(tmp_path):
+    from rcsim.fitting.candidates import read_candidate
+
+    (tmp_path / "deep.toml").write_text(BLOCK + DEEP["dotted key"], encoding="utf-8")
+    with pytest.raises(InputError, match="dotted parts"):
+        read_candidate(tmp_path / "deep.toml")
+    os.mkfifo(tmp_path / "pipe.toml")
+    with pytest.raises(InputError, match="FIFO"):
+        read_candidate(tmp_path / "pipe.toml")

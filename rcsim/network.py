@@ -68,6 +68,7 @@ class Node:
     where: str = ""
     phase_change: object | None = None  # a rcsim.phase.PhaseChange, when the node melts/freezes
     mass: float | None = None
+    freezes_at: float | None = None     # declared freezing point [degC] (a run warns past it)
 
 
 @dataclass
@@ -157,6 +158,7 @@ class Network:
         self.exchanges: dict = {}   # radiation elements and enclosures, by name (their links)
         self._assembled: Assembled | None = None
         self.source_text: str | None = None  # scenario text, when built from a file
+        self.source_name: str | None = None  # its file name (messages start with it)
 
     # -- building -----------------------------------------------------------------------------
     def mark_changed(self) -> None:
@@ -170,7 +172,7 @@ class Network:
 
     def add_node(self, name: str, capacity=None, initial=None, *, mass=None, specific_heat=None,
                  material=None, volume=None, density=None, phase_change=None,
-                 where: str | None = None) -> str:
+                 freezes_at=None, where: str | None = None) -> str:
         """Add a node.
 
         Parameters
@@ -188,6 +190,9 @@ class Network:
         phase_change : dict or rcsim.phase.PhaseChange, optional
             Latent heat and melting range; the node then carries an enthalpy state
             (needs ``mass``).
+        freezes_at : float or str, optional
+            Freezing point [degC] of a node without latent heat (a water-based payload): a run
+            warns once when the node passes it (its temperatures beyond it are wrong).
 
         Returns
         -------
@@ -256,7 +261,11 @@ class Network:
         if t0 is not None and t0 <= -273.15:
             raise NetworkError(f"initial temperature {t0:g} degC is below absolute zero",
                                w("initial"))
-        self.nodes[name] = Node(name, c, t0, where, pc, m)
+        tf = None if freezes_at is None else to_si(freezes_at, "temperature", w("freezes_at"))
+        if tf is not None and tf <= -273.15:
+            raise NetworkError(f"freezing point {tf:g} degC is below absolute zero",
+                               w("freezes_at"))
+        self.nodes[name] = Node(name, c, t0, where, pc, m, tf)
         self.mark_changed()
         return name
 

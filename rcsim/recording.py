@@ -170,6 +170,9 @@ class RecordingPlan:
     #: series computed from each chunk (e.g. rcsim.surfaces.SolAirSeries): objects with ``key``,
     #: ``names``, ``nodes`` (node indices) and ``values(t, T of those nodes, u, s)``
     derived: list = field(default_factory=list)
+    #: observers of each chunk that keep no history (rcsim.run_warnings): objects with ``nodes``
+    #: (node indices) and ``observe(t, T of those nodes, u)``
+    watchers: list = field(default_factory=list)
 
     def tracker(self, asm):
         """A fresh excursion tracker of the limits (None without limits)."""
@@ -180,7 +183,7 @@ class RecordingPlan:
 
 
 def plan_recording(asm, record=None, limits=(), thermostat_names=(),
-                   derived=()) -> RecordingPlan:
+                   derived=(), watchers=()) -> RecordingPlan:
     """What to record for ``record`` (node names, one name, or None for every node), the
     network's ``limits`` (:class:`rcsim.network.Limit`) and thermostats.
 
@@ -219,7 +222,8 @@ def plan_recording(asm, record=None, limits=(), thermostat_names=(),
             ends |= {int(p) for p in np.concatenate([asm.seg_a[asm.nl.seg],
                                                      asm.seg_b[asm.nl.seg]]) if p < asm.n_nodes}
     plan.derived = list(derived)
-    ends |= {int(i) for d in plan.derived for i in d.nodes}
+    plan.watchers = list(watchers)
+    ends |= {int(i) for d in plan.derived + plan.watchers for i in d.nodes}
     plan.out_nodes = sorted(set(rec_idx) | set(plan.limit_nodes) | ends)
     if asm.phase_change:
         plan.extra_names["liquid_fraction"] = [names[i] for i in sorted(asm.phase_change)]
@@ -314,6 +318,8 @@ class Recorder:
         self.limit_cols = np.asarray([pos[int(i)] for i in plan.limit_nodes], dtype=np.int64)
         self._derived = [(d, np.asarray([pos[int(i)] for i in d.nodes], dtype=np.int64))
                          for d in plan.derived]
+        self._watchers = [(w, np.asarray([pos[int(i)] for i in w.nodes], dtype=np.int64))
+                          for w in plan.watchers]
         self.sink = sink
         if samples is not None and hasattr(sink, "reserve"):
             sink.reserve(samples)
@@ -391,6 +397,8 @@ class Recorder:
             c.extras[d.key] = d.values(c.t, T[:, cols], c.u, c.s)
         for key in self.extra_names:
             self.sink.append(key, c.extras[key])
+        for w, cols in self._watchers:
+            w.observe(c.t, T[:, cols], c.u)
         self.tmin = np.minimum(self.tmin, cmin)
         self.tmax = np.maximum(self.tmax, cmax)
         self.tlast = np.array(T[-1])

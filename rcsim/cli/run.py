@@ -84,6 +84,7 @@ def format_run_summary(sc, res, all_nodes: bool = False) -> str:
     lines += _phase_change(res)
     lines += _thermostats(res)
     lines += _energy(res)
+    lines += _warnings(res)
     lines += ["", CAUTION]
     return "\n".join(lines)
 
@@ -201,3 +202,10 @@ def _energy(res) -> list[str]:
                 f"through boundary links {format_energy(terms.get('in through links [J]', 0.0))}"
                 f", from sources {format_energy(terms.get('from sources [J]', 0.0))}; balance "
                 f"error {res.energy_balance_error:.1e}"]
+
+
+def _warnings(res) -> list[str]:
+    """The run's warnings (Result.warnings), also printed as 'warning: ...' lines."""
+    if not res.warnings:
+        return []
+    return ["", f"  warnings ({len(res.warnings)})"] + [f"    {text}" for text in res.warnings]

@@ -18,6 +18,7 @@ import numpy as np
 from ..errors import InputError
 from ..nonlinear import build_terms, steady_newton
 from ..recording import RecordingPlan, plan_recording
+from ..run_warnings import run_watchers
 from ..statespace import state_space
 from ..surfaces import sol_air_series
 from ..units import to_si
@@ -193,7 +194,8 @@ def build_problem(network, duration, step, *, initial=None, solver="auto", recor
     ss = state_space(asm)
     thermostats = tuple(network.thermostats.values())
     plan = plan_recording(asm, record, network.limits.values() if limits else (),
-                          [t.name for t in thermostats], sol_air_series(network, asm))
+                          [t.name for t in thermostats], sol_air_series(network, asm),
+                          run_watchers(network, asm))
     mode, overrides = resolve_initial_option(initial)
     problem = Problem(network, asm, ss, t_out, thermostats, mode, overrides, plan,
                       rtol=float(rtol), atol=float(atol), step=step)

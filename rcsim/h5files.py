@@ -159,10 +159,10 @@ class H5Sink:
         file and becomes one OutputError naming the requested file."""
         try:
             yield
-        except (OSError, RuntimeError) as exc:     # h5py raises either for a failed write
+        except (OSError, RuntimeError, ValueError) as exc:   # what h5py raises on a failure
             failure = self._io.failed if self._io is not None and self._io.failed else exc
             self.abort()
-            if isinstance(exc, RuntimeError) and failure is exc:
+            if not isinstance(exc, OSError) and failure is exc:
                 raise                              # not a write failure: a bug to report
             raise write_failure(failure, self.path) from None
         if self._io is not None and self._io.failed is not None:
@@ -260,6 +260,11 @@ def guarded_h5(tmp: str):
     try:
         with h5py.File(io_, "w") as h5:
             yield h5
+    except (OSError, RuntimeError, ValueError):
+        if io_.failed is None:
+            raise
+        # what HDF5 met after a dropped write (data it wrote and could not read back) is not
+        # the cause: the failed write is
     finally:
         io_.close()
     if io_.failed is not None:

@@ -305,7 +305,7 @@ def csv_reader(outdoors: Outdoors | None):
     return functools.partial(csv_profile, outdoors=outdoors)
 
 
-def csv_profile(path: str, column: str, time=None, start=None, unit=None, time_unit="s",
+def csv_profile(path: str, column: str, time=None, start=None, unit=None, time_unit=None,
                 missing="error", outside="error", where=None, *, outdoors: Outdoors) -> Table:
     """A ``{ csv = ... }`` profile placed on the site's clock: timestamps by the rule of
     :mod:`rcsim.clock` (offsets exact, local readings in the site's zone), counted from the
@@ -322,12 +322,8 @@ def csv_profile(path: str, column: str, time=None, start=None, unit=None, time_u
         stamps = parse_timestamps(text[tcol].str.strip(), outdoors.zone, where, tcol)
         origin = outdoors.start if outdoors.start is not None else stamps[0]
         times = (stamps - origin).total_seconds().to_numpy(dtype=float)
-    values = frame[column].to_numpy(dtype=float)
-    if missing == "interpolate":
-        keep = np.isfinite(values)
-        times, values = times[keep], values[keep]
-    return Table(times, values, outside=outside, unit=unit,
-                 source=f"{os.path.basename(str(path))}:{column}")
+    return Table.from_columns(path, column, times, frame[column].to_numpy(dtype=float),
+                              unit=unit, missing=missing, outside=outside, where=where)
 
 
 # -- sun and sky from the record ---------------------------------------------------------------

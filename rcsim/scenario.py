@@ -20,7 +20,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from .base import suggest
-from .errors import InputError, ScenarioError
+from .errors import InputError, ProfileError, ScenarioError
 from .network import Network
 from .outdoors import add_surfaces, csv_reader, read_outdoors, weather_profile
 from .parts import check_keys
@@ -99,14 +99,19 @@ class Scenario:
             missing = "duration" if duration is None else "step"
             raise ScenarioError(f"missing key {missing!r}", f"{self.name}: simulation",
                                 "add e.g. duration = '72 h' and step = '5 min'")
-        result = self.network.simulate(
-            duration, step,
-            initial=st.initial if initial is None else initial,
-            solver=st.solver if solver is None else solver,
-            record=st.record if record is None else record,
-            output=output, rtol=st.rtol, atol=st.atol, progress=progress,
-            start_time=st.start, scenario_text=self.text)
-        return result
+        try:
+            return self.network.simulate(
+                duration, step,
+                initial=st.initial if initial is None else initial,
+                solver=st.solver if solver is None else solver,
+                record=st.record if record is None else record,
+                output=output, rtol=st.rtol, atol=st.atol, progress=progress,
+                start_time=st.start, scenario_text=self.text)
+        except InputError as err:  # a run setting: name the file and the [simulation] key
+            if err.where in _SIM:
+                raise type(err)(err.message, f"{self.name}: simulation.{err.where}",
+                                err.hint) from None
+            raise
 
     def with_values(self, values: dict[str, Any]) -> "Scenario":
         """A new scenario with the values at the given key paths replaced.
@@ -439,6 +444,10 @@ def profile_from_spec(spec, where: str, ctx: _Context | None = None) -> Profile:
     ctx = ctx or _Context(".", False)
     if isinstance(spec, (int, float, str)) and not isinstance(spec, bool):
         return Constant(spec)
+    if isinstance(spec, dict) and len(spec) == 2 and "repeat" in spec:
+        kind = next(k for k in spec if k != "repeat")
+        raise ScenarioError(f"repeat goes inside the {kind} table, not beside it", where,
+                            f"write {{ {kind} = {{ ..., repeat = {spec['repeat']!r} }} }}")
     if not isinstance(spec, dict) or len(spec) != 1:
         raise ScenarioError("a profile is a value like \"30 degC\" or a table with one key: "
                             + ", ".join(_PROFILE_KEYS), where)
@@ -454,6 +463,16 @@ def profile_from_spec(spec, where: str, ctx: _Context | None = None) -> Profile:
         return Constant(body)
     allowed, required = _PROFILE_KEYS[kind]
     check_keys(body, allowed, required, w)
+    try:
+        prof = _profile_of_kind(kind, body, w, ctx)
+    except ProfileError as err:   # checked when built from plain numbers: name the key
+        raise (err.at(w) if err.where is None else err) from None
+    if "repeat" in body:
+        prof = Repeat(prof, body["repeat"])
+    return prof
+
+
+def _profile_of_kind(kind, body, w, ctx) -> Profile:
     if kind == "sine":
         prof: Profile = Sine(body["mean"], body["amplitude"], body["period"], body.get("peak"))
     elif kind == "steps":
@@ -484,11 +503,9 @@ def profile_from_spec(spec, where: str, ctx: _Context | None = None) -> Profile:
         read_csv = csv_reader(ctx.outdoors)   # Table.from_csv, or on the site's clock
         prof = read_csv(full, column, time=_opt_str(body, "time", w), start=ctx.start,
                               unit=_opt_str(body, "unit", w),
-                              time_unit=_opt_str(body, "time_unit", w) or "s",
+                              time_unit=_opt_str(body, "time_unit", w),
                               missing=missing, outside=_outside(body, w),
                               where=f"{w}.file ({file})")
-    if "repeat" in body:
-        prof = Repeat(prof, body["repeat"])
     return prof
 
 

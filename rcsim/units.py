@@ -22,7 +22,7 @@ from numbers import Real
 
 from .errors import UnitError
 
-__all__ = ["ureg", "registry", "KINDS", "to_si", "to_si_array", "si_unit", "format_quantity",
+__all__ = ["ureg", "registry", "KINDS", "ABSOLUTE_ZERO", "to_si", "to_si_array", "si_unit", "format_quantity",
            "format_duration", "significant", "format_clock_time"]
 
 # kind -> (SI unit string, description used in messages "expected a length")
@@ -51,6 +51,9 @@ KINDS: dict[str, tuple[str, str]] = {
     "heat_flux": ("W/m**2", "a heat flux"),
     "rate": ("K/s", "a rate of temperature change"),
 }
+
+#: absolute zero [degC]: absolute temperatures below it are refused where they are read
+ABSOLUTE_ZERO = -273.15
 
 _registry = None
 _registry_lock = threading.Lock()
@@ -234,6 +237,9 @@ def to_si(value, kind: str, where: str | None = None, *, finite: bool = True) ->
                         f"computes with (up to {MAX_MAGNITUDE:g} in size; at least "
                         f"{MIN_MAGNITUDE:g} for sizes of things, or 0)",
                         where, "check the value and its unit")
+    if finite and kind == "temperature" and result < ABSOLUTE_ZERO:
+        raise UnitError(f"{_short(value)} is below absolute zero ({result:.6g} degC < "
+                        f"{ABSOLUTE_ZERO:g} degC)", where, "check the value and its unit")
     return result
 
 

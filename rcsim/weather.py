@@ -43,6 +43,7 @@ from .arguments import check_name
 from .base import suggest
 from .clock import line_of, parse_time_zone, parse_timestamps, to_instant
 from .errors import DataError, InputError, UnitError
+from .profiles.timeseries import check_separator, header_line
 from .units import KINDS, to_si
 
 __all__ = ["QUANTITIES", "FRACTION_UNITS", "WeatherRecord", "read_weather"]
@@ -229,6 +230,7 @@ def _read_text(path, label):
         raise DataError("is a directory, not a CSV file", label)
     if not os.path.exists(path):
         raise DataError("file not found", label, f"looked for {os.path.abspath(path)}")
+    check_separator(header_line(path).split(","), label)
     try:
         frame = pd.read_csv(path, dtype=str, keep_default_na=False, skipinitialspace=True,
                             encoding="utf-8")

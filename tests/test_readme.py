@@ -10,8 +10,9 @@ What is not run as written, and why (said here, nowhere else):
 
 * ``pip install ...``: installing the package is what made this test environment;
 * ``pytest``: the suite is what runs this test;
-* ``--sample 1000`` becomes ``--sample 12`` (a thousand shipper runs take minutes; the command,
-  its options and its outputs are otherwise as written).
+* ``--sample 1000`` (the sweep) and ``--sample 200`` (the sizing) become ``--sample 12`` (hundreds
+  of shipper runs per value take minutes; the command, its options and its outputs are otherwise
+  as written).
 """
 
 from __future__ import annotations
@@ -34,7 +35,7 @@ SKIPPED = {"pip": "installing is what made the test environment",
            "pytest": "the suite is what runs this test"}
 
 #: Option values reduced for the test: {(option, value as written): value run}.
-REDUCED = {("--sample", "1000"): "12"}
+REDUCED = {("--sample", "1000"): "12", ("--sample", "200"): "12"}
 
 
 def shell_blocks(text: str) -> list[list[list[str]]]:
@@ -99,3 +100,23 @@ def test_every_readme_command_runs(index, tmp_path, monkeypatch, cli):
     if not ran:
         pytest.skip("only install/test commands in this block: " + ", ".join(
             SKIPPED[c[0]] for c in BLOCKS[index]))
+
+
+def test_every_dependency_is_in_the_readme_table():
+    # every runtime, optional and test dependency of pyproject.toml has a row in "Dependencies
+    # and why" saying what it is there for (the project's rule: say in README why a dependency is)
+    import tomllib
+
+    with open(os.path.join(ROOT, "pyproject.toml"), "rb") as fh:
+        project = tomllib.load(fh)["project"]
+    specs = list(project["dependencies"])
+    for extra in project.get("optional-dependencies", {}).values():
+        specs += extra
+    wanted = {re.split(r"[\[<>=!~; ]", spec, maxsplit=1)[0].lower() for spec in specs}
+    with open(README, encoding="utf-8") as fh:
+        text = fh.read()
+    section = text.split("## Dependencies and why", 1)[1].split("\n## ", 1)[0]
+    listed = set()
+    for row in re.findall(r"^\| ([^|]+) \|", section, re.M):
+        listed |= {w.lower() for w in re.findall(r"[A-Za-z][A-Za-z0-9_.-]*", row)}
+    assert wanted - listed == set(), f"no row in README's 'Dependencies and why' for {wanted - listed}"

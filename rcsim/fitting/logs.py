@@ -10,7 +10,6 @@ column and the line.
 from __future__ import annotations
 
 import os
-import re
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -19,6 +18,7 @@ import pandas as pd
 from ..base import suggest
 from ..errors import DataError, InputError
 from ..profiles import read_csv_text, read_time_series
+from ..profiles.timeseries import check_separator, first_row_clock, split_header, time_unit_of
 from ..units import to_si
 
 __all__ = ["Log", "read_log", "gap_notes", "log_header"]
@@ -90,12 +90,8 @@ class RawLog:
     lines: np.ndarray
 
 
-def strip_unit(name: str) -> tuple[str, str | None]:
-    """``"time [min]"`` -> ``("time", "min")``; a name without a unit -> ``(name, None)``."""
-    m = re.match(r"^(.*?)\s*[\[(]\s*([^\])]+?)\s*[\])]\s*$", name)
-    if m:
-        return m.group(1).strip(), m.group(2)
-    return name.strip(), None
+#: ``"time [min]"`` -> ``("time", "min")`` (:func:`rcsim.profiles.timeseries.split_header`)
+strip_unit = split_header
 
 
 def _find_time_column(columns, time, mapped_targets, names, label) -> str:
@@ -231,6 +227,7 @@ def log_header(source, time=None) -> tuple[str | None, list[str]]:
                                                             encoding="utf-8").columns]
         except (UnicodeDecodeError, pd.errors.ParserError, pd.errors.EmptyDataError):
             raise DataError("cannot be read as a CSV file with a header", label) from None
+        check_separator(header, label)
     if not header:
         raise DataError("has no columns", label)
     tcol = _find_time_column(header, time, set(), set(), label)
@@ -267,13 +264,6 @@ def _from_csv(path, time, time_unit, label, columns, names, start) -> RawLog:
     raw = read_csv_text(path, label)
     header_all = list(raw.columns)
     tcol = _find_time_column(header_all, time, set(columns), names, label)
-    if time_unit is None:
-        time_unit = strip_unit(tcol)[1] or "s"
-    try:
-        to_si(f"1 {time_unit}", "time", "time unit")
-    except InputError:
-        raise DataError(f"time column {tcol!r}: {time_unit!r} is not a unit of time", label,
-                        "write e.g. 'time [s]' or 'time [min]'") from None
     header = [c for c in header_all if c != tcol]
     if not header:
         raise DataError("has only a time column", label, "add temperature columns")
@@ -293,9 +283,11 @@ def _from_csv(path, time, time_unit, label, columns, names, start) -> RawLog:
     t = frame.index.to_numpy(dtype=float)
     is_dt = bool(frame.attrs.get("is_datetime", False))
     origin = None
-    if is_dt:
-        stamps = pd.to_datetime(raw[tcol].str.strip(), format="ISO8601")
-        origin = stamps.iloc[0]
+    if is_dt:  # the first row as an instant, on the clock the reader used (mixed offsets allowed)
+        from ..clock import parse_timestamps
+
+        text = raw[tcol].str.strip()
+        origin = first_row_clock(parse_timestamps(text, None, label, tcol), text)[0]
     frame = frame.reset_index(drop=True)
     return RawLog(t, frame, header, is_dt, origin, np.arange(t.size) + 2)
 
@@ -319,8 +311,7 @@ def _from_frame(df, time, time_unit, label, columns, names) -> RawLog:
         tcol = _find_time_column(header_all, time, set(columns), names, label)
         tvals = df[tcol]
         tname = tcol
-    if time_unit is None:
-        time_unit = strip_unit(tname)[1] or "s"
+    time_unit = time_unit_of(tname, time_unit, label)
     t, origin = _frame_times(tvals, tname, to_si(f"1 {time_unit}", "time", "time_unit"), label)
     header = [c for c in header_all if c != tcol]
     out = {}

@@ -14,6 +14,7 @@ import math
 import numpy as np
 
 from ..errors import ProfileError
+from ..units import ABSOLUTE_ZERO
 
 LEVEL_KIND = {"temperature": "temperature", "power": "power", "conductance": "conductance",
               "heat_flux": "heat_flux", "velocity": "velocity", "fraction": "dimensionless"}
@@ -62,6 +63,8 @@ def to_si_array(values, kind: str, where: str | None = None) -> np.ndarray:
         return convert(values, kind, where)
     out = np.asarray(numbers, dtype=float).ravel()
     bad = ~np.isfinite(out) | (np.abs(out) > MAX_MAGNITUDE)
+    if kind == "temperature":
+        bad |= out < ABSOLUTE_ZERO
     if bad.any():          # the per-value conversion says what is wrong, and where
         i = int(np.argmax(bad))
         to_si(values[i], kind, f"{where}[{i}]" if where else f"[{i}]")

@@ -7,7 +7,7 @@ import math
 import numpy as np
 
 from ..errors import ProfileError
-from .base import DELTA_KIND, LEVEL_KIND, Profile, check_points, to_si, to_si_array
+from .base import ABSOLUTE_ZERO, DELTA_KIND, LEVEL_KIND, Profile, check_points, to_si, to_si_array
 
 
 class Constant(Profile):
@@ -76,6 +76,11 @@ class Sine(Profile):
                  to_si(r["amplitude"], DELTA_KIND[kind], w("amplitude")),
                  to_si(r["period"], "time", w("period")),
                  None if r["peak"] is None else to_si(r["peak"], "time", w("peak")), where)
+        low = out.mean - abs(out.amplitude)
+        if LEVEL_KIND[kind] == "temperature" and low < ABSOLUTE_ZERO:
+            raise ProfileError(f"the sine falls to {low:g} degC, below absolute zero "
+                               f"({ABSOLUTE_ZERO:g} degC)", w("amplitude"),
+                               "check the mean, the amplitude and their units")
         return out
 
     def _pl(self, t, side):

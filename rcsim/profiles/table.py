@@ -8,7 +8,7 @@ import os
 import numpy as np
 
 from ..errors import ProfileError
-from .base import LEVEL_KIND, Profile, check_points, to_si, to_si_array
+from .base import ABSOLUTE_ZERO, LEVEL_KIND, Profile, check_points, to_si, to_si_array
 from .timeseries import read_time_series
 
 
@@ -28,7 +28,10 @@ class Table(Profile):
     2.0
     """
 
-    def __init__(self, times, values, outside="error", unit=None, source=None):
+    #: file line of each point when read from a CSV file (for messages), else None
+    lines = None
+
+    def __init__(self, times, values, outside="error", unit=None, source=None, where=None):
         self.raw = dict(times=times, values=values, outside=outside, unit=unit)
         self.source = source
         try:
@@ -37,7 +40,7 @@ class Table(Profile):
         except (TypeError, ValueError):
             return
         if unit is None:
-            self._set(t, v, outside, None)
+            self._set(t, v, outside, where)
 
     def _set(self, times, values, outside, where):
         check_points(times, values, outside, where, 2, "a table")
@@ -45,17 +48,36 @@ class Table(Profile):
 
     def _bind(self, kind, where):
         out = Table.__new__(Table)
-        out.raw, out.source = self.raw, self.source
+        out.raw, out.source, out.lines = self.raw, self.source, self.lines
         w = f"{where}." if where else ""
         unit = self.raw["unit"]
         times = to_si_array(self.raw["times"], "time", w + "times")
         if unit is not None:
             values = convert_array(np.asarray(self.raw["values"], dtype=float), unit,
                                    LEVEL_KIND[kind], w + "unit")
+        elif self.lines is not None:  # read from a CSV file: numbers in degC (or SI) already
+            values = np.asarray(self.raw["values"], dtype=float)
         else:
             values = to_si_array(self.raw["values"], LEVEL_KIND[kind], w + "values")
+        if LEVEL_KIND[kind] == "temperature":
+            self._check_absolute_zero(values, where, w)
         out._set(times, values, self.raw["outside"], where)
         return out
+
+    def _check_absolute_zero(self, values, where, w) -> None:
+        """Refuse temperatures below absolute zero, naming the file line or the index."""
+        bad = values < ABSOLUTE_ZERO
+        if bad.any():
+            i = int(np.argmax(bad))
+            if self.lines is not None:
+                name, _, column = (self.source or "the CSV file").rpartition(":")
+                row = f"{name} line {int(self.lines[i])} column {column!r}"
+                place = f"{where}: {row}" if where else row
+            else:
+                place = f"{w}values[{i}]"
+            raise ProfileError(f"{values[i]:g} degC is below absolute zero "
+                               f"({ABSOLUTE_ZERO:g} degC)", place,
+                               "check the value and its unit")
 
     def _pl(self, t, side):
         return np.interp(t, self.times, self.values)
@@ -79,7 +101,7 @@ class Table(Profile):
         return f"Table(<{len(self.raw['times'])} points>)"
 
     @classmethod
-    def from_csv(cls, path, column, time=None, start=None, unit=None, time_unit="s",
+    def from_csv(cls, path, column, time=None, start=None, unit=None, time_unit=None,
                  missing="error", outside="error", where=None) -> "Table":
         """Read one column of a CSV file as a table profile.
 
@@ -96,8 +118,9 @@ class Table(Profile):
             default the first timestamp.
         unit : str, optional
             Unit of the values (e.g. ``"degF"``, ``"kW"``); default SI (degC, W).
-        time_unit : str
-            Unit of a numeric time column (default seconds).
+        time_unit : str, optional
+            Unit of a numeric time column when its header does not say (``time [h]``);
+            default seconds. A header and a ``time_unit`` that disagree are refused.
         missing : {'error', 'interpolate'}
             Empty or non-numeric values: an error naming the row (default), or skip the row and
             interpolate across it.
@@ -105,12 +128,24 @@ class Table(Profile):
         series = read_time_series(path, [column], time=time, start=start, time_unit=time_unit,
                                   missing=missing, where=where)
         times = series.index.to_numpy(dtype=float)
-        values = series[column].to_numpy(dtype=float)
+        return cls.from_columns(path, column, times, series[column].to_numpy(dtype=float),
+                                unit=unit, missing=missing, outside=outside, where=where)
+
+    @classmethod
+    def from_columns(cls, path, column, times, values, *, unit=None, missing="error",
+                     outside="error", where=None) -> "Table":
+        """A table of the column ``column`` of the CSV file ``path`` as read (``times`` [s] and
+        ``values``, one per data row, NaN where ``missing = 'interpolate'`` skips a row)."""
+        lines = np.arange(values.size) + 2   # file lines: the header is line 1
         if missing == "interpolate":
             keep = np.isfinite(values)
-            times, values = times[keep], values[keep]
+            times, values, lines = times[keep], values[keep], lines[keep]
         name = os.path.basename(str(path))
-        return cls(times, values, outside=outside, unit=unit, source=f"{name}:{column}")
+        where = where if where is not None else name
+        table = cls(times, values, outside=outside, unit=unit, source=f"{name}:{column}",
+                    where=where)
+        table.lines = lines
+        return table
 
 
 def convert_array(values: np.ndarray, unit: str, kind: str, where: str | None) -> np.ndarray:

@@ -6,6 +6,7 @@ pandas is imported inside the readers, so importing profiles does not load it.
 from __future__ import annotations
 
 import os
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -23,13 +24,54 @@ class TimeParse:
     is_datetime: bool
 
 
-def read_time_series(path, columns=None, time=None, start=None, time_unit="s", missing="error",
+_HEADER_UNIT = re.compile(r"^(.*?)\s*[\[(]\s*([^\])]+?)\s*[\])]\s*$")
+
+
+def split_header(name: str) -> tuple[str, str | None]:
+    """``"time [min]"`` -> ``("time", "min")``; a name without a unit -> ``(name, None)``.
+
+    >>> split_header("time [h]"), split_header("elapsed (s)"), split_header("T_out")
+    (('time', 'h'), ('elapsed', 's'), ('T_out', None))
+    """
+    m = _HEADER_UNIT.match(name)
+    if m:
+        return m.group(1).strip(), m.group(2)
+    return name.strip(), None
+
+
+def time_unit_of(header: str, time_unit: str | None, label: str) -> str:
+    """The unit of a numeric time column: the one in its header (``time [h]``), else
+    ``time_unit``, else seconds. A header and a ``time_unit`` that disagree, or a unit that is
+    not one of time, are refused (DataError naming the file and the column).
+
+    >>> time_unit_of("time [h]", None, "x.csv"), time_unit_of("t", "min", "x.csv")
+    ('h', 'min')
+    """
+    in_header = split_header(header)[1]
+    for unit, said in ((in_header, f"its header says {in_header!r}"),
+                       (time_unit, f"time_unit is {time_unit!r}")):
+        if unit is not None:
+            try:
+                to_si(f"1 {unit}", "time")
+            except ValueError:
+                raise DataError(f"time column {header!r}: {said}, which is not a unit of time",
+                                label, "write e.g. 'time [s]', 'time [min]' or 'time [h]'") from None
+    if in_header is not None and time_unit is not None and \
+            to_si(f"1 {in_header}", "time") != to_si(f"1 {time_unit}", "time"):
+        raise DataError(f"time column {header!r}: its header says {in_header!r} but time_unit "
+                        f"is {time_unit!r}", label, "give the unit in one place")
+    return in_header or time_unit or "s"
+
+
+def read_time_series(path, columns=None, time=None, start=None, time_unit=None, missing="error",
                      where=None, max_bytes=None):
     """Read a CSV time series: a time column and numeric value columns.
 
     Returns a pandas DataFrame indexed by time [s] (float), one column per requested column (or
-    every column but the time column). Times in seconds (or ``time_unit``) or ISO-8601 timestamps;
-    timestamps are counted from ``start`` (default the first one).
+    every column but the time column). Numeric times are in the unit written in the time
+    column's header (``time [h]``), or ``time_unit``, or seconds (:func:`time_unit_of`); or
+    ISO-8601 timestamps, counted from ``start`` (default the first one), mixed UTC offsets placed
+    on one clock (:func:`parse_times`).
 
     Raises
     ------
@@ -53,6 +95,8 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit="s", m
     if len(set(df.columns)) != len(df.columns):
         raise DataError("has duplicate column names", label)
     tcol = time if time is not None else df.columns[0]
+    if tcol not in df.columns:  # the name without its unit: time = "hour" for "hour [h]"
+        tcol = next((c for c in df.columns if split_header(c)[0] == tcol), tcol)
     if tcol not in df.columns:
         raise DataError(f"no time column {tcol!r}", label,
                         "columns are: " + ", ".join(map(repr, df.columns)))
@@ -97,6 +141,7 @@ def read_csv_text(path, label: str):
     # pandas holds a CSV read as text at about 11-15 times its size on disk (measured for
     # 1,000,000 rows, tests/benchmarks/bench_transient.py --large)
     check_fits_in_memory(os.path.getsize(path) * 15, label, "reading it")
+    check_separator(header_line(path).split(","), label)
     try:
         df = pd.read_csv(path, skipinitialspace=True, dtype=str, keep_default_na=False,
                          encoding="utf-8")
@@ -111,6 +156,38 @@ def read_csv_text(path, label: str):
     if df.shape[0] == 0:
         raise DataError("has a header but no data rows", label)
     return df
+
+
+#: separators other programs write instead of a comma, and their names in messages
+OTHER_SEPARATORS = {";": "semicolons", "\t": "tabs", "|": "vertical bars"}
+
+
+def header_line(path, limit: int = 65536) -> str:
+    """The first line of a text file (at most ``limit`` characters; "" if unreadable here: the
+    reader that follows reports that)."""
+    try:
+        with open(path, encoding="utf-8", errors="replace", newline="") as fh:
+            return fh.readline(limit).rstrip("\r\n")
+    except OSError:
+        return ""
+
+
+def check_separator(header, label: str) -> None:
+    """Refuse a CSV file whose header is one column holding another separator (``time;T``).
+
+    rcsim reads comma-separated files only, with a point as the decimal mark: a file separated
+    by semicolons usually writes decimal commas (``20,5``), which no guess could read safely.
+    """
+    if len(header) != 1:
+        return
+    name = str(header[0])
+    for sep, what in OTHER_SEPARATORS.items():
+        if sep in name:
+            shown = name if len(name) <= 40 else name[:37] + "..."
+            raise DataError(f"its header {shown!r} is one column separated by {what} ({sep!r}); "
+                            "rcsim reads comma-separated files", label,
+                            "save it as CSV with commas between columns and a point as the "
+                            "decimal mark")
 
 
 def memory_available() -> int | None:
@@ -135,42 +212,61 @@ def check_fits_in_memory(needed_bytes: float, where: str, doing: str) -> None:
 
 
 def parse_times(col, name, label, start, time_unit) -> TimeParse:
-    """A CSV time column (strings) to seconds: numbers in ``time_unit``, or ISO-8601
-    timestamps counted from ``start`` (default the first); the first row decides which."""
+    """A CSV time column (strings) to seconds; the first row decides which of:
+
+    * numbers, in the unit of :func:`time_unit_of` (the header's, ``time_unit``, or seconds);
+    * ISO-8601 timestamps, counted from ``start`` (default the first). Rows with UTC offsets are
+      exact instants and may mix offsets (``Z`` beside ``+02:00``, a daylight-saving change),
+      placed on one clock by :func:`rcsim.clock.parse_timestamps` and shown at the first row's
+      offset; rows without offsets are readings of one clock. Rows with and without offsets
+      mixed are refused, naming the line.
+    """
     import pandas as pd
+
+    from ..clock import parse_timestamps
 
     text = col.str.strip()
     numeric = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
     if np.isfinite(numeric).all():
-        factor = to_si(f"1 {time_unit}", "time", "time_unit")
+        unit = time_unit_of(name, time_unit, label)
+        factor = to_si(f"1 {unit}", "time", "time_unit")
         with np.errstate(over="ignore"):
             seconds = numeric * factor
         if not np.isfinite(seconds).all():  # e.g. 1e306 min: a number, but not a time
             i = int(np.argmax(~np.isfinite(seconds)))
             raise DataError(f"time column {name!r} line {i + 2} is too large to be a time "
-                            f"({text.iloc[i]!r} {time_unit})", label,
+                            f"({text.iloc[i]!r} {unit})", label,
                             "check the column's unit and values")
         return TimeParse(seconds, False)
     if np.isfinite(numeric[0]):  # the first row decides: seconds, or timestamps
         i = int(np.argmax(~np.isfinite(numeric)))
         raise DataError(f"time column {name!r} line {i + 2} is not a number ({text.iloc[i]!r})",
                         label)
-    stamps = pd.to_datetime(text, errors="coerce", format="ISO8601")
-    if stamps.isna().any():
-        i = int(np.argmax(stamps.isna().to_numpy()))
-        raise DataError(f"time column {name!r} line {i + 2} is neither seconds nor an ISO-8601 "
-                        f"timestamp ({text.iloc[i]!r})", label)
+    stamps = first_row_clock(parse_timestamps(text, None, label, name), text)
     if start is None:
-        origin = stamps.iloc[0]
+        origin = stamps[0]
     else:
         try:
             origin = pd.Timestamp(start)
         except (ValueError, TypeError):
             raise DataError(f"start {start!r} is not an ISO-8601 timestamp", label) from None
-    tz_data = stamps.dt.tz is not None
+    tz_data = stamps.tz is not None
     tz_origin = origin.tzinfo is not None
     if tz_data != tz_origin:
         raise DataError("timestamps and start time disagree on time zones (one has an offset, "
                         "the other not)", label, "give both with or both without a UTC offset")
-    seconds = (stamps - origin).dt.total_seconds().to_numpy(dtype=float)
+    seconds = (stamps - origin).total_seconds().to_numpy(dtype=float)
     return TimeParse(seconds, True)
+
+
+def first_row_clock(stamps, text):
+    """Instants (a DatetimeIndex in UTC, from :func:`rcsim.clock.parse_timestamps`) shown at the
+    UTC offset of the first row as written; naive stamps as they are."""
+    import pandas as pd
+
+    if stamps.tz is None:
+        return stamps
+    try:
+        return stamps.tz_convert(pd.Timestamp(text.iloc[0]).tzinfo)
+    except (ValueError, TypeError):  # pragma: no cover - a form pandas parses only as a column
+        return stamps

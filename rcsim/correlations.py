@@ -16,6 +16,15 @@ References
 .. [3] W. H. McAdams, *Heat Transmission*, 3rd ed., McGraw-Hill, 1954 (horizontal plates).
 .. [4] F. M. White, *Viscous Fluid Flow*, 3rd ed., McGraw-Hill, 2006, Table 1-2 and 1-3
    (Sutherland's law for the viscosity and conductivity of air).
+
+Validity ranges
+---------------
+Each correlation holds over the range of Rayleigh (natural convection) or Reynolds (forced) and
+Prandtl numbers its source states (:data:`VALIDITY`, read by :func:`validity_ranges`);
+:func:`outside_validity` finds the samples of a run outside them, and a run warns once per film
+that leaves its range (rcsim.run_warnings). The published bounds are approximate (written
+"less than about" in [1]), so a number counts as outside when it passes a bound by more than
+:data:`VALIDITY_MARGIN` (5 %, common practice).
 """
 
 from __future__ import annotations
@@ -40,6 +49,12 @@ __all__ = [
     "CORRELATIONS",
     "correlation_names",
     "get_correlation",
+    "ValidityRange",
+    "VALIDITY",
+    "VALIDITY_MARGIN",
+    "validity_ranges",
+    "dimensionless_numbers",
+    "outside_validity",
 ]
 
 _R_AIR = 287.05           # J/(kg K), specific gas constant of dry air (common practice)
@@ -273,3 +288,129 @@ def get_correlation(name, where=None) -> Correlation:
 
         raise InputError(f"unknown correlation {name!r}", where, suggest(name, CORRELATIONS))
     return CORRELATIONS[name]
+
+
+# -- validity ranges ---------------------------------------------------------------------------
+@dataclass(frozen=True)
+class ValidityRange:
+    """Where a correlation holds: ``low <= number <= high`` for ``number`` 'Ra', 'Re' or 'Pr'.
+
+    ``applies`` says to which samples: 'all', 'lifts' / 'sinks' (a horizontal plate whose
+    buoyancy lifts the fluid off it, or presses it against it), 'laminar' (Ra at most 1e7 on a
+    lifting plate, where eq. 9.30 of [1] asks Pr >= 0.7). ``source`` names where the range is
+    stated.
+    """
+
+    number: str
+    low: float
+    high: float
+    source: str
+    applies: str = "all"
+
+
+_CC_PLATE = ("Churchill & Chu (1975) [2], vertical plate: data correlated from Ra = 1e-1 to "
+             "1e12 (from memory)")
+_CC_CYLINDER = ("Churchill & Chu (1975) [2], horizontal cylinder: Ra_D from 1e-5 (their lower "
+                "limit) to 1e12 (Incropera et al. [1] eq. 9.34)")
+_MCADAMS_UP = "McAdams [3] as in Incropera et al. [1] eqs. 9.30-9.31: 1e4 <= Ra <= 1e11"
+_MCADAMS_UP_PR = "Incropera et al. [1] eq. 9.30: Pr >= 0.7 (Ra <= 1e7)"
+_MCADAMS_DOWN = ("McAdams [3] as in Incropera et al. [1] (6th ed.) eq. 9.32: 1e5 <= Ra <= 1e10 "
+                 "(from memory)")
+_FLAT_PR = "Incropera et al. [1] eqs. 7.30, 7.36, 7.38: 0.6 <= Pr <= 60"
+
+#: correlation name (and, for flat-plate-forced, regime) -> its published validity ranges
+VALIDITY: dict[str, tuple[ValidityRange, ...]] = {
+    "vertical-plate": (ValidityRange("Ra", 1e-1, 1e12, _CC_PLATE),),
+    "horizontal-cylinder": (ValidityRange("Ra", 1e-5, 1e12, _CC_CYLINDER),),
+    "horizontal-plate": (
+        ValidityRange("Ra", 1e4, 1e11, _MCADAMS_UP, "lifts"),
+        ValidityRange("Pr", 0.7, np.inf, _MCADAMS_UP_PR, "laminar"),
+        ValidityRange("Ra", 1e5, 1e10, _MCADAMS_DOWN, "sinks"),
+    ),
+    "flat-plate-forced:laminar": (
+        ValidityRange("Re", 0.0, 5e5, "Incropera et al. [1] eq. 7.30: laminar up to the "
+                      "transition, Re_c = 5e5"),
+        ValidityRange("Pr", 0.6, np.inf, "Incropera et al. [1] eq. 7.30: Pr >= 0.6")),
+    "flat-plate-forced:turbulent": (
+        ValidityRange("Re", 0.0, 1e8, "Incropera et al. [1] eq. 7.36: Re <= 1e8"),
+        ValidityRange("Pr", 0.6, 60.0, _FLAT_PR)),
+    "flat-plate-forced:mixed": (
+        ValidityRange("Re", 0.0, 1e8, "Incropera et al. [1] eq. 7.38: Re_c <= Re <= 1e8"),
+        ValidityRange("Pr", 0.6, 60.0, _FLAT_PR)),
+}
+VALIDITY["flat-plate-forced:auto"] = VALIDITY["flat-plate-forced:mixed"]
+
+#: relative amount by which a number may pass a published (approximate) bound unflagged
+VALIDITY_MARGIN = 0.05
+
+_GEOMETRY = {"vertical-plate": "vertical-plate", "horizontal-plate-up": "horizontal-plate",
+             "horizontal-plate-down": "horizontal-plate",
+             "horizontal-cylinder": "horizontal-cylinder"}
+
+
+def validity_ranges(name: str, regime: str = "auto") -> tuple[ValidityRange, ...]:
+    """The published validity ranges of correlation ``name`` (see :data:`VALIDITY`).
+
+    >>> [(r.number, r.low, r.high) for r in validity_ranges("vertical-plate")]
+    [('Ra', 0.1, 1000000000000.0)]
+    """
+    get_correlation(name)
+    if name == "flat-plate-forced":
+        return VALIDITY[f"flat-plate-forced:{regime}"]
+    return VALIDITY[_GEOMETRY[name]]
+
+
+def dimensionless_numbers(name: str, surface_temperature, fluid_temperature, params) -> dict:
+    """The numbers a correlation's validity is stated in, at the film temperature.
+
+    Natural convection: ``Ra`` = g beta |T_s - T_f| L^3 / (nu alpha) and ``Pr``; forced:
+    ``Re`` = v L / nu and ``Pr``; arrays shaped like the temperatures [degC]. ``params`` holds
+    the correlation's length key (and ``velocity``), as in a scenario's convection part.
+
+    >>> n = dimensionless_numbers("flat-plate-forced", 40.0, 20.0, {"length": 0.5, "velocity": 2.0})
+    >>> round(float(n["Re"]))
+    62576
+    """
+    corr = get_correlation(name)
+    ts = np.asarray(surface_temperature, dtype=float)
+    tf = np.asarray(fluid_temperature, dtype=float)
+    props = air_properties(0.5 * (ts + tf))
+    length = params[corr.length_key]
+    if name == "flat-plate-forced":
+        return {"Re": params["velocity"] * length / props["nu"], "Pr": props["Pr"]}
+    ra = GRAVITY * props["beta"] * np.abs(ts - tf) * length ** 3 / (props["nu"] * props["alpha"])
+    return {"Ra": ra, "Pr": props["Pr"]}
+
+
+def outside_validity(name: str, surface_temperature, fluid_temperature, params) -> list:
+    """Where correlation ``name`` leaves its published ranges, sample by sample.
+
+    Returns a list of (ValidityRange, values of its number, mask of the samples outside the
+    range by more than :data:`VALIDITY_MARGIN`). Samples where the surface and the fluid are at
+    the same temperature are never outside (no correlation applies there, and the film carries
+    no heat).
+
+    >>> out = outside_validity("horizontal-plate-up", [20.001, 60.0], 20.0, {"length": 0.1})
+    >>> [(r.number, r.applies, m.tolist()) for r, _, m in out if m.any()]
+    [('Ra', 'lifts', [True, False])]
+    """
+    ts = np.asarray(surface_temperature, dtype=float)
+    tf = np.asarray(fluid_temperature, dtype=float)
+    ts, tf = np.broadcast_arrays(ts, tf)
+    numbers = dimensionless_numbers(name, ts, tf, params)
+    hot = ts > tf
+    lifts = {"horizontal-plate-up": hot, "horizontal-plate-down": ~hot}.get(name)
+    moving = ts != tf
+    out = []
+    for rng in validity_ranges(name, params.get("regime", "auto")):
+        values = numbers[rng.number]
+        applies = moving.copy()
+        if rng.applies == "lifts":
+            applies &= lifts
+        elif rng.applies == "sinks":
+            applies &= ~lifts
+        elif rng.applies == "laminar":
+            applies &= lifts & (numbers["Ra"] <= 1e7)
+        low, high = rng.low * (1 - VALIDITY_MARGIN), rng.high * (1 + VALIDITY_MARGIN)
+        out.append((rng, values, applies & ((values < low) | (values > high))))
+    return out

@@ -17,10 +17,12 @@ __all__ = [
     "NetworkError",
     "ProfileError",
     "DataError",
+    "OutputError",
     "SolverError",
     "Interrupted",
     "RcsimWarning",
     "LumpedWarning",
+    "EnergyBalanceWarning",
 ]
 
 
@@ -81,6 +83,11 @@ class DataError(InputError):
     """A data file (CSV log, table) is malformed."""
 
 
+class OutputError(DataError):
+    """An output file cannot be written: its folder is missing, is not a folder or is not
+    writable, or the disk filled up while writing (nothing is left under the name then)."""
+
+
 class SolverError(RcsimError, RuntimeError):
     """The integration or a nonlinear solve failed on input that was otherwise valid.
 
@@ -133,3 +140,8 @@ class RcsimWarning(UserWarning):
 
 class LumpedWarning(RcsimWarning):
     """A lumped (single-node) assumption is doubtful, e.g. Biot number above 0.1."""
+
+
+class EnergyBalanceWarning(RcsimWarning):
+    """A run's energy balance does not close (its error is above
+    :data:`rcsim.transient.registry.BALANCE_LIMIT`): its temperatures are not to be trusted."""

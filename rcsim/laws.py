@@ -74,14 +74,17 @@ class FilmLaw:
     """Convection film with h from a named correlation: q = h(T_s, T_f) A (T1 - T2).
 
     ``surface_first`` says whether the surface is the part's first face (the side of the link's
-    first point) or its second; it matters for horizontal plates only.
+    first point) or its second; it matters for horizontal plates only. ``where`` is the part's
+    key path (for messages).
     """
 
-    def __init__(self, correlation, area: float, dims: dict, surface_first: bool = True):
+    def __init__(self, correlation, area: float, dims: dict, surface_first: bool = True,
+                 where: str = ""):
         self.correlation = correlation
         self.area = area
         self.dims = dims
         self.surface_first = surface_first
+        self.where = where
         self.key = ("film", correlation.name, surface_first, dims.get("regime", "auto"))
 
     def params(self) -> dict:
@@ -119,6 +122,7 @@ class SegmentLaws:
         self.seg = np.asarray([s[0] for s in segments], dtype=np.int64)
         self.R1 = np.asarray([s[2] for s in segments], dtype=float)
         self.R2 = np.asarray([s[3] for s in segments], dtype=float)
+        self.laws = [s[1] for s in segments]     # the law of each segment, in order
         groups: dict = {}
         for pos, (_, law, _, _) in enumerate(segments):
             groups.setdefault(law.key, []).append((pos, law))

@@ -20,6 +20,7 @@ Solvers live in :mod:`rcsim.steady`, :mod:`rcsim.modes` and :mod:`rcsim.transien
 from __future__ import annotations
 
 import re
+import unicodedata
 from dataclasses import dataclass
 
 import numpy as np
@@ -27,6 +28,7 @@ import numpy as np
 from . import elements
 from .assembly import Assembled, assemble_network, conductance_matrices
 from .base import suggest
+from .conditioning import check_stiff_groups
 from .errors import InputError, NetworkError
 from .materials import get_material
 from .parts import Part, make_part
@@ -44,11 +46,19 @@ _NAME_OK = re.compile(r'^[^.\[\]"\x00-\x1f]{1,100}$')
 
 
 def _check_name(name, what: str) -> str:
+    """The name in Unicode normal form C (any script; README "Names"), or NetworkError."""
+    if isinstance(name, str):
+        name = unicodedata.normalize("NFC", name)
     if not isinstance(name, str) or not _NAME_OK.match(name) or name.strip() != name:
         raise NetworkError(f"invalid {what} name {name!r}", None,
                            "use 1 to 100 characters without '.', '[', ']', quotes or "
                            "leading/trailing spaces")
     return name
+
+
+def _nfc(ref):
+    """A name referred to (a link's end, a source's node) in the form names are kept in."""
+    return unicodedata.normalize("NFC", ref) if isinstance(ref, str) else ref
 
 
 @dataclass
@@ -59,6 +69,7 @@ class Node:
     where: str = ""
     phase_change: object | None = None  # a rcsim.phase.PhaseChange, when the node melts/freezes
     mass: float | None = None
+    freezes_at: float | None = None     # declared freezing point [degC] (a run warns past it)
 
 
 @dataclass
@@ -148,6 +159,7 @@ class Network:
         self.exchanges: dict = {}   # radiation elements and enclosures, by name (their links)
         self._assembled: Assembled | None = None
         self.source_text: str | None = None  # scenario text, when built from a file
+        self.source_name: str | None = None  # its file name (messages start with it)
 
     # -- building -----------------------------------------------------------------------------
     def mark_changed(self) -> None:
@@ -161,7 +173,7 @@ class Network:
 
     def add_node(self, name: str, capacity=None, initial=None, *, mass=None, specific_heat=None,
                  material=None, volume=None, density=None, phase_change=None,
-                 where: str | None = None) -> str:
+                 freezes_at=None, where: str | None = None) -> str:
         """Add a node.
 
         Parameters
@@ -179,6 +191,9 @@ class Network:
         phase_change : dict or rcsim.phase.PhaseChange, optional
             Latent heat and melting range; the node then carries an enthalpy state
             (needs ``mass``).
+        freezes_at : float or str, optional
+            Freezing point [degC] of a node without latent heat (a water-based payload): a run
+            warns once when the node passes it (its temperatures beyond it are wrong).
 
         Returns
         -------
@@ -186,7 +201,7 @@ class Network:
             The name.
         """
         where = where or f"nodes.{name}"
-        _check_name(name, "node")
+        name = _check_name(name, "node")
         if self._point_exists(name):
             raise NetworkError(f"duplicate name {name!r} (nodes and boundaries share names)", where)
         w = lambda k: f"{where}.{k}"  # noqa: E731
@@ -247,14 +262,18 @@ class Network:
         if t0 is not None and t0 <= -273.15:
             raise NetworkError(f"initial temperature {t0:g} degC is below absolute zero",
                                w("initial"))
-        self.nodes[name] = Node(name, c, t0, where, pc, m)
+        tf = None if freezes_at is None else to_si(freezes_at, "temperature", w("freezes_at"))
+        if tf is not None and tf <= -273.15:
+            raise NetworkError(f"freezing point {tf:g} degC is below absolute zero",
+                               w("freezes_at"))
+        self.nodes[name] = Node(name, c, t0, where, pc, m, tf)
         self.mark_changed()
         return name
 
     def add_boundary(self, name: str, temperature, where: str | None = None) -> str:
         """Add a boundary with an imposed temperature: a number, a string or a profile."""
         where = where or f"boundaries.{name}"
-        _check_name(name, "boundary")
+        name = _check_name(name, "boundary")
         if self._point_exists(name):
             raise NetworkError(f"duplicate name {name!r} (nodes and boundaries share names)", where)
         prof = as_profile(temperature, "temperature", f"{where}.temperature")
@@ -270,9 +289,10 @@ class Network:
         part mappings in series, from ``a`` to ``b``; see :mod:`rcsim.parts`). ``area`` [m^2]
         sets the area used for the U-value. The name defaults to ``"a-b"``.
         """
+        a, b = _nfc(a), _nfc(b)
         name = name if name is not None else f"{a}-{b}"
         where = where or f"links.{name}"
-        _check_name(name, "link")
+        name = _check_name(name, "link")
         if name in self.links:
             raise NetworkError(f"duplicate link name {name!r}", where,
                                "give parallel links distinct names")
@@ -338,9 +358,10 @@ class Network:
     def add_source(self, node: str, power, name: str | None = None,
                    where: str | None = None) -> str:
         """Inject ``power`` [W] (number, string or profile) into ``node``."""
+        node = _nfc(node)
         name = name if name is not None else node
         where = where or f"sources.{name}"
-        _check_name(name, "source")
+        name = _check_name(name, "source")
         if name in self.sources:
             raise NetworkError(f"duplicate source name {name!r}", where)
         if node not in self.nodes:
@@ -354,6 +375,7 @@ class Network:
 
     def add_limit(self, node: str, min=None, max=None, where: str | None = None) -> str:  # noqa: A002
         """A temperature band for ``node``: min and/or max [degC]."""
+        node = _nfc(node)
         where = where or f"limits.{node}"
         if node not in self.nodes and not self.is_internal_name(node):
             raise NetworkError(f"unknown node {node!r}", where, suggest(node, list(self.nodes)))
@@ -376,14 +398,14 @@ class Network:
         the band. See :class:`rcsim.thermostat.Thermostat`.
         """
         where = where or f"thermostats.{name}"
-        _check_name(name, "thermostat")
+        name = _check_name(name, "thermostat")
         if name in self.thermostats or name in self.sources:
             raise NetworkError(f"duplicate name {name!r} (sources and thermostats share names)",
                                where)
-        spec = {"node": node, "setpoint": setpoint, "band": band, "power": power, "mode": mode,
+        spec = {"node": _nfc(node), "setpoint": setpoint, "band": band, "power": power, "mode": mode,
                 "control": control}
         if sensor is not None:
-            spec["sensor"] = sensor
+            spec["sensor"] = _nfc(sensor)
         if initially is not None:
             spec["initially"] = initially
         self.thermostats[name] = make_thermostat(name, spec, where, self.nodes)
@@ -422,7 +444,9 @@ class Network:
     def assemble(self) -> Assembled:
         """Assemble (and cache) the sparse matrices. Warns on doubtful lumped layers."""
         if self._assembled is None:
-            self._assembled = assemble_network(self)
+            asm = assemble_network(self)
+            check_stiff_groups(asm)     # links too stiff for double precision: refused here
+            self._assembled = asm
         return self._assembled
 
     # -- analysis (hand-offs to the solver modules) --------------------------------------------

@@ -404,7 +404,7 @@ def _convection_correlation(spec: dict, where: str) -> Part:
     if surface not in ("first", "second"):
         raise InputError(f"surface must be 'first' or 'second', got {surface!r}",
                          _w(where, "surface"), "the side of the link's first or second point")
-    law = FilmLaw(corr, area, dims, surface_first=(surface == "first"))
+    law = FilmLaw(corr, area, dims, surface_first=(surface == "first"), where=where)
     params = {"correlation": name, "area": area, **{k: v for k, v in dims.items()}}
     return Part("convection", float("nan"), area, 0.0, 0, params, where, law=law)
 

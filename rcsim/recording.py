@@ -9,15 +9,16 @@ stays bounded on long runs).
 
 from __future__ import annotations
 
-import json
-import os
+import unicodedata
 from dataclasses import dataclass, field
 from typing import NamedTuple
 
 import numpy as np
 import pandas as pd
 
-from .atomic import commit, discard, temporary_beside
+# the HDF5 side lives in rcsim.h5files; re-exported here for older imports
+from .h5files import (NAMES_ATTRIBUTE_BYTES, H5Sink, names_dataset, read_frame,  # noqa: F401
+                      read_names, write_frame, write_names)
 from .base import suggest
 from .errors import InputError, NetworkError, SolverError
 from .limits import LIMIT_COLUMNS, ExcursionTracker
@@ -55,19 +56,7 @@ class Chunk:
 
 
 # -- sinks -----------------------------------------------------------------------------------
-_ONE_D = ("time", "energy/stored")
-#: The names of a series stay an HDF5 attribute ``names`` too while they take at most this many
-#: bytes (an attribute must fit in a 64 KiB object header); they are always a dataset
-#: ``<series>_names`` as well.
-NAMES_ATTRIBUTE_BYTES = 32_768
-
-
-def names_dataset(key: str) -> str:
-    """Where a result file keeps the names of series ``key``: ``/temperature_names``,
-    ``/energy/links_names``, ..."""
-    return f"{key}_names"
-
-
+_ONE_D = ("time", "energy/stored")   # as in rcsim.h5files.ONE_D
 class _Growing:
     """A history filled chunk by chunk into a preallocated column-major array (doubled when a
     run delivers more rows than announced: never a concatenation of all chunks)."""
@@ -150,135 +139,6 @@ class MemorySink:
         self.buffers.clear()
 
 
-def _names_attribute(names: list[str]):
-    """Names as UTF-8 byte strings for an HDF5 attribute (readers decode them)."""
-    return np.asarray([n.encode("utf-8") for n in names], dtype="S") if names else \
-        np.zeros(0, dtype="S1")
-
-
-def write_names(h5, key: str, names: list[str]) -> None:
-    """Store the names of series ``key``: a dataset :func:`names_dataset` of UTF-8 strings
-    (any length), and the attribute ``names`` of the series as well when it is short enough
-    (:data:`NAMES_ATTRIBUTE_BYTES`) for files read by older versions."""
-    import h5py
-
-    h5.create_dataset(names_dataset(key), data=np.asarray(names, dtype=object),
-                      dtype=h5py.string_dtype("utf-8"), shape=(len(names),))
-    attribute = _names_attribute(names)
-    if attribute.nbytes <= NAMES_ATTRIBUTE_BYTES:
-        h5[key].attrs["names"] = attribute
-
-
-def read_names(h5, key: str) -> list[str] | None:
-    """The names of series ``key`` of a result file: the names dataset, or (files written
-    before it existed) the attribute ``names``; None when it has neither."""
-    ds = names_dataset(key)
-    if ds in h5:
-        return [n.decode("utf-8") if isinstance(n, bytes) else str(n) for n in h5[ds][()]]
-    if key in h5 and "names" in h5[key].attrs:
-        return [n.decode("utf-8") if isinstance(n, bytes) else str(n)
-                for n in h5[key].attrs["names"]]
-    return None
-
-
-class H5Sink:
-    """Streams chunks to an HDF5 file written under a temporary name, renamed on success."""
-
-    def __init__(self, path):
-        import h5py
-
-        self.path = os.fspath(path)
-        self.tmp = temporary_beside(self.path, ".h5.tmp")
-        self.file = h5py.File(self.tmp, "w", rdcc_nbytes=32 * 2 ** 20)
-        self.names: dict[str, list[str]] = {}
-        self._empty: list[str] = []
-        self._rows: dict[str, int] = {}
-        self.expected = 0
-        self._open = True
-
-    def reserve(self, samples: int) -> None:
-        """The number of samples the run will deliver (datasets are created at that size)."""
-        self.expected = max(0, int(samples))
-
-    def declare(self, key: str, names: list[str]) -> None:
-        self.names[key] = list(names)
-        if key not in _ONE_D and not names:
-            self._empty.append(key)  # zero-width: written at the end, unchunked
-            return
-        width = len(names)
-        shape = (self.expected,) if key in _ONE_D else (self.expected, width)
-        maxshape = (None,) if len(shape) == 1 else (None, width)
-        # chunks of about 1 MB (wide histories: a few rows each), within the chunk cache
-        chunks = (4096,) if len(shape) == 1 else (max(1, min(4096, 131_072 // max(1, width))),
-                                                   max(1, min(width, 131_072)))
-        self.file.create_dataset(key, shape=shape, maxshape=maxshape, dtype="f8", chunks=chunks)
-        self._rows[key] = 0
-        if len(shape) == 2:
-            write_names(self.file, key, names)
-
-    def append(self, key: str, array: np.ndarray) -> None:
-        if key in self._empty:
-            return
-        ds = self.file[key]
-        n0 = self._rows[key]
-        n1 = n0 + array.shape[0]
-        if n1 > ds.shape[0]:
-            ds.resize(max(n1, ds.shape[0] + ds.shape[0] // 2), axis=0)
-        ds[n0:n1] = np.ascontiguousarray(array)
-        self._rows[key] = n1
-
-    def write_table(self, group: str, frame: pd.DataFrame) -> None:
-        write_frame(self.file, group, frame)
-
-    def finish(self, attrs: dict) -> None:
-        for key, rows in self._rows.items():      # datasets end where the samples ended
-            if self.file[key].shape[0] != rows:
-                self.file[key].resize(rows, axis=0)
-        n_rows = self._rows.get("time", 0)
-        for key in self._empty:
-            self.file.create_dataset(key, data=np.empty((n_rows, 0)))
-            write_names(self.file, key, [])
-        for k, v in attrs.items():
-            self.file.attrs[k] = v
-        self.file.close()
-        self._open = False
-        commit(self.tmp, self.path)
-
-    def abort(self) -> None:
-        if self._open:
-            try:
-                self.file.close()
-            except Exception:  # pragma: no cover - closing a broken file
-                pass
-            self._open = False
-        discard(self.tmp)
-
-
-def write_frame(h5, group: str, frame: pd.DataFrame) -> None:
-    g = h5.create_group(group)
-    g.attrs["columns"] = json.dumps(list(map(str, frame.columns)))
-    for col in frame.columns:
-        values = frame[col].to_numpy()
-        if values.dtype.kind in "OUS" or str(frame[col].dtype) in ("string", "str"):
-            g.create_dataset(str(col), data=np.asarray([str(v) for v in values], dtype="S"))
-        else:
-            g.create_dataset(str(col), data=values.astype(float))
-
-
-def read_frame(h5, group: str) -> pd.DataFrame:
-    if group not in h5:
-        return pd.DataFrame()
-    g = h5[group]
-    cols = json.loads(g.attrs["columns"])
-    data = {}
-    for c in cols:
-        arr = g[c][()]
-        if arr.dtype.kind == "S":
-            arr = np.asarray([x.decode("utf-8") for x in arr], dtype=object)
-        data[c] = arr
-    return pd.DataFrame(data, columns=cols)
-
-
 # -- what a run records ------------------------------------------------------------------------
 @dataclass
 class RecordingPlan:
@@ -310,6 +170,9 @@ class RecordingPlan:
     #: series computed from each chunk (e.g. rcsim.surfaces.SolAirSeries): objects with ``key``,
     #: ``names``, ``nodes`` (node indices) and ``values(t, T of those nodes, u, s)``
     derived: list = field(default_factory=list)
+    #: observers of each chunk that keep no history (rcsim.run_warnings): objects with ``nodes``
+    #: (node indices) and ``observe(t, T of those nodes, u)``
+    watchers: list = field(default_factory=list)
 
     def tracker(self, asm):
         """A fresh excursion tracker of the limits (None without limits)."""
@@ -320,7 +183,7 @@ class RecordingPlan:
 
 
 def plan_recording(asm, record=None, limits=(), thermostat_names=(),
-                   derived=()) -> RecordingPlan:
+                   derived=(), watchers=()) -> RecordingPlan:
     """What to record for ``record`` (node names, one name, or None for every node), the
     network's ``limits`` (:class:`rcsim.network.Limit`) and thermostats.
 
@@ -334,7 +197,7 @@ def plan_recording(asm, record=None, limits=(), thermostat_names=(),
         if isinstance(record, str):
             record = [record]
         rec_idx = []
-        for r in record:
+        for r in (unicodedata.normalize("NFC", r) if isinstance(r, str) else r for r in record):
             if r not in names:
                 raise InputError(f"unknown node {r!r}", "record", suggest(r, names))
             rec_idx.append(names.index(r))
@@ -359,7 +222,8 @@ def plan_recording(asm, record=None, limits=(), thermostat_names=(),
             ends |= {int(p) for p in np.concatenate([asm.seg_a[asm.nl.seg],
                                                      asm.seg_b[asm.nl.seg]]) if p < asm.n_nodes}
     plan.derived = list(derived)
-    ends |= {int(i) for d in plan.derived for i in d.nodes}
+    plan.watchers = list(watchers)
+    ends |= {int(i) for d in plan.derived + plan.watchers for i in d.nodes}
     plan.out_nodes = sorted(set(rec_idx) | set(plan.limit_nodes) | ends)
     if asm.phase_change:
         plan.extra_names["liquid_fraction"] = [names[i] for i in sorted(asm.phase_change)]
@@ -454,6 +318,8 @@ class Recorder:
         self.limit_cols = np.asarray([pos[int(i)] for i in plan.limit_nodes], dtype=np.int64)
         self._derived = [(d, np.asarray([pos[int(i)] for i in d.nodes], dtype=np.int64))
                          for d in plan.derived]
+        self._watchers = [(w, np.asarray([pos[int(i)] for i in w.nodes], dtype=np.int64))
+                          for w in plan.watchers]
         self.sink = sink
         if samples is not None and hasattr(sink, "reserve"):
             sink.reserve(samples)
@@ -531,6 +397,8 @@ class Recorder:
             c.extras[d.key] = d.values(c.t, T[:, cols], c.u, c.s)
         for key in self.extra_names:
             self.sink.append(key, c.extras[key])
+        for w, cols in self._watchers:
+            w.observe(c.t, T[:, cols], c.u)
         self.tmin = np.minimum(self.tmin, cmin)
         self.tmax = np.maximum(self.tmax, cmax)
         self.tlast = np.array(T[-1])

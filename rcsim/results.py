@@ -57,7 +57,7 @@ _SERIES = ["temperature", "heat_flow", "boundary_temperature", "source_power",
            "thermostat_power", "sol_air"]
 
 #: metadata kept as JSON text in a result file and as Python objects in memory
-_JSON_META = ("stats", "energy_terms", "time_constants", "surfaces")
+_JSON_META = ("stats", "energy_terms", "time_constants", "surfaces", "warnings")
 
 
 # -- the result ------------------------------------------------------------------------------
@@ -91,6 +91,8 @@ class Result:
     sol_air : DataFrame
         sol-air temperature of each exposed surface [degC]; ``surfaces`` maps each to its node.
     solver : str
+    warnings : list of str
+        What the run warned about (also raised as warnings while it ran).
     run_info : rcsim.runinfo.RunInfo
         How the run was made: the path, why others declined, counts, wall time [s].
     stats : dict
@@ -107,7 +109,8 @@ class Result:
         self.meta = dict(meta or {})
         for key in _JSON_META:          # a loaded file holds these as JSON text
             if isinstance(self.meta.get(key), str):
-                self.meta[key] = _from_json(self.meta[key], [] if key == "time_constants" else {})
+                self.meta[key] = _from_json(self.meta[key], [] if key in ("time_constants", "warnings")
+                                            else {})
         if run_info is not None:
             self.meta["stats"] = run_info.as_dict()
         elif "stats" in self.meta:
@@ -122,6 +125,13 @@ class Result:
     @property
     def solver(self) -> str:
         return str(self.meta.get("solver", ""))
+
+    @property
+    def warnings(self) -> list[str]:
+        """What the run warned about, each text once, in order (rcsim's warnings raised while
+        it was made: nodes with no path to a boundary, a freezing point passed without latent
+        heat, a correlation outside its range, ...); kept in a result file too."""
+        return [str(w) for w in self.meta.get("warnings", [])]
 
     @property
     def energy_balance_error(self) -> float:

@@ -16,6 +16,7 @@ import math
 import os
 import re
 import tomllib
+import unicodedata
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -31,7 +32,7 @@ from .transient.registry import check_solver
 from .units import to_si
 
 __all__ = ["Scenario", "Settings", "load", "loads", "parse_key_path", "format_key_path",
-           "profile_from_spec", "FIT_KEYS"]
+           "profile_from_spec", "FIT_KEYS", "in_file"]
 
 _TOP = {"title", "description", "simulation", "nodes", "boundaries", "links", "sources", "limits",
         "thermostats", "radiation", "enclosures", "site", "weather", "surfaces", "fit"}
@@ -40,7 +41,7 @@ _TOP = {"title", "description", "simulation", "nodes", "boundaries", "links", "s
 FIT_KEYS = {"free", "bounds", "per_record", "columns", "ignore", "sigma", "noise", "label"}
 _SIM = {"duration", "step", "initial", "solver", "record", "start", "rtol", "atol"}
 _NODE = {"capacity", "initial", "mass", "specific_heat", "material", "volume", "density",
-         "phase_change"}
+         "phase_change", "freezes_at"}
 _LINK = {"between", "resistance", "conductance", "parts", "area"}
 _MAX_BYTES = 20_000_000
 
@@ -111,7 +112,14 @@ class Scenario:
             if err.where in _SIM:
                 raise type(err)(err.message, f"{self.name}: simulation.{err.where}",
                                 err.hint) from None
-            raise
+            raise in_file(err, self.name) from None
+
+    def steady(self, at: float = 0.0):
+        """The network's steady state (:meth:`rcsim.Network.steady`); errors name the file."""
+        try:
+            return self.network.steady(at=at)
+        except InputError as err:
+            raise in_file(err, self.name) from None
 
     def with_values(self, values: dict[str, Any]) -> "Scenario":
         """A new scenario with the values at the given key paths replaced.
@@ -274,6 +282,7 @@ def loads(text: str, name: str = "<scenario>", base_dir: str = ".", path: str | 
     """Read a scenario from a string."""
     if not text.strip():
         raise ScenarioError("is empty", name, "a scenario needs at least [nodes] and [links]")
+    text = unicodedata.normalize("NFC", text)   # names in one Unicode form (README "Names")
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
@@ -289,9 +298,14 @@ def build(data: dict, text: str, path: str | None, base_dir: str,
     try:
         return _build(data, text, path, base_dir, allow_absolute_paths, name)
     except InputError as err:
-        if err.where and err.where.startswith(name + ":"):
-            raise
-        raise err.at(name) from None
+        raise in_file(err, name) from None
+
+
+def in_file(err: InputError, name: str) -> InputError:
+    """``err`` with the scenario file's ``name`` in front of its place (unless already there)."""
+    if err.where and (err.where == name or err.where.startswith(name + ":")):
+        return err
+    return err.at(name)
 
 
 def _table(value, where, allow_empty=True) -> dict:
@@ -314,6 +328,7 @@ def _build(data, text, path, base_dir, allow_abs, name) -> Scenario:
     settings = _settings(_table(data.get("simulation", {}), "simulation"))
     ctx.outdoors = read_outdoors(data, settings.start, base_dir, allow_abs)  # [site], [weather]
     net = Network(title or None)
+    net.source_name = name
 
     nodes = _table(data["nodes"], "nodes")
     for nm, spec in nodes.items():

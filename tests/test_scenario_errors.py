@@ -24,6 +24,25 @@ parts = [
 ]
 """
 
+NO_BOUNDARY = """
+[simulation]
+duration = "2 h"
+step = "10 min"
+initial = "periodic"
+[nodes.payload]
+capacity = "1 kJ/K"
+initial = "10 degC"
+[nodes.lid]
+capacity = "1 kJ/K"
+initial = "20 degC"
+[links.gap]
+between = ["payload", "lid"]
+resistance = "1 K/W"
+[sources.heater]
+node = "payload"
+power = { sine = { mean = "0 W", amplitude = "1 W", period = "1 h" } }
+"""
+
 # (name, scenario text or a marker, expected fragment of the message)
 CASES = [
     ("toml_syntax", GOOD.replace('title = "t"', 'title = "t'), "line 2"),
@@ -111,6 +130,14 @@ CASES = [
      'area = "0.8 m^2" } },', '{ box = { k = 0.03, inside = [0.3, 0.3, 0.3], '
      'outside = [0.4, 0.4, 0.5] } },'),
      "links.wall.parts[1].box.outside: the walls differ in thickness"),
+    # a periodic start where a group of nodes has no path to a boundary: refused as the steady
+    # state is, naming the file and key (issue 16 item 15)
+    ("periodic_no_boundary", NO_BOUNDARY,
+     "bad.toml: simulation.initial: nodes 'payload', 'lid' have no path to any boundary, so the "
+     "periodic regime is undefined"),
+    ("periodic_floating_node", GOOD.replace('step = "10 min"', 'step = "10 min"\n'
+     'initial = "periodic"') + '[nodes.lid]\ncapacity = 100\ninitial = "5 degC"\n',
+     "bad.toml: simulation.initial: node 'lid' has no path to any boundary"),
     ("solid_core_unsliced", GOOD.replace('{ conduction = { k = "0.033 W/(m*K)", thickness = "50 mm", '
      'area = "0.8 m^2" } },', '{ cylinder = { k = 0.5, inner_radius = 0, outer_radius = 0.02, '
      'length = 1 } },'),
@@ -140,6 +167,17 @@ def test_malformed_scenario_cli(name, text, fragment, tmp_path, cli):
     assert "Traceback" not in result.output
     assert not out_file.exists()
     assert not [p for p in os.listdir(tmp_path) if p.endswith(".tmp")]
+
+
+def test_steady_errors_name_the_file(tmp_path, cli):
+    # a group with no path to a boundary has no steady state: the one line names the file
+    path = tmp_path / "floating.toml"
+    path.write_text(GOOD + '[nodes.lid]\ncapacity = 100\ninitial = "5 degC"\n', encoding="utf-8")
+    result = cli("steady", path)
+    assert result.exit_code == 2, result.output
+    lines = [line for line in result.output.splitlines() if line.startswith("error:")]
+    assert len(lines) == 1 and lines[0].startswith("error: floating.toml: "), result.output
+    assert "'lid'" in lines[0] and "no path to any boundary" in lines[0]
 
 
 def test_at_least_fifteen_cases():

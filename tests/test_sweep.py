@@ -341,6 +341,7 @@ def test_sweep_tables_have_the_mode_of_any_new_file(body, tmp_path, suffix):
 
 
 # -- executors --------------------------------------------------------------------------------
+@pytest.mark.slow
 def test_same_table_from_serial_processes_and_dask(body):
     from dask.distributed import Client, LocalCluster
 

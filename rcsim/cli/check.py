@@ -16,6 +16,9 @@ from .options import allow_absolute_paths_option, load_scenario, scenario_argume
 def check(scenario, allow_absolute_paths):
     """Validate SCENARIO and summarise its network."""
     sc = load_scenario(scenario, allow_absolute_paths)
+    from ..run_warnings import warn_network
+
+    warn_network(sc.network)          # nodes with no path to a boundary (relayed by guard)
     click.echo(sc.network.summary())
     for line in _box_lines(sc.network):
         click.echo(line)

@@ -6,7 +6,7 @@ before a long run rather than after it.
 
 from __future__ import annotations
 
-import os
+import unicodedata
 
 import click
 
@@ -28,23 +28,25 @@ quiet_option = click.option("--quiet", is_flag=True,
 
 
 def check_output(path, suffixes, option: str) -> None:
-    """Refuse an output file whose folder is missing, that is a folder, or has a wrong suffix."""
+    """Refuse an output file whose folder is missing, is not a folder or cannot be written, that
+    is a folder, or has a wrong suffix: before any work."""
     if path is None:
         return
-    folder = os.path.dirname(os.path.abspath(path))
-    if not os.path.isdir(folder):
-        raise InputError(f"folder {os.path.dirname(path)!r} does not exist", option,
-                         "create it first")
-    if os.path.isdir(path):
-        raise InputError(f"{path!r} is a directory", option, "give a file name")
+    from ..atomic import check_writable
+
     if suffixes and not str(path).lower().endswith(tuple(suffixes)):
         raise InputError(f"{path!r} should end with {' or '.join(suffixes)}", option)
+    check_writable(path, option)
 
 
 def check_folder(path, option: str) -> None:
-    """Refuse a folder for figures that exists as something else than a folder."""
-    if path is not None and os.path.exists(path) and not os.path.isdir(path):
-        raise InputError(f"{path!r} exists and is not a folder", option)
+    """Refuse a folder for figures that exists as something else than a folder, or that could
+    not be created or written (tried in it, or in its nearest existing parent)."""
+    if path is None:
+        return
+    from ..atomic import check_folder_writable
+
+    check_folder_writable(path, option)
 
 
 def load_scenario(path, allow_absolute_paths: bool = False):
@@ -60,5 +62,6 @@ def names(values) -> list[str] | None:
     >>> names(("a,b", " c ")), names(())
     (['a', 'b', 'c'], None)
     """
-    out = [n.strip() for v in values for n in v.split(",") if n.strip()]
+    out = [unicodedata.normalize("NFC", n.strip()) for v in values for n in v.split(",")
+           if n.strip()]   # names are kept in Unicode normal form C (README "Names")
     return out or None

@@ -24,7 +24,7 @@ def steady(scenario, between, at):
     sc = load_scenario(scenario)
     net = sc.network
     at_seconds = to_si(at, "time", "--at")
-    res = net.steady(at=at_seconds)
+    res = sc.steady(at=at_seconds)     # errors name the scenario file
     r_between = net.equivalent_resistance(*between) if between else None
     width = max([len(n) for n in list(res.temperatures.index) + list(res.heat_flows.index)] + [8])
     click.echo(f"{sc.name}: steady state ({res.solver}), boundaries and sources at t = "

@@ -14,6 +14,7 @@ import os
 import numpy as np
 import pandas as pd
 
+from ..atomic import make_folder
 from ..sweep.tables import SweepTable, succeeded
 from .save import save_figure
 from .style import PALETTE
@@ -249,7 +250,7 @@ def sweep_figures(table: pd.DataFrame, folder, stem: str = "sweep", oat=None,
 
     table = _frame(table)
     folder = os.fspath(folder)
-    os.makedirs(folder, exist_ok=True)
+    make_folder(folder)
     outputs = [c for c in table.attrs.get("outputs", []) if c in table.columns]
     written = []
 

@@ -42,12 +42,9 @@ def check_report_path(path, where: str = "") -> str:
     if os.path.splitext(path)[1].lower() not in (".html", ".htm"):
         raise InputError(f"a report file name should end with .html, not {path!r}",
                          where or path, "give a name such as report.html")
-    folder = os.path.dirname(os.path.abspath(path))
-    if not os.path.isdir(folder):
-        raise InputError(f"folder {os.path.dirname(path)!r} does not exist", where or path,
-                         "create it first")
-    if os.path.isdir(path):
-        raise InputError(f"{path!r} is a directory", where or path, "give a file name")
+    from ..atomic import check_writable
+
+    check_writable(path, where or path)   # folder there, a folder, writable; not a folder
     return path
 
 

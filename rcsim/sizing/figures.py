@@ -15,6 +15,8 @@ import os
 
 import numpy as np
 
+from ..atomic import make_folder
+
 __all__ = ["plot_sizing", "sizing_figures"]
 
 
@@ -117,7 +119,7 @@ def sizing_figures(result, folder, stem: str = "sizing") -> list[str]:
     from ..plotting.save import save_figure
 
     folder = os.fspath(folder)
-    os.makedirs(folder, exist_ok=True)
+    make_folder(folder)
     drawn = plot_sizing(result)
     try:
         path = save_figure(drawn["figure"], os.path.join(folder, f"{stem}-sizing.png"))

@@ -25,7 +25,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from ..atomic import atomic_path
+from ..atomic import atomic_path, check_writable
 from ..errors import DataError, InputError
 from ..units import si_unit
 from .worker import OUTPUT_ALIASES, OUTPUT_PREFIXES, canonical_output
@@ -231,18 +231,13 @@ def check_table_path(path) -> str:
     """Check that a table can be written at ``path`` before any run; returns it as a string.
 
     The suffix is .csv, .h5/.hdf5 or .parquet (parquet needs the pyarrow package), the folder
-    exists and the path is not a directory.
+    exists and can be written, and the path is not a directory.
     """
     path = os.fspath(path)
     low = path.lower()
     if not low.endswith(TABLE_SUFFIXES):
         raise InputError(f"{path!r} should end with .csv, .h5 or .parquet", "output")
-    folder = os.path.dirname(os.path.abspath(path))
-    if not os.path.isdir(folder):
-        raise InputError(f"folder {os.path.dirname(path)!r} does not exist", "output",
-                         "create it first")
-    if os.path.isdir(path):
-        raise InputError(f"{path!r} is a directory", "output", "give a file name")
+    check_writable(path, "output")   # folder there, a folder, writable; path not a folder
     if low.endswith(".parquet"):
         try:
             import importlib

@@ -10,20 +10,22 @@ from __future__ import annotations
 
 import datetime as _dt
 import time as _time
+import warnings
 
 from ..base import package_version
-from ..errors import Interrupted, SolverError
+from ..errors import EnergyBalanceWarning, Interrupted, SolverError
 from ..modes import DENSE_LIMIT, time_constants_at  # noqa: F401 (DENSE_LIMIT: older imports)
 from ..profiles import common_period
 from ..recording import H5Sink, MemorySink, Recorder
 from ..results import Result, h5_attributes
+from ..run_warnings import collecting_warnings, warn_network, warn_watched, warning_texts
 from ..runinfo import RunInfo
 from ..threads import kernels
 from .base import NotSuitable, Progress
 from .exact import CHUNK_ELEMENTS  # noqa: F401 (older imports)
 from .periodic import periodic_start
 from .problem import MAX_SAMPLES, build_problem
-from .registry import AUTO, EXACT_LIMIT, PATHS, SOLVERS, load_path
+from .registry import AUTO, BALANCE_LIMIT, EXACT_LIMIT, PATHS, SOLVERS, load_path
 
 __all__ = ["simulate", "choose_paths", "run_first", "run_problem", "EXACT_LIMIT", "MAX_SAMPLES",
            "SOLVERS"]
@@ -87,24 +89,27 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
              rtol=1e-6, atol=1e-6, progress=None, start_time=None, scenario_text=None,
              times=None) -> Result:
     """Integrate ``network`` over [0, duration]; see :meth:`rcsim.Network.simulate`."""
-    with kernels():                  # rcsim's own number of BLAS threads (rcsim.threads)
-        return _simulate(network, duration, step, initial=initial, solver=solver, record=record,
+    with kernels(), collecting_warnings() as caught:   # rcsim's own BLAS threads; warnings
+        return _simulate(caught, network, duration, step, initial=initial, solver=solver, record=record,
                          output=output, rtol=rtol, atol=atol, progress=progress,
                          start_time=start_time, scenario_text=scenario_text, times=times)
 
 
-def _simulate(network, duration, step, *, initial, solver, record, output, rtol, atol, progress,
+def _simulate(caught, network, duration, step, *, initial, solver, record, output, rtol, atol, progress,
               start_time, scenario_text, times) -> Result:
     wall0 = _time.perf_counter()
     problem = build_problem(network, duration, step, initial=initial, solver=solver,
                             record=record, rtol=rtol, atol=atol, times=times)
+    warn_network(network, problem.asm)          # nodes with no path to a boundary
     candidates, declined = choose_paths(problem, solver)
     sink = H5Sink(output) if output is not None else MemorySink()
     recorder = Recorder(problem.asm, problem.plan, sink, samples=problem.times.size)
     try:
         path, stats = run_problem(problem, candidates, declined, recorder, Progress(progress),
                                   solver)
+        warn_watched(problem.plan.watchers)     # freezing points, correlation ranges
         balance, terms = recorder.energy_balance()
+        _warn_balance(balance, path.name)
         tau = time_constants_at(problem.asm, problem.thermostats, problem.duration)
         info = RunInfo(path=path.name, solver=path.description, stats=stats,
                        states=int(problem.ss.n), wall_time=_time.perf_counter() - wall0,
@@ -125,6 +130,7 @@ def _simulate(network, duration, step, *, initial, solver, record, output, rtol,
             "surfaces": {name: s.node for name, s in getattr(network, "surfaces", {}).items()},
             "created": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
         }
+        meta["warnings"] = warning_texts(caught)     # Result.warnings
         return _result(recorder, sink, meta, info, output)
     except KeyboardInterrupt as exc:
         sink.abort()
@@ -139,6 +145,17 @@ def _simulate(network, duration, step, *, initial, solver, record, output, rtol,
     except BaseException:
         sink.abort()
         raise
+
+
+def _warn_balance(balance: float, path: str) -> None:
+    """Warn loudly when the energy balance of a finished run does not close."""
+    if balance <= BALANCE_LIMIT:
+        return
+    # stack: the warning, _warn_balance, _simulate, simulate, Network.simulate, the caller
+    warnings.warn(EnergyBalanceWarning(
+        f"the energy balance of this run does not close: error {balance:.2g}, above "
+        f"{BALANCE_LIMIT:g} ({path} path); its temperatures are not to be trusted (tighten "
+        "rtol/atol or try another solver)"), stacklevel=5)
 
 
 def _result(recorder, sink, meta: dict, info: RunInfo, output) -> Result:

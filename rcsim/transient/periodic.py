@@ -13,12 +13,11 @@ import warnings
 
 import numpy as np
 
-from ..errors import ProfileError, RcsimError, SolverError
+from ..errors import NetworkError, RcsimError, SolverError
 from ..modes import DENSE_LIMIT
 from ..nonlinear import steady_newton
 from ..profiles import common_period
 from .base import NotSuitable
-from .initial import given_temperatures
 from .mixing import Anderson
 from .problem import Start
 
@@ -32,8 +31,11 @@ def periodic_start(problem, period_map=None, max_periods: int = 200,
     ``period_map(H) -> H`` (stored energies after one period from H) is tried first for a
     nonlinear network; when it raises :class:`NotSuitable`, or is None, the stiff path's is
     used. Raises :class:`rcsim.errors.ProfileError` when the inputs are not periodic, and
-    :class:`rcsim.errors.SolverError` when no periodic regime is found.
+    :class:`rcsim.errors.SolverError` when no periodic regime is found, and
+    :class:`rcsim.errors.NetworkError` when a group of nodes has no path to a boundary (its
+    level over a period is set by nothing, as its steady state is).
     """
+    _check_grounded(problem.asm)
     if problem.is_linear and problem.ss.n <= DENSE_LIMIT:
         return _linear_start(problem)
     from .stiff import StiffPath
@@ -58,23 +60,25 @@ def periodic_start(problem, period_map=None, max_periods: int = 200,
     raise AssertionError("unreachable")  # pragma: no cover
 
 
+def _check_grounded(asm) -> None:
+    """Refuse a periodic start when a group of nodes has no path to any boundary."""
+    groups = asm.floating_groups()
+    if groups:
+        names = [asm.node_names[i] for i in groups[0]]
+        shown = ", ".join(repr(n) for n in names[:6]) + (" ..." if len(names) > 6 else "")
+        have = "node {} has" if len(names) == 1 else "nodes {} have"
+        raise NetworkError(f"{have.format(shown)} no path to any boundary, so the periodic "
+                           "regime is undefined (as the steady state is)", "simulation.initial",
+                           "link them to a boundary, or start from given temperatures")
+
+
 def _linear_start(problem) -> Start:
-    """Closed-form periodic start of a linear network. Groups of nodes with no path to a
-    boundary keep their given mean temperature; they have no periodic regime when the inputs
-    put heat into them over a period (an error)."""
-    prop, asm = problem.propagator, problem.asm
+    """Closed-form periodic start of a linear network (every node grounded)."""
+    prop = problem.propagator
     period = common_period(prop.profiles, "simulation.initial")
     if period == 0.0:
         period = problem.duration
-    z_given = None
-    if any(len(g) for g in asm.floating_groups()):
-        Tg = given_temperatures(problem.network, asm, problem.overrides, asm.boundary_values(0.0))
-        z_given = prop.z_from_temperatures(Tg[problem.ss.massive])
-    z0, net_float = prop.periodic_state(period, z_given)
-    if net_float.size and np.max(np.abs(net_float)) > 1e-9 * max(1.0, np.abs(z0).max()):
-        raise ProfileError("nodes with no path to a boundary gain or lose heat every period, "
-                           "so there is no periodic regime", "simulation.initial",
-                           "start from given temperatures")
+    z0, _ = prop.periodic_state(period, None)
     return Start(prop.V @ z0, None, modal=z0)
 
 

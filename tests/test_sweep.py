@@ -300,6 +300,7 @@ def test_interrupted_sweep_keeps_and_writes_the_finished_rows(body, tmp_path):
 
 
 # -- executors --------------------------------------------------------------------------------
+@pytest.mark.slow
 def test_same_table_from_serial_processes_and_dask(body):
     from dask.distributed import Client, LocalCluster
 

@@ -22,6 +22,7 @@ from typing import Any
 
 from .base import suggest
 from .errors import InputError, ProfileError, ScenarioError
+from .tomltext import explain as explain_toml_error
 from .network import Network
 from .outdoors import add_surfaces, csv_reader, read_outdoors, weather_profile
 from .parts import check_keys
@@ -286,7 +287,9 @@ def loads(text: str, name: str = "<scenario>", base_dir: str = ".", path: str | 
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise ScenarioError(f"TOML syntax error: {exc}", name) from None
+        message, line, hint = explain_toml_error(str(exc), text)
+        raise ScenarioError(message, name if line is None else f"{name} line {line}",
+                            hint) from None
     except RecursionError:
         raise ScenarioError("TOML nesting too deep", name) from None
     return build(data, text, path or name, base_dir, allow_absolute_paths)

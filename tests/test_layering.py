@@ -37,7 +37,8 @@ FACADES = {
 #: the facade methods). A module is placed by its name or the name of its package.
 LAYERS = [
     ("base", ["rcsim.base", "rcsim.errors", "rcsim.units", "rcsim.atomic", "rcsim.runinfo",
-              "rcsim.arguments", "rcsim.clock", "rcsim.caution", "rcsim.threads"]),
+              "rcsim.arguments", "rcsim.clock", "rcsim.caution", "rcsim.threads",
+              "rcsim.tomltext"]),
     ("physics and inputs", ["rcsim.elements", "rcsim.correlations", "rcsim.laws", "rcsim.phase",
                             "rcsim.materials", "rcsim.profiles", "rcsim.limits",
                             "rcsim.solar", "rcsim.sky", "rcsim.exposure", "rcsim.weather",

@@ -246,3 +246,50 @@ def test_weather_record_other_separator(tmp_path):
     (tmp_path / "w.csv").write_text("time [h];T_air\n0;20,5\n1;21,0\n")
     with pytest.raises(InputError, match="w.csv: its header .* separated by semicolons"):
         read_weather(tmp_path / "w.csv", {"air_temperature": "T_air"})
+
+
+# ---- 5. units in words, duplicated TOML keys ---------------------------------------------------
+@pytest.mark.parametrize("value,kind,fragment", [
+    ("5 W*K/m^2", "heat_transfer_coefficient",
+     "expected a heat transfer coefficient, got '5 W*K/m^2' (K*kg/s^3 in SI base units: not a "
+     "quantity rcsim uses) (write a heat transfer coefficient such as '10 W/(m^2*K)')"),
+    ("3 m/s^2", "capacity", "(m/s^2 in SI base units: not a quantity rcsim uses) "
+                            "(write a heat capacity such as '8.4 kJ/K')"),
+    ("3 kg", "length", "expected a length, got '3 kg' (a mass) (write a length such as '50 mm')"),
+    ("3 m", "temperature", "(a length) (write a temperature such as '25 degC')"),
+    ("3 W", "temperature_difference", "(a power) (write a temperature difference such as '7 K')"),
+    ("2 m", "dimensionless", "expected a plain number, got '2 m' (a length)"),
+])
+def test_wrong_dimensions_are_said_in_words_with_an_example(value, kind, fragment):
+    from rcsim.units import to_si
+
+    with pytest.raises(InputError) as err:
+        to_si(value, kind, "a.b")
+    text = str(err.value)
+    assert fragment in text, text
+    assert "[" not in text   # never the unit library's notation, "[mass] * [temperature] / ..."
+
+
+def test_every_kind_has_an_example_of_its_own_dimension():
+    from rcsim.units import EXAMPLE_UNITS, KINDS, to_si
+
+    assert set(EXAMPLE_UNITS) == set(KINDS)
+    for kind, example in EXAMPLE_UNITS.items():
+        to_si(example, kind)   # each example is a valid value of its kind
+
+
+@pytest.mark.parametrize("addition,fragment", [
+    ('\n[nodes.b]\ncapacity = "1 kJ/K"\ninitial = "5 degC"\ncapacity = "2 kJ/K"\n',
+     "s.toml line 18: key 'nodes.b.capacity' is given twice (first at line 16)"),
+    ('\n[links.w]\nresistance = "1 K/W"\n', "s.toml line 15: table [links.w] is declared twice "
+                                           "(first at line 11)"),
+    ('\n[nodes.b]\ncapacity = "1 kJ/K"\n"capacity" = 3',
+     "s.toml line 17: key 'nodes.b.capacity' is given twice (first at line 16)"),
+    ('\n[nodes.b]\nphase_change = { latent_heat = 1, latent_heat = 2 }\n',
+     "s.toml line 16: key 'nodes.b.phase_change.latent_heat' is given twice in one inline table"),
+])
+def test_duplicated_toml_keys_are_named_with_their_lines(tmp_path, cli, addition, fragment):
+    # the line numbers counted by hand in SCENARIO + addition (line 1 is the empty first line)
+    path = _scenario(tmp_path, profile='"5 degC"', extra=addition)
+    line = _one_line_error(cli, tmp_path, path)
+    assert fragment in line, line

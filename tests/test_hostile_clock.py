@@ -293,3 +293,50 @@ def test_duplicated_toml_keys_are_named_with_their_lines(tmp_path, cli, addition
     path = _scenario(tmp_path, profile='"5 degC"', extra=addition)
     line = _one_line_error(cli, tmp_path, path)
     assert fragment in line, line
+
+
+# ---- 6. cylinder and sphere parts: every key documented, diameters accepted -------------------
+def test_readme_documents_every_key_of_cylinder_and_sphere_parts():
+    import os
+    import re
+
+    from conftest import ROOT
+    from rcsim.parts import RADIAL_PART_KEYS
+
+    text = open(os.path.join(ROOT, "README.md"), encoding="utf-8").read()
+    start = text.index("**Cylinder and sphere parts**")
+    paragraph = text[start:text.index("\n\n", start)]
+    documented = set(re.findall(r"`([a-z_]+)(?: = [^`]*)?`", paragraph))
+    assert set(RADIAL_PART_KEYS) | {"length"} <= documented
+
+
+CYLINDER = SCENARIO.replace('resistance = "0.1 K/W"', 'parts = [ { cylinder = { k = "0.04 W/(m*K)", '
+                            'inner_diameter = "60 mm", outer_diameter = "110 mm", length = "2 m" } } ]')
+
+
+def test_cylinder_and_sphere_by_diameters_match_the_closed_forms(tmp_path):
+    import math
+
+    from rcsim.errors import InputError
+
+    (tmp_path / "c.toml").write_text(CYLINDER.replace("PROFILE", '"5 degC"'))
+    sc = rcsim.load(tmp_path / "c.toml")
+    # Incropera & DeWitt, Fundamentals of Heat and Mass Transfer, 6th ed., eq. 3.28:
+    # R = ln(r2/r1) / (2 pi L k); r1 = 30 mm, r2 = 55 mm
+    expected = math.log(0.055 / 0.030) / (2 * math.pi * 2.0 * 0.04)
+    assert sc.network.links["w"].parts[0].resistance == pytest.approx(expected, rel=1e-12)
+    # the diameter is a key path for sweeps and fits: 150 mm outside
+    wider = sc.with_values({"links.w.parts[0].cylinder.outer_diameter": "150 mm"})
+    assert wider.network.links["w"].parts[0].resistance == pytest.approx(
+        math.log(0.075 / 0.030) / (2 * math.pi * 2.0 * 0.04), rel=1e-12)
+    # eq. 3.36: R = (1/r1 - 1/r2) / (4 pi k); 20 mm inside, 10 mm thick
+    net = rcsim.Network()
+    net.add_node("a", capacity=1.0)
+    net.add_boundary("b", temperature=0.0)
+    net.add_link("a", "b", parts=[{"sphere": {"k": 0.5, "inner_diameter": "40 mm",
+                                              "thickness": "10 mm"}}])
+    assert net.links["a-b"].parts[0].resistance == pytest.approx(
+        (1 / 0.02 - 1 / 0.03) / (4 * math.pi * 0.5), rel=1e-12)
+    with pytest.raises(InputError, match="give inner_radius or inner_diameter, not both"):
+        net.add_link("a", "b", name="x", parts=[{"sphere": {
+            "k": 1, "inner_radius": "1 cm", "inner_diameter": "2 cm", "outer_radius": "3 cm"}}])

@@ -22,6 +22,7 @@ __all__ = [
     "Interrupted",
     "RcsimWarning",
     "LumpedWarning",
+    "EnergyBalanceWarning",
 ]
 
 
@@ -139,3 +140,8 @@ class RcsimWarning(UserWarning):
 
 class LumpedWarning(RcsimWarning):
     """A lumped (single-node) assumption is doubtful, e.g. Biot number above 0.1."""
+
+
+class EnergyBalanceWarning(RcsimWarning):
+    """A run's energy balance does not close (its error is above
+    :data:`rcsim.transient.registry.BALANCE_LIMIT`): its temperatures are not to be trusted."""

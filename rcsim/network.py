@@ -28,6 +28,7 @@ import numpy as np
 from . import elements
 from .assembly import Assembled, assemble_network, conductance_matrices
 from .base import suggest
+from .conditioning import check_stiff_groups
 from .errors import InputError, NetworkError
 from .materials import get_material
 from .parts import Part, make_part
@@ -443,7 +444,9 @@ class Network:
     def assemble(self) -> Assembled:
         """Assemble (and cache) the sparse matrices. Warns on doubtful lumped layers."""
         if self._assembled is None:
-            self._assembled = assemble_network(self)
+            asm = assemble_network(self)
+            check_stiff_groups(asm)     # links too stiff for double precision: refused here
+            self._assembled = asm
         return self._assembled
 
     # -- analysis (hand-offs to the solver modules) --------------------------------------------

@@ -15,7 +15,7 @@ positive into the node for a heater, out of it for a cooler.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -25,7 +25,17 @@ from .parts import check_keys
 from .units import to_si
 
 __all__ = ["Thermostat", "ThermostatState", "make_thermostat", "add_thermostats_from_scenario",
-           "THERMOSTAT_KEYS"]
+           "THERMOSTAT_KEYS", "IDEAL_CYCLES_PER_STEP", "IDEAL_BAND_FLOOR", "run_as_ideal",
+           "shortest_cycle", "narrowest_switching_band", "IDEAL_SWITCHES"]
+
+#: An on/off thermostat whose shortest possible cycle is below 1/IDEAL_CYCLES_PER_STEP of the
+#: output step and that could switch more than IDEAL_SWITCHES times in the run is run as an
+#: ideal controller (:func:`run_as_ideal`).
+IDEAL_CYCLES_PER_STEP = 10
+IDEAL_SWITCHES = 20_000
+#: The ideal controller's proportional band is never narrower than this [K]: its power is then
+#: the gain times a temperature difference known to 2.2e-16 x |T| (1e-8 of full power at 50 degC).
+IDEAL_BAND_FLOOR = 1e-6
 
 THERMOSTAT_KEYS = {"node", "sensor", "mode", "setpoint", "band", "power", "control", "initially"}
 
@@ -63,6 +73,8 @@ class Thermostat:
     control: str = "on-off"
     initially: str | None = None
     where: str = ""
+    #: True when this on/off thermostat is run as an ideal controller (:func:`run_as_ideal`)
+    ideal: bool = False
 
     @property
     def sign(self) -> float:
@@ -214,6 +226,50 @@ class ThermostatState:
 
     def switch_count(self) -> int:
         return max(0, len(self.log_t) - 1)
+
+
+def shortest_cycle(thermostat: Thermostat, sensor_capacity: float) -> float:
+    """The shortest on/off cycle possible [s]: with its band b swept at the rate the heat flow
+    difference allows, on for b C / (P - Q) and off for b C / Q (Q the loss, 0 < Q < P), a cycle
+    lasts at least 4 b C / P (at Q = P/2). C is the sensed node's capacity."""
+    return 4.0 * thermostat.band * sensor_capacity / thermostat.power
+
+
+def narrowest_switching_band(thermostat: Thermostat, sensor_capacity: float, step: float,
+                             duration: float) -> float:
+    """The narrowest band [K] an on/off thermostat is switched with (:func:`run_as_ideal`).
+
+    Below it, its shortest cycle (:func:`shortest_cycle`) is under 1/IDEAL_CYCLES_PER_STEP of
+    the output step ``step`` *and* it could switch more than IDEAL_SWITCHES times over
+    ``duration`` (two switchings per cycle); and never below IDEAL_BAND_FLOOR.
+    """
+    per_kelvin = 4.0 * sensor_capacity / thermostat.power          # cycle [s] per K of band
+    by_step = step / (IDEAL_CYCLES_PER_STEP * per_kelvin)
+    by_count = 2.0 * duration / (IDEAL_SWITCHES * per_kelvin)
+    return max(IDEAL_BAND_FLOOR, min(by_step, by_count))
+
+
+def run_as_ideal(thermostats, capacity_of, step: float, duration: float):
+    """The thermostats to run and the names of those made ideal.
+
+    The rule: an on/off thermostat whose band is narrower than
+    :func:`narrowest_switching_band` (its shortest possible cycle below a tenth of the output
+    step ``step`` [s] and more than 20,000 switchings possible over ``duration`` [s], or a band
+    below :data:`IDEAL_BAND_FLOOR`) switches faster than the output can show, at a cost without
+    bound; it is run as an *ideal controller*: the average of its switching, a proportional law
+    over its band (widened to :data:`IDEAL_BAND_FLOOR` if narrower). It delivers the same heat
+    and keeps the sensed temperature inside the same band as the switching would; its
+    switchings are not counted. ``capacity_of(node)`` gives a node's capacity [J/K].
+    """
+    out, ideal = [], []
+    for th in thermostats:
+        if th.control == "on-off" and th.band < narrowest_switching_band(
+                th, capacity_of(th.sensor), step, duration):
+            th = replace(th, control="proportional", band=max(th.band, IDEAL_BAND_FLOOR),
+                         ideal=True)
+            ideal.append(th.name)
+        out.append(th)
+    return tuple(out), ideal
 
 
 def make_thermostat(name, spec: dict, where: str, nodes) -> Thermostat:

@@ -44,7 +44,7 @@ LAYERS = [
                             "rcsim.viewfactors", "rcsim.radiosity", "rcsim.radial",
                             "rcsim.shapefactors", "rcsim.periodic_wall"]),
     ("model", ["rcsim.parts", "rcsim.thermostat", "rcsim.assembly", "rcsim.network",
-               "rcsim.statespace", "rcsim.steady_linear", "rcsim.radiation_links",
+               "rcsim.statespace", "rcsim.steady_linear", "rcsim.radiation_links", "rcsim.conditioning",
                "rcsim.summaries", "rcsim.varying", "rcsim.surfaces"]),
     ("steady state, modes, records", ["rcsim.nonlinear", "rcsim.steady", "rcsim.modes",
                                       "rcsim.recording", "rcsim.results",

@@ -8,7 +8,7 @@ import sys
 
 import click
 
-from ..errors import InputError
+from ..errors import InputError, SolverError
 from .format import CAUTION, format_clock_time, format_energy, format_time
 from .guard import guard
 from .options import (SOLVERS, solver_help, allow_absolute_paths_option, check_folder, check_output,
@@ -69,6 +69,17 @@ def run(scenario, output, csv_path, xlsx_path, plots_dir, solver, record, allow_
         click.echo(format_run_summary(sc, res, all_nodes=all_nodes))
         for p in written:
             click.echo(f"wrote {p}")
+    _check_balance(res)
+
+
+def _check_balance(res) -> None:
+    """Exit 3 (the guard) after a run whose energy balance does not close (README "Physics and numerics")."""
+    from ..transient.registry import BALANCE_LIMIT
+
+    error = res.energy_balance_error
+    if not error <= BALANCE_LIMIT:
+        raise SolverError(f"the energy balance error of this run is {error:.2g}, above "
+                          f"{BALANCE_LIMIT:g}: the result is not to be trusted")
 
 
 def format_run_summary(sc, res, all_nodes: bool = False) -> str:
@@ -189,9 +200,11 @@ def _thermostats(res) -> list[str]:
         return []
     lines = ["", "  thermostats"]
     for _, row in res.thermostats.iterrows():
+        switches = row["switches"]
+        counted = ("switchings too fast to count" if math.isnan(switches)
+                   else f"{int(switches)} switches")
         lines.append(f"    {row['thermostat']} ({row['mode']}, {row['control']}, on "
-                     f"{row['node']}): duty {100 * row['duty']:.1f} %, "
-                     f"{int(row['switches'])} switches, energy "
+                     f"{row['node']}): duty {100 * row['duty']:.1f} %, {counted}, energy "
                      f"{format_energy(row['energy [J]'])}")
     return lines
 

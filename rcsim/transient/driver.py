@@ -10,9 +10,10 @@ from __future__ import annotations
 
 import datetime as _dt
 import time as _time
+import warnings
 
 from ..base import package_version
-from ..errors import Interrupted, SolverError
+from ..errors import EnergyBalanceWarning, Interrupted, SolverError
 from ..modes import DENSE_LIMIT, time_constants_at  # noqa: F401 (DENSE_LIMIT: older imports)
 from ..profiles import common_period
 from ..recording import H5Sink, MemorySink, Recorder
@@ -24,7 +25,7 @@ from .base import NotSuitable, Progress
 from .exact import CHUNK_ELEMENTS  # noqa: F401 (older imports)
 from .periodic import periodic_start
 from .problem import MAX_SAMPLES, build_problem
-from .registry import AUTO, EXACT_LIMIT, PATHS, SOLVERS, load_path
+from .registry import AUTO, BALANCE_LIMIT, EXACT_LIMIT, PATHS, SOLVERS, load_path
 
 __all__ = ["simulate", "choose_paths", "run_first", "run_problem", "EXACT_LIMIT", "MAX_SAMPLES",
            "SOLVERS"]
@@ -108,6 +109,7 @@ def _simulate(caught, network, duration, step, *, initial, solver, record, outpu
                                   solver)
         warn_watched(problem.plan.watchers)     # freezing points, correlation ranges
         balance, terms = recorder.energy_balance()
+        _warn_balance(balance, path.name)
         tau = time_constants_at(problem.asm, problem.thermostats, problem.duration)
         info = RunInfo(path=path.name, solver=path.description, stats=stats,
                        states=int(problem.ss.n), wall_time=_time.perf_counter() - wall0,
@@ -143,6 +145,17 @@ def _simulate(caught, network, duration, step, *, initial, solver, record, outpu
     except BaseException:
         sink.abort()
         raise
+
+
+def _warn_balance(balance: float, path: str) -> None:
+    """Warn loudly when the energy balance of a finished run does not close."""
+    if balance <= BALANCE_LIMIT:
+        return
+    # stack: the warning, _warn_balance, _simulate, simulate, Network.simulate, the caller
+    warnings.warn(EnergyBalanceWarning(
+        f"the energy balance of this run does not close: error {balance:.2g}, above "
+        f"{BALANCE_LIMIT:g} ({path} path); its temperatures are not to be trusted (tighten "
+        "rtol/atol or try another solver)"), stacklevel=5)
 
 
 def _result(recorder, sink, meta: dict, info: RunInfo, output) -> Result:

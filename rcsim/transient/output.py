@@ -77,7 +77,11 @@ def thermostat_table(controllers, t_out, recorder):
     for c, e in zip(controllers, energy):
         on_time = c.on_time(float(t_out[-1])) if c.control == "on-off" else float("nan")
         duty = on_time / span if c.control == "on-off" else abs(float(e)) / (c.power * span)
-        rows.append({"thermostat": c.name, "node": c.node, "mode": c.mode, "control": c.control,
-                     "duty": duty, "on_time [s]": on_time, "switches": c.switch_count(),
+        switches = float(c.switch_count())
+        if c.settings.ideal:   # the average of fast switching: its on-time, switchings uncounted
+            on_time, switches = duty * span, float("nan")
+        control = "on-off (ideal)" if c.settings.ideal else c.control
+        rows.append({"thermostat": c.name, "node": c.node, "mode": c.mode, "control": control,
+                     "duty": duty, "on_time [s]": on_time, "switches": switches,
                      "energy [J]": abs(float(e))})
     return pd.DataFrame(rows)

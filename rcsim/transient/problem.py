@@ -10,17 +10,19 @@ network, the energy-form model of any network.
 from __future__ import annotations
 
 import math
+import warnings
 from dataclasses import dataclass
 from functools import cached_property
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import InputError, RcsimWarning
 from ..nonlinear import build_terms, steady_newton
 from ..recording import RecordingPlan, plan_recording
 from ..run_warnings import run_watchers
 from ..statespace import state_space
 from ..surfaces import sol_air_series
+from ..thermostat import narrowest_switching_band, run_as_ideal, shortest_cycle
 from ..units import to_si
 from .initial import given_temperatures, resolve_initial_option
 from .registry import check_solver
@@ -177,6 +179,32 @@ def check_settings(duration, step, solver, rtol, atol) -> tuple[float, float]:
     return duration, step
 
 
+def _ideal_where_needed(thermostats: tuple, asm, t_out: np.ndarray) -> tuple:
+    """On/off thermostats switching faster than the output can show, run as ideal controllers
+    (:func:`rcsim.thermostat.run_as_ideal`), with a warning each."""
+    if not thermostats:
+        return thermostats
+    step = float(np.median(np.diff(t_out)))
+    names = asm.node_names
+
+    def capacity_of(node):
+        return float(asm.capacity[names.index(node)])
+
+    duration = float(t_out[-1])
+    out, ideal = run_as_ideal(thermostats, capacity_of, step, duration)
+    for th in (t for t in thermostats if t.name in ideal):
+        c = capacity_of(th.sensor)
+        narrowest = narrowest_switching_band(th, c, step, duration)
+        warnings.warn(RcsimWarning(
+            f"thermostat {th.name!r}: its band of {th.band:.3g} K lets it switch faster than "
+            f"the output step of {step:.3g} s can show (a cycle could last "
+            f"{shortest_cycle(th, c):.2g} s, {2 * duration / shortest_cycle(th, c):.2g} "
+            f"switchings in the run); it runs as an ideal controller (the average of its "
+            f"switching: a proportional law over its band), its switchings not counted; a band "
+            f"of at least {narrowest:.2g} K keeps the on/off switching"), stacklevel=4)
+    return out
+
+
 def build_problem(network, duration, step, *, initial=None, solver="auto", record=None,
                   rtol=1e-6, atol=1e-6, times=None, assembled=None, limits=True) -> Problem:
     """Check a run and prepare it (see :meth:`rcsim.Network.simulate` for the arguments).
@@ -192,7 +220,7 @@ def build_problem(network, duration, step, *, initial=None, solver="auto", recor
     if asm.varying is not None:     # conductances that vary: covered and positive over the run
         asm.varying.check(0.0, duration)
     ss = state_space(asm)
-    thermostats = tuple(network.thermostats.values())
+    thermostats = _ideal_where_needed(tuple(network.thermostats.values()), asm, t_out)
     plan = plan_recording(asm, record, network.limits.values() if limits else (),
                           [t.name for t in thermostats], sol_air_series(network, asm),
                           run_watchers(network, asm))

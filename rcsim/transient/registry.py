@@ -16,7 +16,7 @@ from ..base import suggest
 from ..errors import InputError
 
 __all__ = ["PathEntry", "PATHS", "AUTO", "SOLVERS", "check_solver", "solver_help", "load_path",
-           "EXACT_LIMIT", "PIECEWISE_STATES"]
+           "EXACT_LIMIT", "PIECEWISE_STATES", "BALANCE_LIMIT"]
 
 #: The exact path takes linear networks of up to this many states (dense eigenproblem; above it
 #: the large-linear path is faster). The one threshold of the exact-or-not decision, for runs and fits.
@@ -24,6 +24,12 @@ EXACT_LIMIT = 2000
 #: The piecewise-exact path takes networks of up to this many states (dense eigenproblems per
 #: regime).
 PIECEWISE_STATES = 200
+
+#: Largest energy-balance error (relative, see :attr:`rcsim.Result.energy_balance_error`) of a
+#: run taken as sound: every path closes its balance to 1e-6 or better at its default
+#: tolerances, so a run above it warns (:class:`rcsim.errors.EnergyBalanceWarning`) and the
+#: command line exits 3.
+BALANCE_LIMIT = 1e-3
 
 #: Let the engine choose: the first registered path that takes the run.
 AUTO = "auto"

@@ -9,6 +9,8 @@ chunk.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from numpy.polynomial import chebyshev as cheb
 from scipy.integrate import BDF
@@ -25,7 +27,35 @@ from .energy_model import DENSE_STATES, EnergyModel, StiffModel, jump_times  # n
 from .output import OutputMap, chunk_from_states, extras_of, thermostat_table  # noqa: F401
 
 __all__ = ["StiffPath", "run_stiff", "Switching", "StiffModel", "EnergyModel", "jump_times",
-           "DENSE_STATES"]
+           "DENSE_STATES", "MAX_EVALUATIONS"]
+
+#: The stiff path's work is bounded: at most this many right-hand-side evaluations, plus
+#: :data:`EVALUATIONS_PER_SAMPLE` per output sample and :data:`EVALUATIONS_PER_RESTART` per
+#: restart (an input jump, a thermostat switching), before it stops with a SolverError.
+MAX_EVALUATIONS = 200_000
+EVALUATIONS_PER_SAMPLE = 100
+EVALUATIONS_PER_RESTART = 500
+
+
+def _bounded(model, t_out: np.ndarray, stats: RunStats):
+    """``model.rhs`` that stops the run (SolverError) when the states stop being numbers
+    (scipy's BDF would accept such steps and go on) or the work exceeds its bound."""
+    base = MAX_EVALUATIONS + EVALUATIONS_PER_SAMPLE * int(t_out.size)
+    start = model.nfev
+    hint = ("the network may be too stiff for double precision: look for near-zero "
+            "resistances, huge conductances or tiny capacities")
+
+    def fun(t, y):
+        if not (math.isfinite(t) and np.isfinite(y).all()):
+            raise SolverError("the stiff solver broke down (its states are no longer numbers)",
+                              time=t if math.isfinite(t) else None, hint=hint)
+        limit = base + EVALUATIONS_PER_RESTART * stats.restarts
+        if model.nfev - start > limit:
+            raise SolverError(f"the stiff solver gave up after {limit:,} evaluations", time=t,
+                              hint=hint)
+        return model.rhs(t, y)
+
+    return fun
 
 
 def run_stiff(model: EnergyModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol: float,
@@ -51,6 +81,7 @@ def run_stiff(model: EnergyModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol
     t = float(t_out[0])
     stats = RunStats(steps=0, restarts=0, events=0, nlu=0)
     switching = Switching(model)
+    fun = _bounded(model, t_out, stats)
 
     def flush():
         nonlocal buf_t, buf_y
@@ -61,7 +92,7 @@ def run_stiff(model: EnergyModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol
     for stop in stops:
         while t < stop:
             try:
-                solver = BDF(model.rhs, t, y, float(stop), rtol=rtol, atol=atol_vec,
+                solver = BDF(fun, t, y, float(stop), rtol=rtol, atol=atol_vec,
                              jac=model.jac(t, y) if model.is_static else model.jac)
             except (ValueError, np.linalg.LinAlgError) as exc:  # pragma: no cover - defensive
                 raise SolverError(f"the stiff solver could not start: {exc}", time=t) from None

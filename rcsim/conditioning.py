@@ -1,0 +1,119 @@
+"""Links too stiff for double precision: found before any solve, refused with the link named.
+
+A link whose conductance dwarfs the conductances around it joins its nodes into one *stiff group*.
+The slow behaviour of that group (how fast it exchanges heat with the rest) is set by the
+conductance *leaving* the group, but the conductance matrix K only holds it as the small
+difference of its large diagonal sums: K's diagonal carries each node's total conductance with a
+relative rounding of about 1.1e-16, so the conductance leaving a group is known to about
+``1.1e-16 x (sum of the diagonal over the group) / (conductance leaving)``. Every solver that
+works on K (the modal eigenproblem, the sparse factorisations of the steady state, the stiff and
+large-linear integrators) inherits that error in the group's slow rates and in its energy
+balance; above about 1e16 the leaving conductance is lost altogether (a group that never
+exchanges heat, or a singular matrix).
+
+:func:`check_stiff_groups` finds the groups by single linkage over the conductances between nodes
+(the connected components of the links above a threshold, for thresholds half a decade apart) and
+refuses a group whose ratio ``sum of K's diagonal over the group / conductance leaving it``
+exceeds :data:`STIFF_RATIO` (1e10: rates then known to about 1e-6 or better).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.sparse.csgraph import connected_components
+
+from .errors import NetworkError
+
+__all__ = ["STIFF_RATIO", "stiff_groups", "check_stiff_groups"]
+
+#: Largest ratio of a group's summed diagonal conductance to the conductance leaving it. The
+#: group's exchange with the rest is then resolved to about 2.2e-16 x 1e10 = 2e-6 (relative).
+STIFF_RATIO = 1e10
+
+#: Thresholds of the single-linkage scan: half a decade apart.
+_LEVELS_PER_DECADE = 2
+
+
+def stiff_groups(asm, limit: float = STIFF_RATIO) -> list[dict]:
+    """The groups of nodes of ``asm`` (an :class:`rcsim.assembly.Assembled`) whose ratio
+    (sum of K's diagonal over the group / conductance leaving it) exceeds ``limit``.
+
+    Each entry: ``nodes`` (indices), ``ratio``, ``leaving`` [W/K], ``segment`` (the stiffest
+    segment inside the group). Groups with nothing leaving them (floating groups, whose steady
+    state is undefined anyway) are not listed. Worst group first.
+    """
+    n = asm.n_nodes
+    a, b, g = asm.seg_a, asm.seg_b, np.asarray(asm.seg_g, dtype=float)
+    use = np.isfinite(g) & (g > 0)
+    a, b, g, seg = a[use], b[use], g[use], np.flatnonzero(use)
+    inner = (a < n) & (b < n) & (a != b)
+    if not inner.any():
+        return []
+    diag = (np.bincount(a[a < n], weights=g[a < n], minlength=n)
+            + np.bincount(b[b < n], weights=g[b < n], minlength=n))
+    gi = g[inner]
+    g_max, g_min = float(gi.max()), float(gi.min())
+    # a group's diagonal sum is twice its inner conductances plus what leaves it: below this
+    # bound no group can be too stiff
+    if 2.0 * float(gi.sum()) <= (limit - 1.0) * float(g.min()):
+        return []
+    n_levels = int(np.ceil(np.log10(g_max / g_min) * _LEVELS_PER_DECADE)) + 1
+    found: dict[tuple, dict] = {}
+    for k in range(n_levels):
+        threshold = g_max * 10.0 ** (-k / _LEVELS_PER_DECADE)
+        strong = gi >= threshold
+        adj = sp.coo_matrix((np.ones(int(strong.sum())), (a[inner][strong], b[inner][strong])),
+                            shape=(n, n))
+        ncomp, labels = connected_components(adj, directed=False)
+        size = np.bincount(labels, minlength=ncomp)
+        if not (size > 1).any():
+            continue
+        for group in _too_stiff(labels, size, a, b, g, diag, n, limit):
+            key = tuple(np.flatnonzero(labels == group[0]).tolist())
+            if key in found:
+                continue
+            members = np.asarray(key)
+            inside = np.isin(a, members) & np.isin(b, members)
+            worst = int(np.argmax(np.where(inside, g, -np.inf)))
+            found[key] = {"nodes": members, "ratio": group[1], "leaving": group[2],
+                          "segment": int(seg[worst])}
+    return sorted(found.values(), key=lambda d: -d["ratio"])
+
+
+def _too_stiff(labels, size, a, b, g, diag, n, limit):
+    """(label, ratio, leaving conductance) of the groups of ``labels`` above ``limit``."""
+    ncomp = size.size
+    la = np.where(a < n, labels[np.minimum(a, n - 1)], -1)
+    lb = np.where(b < n, labels[np.minimum(b, n - 1)], -1)
+    cross = la != lb                     # the segment leaves a group (to another or a boundary)
+    leaving = (np.bincount(la[cross & (la >= 0)], weights=g[cross & (la >= 0)], minlength=ncomp)
+               + np.bincount(lb[cross & (lb >= 0)], weights=g[cross & (lb >= 0)],
+                             minlength=ncomp))
+    total = np.bincount(labels, weights=diag, minlength=ncomp)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = total / leaving
+    bad = np.flatnonzero((size > 1) & (leaving > 0) & (ratio > limit))
+    return [(int(c), float(ratio[c]), float(leaving[c])) for c in bad]
+
+
+def check_stiff_groups(asm, limit: float = STIFF_RATIO) -> None:
+    """Refuse (:class:`rcsim.errors.NetworkError`) a network with a group of nodes joined so
+    stiffly that double precision cannot resolve the conductance leaving it (see the module)."""
+    groups = stiff_groups(asm, limit)
+    if not groups:
+        return
+    grp = groups[0]
+    s = grp["segment"]
+    link = asm.link_names[int(np.searchsorted(asm.link_last_seg, s))]
+    names = [asm.node_names[i] for i in grp["nodes"][:4]]
+    more = f" and {grp['nodes'].size - 4} more" if grp["nodes"].size > 4 else ""
+    # a link between two nodes: ratio ~ 2 G / leaving; the resistance that brings it to the limit
+    r_min = 2.1 / (limit * grp["leaving"])
+    raise NetworkError(
+        f"link {link!r} ({1.0 / asm.seg_g[s]:.3g} K/W) joins {', '.join(map(repr, names))}{more} "
+        f"so stiffly that the {grp['leaving']:.3g} W/K leaving them is {grp['ratio']:.2g} times "
+        f"smaller than the conductances inside: double precision cannot resolve it (limit "
+        f"{limit:.0e})", None,
+        f"merge them into one node (capacities added) or give the link at least about "
+        f"{r_min:.2g} K/W")

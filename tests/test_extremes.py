@@ -1,0 +1,278 @@
+"""Extreme values that double precision cannot carry: refused with the link named, or solved
+right; never a wrong answer with exit 0, never a hang (issue 16 items 1 and 2)."""
+
+import math
+import warnings
+
+import numpy as np
+import pytest
+
+import rcsim
+import rcsim.network
+from rcsim.errors import EnergyBalanceWarning, NetworkError, SolverError
+
+
+def _pair(r_link: float, *, sine: bool = False, source: bool = False) -> rcsim.Network:
+    """Two 1 kJ/K nodes joined by ``r_link``, the second tied to 0 degC through 1 K/W."""
+    net = rcsim.Network()
+    net.add_node("a", capacity=1000.0, initial=20.0)
+    net.add_node("b", capacity=1000.0, initial=20.0)
+    temperature = (rcsim.Sine(mean=0, amplitude=5, period=86400, peak=3600) if sine else 0.0)
+    net.add_boundary("out", temperature=temperature)
+    net.add_link("a", "b", resistance=r_link, name="tiny")
+    net.add_link("b", "out", resistance=1.0, name="wall")
+    if source:
+        net.add_source("a", power=rcsim.Steps([0, 3600], [0.0, 50.0]))
+    return net
+
+
+def _pair_closed_form(r_link: float, t: float) -> tuple[float, float]:
+    """Both temperatures of :func:`_pair` at ``t`` (closed form derived here: the two modes of
+    C dT/dt = -K T with K = [[G, -G], [-G, G + 1]], C = 1000 J/K, T(0) = (20, 20) degC)."""
+    g, c = 1.0 / r_link, 1000.0
+    fast = (2.0 * g + 1.0 + math.sqrt(4.0 * g * g + 1.0)) / 2.0   # eigenvalues of K
+    slow = g / fast                          # det K = g: no cancellation for large g
+    out = np.zeros(2)
+    for mu in (slow, fast):
+        v = np.array([g, g - mu])            # (K - mu I) v = 0 from the first row
+        v /= np.linalg.norm(v)
+        out += float(v @ np.array([20.0, 20.0])) * v * math.exp(-mu / c * t)
+    return float(out[0]), float(out[1])
+
+
+@pytest.mark.parametrize("r_link", [1e-20, 1e-15, 1e-12])
+@pytest.mark.parametrize("solver", ["auto", "exact", "stiff", "large-linear"])
+def test_near_zero_resistance_is_refused_naming_the_link(r_link, solver):
+    # issue 16 item 1: at 1e-20 K/W the exact path returned 20 degC (no cooling at all) with a
+    # balance error of 1.0, at 1e-15 K/W 14 % off; the stiff path hung
+    net = _pair(r_link)
+    with pytest.raises(NetworkError) as err:
+        net.simulate(duration=3600, step=60, solver=solver)
+    text = str(err.value)
+    assert "link 'tiny'" in text and "'a', 'b'" in text
+    assert "limit 1e+10" in text and "merge them into one node" in text
+
+
+def test_steady_and_modes_refuse_it_too():
+    for call in (lambda n: n.steady(), lambda n: n.time_constants()):
+        with pytest.raises(NetworkError, match="link 'tiny'"):
+            call(_pair(1e-18))
+
+
+def test_a_chain_of_stiff_links_is_one_group():
+    # a-b and b-c each stiff next to each other: the pairs look harmless, the group is not
+    net = rcsim.Network()
+    for name in "abc":
+        net.add_node(name, capacity=1000.0, initial=20.0)
+    net.add_boundary("out", temperature=0.0)
+    net.add_link("a", "b", resistance=1e-14, name="ab")
+    net.add_link("b", "c", resistance=2e-14, name="bc")
+    net.add_link("c", "out", resistance=1.0, name="wall")
+    with pytest.raises(NetworkError) as err:
+        net.simulate(duration=3600, step=60)
+    assert "link 'ab'" in str(err.value) and "'a', 'b', 'c'" in str(err.value)
+
+
+@pytest.mark.parametrize("r_link", [1e-6, 1e-9])
+@pytest.mark.parametrize("solver", ["exact", "stiff", "large-linear"])
+def test_stiff_but_resolvable_links_are_solved_right(r_link, solver):
+    # ratio 2e9 (1e-9 K/W) is below the limit: the answer matches the closed form
+    res = _pair(r_link).simulate(duration=3600, step=60, solver=solver)
+    want = _pair_closed_form(r_link, 3600.0)
+    got = res.temperatures.iloc[-1].to_numpy()
+    tol = 1e-6 if solver == "exact" else 2e-5    # the integrators' default tolerances 1e-6
+    assert np.allclose(got, want, rtol=tol, atol=0)
+    assert res.energy_balance_error < 1e-6
+
+
+def test_a_node_pinned_to_a_boundary_is_not_a_stiff_group():
+    # a huge conductance to a boundary pins its node: nothing is lost; b cools through 1 K/W
+    # towards 0 degC as 20 exp(-t / 1000 s) (closed form of a single RC)
+    net = rcsim.Network()
+    net.add_node("a", capacity=1000.0, initial=20.0)
+    net.add_node("b", capacity=1000.0, initial=20.0)
+    net.add_boundary("out", temperature=0.0)
+    net.add_link("a", "out", resistance=1e-20, name="pin")
+    net.add_link("a", "b", resistance=1.0, name="wall")
+    res = net.simulate(duration=3600, step=60)
+    assert res.temperatures["b"].iloc[-1] == pytest.approx(20.0 * math.exp(-3.6), rel=1e-9)
+
+
+def _unchecked(monkeypatch):
+    """Let a too-stiff network through, to check what stands behind the refusal."""
+    monkeypatch.setattr(rcsim.network, "check_stiff_groups", lambda asm: None)
+
+
+@pytest.mark.parametrize("kind", ["sine", "source"])
+def test_the_stiff_path_never_hangs(monkeypatch, kind):
+    # without the refusal the stiff path ran for minutes (a sine outside) or returned 6400 degC
+    # (a source): it must stop with a clear error instead
+    _unchecked(monkeypatch)
+    net = _pair(1e-20, sine=kind == "sine", source=kind == "source")
+    with pytest.raises(SolverError, match="too stiff for double precision"):
+        net.simulate(duration=3 * 86400, step=600, solver="stiff")
+
+
+def test_a_run_whose_balance_does_not_close_warns(monkeypatch):
+    _unchecked(monkeypatch)
+    with pytest.warns(EnergyBalanceWarning, match="does not close"):
+        res = _pair(1e-15).simulate(duration=3600, step=60, solver="exact")
+    assert res.energy_balance_error > 1e-3
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", EnergyBalanceWarning)
+        _pair(1e-6).simulate(duration=3600, step=60, solver="exact")    # a sound run: silent
+
+
+SCENARIO = """
+[simulation]
+duration = "1 h"
+step = "1 min"
+solver = "exact"
+[nodes.a]
+capacity = "1 kJ/K"
+initial = "20 degC"
+[nodes.b]
+capacity = "1 kJ/K"
+initial = "20 degC"
+[boundaries.out]
+temperature = "0 degC"
+[links.tiny]
+between = ["a", "b"]
+resistance = "{r} K/W"
+[links.wall]
+between = ["b", "out"]
+resistance = "1 K/W"
+"""
+
+
+def test_cli_refuses_a_too_stiff_link(cli, tmp_path):
+    path = tmp_path / "stiff.toml"
+    path.write_text(SCENARIO.format(r="1e-20"))
+    out = tmp_path / "r.h5"
+    r = cli("run", path, "-o", out)
+    assert r.exit_code == 2
+    assert "link 'tiny'" in r.output and "Traceback" not in r.output
+    assert not out.exists()
+
+
+def test_cli_exits_3_when_the_balance_does_not_close(cli, tmp_path, monkeypatch):
+    _unchecked(monkeypatch)
+    path = tmp_path / "stiff.toml"
+    path.write_text(SCENARIO.format(r="1e-15"))
+    r = cli("run", path)
+    assert r.exit_code == 3, r.output
+    assert "warning: the energy balance of this run does not close" in r.output
+    assert "error: the energy balance error of this run is" in r.output
+
+
+# ---- thermostats with bands too narrow to switch visibly (issue 16 item 2) --------------------
+def _room(band, power=5000.0, control="on-off"):
+    """A 5 MJ/K room behind 0.01 K/W, outdoors 5 cos(2 pi (t - 15 h) / 24 h) degC, heated to
+    20 degC by an on/off heater."""
+    net = rcsim.Network()
+    net.add_node("room", capacity=5e6, initial=20.0)
+    net.add_boundary("out", temperature=rcsim.Sine(mean=0, amplitude=5, period=86400,
+                                                   peak=15 * 3600))
+    net.add_link("room", "out", resistance=0.01, name="wall")
+    net.add_thermostat("heater", node="room", setpoint=20.0, band=band, power=power,
+                       control=control)
+    return net
+
+
+@pytest.mark.parametrize("band", [1e-12, 1e-9, 1e-3])
+@pytest.mark.parametrize("solver", ["auto", "stiff"])
+def test_a_hair_thin_band_runs_as_an_ideal_controller(band, solver):
+    # before: 1e-12 K ran for many minutes, then reported one switch with the room far below
+    # its setpoint; 1e-3 K took two minutes for 40,000 switchings. Ideal control holds the room
+    # at 20 degC, so the heat is the day's loss: (20 - 0) degC / 0.01 K/W x 86400 s = 1.728e8 J
+    # (closed form: the cosine integrates to zero over its period)
+    with pytest.warns(rcsim.errors.RcsimWarning, match="runs as an ideal controller"):
+        res = _room(band).simulate(duration=86400, step=600, solver=solver)
+    room = res.temperatures["room"]
+    half = max(band, 1e-6) / 2                 # the band, at least 1e-6 K (README)
+    assert room.min() >= 20.0 - half - 1e-9 and room.max() <= 20.0 + half + 1e-9
+    row = res.thermostats.iloc[0]
+    # held anywhere inside the band: up to half of it over 0.01 K/W for a day; and the path's
+    # tolerance (rtol 1e-6: the stiff path's error is a few times that)
+    slack = half / 0.01 * 86400 + (1e-6 if solver == "auto" else 1e-5) * 1.728e8
+    assert row["energy [J]"] == pytest.approx(1.728e8, abs=slack)
+    assert row["control"] == "on-off (ideal)" and math.isnan(row["switches"])
+    assert row["duty"] == pytest.approx(2000.0 / 5000.0, abs=slack / 1.728e8 * 0.4)
+    assert res.energy_balance_error < 1e-6
+
+
+def test_an_ideal_heater_too_weak_at_night_matches_an_independent_solution():
+    # 2200 W cannot cover the night's loss (up to 2500 W): the room falls, recovers, is held,
+    # falls again. Reference: scipy's solve_ivp of the saturated heater (full on) between the
+    # instants the room regains 20 degC (an event) and the loss exceeds 2200 W again (closed
+    # form: 20 - 0.01 x 2200 = -2 degC outdoors); held at 20 degC in between
+    from scipy.integrate import solve_ivp
+
+    C, R, P = 5e6, 0.01, 2200.0
+
+    def outdoor(t):
+        return 5.0 * np.cos(2 * np.pi * (t - 54000.0) / 86400.0)
+
+    def full_on(t, y):
+        return [((outdoor(t) - y[0]) / R + P) / C]
+
+    def regains(t, y):
+        return y[0] - 20.0
+    regains.terminal, regains.direction = True, 1
+
+    times = np.arange(0.0, 86400.0 + 1.0, 600.0)
+    first = solve_ivp(full_on, (0, 86400), [20.0], rtol=1e-11, atol=1e-11, events=regains,
+                      dense_output=True)
+    t_back = float(first.t_events[0][0])
+    # the loss exceeds P again when cos(2 pi (t - 15 h) / 24 h) = -0.4, after t_back
+    phase = np.arccos(-0.4) / (2 * np.pi) * 86400.0
+    t_loose = 54000.0 + phase                        # the evening root of the second night
+    assert t_back < t_loose < 86400.0
+    second = solve_ivp(full_on, (t_loose, 86400), [20.0], rtol=1e-11, atol=1e-11,
+                       dense_output=True)
+    want = np.where(times <= t_back, first.sol(np.minimum(times, t_back))[0],
+                    np.where(times <= t_loose, 20.0,
+                             second.sol(np.maximum(times, t_loose))[0]))
+    with pytest.warns(rcsim.errors.RcsimWarning, match="ideal controller"):
+        res = _room(1e-12, power=P).simulate(duration=86400, step=600)
+    got = res.temperatures["room"].to_numpy()
+    assert got.min() < 19.5                           # the night is really felt
+    assert np.allclose(got, want, atol=2e-5, rtol=0)  # the band (1e-6 K) and the tolerances
+
+
+def test_a_band_the_output_resolves_keeps_switching():
+    # 0.1 K: the shortest cycle 4 x 0.1 K x 5e6 J/K / 5000 W = 400 s is above a tenth of the
+    # 600 s step: switched as written, and counted (the rule in README)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", rcsim.errors.RcsimWarning)
+        res = _room(0.1).simulate(duration=86400, step=600)
+    row = res.thermostats.iloc[0]
+    assert row["control"] == "on-off" and row["switches"] > 100
+    assert row["energy [J]"] == pytest.approx(1.728e8, rel=2e-3)   # within the band's C x 0.1 K
+
+
+def test_cli_says_the_switching_is_too_fast_to_count(cli, tmp_path):
+    path = tmp_path / "room.toml"
+    path.write_text("""
+[simulation]
+duration = "24 h"
+step = "10 min"
+[nodes.room]
+capacity = "5 MJ/K"
+initial = "20 degC"
+[boundaries.out]
+temperature = "0 degC"
+[links.wall]
+between = ["room", "out"]
+resistance = "0.01 K/W"
+[thermostats.heater]
+node = "room"
+setpoint = "20 degC"
+band = "1e-12 K"
+power = "5 kW"
+""")
+    r = cli("run", path)
+    assert r.exit_code == 0, r.output
+    assert "on-off (ideal)" in r.output and "switchings too fast to count" in r.output
+    assert "warning: thermostat 'heater': its band of 1e-12 K" in r.output
+    assert "duty 40.0 %" in r.output      # 2000 W of 5000 W (closed form)

@@ -27,6 +27,7 @@ from datetime import timedelta, timezone, tzinfo
 import numpy as np
 
 from .errors import DataError, InputError
+from .inputfiles import quote_cell
 
 __all__ = ["parse_time_zone", "parse_timestamps", "to_instant", "zone_name", "line_of"]
 
@@ -138,7 +139,7 @@ def parse_timestamps(text, zone: tzinfo | None, label: str, column: str):
     has_offset = offset_text.notna().to_numpy()
     if has_offset.any() and not has_offset.all():
         i = int(np.argmax(has_offset != has_offset[0]))
-        raise DataError(f"time column {column!r}: {text.iloc[i]!r} "
+        raise DataError(f"time column {quote_cell(column)}: {quote_cell(text.iloc[i])} "
                         f"{'has' if has_offset[i] else 'has no'} UTC offset, unlike the rows "
                         f"before it", f"{label} line {line_of(i)}",
                         "give every row an offset, or none")
@@ -154,11 +155,12 @@ def parse_timestamps(text, zone: tzinfo | None, label: str, column: str):
     _refuse_unparsed(stamps, text, label, column)
     index = pd.DatetimeIndex(stamps)
     if index.tz is not None:  # pandas found an offset that the pattern did not (should not happen)
-        raise DataError(f"time column {column!r} has offsets in a form rcsim does not read",
+        raise DataError(f"time column {quote_cell(column)} has offsets in a form rcsim does "
+                        "not read",
                         label, "write offsets as Z, +02:00 or +0200")
     if zone is None:
         return index
-    return _localize(index, zone, text, f"time column {column!r}",
+    return _localize(index, zone, text, f"time column {quote_cell(column)}",
                      lambda i: f"{label} line {line_of(i)}")
 
 
@@ -169,7 +171,8 @@ def _refuse_unparsed(stamps, text, label, column) -> None:
 
 
 def _refuse_row(i, text, label, column) -> None:
-    raise DataError(f"time column {column!r}: {text.iloc[i]!r} is not an ISO-8601 timestamp",
+    raise DataError(f"time column {quote_cell(column)}: {quote_cell(text.iloc[i])} is not an "
+                    "ISO-8601 timestamp",
                     f"{label} line {line_of(i)}",
                     "write e.g. 2021-07-01T12:00, 2021-07-01T12:00+02:00 or 2021-07-01T10:00Z")
 
@@ -186,7 +189,7 @@ def _offset_seconds(offset_text, label) -> np.ndarray:
     bad = (minutes >= 60) | (seconds < _MIN_OFFSET) | (seconds > _MAX_OFFSET)
     if bad.any():
         i = int(np.argmax(bad))
-        raise DataError(f"UTC offset {offset_text.iloc[i]!r} is not one in use on Earth "
+        raise DataError(f"UTC offset {quote_cell(offset_text.iloc[i])} is not one in use on Earth "
                         "(-12:00 .. +14:00)", f"{label} line {line_of(i)}",
                         "check the offset of that row")
     return seconds
@@ -201,7 +204,7 @@ def _check_offsets_follow_zone(index, offsets, zone, text, label, column) -> Non
     if bad.any():
         i = int(np.argmax(bad))
         want = _format_offset(expected[i])
-        raise DataError(f"time column {column!r}: {text.iloc[i]!r} has offset "
+        raise DataError(f"time column {quote_cell(column)}: {quote_cell(text.iloc[i])} has offset "
                         f"{_format_offset(offsets[i])}, but {zone_name(zone)} is at {want} at "
                         f"that instant", f"{label} line {line_of(i)}",
                         "a record whose offsets change must follow the site's daylight-saving "
@@ -224,7 +227,7 @@ def _localize(index, zone, text, column, where_of):
         what = ("does not exist on the local clock (skipped at a daylight-saving change)"
                 if one.isna()[0] else
                 "occurs twice on the local clock (repeated at a daylight-saving change)")
-        raise DataError(f"{column}: local time {text.iloc[i]!r} {what} in "
+        raise DataError(f"{column}: local time {quote_cell(text.iloc[i])} {what} in "
                         f"{zone_name(zone)}", where_of(i),
                         "write UTC offsets in the record, or give the zone as a fixed offset "
                         "such as '+01:00' if the record keeps standard time all year")

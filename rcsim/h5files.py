@@ -21,7 +21,7 @@ import pandas as pd
 
 from .atomic import commit, discard, temporary_beside, write_failure
 
-__all__ = ["H5Sink", "GuardedFile", "write_frame", "read_frame", "write_names", "read_names",
+__all__ = ["H5Sink", "GuardedFile", "guarded_h5", "write_frame", "read_frame", "write_names", "read_names",
            "names_dataset", "NAMES_ATTRIBUTE_BYTES", "ONE_D"]
 
 #: series with one value per sample (no names)
@@ -159,10 +159,10 @@ class H5Sink:
         file and becomes one OutputError naming the requested file."""
         try:
             yield
-        except (OSError, RuntimeError) as exc:     # h5py raises either for a failed write
+        except (OSError, RuntimeError, ValueError) as exc:   # what h5py raises on a failure
             failure = self._io.failed if self._io is not None and self._io.failed else exc
             self.abort()
-            if isinstance(exc, RuntimeError) and failure is exc:
+            if not isinstance(exc, OSError) and failure is exc:
                 raise                              # not a write failure: a bug to report
             raise write_failure(failure, self.path) from None
         if self._io is not None and self._io.failed is not None:
@@ -247,6 +247,28 @@ class H5Sink:
         if self._io is not None:
             self._io.close()
         discard(self.tmp)
+
+
+@contextlib.contextmanager
+def guarded_h5(tmp: str):
+    """An HDF5 file opened for writing at ``tmp`` through a :class:`GuardedFile`: a write that
+    fails (disk full) raises its OSError once the file is closed, instead of surfacing inside
+    the HDF5 library (use it inside :func:`rcsim.atomic.atomic_path`)."""
+    import h5py
+
+    io_ = GuardedFile(tmp)
+    try:
+        with h5py.File(io_, "w") as h5:
+            yield h5
+    except (OSError, RuntimeError, ValueError):
+        if io_.failed is None:
+            raise
+        # what HDF5 met after a dropped write (data it wrote and could not read back) is not
+        # the cause: the failed write is
+    finally:
+        io_.close()
+    if io_.failed is not None:
+        raise io_.failed
 
 
 def write_frame(h5, group: str, frame: pd.DataFrame) -> None:

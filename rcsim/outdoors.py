@@ -30,6 +30,7 @@ import numpy as np
 
 from .base import suggest
 from .errors import ProfileError, ScenarioError
+from .inputfiles import resolve_input
 from .profiles import Repeat, Table
 from .profiles.base import LEVEL_KIND
 from .surfaces import degrees
@@ -154,10 +155,7 @@ def _read_weather(spec: dict, out: Outdoors, base_dir: str, allow_absolute: bool
     file = spec["file"]
     if not isinstance(file, str) or not file:
         raise ScenarioError("file must be a path", "weather.file")
-    if os.path.isabs(file) and not allow_absolute:
-        raise ScenarioError(f"absolute path {file!r} refused", "weather.file",
-                            "use a path relative to the scenario file, or allow absolute "
-                            "paths explicitly (--allow-absolute-paths)")
+    full = resolve_input(file, base_dir, allow_absolute, "weather.file")  # inside the folder
     if not isinstance(spec["columns"], dict):
         raise ScenarioError("columns maps quantities to columns, e.g. columns = { "
                             "air_temperature = \"T_air\" }", "weather.columns")
@@ -182,7 +180,7 @@ def _read_weather(spec: dict, out: Outdoors, base_dir: str, allow_absolute: bool
         options["repeat"] = to_si(spec["repeat"], "time", "weather.repeat")
         if not options["repeat"] > 0:
             raise ScenarioError("repeat must be a positive time", "weather.repeat")
-    record = read_weather(os.path.join(base_dir, file), spec["columns"], time=spec.get("time"),
+    record = read_weather(full, spec["columns"], time=spec.get("time"),
                           time_unit=spec.get("time_unit"), time_zone=out.zone, start=out.start,
                           max_gap=spec.get("max_gap"), missing_values=missing,
                           irradiance_period=spec.get("irradiance_period", "instant"),

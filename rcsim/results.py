@@ -175,17 +175,13 @@ class Result:
     # -- histories ---------------------------------------------------------------------------
     def _array(self, key: str) -> np.ndarray:
         if key not in self._arrays and self.path is not None:
-            import h5py
+            from .resultfile import open_result, reading
 
-            from .profiles import check_fits_in_memory
-
-            with h5py.File(self.path, "r") as h5:
+            label = os.path.basename(self.path)
+            # the file was checked through at load (links, shapes, memory for all of it)
+            with open_result(self.path) as h5, reading(label):
                 if key in h5:
-                    ds = h5[key]
-                    check_fits_in_memory(ds.size * ds.dtype.itemsize * 2,
-                                         f"{os.path.basename(self.path)}: /{key}",
-                                         "loading this history")
-                    self._arrays[key] = ds[()]
+                    self._arrays[key] = np.asarray(h5[key][()], dtype=float)
         return self._arrays.get(key, np.empty((0, 0)))
 
     def _frame(self, key: str) -> pd.DataFrame:
@@ -276,32 +272,25 @@ class Result:
 
         Histories are read lazily, on first access.
         """
-        import h5py
+        from .resultfile import inspect_result, open_result, reading
 
         path = os.fspath(path)
-        label = os.path.basename(path)
-        if os.path.isdir(path):
-            raise DataError("is a directory, not a result file", label)
-        if not os.path.exists(path):
-            raise DataError("file not found", label)
-        try:
-            with h5py.File(path, "r") as h5:
-                if "time" not in h5 or "rcsim_version" not in h5.attrs:
-                    raise DataError("is not an rcsim result file (no /time or no rcsim_version)",
-                                    label)
+        label = os.path.basename(path) or path
+        with open_result(path) as h5:          # a regular file that HDF5 opens
+            inspect_result(h5, label)          # links, shapes, types, memory: all checked first
+            with reading(label):
                 names = {}
                 for key in _SERIES:
                     found = read_names(h5, key) if key in h5 else None
                     if found is not None:
                         names[key] = found
-                meta = {k: (v.decode() if isinstance(v, bytes) else v) for k, v in h5.attrs.items()}
+                meta = {k: (v.decode() if isinstance(v, bytes) else v)
+                        for k, v in h5.attrs.items()}
                 meta = {k: (v.item() if hasattr(v, "item") and np.ndim(v) == 0 else v)
                         for k, v in meta.items()}
                 limits = read_frame(h5, "limits")
                 nodes = read_frame(h5, "nodes")
                 thermostats = read_frame(h5, "thermostats")
-        except OSError as exc:
-            raise DataError(f"cannot be read as HDF5 ({exc})", label) from None
         return cls({}, names, meta, limits, nodes, path=path, thermostats=thermostats)
 
     def to_csv(self, path) -> None:

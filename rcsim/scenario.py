@@ -22,12 +22,14 @@ from typing import Any
 
 from .base import suggest
 from .errors import InputError, ProfileError, ScenarioError
+from .inputfiles import check_regular_file, resolve_input
 from .network import Network
 from .outdoors import add_surfaces, csv_reader, read_outdoors, weather_profile
 from .parts import check_keys
 from .profiles import Constant, Profile, Repeat, Sine, Steps, Table
 from .radiation_links import enclosures_from_scenario, radiation_from_scenario
 from .thermostat import add_thermostats_from_scenario
+from .tomlscan import check_nesting
 from .transient.registry import check_solver
 from .units import to_si
 
@@ -255,26 +257,40 @@ def load(path, *, allow_absolute_paths: bool = False) -> Scenario:
         With the file name and key path in the message.
     """
     path = os.fspath(path)
+    text = read_text(path)
+    return loads(text, name=os.path.basename(path) or path,
+                 base_dir=os.path.dirname(os.path.abspath(path)), path=path,
+                 allow_absolute_paths=allow_absolute_paths)
+
+
+def read_text(path) -> str:
+    """The text of a scenario file: a regular file (no FIFO or device) of at most 20 MB of
+    UTF-8 whose keys and values do not nest too deep (:mod:`rcsim.tomlscan`), or
+    ScenarioError."""
+    path = os.fspath(path)
     name = os.path.basename(path) or path
     if os.path.isdir(path):
         raise ScenarioError("is a directory, not a scenario file", path,
                             "give the path of a .toml file")
     if not os.path.exists(path):
         raise ScenarioError("file not found", path)
-    size = os.path.getsize(path)
+    size = check_regular_file(path, name).st_size   # no FIFO or device (rcsim.inputfiles)
     if size > _MAX_BYTES:
         raise ScenarioError(f"file is {size / 1e6:.1f} MB; a scenario file is at most "
                             f"{_MAX_BYTES / 1e6:.0f} MB", name, "put large data in CSV files")
     try:
         with open(path, "rb") as fh:
-            raw = fh.read()
+            raw = fh.read(_MAX_BYTES + 1)     # bounded even where the size says nothing
+        if len(raw) > _MAX_BYTES:
+            raise ScenarioError(f"file is over {_MAX_BYTES / 1e6:.0f} MB, the most a scenario "
+                                "file may be", name, "put large data in CSV files")
         text = raw.decode("utf-8")
     except UnicodeDecodeError:
         raise ScenarioError("is not UTF-8 text", name) from None
     except OSError as exc:
         raise ScenarioError(f"cannot be read ({exc.strerror})", name) from None
-    return loads(text, name=name, base_dir=os.path.dirname(os.path.abspath(path)),
-                 path=path, allow_absolute_paths=allow_absolute_paths)
+    check_nesting(text, name)
+    return text
 
 
 def loads(text: str, name: str = "<scenario>", base_dir: str = ".", path: str | None = None,
@@ -283,6 +299,7 @@ def loads(text: str, name: str = "<scenario>", base_dir: str = ".", path: str | 
     if not text.strip():
         raise ScenarioError("is empty", name, "a scenario needs at least [nodes] and [links]")
     text = unicodedata.normalize("NFC", text)   # names in one Unicode form (README "Names")
+    check_nesting(text, name)     # a cheap scan first: deep keys cost the parser gigabytes
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
@@ -503,11 +520,8 @@ def _profile_of_kind(kind, body, w, ctx) -> Profile:
         file = body["file"]
         if not isinstance(file, str) or not file:
             raise ScenarioError("file must be a path", f"{w}.file")
-        if os.path.isabs(file) and not ctx.allow_absolute:
-            raise ScenarioError(f"absolute path {file!r} refused", f"{w}.file",
-                                "use a path relative to the scenario file, or allow absolute "
-                                "paths explicitly (--allow-absolute-paths)")
-        full = os.path.join(ctx.base_dir, file)
+        # inside the scenario's folder once '..' and links are resolved (rcsim.inputfiles)
+        full = resolve_input(file, ctx.base_dir, ctx.allow_absolute, f"{w}.file")
         missing = body.get("missing", "error")
         if missing not in ("error", "interpolate"):
             raise ScenarioError(f"missing must be 'error' or 'interpolate', got {missing!r}",

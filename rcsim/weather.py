@@ -43,6 +43,7 @@ from .arguments import check_name
 from .base import suggest
 from .clock import line_of, parse_time_zone, parse_timestamps, to_instant
 from .errors import DataError, InputError, UnitError
+from .inputfiles import check_regular_file, cut, quote_cell
 from .profiles.timeseries import check_separator, header_line
 from .units import KINDS, to_si
 
@@ -228,8 +229,7 @@ def _read_text(path, label):
     path = os.fspath(path)
     if os.path.isdir(path):
         raise DataError("is a directory, not a CSV file", label)
-    if not os.path.exists(path):
-        raise DataError("file not found", label, f"looked for {os.path.abspath(path)}")
+    check_regular_file(path, label)      # not missing, no FIFO or device (rcsim.inputfiles)
     check_separator(header_line(path).split(","), label)
     try:
         frame = pd.read_csv(path, dtype=str, keep_default_na=False, skipinitialspace=True,
@@ -255,7 +255,7 @@ def _header_of(path, label) -> list[str]:
         names = [name.strip() for name in next(csv.reader(fh, skipinitialspace=True))]
     for i, name in enumerate(names):
         if name in names[:i]:
-            raise DataError(f"has two columns named {name!r}", f"{label} line 1",
+            raise DataError(f"has two columns named {quote_cell(name)}", f"{label} line 1",
                             "rename one of them")
     return names
 
@@ -268,8 +268,8 @@ def _split_headers(names, label) -> dict[str, tuple[str, str | None]]:
         name, unit = (match["name"], match["unit"].strip()) if match else (header, None)
         for key in {header, name}:
             if key in seen and seen[key] != header:
-                raise DataError(f"columns {seen[key]!r} and {header!r} have the same name",
-                                label, "rename one of them")
+                raise DataError(f"columns {quote_cell(seen[key])} and {quote_cell(header)} have "
+                                "the same name", label, "rename one of them")
             seen[key] = header
         out[header] = (name, unit)
     return out
@@ -280,7 +280,8 @@ def _lookup(name: str, headers, label, what: str) -> str:
         if name in (header, bare):
             return header
     valid = [bare for bare, _ in headers.values()]
-    raise DataError(f"no column {name!r} ({what})", label, suggest(name, valid))
+    raise DataError(f"no column {quote_cell(name)} ({what})", label,
+                    suggest(name, [cut(v) for v in valid][:12]))
 
 
 def _find_time_column(time, headers, label) -> str:

@@ -248,3 +248,18 @@ def test_new_fit_options_refuse_bad_input(cli, tmp_path):
         errors = [ln for ln in r.output.splitlines() if ln.startswith("error:")]
         assert len(errors) == 1 and expected in errors[0], (args, r.output)
     assert set(os.listdir(tmp_path)) == before
+
+
+@pytest.mark.slow
+def test_an_undetermined_noise_gives_an_open_interval_without_a_numpy_warning(cli):
+    # README example: one node fitted with process noise to the two-node case record
+    # (scenarios/make-identify-log.py); the measurement noise is not determined (the process
+    # noise takes it all), so its interval reaches infinity: said by the fit's own warning, not
+    # by numpy overflowing in exp(log value + 1.96 se)
+    case = os.path.join(SCENARIOS, "case-one-node.toml")
+    log = os.path.join(SCENARIOS, "identify-case-log.csv")
+    r = cli("fit", case, log, "--noise", "process", "--holdout", "0.2")
+    assert r.exit_code == 0, r.output
+    assert "overflow" not in r.output
+    res = _quiet(rcsim.fit, case, log, noise="process", holdout=0.2)
+    assert res.noise_estimates.loc["measurement.inside", "ci_high"] == float("inf")

@@ -359,6 +359,7 @@ def test_fit_refuses_a_bad_report_name_before_fitting(cli, block_log, tmp_path, 
     assert sorted(os.listdir(tmp_path)) == before
 
 
+@pytest.mark.slow
 def test_sweep_report_and_table_hold_the_same_exact_numbers(cli, block, tmp_path):
     from rcsim.sweep import read_table
 

@@ -35,6 +35,7 @@ def test_grid_sweep_prints_percentiles_and_writes_the_table(cli, tmp_path):
         assert row["hold_time.payload"] == pytest.approx(hold, rel=1e-15)
 
 
+@pytest.mark.slow
 def test_sampled_sweep_with_tornado_and_plots(cli, tmp_path):
     out = tmp_path / "mc.h5"
     r = cli("sweep", COLD_BOX, "--vary", f"{THICKNESS}=normal(50mm,5mm)",

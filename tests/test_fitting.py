@@ -80,6 +80,7 @@ def quiet_fit(*args, **kwargs):
 
 
 # -- recovery of known values ---------------------------------------------------------------
+@pytest.mark.slow
 def test_true_values_inside_95_percent_intervals_in_40_seeded_logs():
     # a 95 % interval must hold the truth in about 95 % of repetitions; the issue asks >= 90 %
     span, dt = 8 * 3600.0, 120.0
@@ -332,6 +333,7 @@ def test_linear_values_reuse_one_decomposition():
                                                                                       abs=1e-8)
 
 
+@pytest.mark.slow
 def test_stiff_path_agrees_with_exact_path():
     # the general path (a tolerance-controlled BDF run per evaluation) finds the same optimum
     span, dt = 6 * 3600.0, 600.0

@@ -37,7 +37,8 @@ FACADES = {
 #: the facade methods). A module is placed by its name or the name of its package.
 LAYERS = [
     ("base", ["rcsim.base", "rcsim.errors", "rcsim.units", "rcsim.atomic", "rcsim.runinfo",
-              "rcsim.arguments", "rcsim.clock", "rcsim.caution", "rcsim.threads"]),
+              "rcsim.arguments", "rcsim.clock", "rcsim.caution", "rcsim.threads",
+              "rcsim.inputfiles", "rcsim.tomlscan"]),
     ("physics and inputs", ["rcsim.elements", "rcsim.correlations", "rcsim.laws", "rcsim.phase",
                             "rcsim.materials", "rcsim.profiles", "rcsim.limits",
                             "rcsim.solar", "rcsim.sky", "rcsim.exposure", "rcsim.weather",
@@ -48,7 +49,8 @@ LAYERS = [
                "rcsim.summaries", "rcsim.varying", "rcsim.surfaces"]),
     ("steady state, modes, records", ["rcsim.nonlinear", "rcsim.steady", "rcsim.modes",
                                       "rcsim.recording", "rcsim.results",
-                                      "rcsim.h5files", "rcsim.run_warnings"]),
+                                      "rcsim.h5files", "rcsim.resultfile",
+                                      "rcsim.run_warnings"]),
     ("transient", ["rcsim.transient"]),
     ("scenario", ["rcsim.scenario", "rcsim.outdoors"]),
     ("applications", ["rcsim.fitting", "rcsim.sweep", "rcsim.plotting", "rcsim.sizing",

@@ -85,6 +85,7 @@ def test_scatter_draws_output_against_each_input(table):
     assert drawn["axes"][1].get_xlabel() == "nodes.payload.mass [kg]"
 
 
+@pytest.mark.slow
 def test_sweep_figures_writes_pngs_for_outputs_that_vary(table, oat, tmp_path):
     paths = sweep_figures(table, tmp_path, stem="box", oat=oat)
     names = sorted(os.path.basename(p) for p in paths)

@@ -43,6 +43,7 @@ def test_unit_parser_on_any_text(text, kind):
         assert str(out).startswith("x: ")
 
 
+@pytest.mark.slow
 @MANY
 @given(st.one_of(st.floats(allow_nan=True, allow_infinity=True), st.integers(-10**30, 10**30)),
        st.sampled_from(UNITS), st.sampled_from(sorted(KINDS)))
@@ -125,6 +126,7 @@ def _mutate(data, path, value, action):
             cur[f"extra_{last}"] = value
 
 
+@pytest.mark.slow
 @pytest.mark.filterwarnings("ignore::rcsim.errors.LumpedWarning")
 @MANY
 @given(st.lists(st.tuples(st.sampled_from(PATHS), JUNK,
@@ -163,6 +165,7 @@ def test_mutated_scenarios_that_load_also_run_or_fail_cleanly(mutations):
     assert np.isfinite(T).all()
 
 
+@pytest.mark.slow
 @MANY
 @given(st.text(max_size=300))
 def test_any_text_as_scenario(text):
@@ -177,6 +180,7 @@ def test_deep_nesting(depth):
     assert isinstance(out, InputError)
 
 
+@pytest.mark.slow
 @MANY
 @given(st.lists(st.floats(allow_nan=True, allow_infinity=True), min_size=0, max_size=6),
        st.lists(st.floats(allow_nan=True, allow_infinity=True), min_size=0, max_size=6),
@@ -197,6 +201,7 @@ CSV_CELLS = st.one_of(st.floats(allow_nan=True, allow_infinity=True).map(repr),
                       st.sampled_from(["", "NaN", "2026-07-01T00:00", "1,2", '"q"', "\x00"]))
 
 
+@pytest.mark.slow
 @MANY
 @given(st.lists(st.lists(CSV_CELLS, min_size=1, max_size=3), min_size=0, max_size=8),
        st.sampled_from(["time,t\n", "t\n", "time,t,t\n", "", "time;t\n"]))
@@ -227,6 +232,7 @@ def test_names(name):
     _ok_or_input_error(add)
 
 
+@pytest.mark.slow
 @MANY
 @given(st.lists(st.lists(CSV_CELLS, min_size=1, max_size=4), min_size=0, max_size=8),
        st.sampled_from(["time,block,room\n", "t [min],block\n", "when,block\n", "block,room\n",

@@ -34,6 +34,7 @@ def test_edge_factor_against_a_two_dimensional_solution():
     assert sf.EDGE_FACTOR == pytest.approx(edge, rel=0.04)
 
 
+@pytest.mark.slow
 def test_cube_shipper_against_a_three_dimensional_solution():
     # 0.3 m cube inside, 50 mm walls (inside / thickness = 6): the table's walls + edges + corners
     # against our octant solution at 10 mm and 5 mm cells, extrapolated: within 1 % (measured

@@ -148,6 +148,7 @@ def test_a_choice_from_a_catalogue_of_thicknesses():
     assert res.sized_scenario.value("links.wall.parts[0].conduction.thickness") == "40 mm"
 
 
+@pytest.mark.slow
 def test_95_percent_confidence_under_a_normal_ambient():
     # Hold time decreases as the ambient warms, so a draw j holds 10 h when
     # C >= C_j = 36000 / (R ln((T_j - 5)/(T_j - 8))) (closed form derived above). 95 of 100 draws
@@ -188,6 +189,7 @@ def test_95_percent_confidence_under_a_normal_ambient():
     assert res.confidence == 0.95 and res.samples == n and res.seed == seed
 
 
+@pytest.mark.slow
 def test_processes_and_dask_give_the_same_answer_as_this_process():
     # the executor decides where the runs go, not what they give (same draws, same rows)
     from dask.distributed import Client, LocalCluster

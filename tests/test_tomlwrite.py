@@ -33,6 +33,7 @@ values = st.recursive(scalars, lambda inner: st.one_of(
 documents = st.dictionaries(keys, values, max_size=5)
 
 
+@pytest.mark.slow
 @settings(max_examples=300, deadline=None)
 @given(documents)
 def test_any_document_reads_back_identically(doc):
@@ -155,6 +156,7 @@ def test_edit_refuses_text_that_is_not_toml():
         update("a = = 1", {"a": 1})
 
 
+@pytest.mark.slow
 @settings(max_examples=150, deadline=None)
 @given(documents, st.data())
 def test_any_document_edited_reads_back_as_the_new_data(doc, draw):

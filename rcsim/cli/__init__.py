@@ -4,10 +4,11 @@ Exit status: 0 success; 2 bad input (one line on stderr, no traceback, no partia
 3 the numerics failed on valid input; 130 interrupted.
 
 Layout: ``group.py`` holds the click group :func:`main` and registers the commands, one per
-module (``check``, ``steady``, ``modes``, ``materials``, ``run``, ``plot``, ``fit``, ``sweep``);
-``guard.py`` turns library errors and warnings into lines and exit statuses; ``options.py``
-holds checks shared by the commands' options; ``format.py`` the shared formatting of times,
-energies and tables; ``progress.py`` the progress bar. A command module imports only click and
+module (``check``, ``steady``, ``modes``, ``materials``, ``run``, ``plot``, ``fit``,
+``identify``, ``sweep``, ``size``, ``report``, ``draw``); ``guard.py`` turns library errors and
+warnings into lines and exit statuses; ``options.py`` holds checks shared by the commands'
+options; ``format.py`` the shared formatting of times, energies and tables; ``fit_text.py`` the
+text of fits, comparisons and identifications; ``progress.py`` the progress bar. A command module imports only click and
 these at module level; the library is imported inside the command, so ``rcsim --help`` starts
 quickly.
 """

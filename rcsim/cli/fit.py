@@ -76,8 +76,9 @@ NOISE_KINDS = ("measurement", "process")
 @click.option("--write-scenario", type=click.Path(), help="Write the fitted scenario (of the "
               "selected candidate; of the first log) to this TOML file.")
 @click.option("--plot", "plot_path", type=click.Path(), help="Write the measured vs fitted "
-              "figure (with residuals; with candidates every fit overlaid; with several logs "
-              "one file per log, named after it) to this PNG, SVG or PDF file.")
+              "figure (with residuals; with candidates every fit overlaid, on the first log; "
+              "with several logs and one scenario one file per log, named after it) to this "
+              "PNG, SVG or PDF file.")
 @click.option("--report", "report_path", type=click.Path(), metavar="REPORT.html",
               help="Write the fit's report (of the selected candidate; estimates, quality, "
               "figure, fitted scenario, warnings, provenance) to this .html file.")

@@ -137,7 +137,10 @@ def _fit_header(sc, res) -> list[str]:
         return ", ".join(f"{c}" if res.targets[c] == c else f"{c} -> {res.targets[c]}"
                          for c in columns)
 
-    cols, inputs = described(res.measured.columns), described(res.inputs.columns)
+    # what drives the model: the boundary columns, then the columns that drive sources
+    driving = list(res.inputs.columns) + [c for c in res.targets if c not in res.inputs.columns
+                                          and c not in res.measured.columns]
+    cols, inputs = described(res.measured.columns), described(driving)
     noise = "; with process noise (Kalman filter)" if res.noise == "process" else ""
     return [f"{sc.name} fitted to {res.log_name}: {res.n_points} measured values "
             f"({cols}){'; measured inputs: ' + inputs if inputs else ''}{noise}",

@@ -22,7 +22,7 @@ from ..transient.registry import SOLVERS, solver_help  # noqa: E402
 scenario_argument = click.argument("scenario", type=click.Path(dir_okay=True))
 allow_absolute_paths_option = click.option(
     "--allow-absolute-paths", is_flag=True,
-    help="Let the scenario read CSV files by absolute path.")
+    help="Let the scenario read CSV files by absolute path or outside its folder.")
 quiet_option = click.option("--quiet", is_flag=True,
                             help="Print nothing but errors and warnings.")
 

@@ -32,7 +32,7 @@ from dataclasses import dataclass, field, replace
 
 from ..errors import InputError, ScenarioError
 from ..parts import check_keys
-from ..scenario import FIT_KEYS, Scenario, loads
+from ..scenario import FIT_KEYS, Scenario, loads, read_text
 
 __all__ = ["FitSpec", "Candidate", "read_candidate", "fit_spec", "split_fit_section", "FIT_KEYS"]
 
@@ -190,18 +190,7 @@ def read_candidate(source, *, allow_absolute_paths: bool = False) -> Candidate:
                          f"{type(source).__name__}", "candidates")
     path = os.fspath(source)
     name = os.path.basename(path) or path
-    if os.path.isdir(path):
-        raise ScenarioError("is a directory, not a scenario file", path,
-                            "give the path of a .toml file")
-    if not os.path.exists(path):
-        raise ScenarioError("file not found", path)
-    try:
-        with open(path, "rb") as fh:
-            text = fh.read().decode("utf-8")
-    except UnicodeDecodeError:
-        raise ScenarioError("is not UTF-8 text", name) from None
-    except OSError as exc:
-        raise ScenarioError(f"cannot be read ({exc.strerror})", name) from None
+    text = read_text(path)       # regular file, bounded size, nesting scanned before parsing
     rest, table = split_fit_section(text, name)
     spec = fit_spec(table, f"{name}: fit")
     sc = loads(rest, name=name, base_dir=os.path.dirname(os.path.abspath(path)), path=path,

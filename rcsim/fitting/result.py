@@ -214,8 +214,10 @@ class FitResult:
         sc = self.fitted_scenario
         data = _relocate_csv_paths(sc.data, sc.base_dir, folder)
         text = _with_header(self._header(), scenario_text(sc, data))
+        # its CSV paths were checked when the scenario was read; from another folder they may
+        # lead out of it (reading the written file then needs --allow-absolute-paths)
         check = loads(text, name=os.path.basename(path), base_dir=folder,
-                      allow_absolute_paths=sc.allow_absolute_paths)
+                      allow_absolute_paths=True)
         from ..tomlwrite import same
 
         if not same(check.data, data):  # pragma: no cover - a bug if reached

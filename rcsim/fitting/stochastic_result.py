@@ -74,7 +74,9 @@ def noise_table(problem: StochasticProblem, x, se) -> pd.DataFrame:
     for xi, si in zip(xs, ses):
         v = float(np.exp(xi))
         if np.isfinite(si):
-            rows.append([v, v * si, float(np.exp(xi - Z_95 * si)), float(np.exp(xi + Z_95 * si))])
+            with np.errstate(over="ignore"):  # an undetermined noise: the interval reaches inf
+                rows.append([v, v * si, float(np.exp(xi - Z_95 * si)),
+                             float(np.exp(xi + Z_95 * si))])
         else:
             rows.append([v, si, np.nan if np.isnan(si) else 0.0,
                          np.nan if np.isnan(si) else np.inf])

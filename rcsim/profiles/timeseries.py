@@ -13,6 +13,7 @@ import numpy as np
 
 from ..base import suggest
 from ..errors import DataError
+from ..inputfiles import check_regular_file, cut, quote_cell, quote_names
 from .base import to_si
 
 
@@ -48,17 +49,19 @@ def time_unit_of(header: str, time_unit: str | None, label: str) -> str:
     ('h', 'min')
     """
     in_header = split_header(header)[1]
-    for unit, said in ((in_header, f"its header says {in_header!r}"),
+    for unit, said in ((in_header, f"its header says {quote_cell(in_header)}"),
                        (time_unit, f"time_unit is {time_unit!r}")):
         if unit is not None:
             try:
                 to_si(f"1 {unit}", "time")
             except ValueError:
-                raise DataError(f"time column {header!r}: {said}, which is not a unit of time",
-                                label, "write e.g. 'time [s]', 'time [min]' or 'time [h]'") from None
+                raise DataError(f"time column {quote_cell(header)}: {said}, which is not a "
+                                "unit of time", label,
+                                "write e.g. 'time [s]', 'time [min]' or 'time [h]'") from None
     if in_header is not None and time_unit is not None and \
             to_si(f"1 {in_header}", "time") != to_si(f"1 {time_unit}", "time"):
-        raise DataError(f"time column {header!r}: its header says {in_header!r} but time_unit "
+        raise DataError(f"time column {quote_cell(header)}: its header says "
+                        f"{quote_cell(in_header)} but time_unit "
                         f"is {time_unit!r}", label, "give the unit in one place")
     return in_header or time_unit or "s"
 
@@ -85,9 +88,7 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
     path = os.fspath(path)
     if os.path.isdir(path):
         raise DataError("is a directory, not a CSV file", label)
-    if not os.path.exists(path):
-        raise DataError("file not found", label, f"looked for {os.path.abspath(path)}")
-    size = os.path.getsize(path)
+    size = check_regular_file(path, label).st_size   # no FIFO or device (rcsim.inputfiles)
     if max_bytes is not None and size > max_bytes:
         raise DataError(f"file is {size / 1e9:.2f} GB, more than the "
                         f"{max_bytes / 1e9:.2f} GB allowed", label)
@@ -98,20 +99,24 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
     if tcol not in df.columns:  # the name without its unit: time = "hour" for "hour [h]"
         tcol = next((c for c in df.columns if split_header(c)[0] == tcol), tcol)
     if tcol not in df.columns:
-        raise DataError(f"no time column {tcol!r}", label,
-                        "columns are: " + ", ".join(map(repr, df.columns)))
+        raise DataError(f"no time column {quote_cell(tcol)}", label,
+                        "columns are: " + quote_names(df.columns))
     if columns is None:
         columns = [c for c in df.columns if c != tcol]
     for c in columns:
         if c not in df.columns:
-            raise DataError(f"no column {c!r}", label, suggest(c, [x for x in df.columns if x != tcol]))
+            others = [x for x in df.columns if x != tcol]
+            raise DataError(f"no column {quote_cell(c)}", label,
+                            suggest(c, [cut(x) for x in others]) if len(others) <= 6
+                            else "columns are: " + quote_names(others))
     parsed = parse_times(df[tcol], tcol, label, start, time_unit)
     t = parsed.seconds
     d = np.diff(t)
     if (d <= 0).any():
         i = int(np.argmax(d <= 0)) + 1
-        raise DataError(f"time does not increase at line {i + 2} ({df[tcol].iloc[i]!r} after "
-                        f"{df[tcol].iloc[i - 1]!r})", label, "sort the rows and remove duplicates")
+        raise DataError(f"time does not increase at line {i + 2} ({quote_cell(df[tcol].iloc[i])}"
+                        f" after {quote_cell(df[tcol].iloc[i - 1])})", label,
+                        "sort the rows and remove duplicates")
     out = {}
     for c in columns:
         text = df[c].str.strip()
@@ -119,11 +124,12 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
         bad = ~np.isfinite(values)
         if bad.any() and missing != "interpolate":
             i = int(np.argmax(bad))
-            what = "empty" if text.iloc[i] == "" else f"not a finite number ({text.iloc[i]!r})"
-            raise DataError(f"column {c!r} line {i + 2} is {what}", label,
+            what = "empty" if text.iloc[i] == "" else \
+                f"not a finite number ({quote_cell(text.iloc[i])})"
+            raise DataError(f"column {quote_cell(c)} line {i + 2} is {what}", label,
                             "fix the row or set missing = 'interpolate'")
         if np.isfinite(values).sum() == 0:
-            raise DataError(f"column {c!r} has no numeric values", label)
+            raise DataError(f"column {quote_cell(c)} has no numeric values", label)
         values[bad] = np.nan
         out[c] = values
     frame = pd.DataFrame(out, index=pd.Index(t, name="time"))
@@ -140,7 +146,8 @@ def read_csv_text(path, label: str):
 
     # pandas holds a CSV read as text at about 11-15 times its size on disk (measured for
     # 1,000,000 rows, tests/benchmarks/bench_transient.py --large)
-    check_fits_in_memory(os.path.getsize(path) * 15, label, "reading it")
+    size = check_regular_file(path, label).st_size   # no FIFO or device (rcsim.inputfiles)
+    check_fits_in_memory(size * 15, label, "reading it")
     check_separator(header_line(path).split(","), label)
     try:
         df = pd.read_csv(path, skipinitialspace=True, dtype=str, keep_default_na=False,
@@ -234,13 +241,15 @@ def parse_times(col, name, label, start, time_unit) -> TimeParse:
             seconds = numeric * factor
         if not np.isfinite(seconds).all():  # e.g. 1e306 min: a number, but not a time
             i = int(np.argmax(~np.isfinite(seconds)))
-            raise DataError(f"time column {name!r} line {i + 2} is too large to be a time "
-                            f"({text.iloc[i]!r} {unit})", label,
+            raise DataError(f"time column {quote_cell(name)} line {i + 2} is too large to be a "
+                            "time "
+                            f"({quote_cell(text.iloc[i])} {unit})", label,
                             "check the column's unit and values")
         return TimeParse(seconds, False)
     if np.isfinite(numeric[0]):  # the first row decides: seconds, or timestamps
         i = int(np.argmax(~np.isfinite(numeric)))
-        raise DataError(f"time column {name!r} line {i + 2} is not a number ({text.iloc[i]!r})",
+        raise DataError(f"time column {quote_cell(name)} line {i + 2} is not a number "
+                        f"({quote_cell(text.iloc[i])})",
                         label)
     stamps = first_row_clock(parse_timestamps(text, None, label, name), text)
     if start is None:

@@ -293,7 +293,9 @@ def _write_h5(table, tmp):
 
     from ..base import package_version
 
-    with h5py.File(tmp, "w") as h5:
+    from ..h5files import guarded_h5
+
+    with guarded_h5(tmp) as h5:        # a full disk: one OSError after closing, not a crash
         g = h5.create_group("sweep")
         g.create_dataset("run", data=table.index.to_numpy(dtype=np.int64))
         for c in table.columns:

@@ -696,3 +696,19 @@ def test_a_fit_candidate_is_read_with_the_same_guards(tmp_path):
     os.mkfifo(tmp_path / "pipe.toml")
     with pytest.raises(InputError, match="FIFO"):
         read_candidate(tmp_path / "pipe.toml")
+
+
+def test_a_small_file_declaring_millions_of_names_is_refused_before_reading_them(tmp_path):
+    import h5py
+
+    path = _good_result(tmp_path / "r.h5")
+    with h5py.File(path, "r+") as h5:
+        del h5["temperature"], h5["temperature_names"]
+        h5.create_dataset("temperature", shape=(13, 400_000_000), dtype="f8",
+                          chunks=(1, 65536), compression="gzip")
+        h5.create_dataset("temperature_names", shape=(400_000_000,),
+                          dtype=h5py.string_dtype(), chunks=(65536,), compression="gzip")
+    assert os.path.getsize(path) < 5_000_000
+    r = Child(["plot", "r.h5", "-o", "f.png"], tmp_path)
+    one_line(r, "r.h5", "needs about")
+    assert r.peak < 600e6, r.peak

@@ -118,6 +118,14 @@ UNWRITABLE = [
       "{d}/file.txt/p"], ["--plots", "is not a folder"]),
     (["report", "{s}", "-o", "{d}/file.txt/r.html"], ["--output", "is not a folder"]),
     (["draw", "{s}", "-o", "{d}/file.txt/n.svg"], ["--output", "is not a folder"]),
+    (["size", "{s}", "--vary", "links.skin.resistance=1..2", "--require", "max.block <= 30 degC",
+      "--write-scenario", "{d}/file.txt/sized.toml"], ["--write-scenario", "is not a folder"]),
+    (["size", "{s}", "--vary", "links.skin.resistance=1..2", "--require", "max.block <= 30 degC",
+      "--plots", "{d}/file.txt/p"], ["--plots", "is not a folder"]),
+    (["size", "{s}", "--vary", "links.skin.resistance=1..2", "--require", "max.block <= 30 degC",
+      "-o", "{d}/file.txt/t.csv"], ["output", "is not a folder"]),
+    (["fit", "{s}", "{d}/file.txt", "--free", "nodes.block.capacity", "-o",
+      "{d}/file.txt/e.csv"], ["--output", "is not a folder"]),
 ]
 
 

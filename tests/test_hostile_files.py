@@ -720,3 +720,15 @@ def test_a_small_file_declaring_millions_of_names_is_refused_before_reading_them
     r = Child(["plot", "r.h5", "-o", "f.png"], tmp_path)
     one_line(r, "r.h5", "needs about")
     assert r.peak < 600e6, r.peak
+
+
+def test_a_file_the_system_refuses_is_one_line(cli, block, tmp_path, monkeypatch):
+    # a reader that meets an OSError it does not turn into rcsim's own error (an unreadable
+    # file, a failing disk): still one line and status 2, naming the file
+    import rcsim.scenario
+
+    def refused(path):
+        raise PermissionError(errno.EACCES, "Permission denied", str(path))
+
+    monkeypatch.setattr(rcsim.scenario, "read_text", refused)
+    one_line(cli("check", block), "block.toml", "Permission denied")

@@ -2,7 +2,8 @@
 
 0 success; 2 bad input (:class:`rcsim.errors.InputError`: one line naming the file, key or row,
 no traceback; also a file the system refused to read or write, as one line); 3 the numerics
-failed on valid input (:class:`rcsim.errors.SolverError`); 130 interrupted (Ctrl-C, or :class:`rcsim.errors.Interrupted` saying how far the run got).
+failed on valid input (:class:`rcsim.errors.SolverError`); 130 interrupted (Ctrl-C, or
+:class:`rcsim.errors.Interrupted` saying how far the run got).
 Warnings the library raised while a command ran are printed once each, as ``warning: ...``.
 """
 

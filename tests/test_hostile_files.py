@@ -356,6 +356,12 @@ def test_a_csv_outside_the_scenarios_folder_is_refused_without_showing_it(cli, n
     assert "Traceback" not in r.output and "x" * 41 not in r.output
 
 
+@pytest.mark.parametrize("file,words", [("a\\u0000b.csv", ["NUL"]), ("", ["file must be a path"]),
+                                        (".", ["is a directory"]), ("sub", ["is a directory"])])
+def test_odd_file_names_are_one_line(cli, nest, file, words):
+    one_line(cli("check", nest(file)), *words)
+
+
 def test_links_and_dots_that_stay_inside_the_folder_are_read(cli, nest, tmp_path):
     os.symlink("good.csv", tmp_path / "sc" / "alias.csv")
     for file in ("good.csv", "sub/../good.csv", "alias.csv", "./good.csv"):

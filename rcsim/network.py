@@ -441,12 +441,19 @@ class Network:
     _is_internal_name = is_internal_name   # older name
 
     # -- assembly -----------------------------------------------------------------------------
-    def assemble(self) -> Assembled:
-        """Assemble (and cache) the sparse matrices. Warns on doubtful lumped layers."""
+    def assemble(self, check: bool = True) -> Assembled:
+        """Assemble (and cache) the sparse matrices. Warns on doubtful lumped layers.
+
+        ``check`` (default) refuses links too stiff for double precision next to their
+        neighbours (:func:`rcsim.conditioning.check_stiff_groups`); computations that need no
+        matrix sums (the equivalent resistance) pass False.
+        """
         if self._assembled is None:
-            asm = assemble_network(self)
-            check_stiff_groups(asm)     # links too stiff for double precision: refused here
-            self._assembled = asm
+            self._assembled = assemble_network(self)
+            self._stiff_checked = False
+        if check and not getattr(self, "_stiff_checked", False):
+            check_stiff_groups(self._assembled)  # links too stiff for double precision
+            self._stiff_checked = True
         return self._assembled
 
     # -- analysis (hand-offs to the solver modules) --------------------------------------------
@@ -456,11 +463,12 @@ class Network:
 
         return solve_steady(self, at=at)
 
-    def equivalent_resistance(self, a: str, b: str) -> float:
-        """Equivalent resistance [K/W] between two points (see :func:`rcsim.steady.equivalent_resistance`)."""
+    def equivalent_resistance(self, a: str, b: str, at: float = 0.0) -> float:
+        """Equivalent resistance [K/W] between two points, nonlinear links at their secant
+        value in the steady state at ``at`` [s] (see :func:`rcsim.steady.equivalent_resistance`)."""
         from .steady import equivalent_resistance
 
-        return equivalent_resistance(self, a, b)
+        return equivalent_resistance(self, a, b, at=at)
 
     def time_constants(self) -> np.ndarray:
         """Time constants of the network's modes [s], longest first (inf for floating groups)."""

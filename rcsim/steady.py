@@ -8,12 +8,13 @@ their values at the chosen time). Networks with nonlinear elements are solved by
 
 from __future__ import annotations
 
+import heapq
+import math
 from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 import scipy.sparse as sp
-import scipy.sparse.linalg as spla
 
 from .base import suggest
 from .errors import NetworkError
@@ -22,6 +23,7 @@ from .steady_linear import check_grounded, steady_temperatures
 from .summaries import area_conductance_text, initial_text
 
 __all__ = ["SteadyResult", "solve_steady", "steady_temperatures", "equivalent_resistance",
+           "secant_conductances", "link_resistances",
            "network_summary", "check_grounded"]
 
 
@@ -76,15 +78,60 @@ def solve_steady(network, at: float = 0.0) -> SteadyResult:
     )
 
 
-def equivalent_resistance(network, a: str, b: str) -> float:
+def secant_conductances(asm, T: np.ndarray, u: np.ndarray) -> np.ndarray:
+    """Conductance of every segment [W/K] at node temperatures ``T`` and boundary temperatures
+    ``u``: a nonlinear segment (radiation, a film correlation, with the linear parts in series
+    with it) at its *secant* value q / (T_a - T_b) there, its tangent where the two ends are
+    within 1e-6 K of each other (where rounding would swamp q)."""
+    seg_g = np.asarray(asm.seg_g, dtype=float).copy()
+    if asm.nl is None:
+        return seg_g
+    points = np.concatenate([np.asarray(T, dtype=float), np.asarray(u, dtype=float)])
+    s = asm.nl.seg
+    ta, tb = points[asm.seg_a[s]], points[asm.seg_b[s]]
+    q, da, db = asm.nl.solve(ta, tb)
+    dT = ta - tb
+    close = np.abs(dT) < 1e-6
+    seg_g[s] = np.where(close, 0.5 * (da - db), q / np.where(close, 1.0, dT))
+    return seg_g
+
+
+def link_resistances(network, result: "SteadyResult", at: float = 0.0) -> pd.Series:
+    """Resistance of every link [K/W] in the steady state ``result`` (boundaries at ``at`` [s]):
+    its own for a linear link; for a link with a nonlinear part the sum over its segments of
+    their *secant* resistances (T_a - T_b) / q in that state (:func:`secant_conductances`:
+    the tangent where no temperature difference drives it)."""
+    asm = network.assemble(check=False).at_time(float(at))
+    T = result.temperatures.reindex(asm.node_names).to_numpy(dtype=float)
+    u = result.boundary_temperatures.reindex(asm.boundary_names).to_numpy(dtype=float)
+    seg_r = 1.0 / secant_conductances(asm, T, u)
+    out = {}
+    for k, name in enumerate(asm.link_names):
+        link = network.links[name]
+        out[name] = (float(np.sum(seg_r[asm.link_first_seg[k]:asm.link_last_seg[k] + 1]))
+                     if link.is_nonlinear else link.resistance)
+    return pd.Series(out, name="resistance [K/W]", dtype=float)
+
+
+def equivalent_resistance(network, a: str, b: str, at: float = 0.0) -> float:
     """Equivalent resistance [K/W] between two points (nodes or boundaries).
 
     Defined as the temperature difference between ``a`` and ``b`` per watt injected at ``a`` and
     drawn at ``b``, with every other boundary and source disconnected (other boundaries become
     plain junctions). For a wall between an inside and an outside boundary it is the total series
     resistance; parallel paths combine as 1/R = sum(1/R_i).
+
+    Every other point is eliminated in turn by the star-mesh transformation (a point k with
+    conductances g_ki to its neighbours becomes conductances g_ki g_kj / sum_l g_kl between each
+    pair of them; Kron reduction written on the conductances): only sums, products and quotients
+    of positive numbers, no difference, so the result is exact to a few roundings however
+    stiff some links are next to others (series and parallel links reduce to their closed forms).
+
+    A nonlinear link (radiation, a film correlation) counts with its secant conductance
+    q / (T_a - T_b) in the network's steady state with boundaries and sources at time ``at`` [s]
+    (:func:`secant_conductances`); conductances that vary in time count with their value then.
     """
-    asm = network.assemble()
+    asm = network.assemble(check=False).at_time(float(at))   # stiff links are no trouble here
     names = asm.node_names + asm.boundary_names
     index = {n: i for i, n in enumerate(names)}
     for p in (a, b):
@@ -93,25 +140,58 @@ def equivalent_resistance(network, a: str, b: str) -> float:
     if a == b:
         raise NetworkError("the two points are the same", None)
     n = len(names)
-    g = asm.seg_g
-    rows = np.concatenate([asm.seg_a, asm.seg_b, asm.seg_a, asm.seg_b])
-    cols = np.concatenate([asm.seg_a, asm.seg_b, asm.seg_b, asm.seg_a])
-    vals = np.concatenate([g, g, -g, -g])
-    lap = sp.csr_matrix((vals, (rows, cols)), shape=(n, n))
-    ia, ib = index[a], index[b]
+    g = np.asarray(asm.seg_g, dtype=float)
+    if asm.nl is not None:
+        u = asm.boundary_values(float(at))
+        T = steady_newton(asm, u, asm.source_values(float(at)),
+                          list(network.thermostats.values()))
+        g = secant_conductances(asm, T, u)
+    use = np.isfinite(g) & (g > 0) & (asm.seg_a != asm.seg_b)
+    lo = np.minimum(asm.seg_a, asm.seg_b)[use]
+    hi = np.maximum(asm.seg_a, asm.seg_b)[use]
+    pairs = sp.coo_matrix((g[use], (lo, hi)), shape=(n, n)).tocsr()   # parallel links summed
+    pairs.sum_duplicates()
     from scipy.sparse.csgraph import connected_components
 
-    _, labels = connected_components(abs(lap), directed=False)
+    _, labels = connected_components(pairs, directed=False)
+    ia, ib = index[a], index[b]
     if labels[ia] != labels[ib]:
         raise NetworkError(f"no path between {a!r} and {b!r}", None)
-    keep = np.flatnonzero(labels == labels[ia])
-    keep = keep[keep != ib]
-    sub = lap[keep][:, keep].tocsc()
-    rhs = np.zeros(keep.size)
-    pos = int(np.flatnonzero(keep == ia)[0])
-    rhs[pos] = 1.0
-    t = spla.spsolve(sub, rhs) if keep.size > 1 else rhs / sub.toarray()[0, 0]
-    return float(np.atleast_1d(t)[pos])
+    coo = pairs.tocoo()
+    inside = labels[coo.row] == labels[ia]
+    return 1.0 / _star_mesh_to_pair(coo.row[inside], coo.col[inside], coo.data[inside], ia, ib)
+
+
+def _star_mesh_to_pair(rows, cols, values, ia: int, ib: int) -> float:
+    """The conductance [W/K] left between ``ia`` and ``ib`` once every other point of the
+    connected graph (edges ``rows``-``cols`` of conductances ``values``) is eliminated by the
+    star-mesh transformation, the point with fewest neighbours first."""
+    adj: dict[int, dict[int, float]] = {}
+    for i, j, v in zip(rows.tolist(), cols.tolist(), values.tolist()):
+        adj.setdefault(i, {})[j] = adj.get(i, {}).get(j, 0.0) + v
+        adj.setdefault(j, {})[i] = adj.get(j, {}).get(i, 0.0) + v
+    heap = [(len(nb), k) for k, nb in adj.items() if k not in (ia, ib)]
+    heapq.heapify(heap)
+    gone = set()
+    while heap:
+        degree, k = heapq.heappop(heap)
+        if k in gone or degree != len(adj[k]):
+            continue                                   # stale entry
+        gone.add(k)
+        star = adj.pop(k)
+        total = math.fsum(star.values())
+        items = list(star.items())
+        for i, _ in items:
+            del adj[i][k]
+        for x, (i, gi) in enumerate(items):
+            for j, gj in items[x + 1:]:
+                w = gi * gj / total
+                adj[i][j] = adj[i].get(j, 0.0) + w
+                adj[j][i] = adj[j].get(i, 0.0) + w
+        for i, _ in items:
+            if i not in (ia, ib):
+                heapq.heappush(heap, (len(adj[i]), i))
+    return adj[ia][ib]
 
 
 def network_summary(network) -> str:
@@ -143,8 +223,9 @@ def network_summary(network) -> str:
         u_text = area_conductance_text(link)
         u_text = f"  {u_text}" if u_text else ""
         c_text = f"  C = {link.capacity:.4g} J/K" if link.capacity else ""
-        lines.append(f"  {name:<{width}}  {link.a} -> {link.b}  R = {link.resistance:.5g} K/W"
-                     f"{u_text}{c_text}")
+        r_text = ("R nonlinear (depends on the temperatures)" if link.is_nonlinear
+                  else f"R = {link.resistance:.5g} K/W")
+        lines.append(f"  {name:<{width}}  {link.a} -> {link.b}  {r_text}{u_text}{c_text}")
         if len(link.parts) > 1 or link.parts[0].kind not in ("resistance", "conductance"):
             for part in link.parts:
                 lines.append(f"      {part.describe()}")

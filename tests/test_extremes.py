@@ -276,3 +276,88 @@ power = "5 kW"
     assert "on-off (ideal)" in r.output and "switchings too fast to count" in r.output
     assert "warning: thermostat 'heater': its band of 1e-12 K" in r.output
     assert "duty 40.0 %" in r.output      # 2000 W of 5000 W (closed form)
+
+
+# ---- equivalent resistance next to very stiff links (issue 18 item 6) ------------------------
+def _exact_resistance(links, a, b):
+    """Reference: nodal analysis in exact rational arithmetic (Python's fractions), 1 W in at
+    ``a`` and out at ``b`` (grounded), Gauss-Jordan elimination without rounding."""
+    from fractions import Fraction
+
+    points = sorted({p for link in links for p in link[:2]} - {b})
+    at = {p: i for i, p in enumerate(points)}
+    m = [[Fraction(0)] * (len(points) + 1) for _ in points]
+    for p, q, r in links:
+        g = 1 / Fraction(r)
+        for u, v in ((p, q), (q, p)):
+            if u != b:
+                m[at[u]][at[u]] += g
+                if v != b:
+                    m[at[u]][at[v]] -= g
+    m[at[a]][-1] = Fraction(1)
+    for c in range(len(points)):
+        piv = next(r for r in range(c, len(points)) if m[r][c] != 0)
+        m[c], m[piv] = m[piv], m[c]
+        for r in range(len(points)):
+            if r != c and m[r][c] != 0:
+                f = m[r][c] / m[c][c]
+                m[r] = [x - f * y for x, y in zip(m[r], m[c])]
+    return float(m[at[a]][-1] / m[at[a]][at[a]])
+
+
+def _network_of(links):
+    net = rcsim.Network()
+    for p in sorted({p for link in links for p in link[:2]} - {"in", "out"}):
+        net.add_node(p, capacity=1.0, initial=0.0)
+    net.add_boundary("in", temperature=20.0)
+    net.add_boundary("out", temperature=0.0)
+    for k, (p, q, r) in enumerate(links):
+        net.add_link(p, q, resistance=r, name=f"l{k}")
+    return net
+
+
+SERIES_PARALLEL = [("in", "m1", 1e-9), ("m1", "m2", 1e3), ("m1", "m2", 3e-9),
+                   ("m2", "m3", 1e-6), ("m3", "out", 1e2), ("m2", "out", 10.0)]
+# a bridge (not series-parallel): m1-m2 crosses it, stiff on one side
+BRIDGE = [("in", "m1", 1e-9), ("in", "m2", 1e3), ("m1", "m2", 2e-9), ("m1", "out", 5e2),
+          ("m2", "out", 1e-8), ("out", "m3", 1.0), ("m3", "in", 7e2)]
+
+
+def test_equivalent_resistance_is_exact_next_to_stiff_links():
+    # closed form of the series-parallel network: 1e-9 + (1e3 || 3e-9) + ((1e-6 + 1e2) || 10),
+    # in exact rational arithmetic
+    from fractions import Fraction as F
+
+    def par(*r):
+        return 1 / sum(1 / x for x in r)
+
+    closed = float(F(1e-9) + par(F(1e3), F(3e-9)) + par(F(1e-6) + F(1e2), F(10)))
+    net = _network_of(SERIES_PARALLEL)
+    assert net.equivalent_resistance("in", "out") == pytest.approx(closed, rel=1e-14)
+    assert _exact_resistance(SERIES_PARALLEL, "in", "out") == pytest.approx(closed, rel=1e-15)
+    # between inner points too, and the other way round (reciprocity)
+    for a, b in (("m1", "out"), ("in", "m3"), ("m3", "m1")):
+        want = _exact_resistance(SERIES_PARALLEL, a, b)
+        assert net.equivalent_resistance(a, b) == pytest.approx(want, rel=1e-13)
+        assert net.equivalent_resistance(b, a) == pytest.approx(want, rel=1e-13)
+
+
+@pytest.mark.parametrize("pair", [("in", "out"), ("m1", "m2"), ("in", "m3")])
+def test_equivalent_resistance_of_a_stiff_bridge(pair):
+    net = _network_of(BRIDGE)
+    want = _exact_resistance(BRIDGE, *pair)
+    assert net.equivalent_resistance(*pair) == pytest.approx(want, rel=1e-13)
+
+
+def test_equivalent_resistance_of_a_long_ladder_spanning_twelve_decades():
+    # 40 rungs: series resistances from 1e-9 to 1e3 K/W, each node also tied to `out`
+    rng = np.random.default_rng(7)
+    links, prev = [], "in"
+    for k in range(40):
+        node = f"n{k}"
+        links.append((prev, node, float(10.0 ** rng.uniform(-9, 3))))
+        links.append((node, "out", float(10.0 ** rng.uniform(-9, 3))))
+        prev = node
+    net = _network_of(links)
+    assert net.equivalent_resistance("in", "out") == pytest.approx(
+        _exact_resistance(links, "in", "out"), rel=1e-12)

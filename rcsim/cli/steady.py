@@ -18,6 +18,7 @@ from .options import load_scenario, scenario_argument
 @guard
 def steady(scenario, between, at):
     """Steady-state temperatures and heat flows of SCENARIO."""
+    from ..steady import link_resistances
     from ..summaries import area_conductance
     from ..units import to_si
 
@@ -25,7 +26,9 @@ def steady(scenario, between, at):
     net = sc.network
     at_seconds = to_si(at, "time", "--at")
     res = sc.steady(at=at_seconds)     # errors name the scenario file
-    r_between = net.equivalent_resistance(*between) if between else None
+    r_between = net.equivalent_resistance(*between, at=at_seconds) if between else None
+    resistances = link_resistances(net, res, at=at_seconds)
+    secant = False
     width = max([len(n) for n in list(res.temperatures.index) + list(res.heat_flows.index)] + [8])
     click.echo(f"{sc.name}: steady state ({res.solver}), boundaries and sources at t = "
                f"{format_time(at_seconds)}")
@@ -41,12 +44,23 @@ def steady(scenario, between, at):
         link = net.links[name]
         found = area_conductance(link)
         u_text = f"{found[0]:>3} {found[1]:<12.4g}" if found else f"{'-':>3} {'':<12}"
-        click.echo(f"  {name:<{width}}  {q:12.4f}  {link.resistance:10.5g}  {u_text}"
+        r = resistances[name]
+        if link.is_nonlinear:   # the secant value of this state, marked
+            secant = True
+            r_text = f"{r:9.5g}*"
+        else:
+            r_text = f"{r:10.5g}"
+        click.echo(f"  {name:<{width}}  {q:12.4f}  {r_text}  {u_text}"
                    f"   ({link.a} -> {link.b})")
     if between:
         click.echo("")
-        click.echo(f"  equivalent resistance {between[0]} - {between[1]}: {r_between:.6g} K/W")
+        click.echo(f"  equivalent resistance {between[0]} - {between[1]}: {r_between:.6g} K/W"
+                   + (" (nonlinear links at their secant value*)" if secant else ""))
     click.echo("")
     click.echo("  U: a construction (plane layers) between the link's two points; G/A: the "
                "conductance per area\n  of a film, pad or other link with one area")
+    if secant:
+        click.echo("  *: nonlinear link (radiation, film correlation): its secant resistance "
+                   "dT/q in this steady state\n     (the tangent where no temperature "
+                   "difference drives it)")
     click.echo(CAUTION)

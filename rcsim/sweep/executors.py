@@ -98,6 +98,9 @@ def _init_worker(job, stop=None):  # pragma: no cover - runs in the worker proce
     import signal
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    for name in ("SIGTERM", "SIGHUP"):   # their default action, not the parent's handler
+        if hasattr(signal, name):
+            signal.signal(getattr(signal, name), signal.SIG_DFL)
     from ..threads import worker_setup
 
     worker_setup()                  # one BLAS thread per worker (rcsim.threads)

@@ -261,6 +261,17 @@ def test_melting_point_below_absolute_zero_refused(tmp_path, cli):
     assert "nodes.a.phase_change.melting[0]: '-300 degC' is below absolute zero" in line, line
 
 
+@pytest.mark.parametrize("text,fragment", [
+    ("time,a,out\n0,20,10\n60,-300,10\n120,20,10\n", "column 'a' line 3: -300 degC is below"),
+    ("time,a,out\n0,20,10\n60,20,10\n120,20,-274\n", "column 'out' line 4: -274 degC is below"),
+])
+def test_fit_log_temperatures_below_absolute_zero_refused(tmp_path, text, fragment):
+    (tmp_path / "log.csv").write_text(text)
+    with pytest.raises(InputError) as err:
+        read_log(tmp_path / "log.csv", ["a"], ["out"])
+    assert str(err.value).startswith("log.csv: ") and fragment in str(err.value), str(err.value)
+
+
 def test_absolute_zero_itself_and_just_above_are_accepted():
     from rcsim.units import to_si
 

@@ -91,6 +91,35 @@ def test_time_unit_conflicts_refused(tmp_path, cli, csv_text, profile, fragment)
     assert "s.toml" in line
 
 
+@pytest.mark.parametrize("header,column,unit,expected", [
+    # 50 degF = 10 degC (T/degC = (T/degF - 32) / 1.8, NIST SP 811, B.8); 2 kW = 2000 W
+    ("T [degF]", "T", None, 10.0), ("T [degF]", "T [degF]", None, 10.0),
+    ("T [degF]", "T", "degree_Fahrenheit", 10.0), ("T", "T", "degF", 10.0), ("T", "T", None, 50.0),
+    ("T (north)", "T (north)", None, 50.0),      # parentheses: a note, not a unit
+])
+def test_csv_value_units_in_headers_are_honoured(tmp_path, header, column, unit, expected):
+    (tmp_path / "p.csv").write_text(f"time [h],{header}\n0,50\n48,50\n")
+    prof = Table.from_csv(tmp_path / "p.csv", column, unit=unit).bind("temperature", "k")
+    assert prof.value(3600.0) == pytest.approx(expected, abs=1e-12)
+
+
+def test_csv_power_header_in_kilowatts(tmp_path):
+    (tmp_path / "p.csv").write_text("t,P [kW]\n0,2\n10,2\n")
+    assert Table.from_csv(tmp_path / "p.csv", "P").bind("power").value(5.0) == 2000.0
+
+
+@pytest.mark.parametrize("header,unit,fragment", [
+    ("T [degF]", "degC", "column 'T [degF]': its header says 'degF' but unit is 'degC'"),
+    ("T [W]", None, "boundaries.out.temperature: p.csv column 'T [W]': expected a temperature"),
+])
+def test_csv_value_unit_conflicts_refused(tmp_path, cli, header, unit, fragment):
+    profile = '{ csv = { file = "p.csv", column = "T"%s } }' % (
+        f', unit = "{unit}"' if unit else "")
+    line = _one_line_error(cli, tmp_path, _scenario(tmp_path, f"t,{header}\n0,1\n200000,2\n",
+                                                    profile))
+    assert fragment in line, line
+
+
 def test_fit_log_refuses_a_header_unit_that_disagrees_with_time_unit(tmp_path):
     (tmp_path / "log.csv").write_text("time [h],a\n0,1\n1,2\n2,3\n")
     assert read_log(tmp_path / "log.csv", ["a"], []).time[-1] == 7200.0   # 2 h
@@ -230,6 +259,17 @@ def test_melting_point_below_absolute_zero_refused(tmp_path, cli):
         '"4.18 kJ/(kg*K)" }'))
     line = _one_line_error(cli, tmp_path, path)
     assert "nodes.a.phase_change.melting[0]: '-300 degC' is below absolute zero" in line, line
+
+
+@pytest.mark.parametrize("text,fragment", [
+    ("time,a,out\n0,20,10\n60,-300,10\n120,20,10\n", "column 'a' line 3: -300 degC is below"),
+    ("time,a,out\n0,20,10\n60,20,10\n120,20,-274\n", "column 'out' line 4: -274 degC is below"),
+])
+def test_fit_log_temperatures_below_absolute_zero_refused(tmp_path, text, fragment):
+    (tmp_path / "log.csv").write_text(text)
+    with pytest.raises(InputError) as err:
+        read_log(tmp_path / "log.csv", ["a"], ["out"])
+    assert str(err.value).startswith("log.csv: ") and fragment in str(err.value), str(err.value)
 
 
 def test_absolute_zero_itself_and_just_above_are_accepted():

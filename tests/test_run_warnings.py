@@ -58,6 +58,7 @@ def test_nodes_without_a_boundary_warn_in_check_and_run(tmp_path, cli):
     warned = [line for line in result.output.splitlines() if line.startswith("warning:")]
     assert len(warned) == 2, result.output
     assert any(lonely in line for line in warned) and any(group in line for line in warned)
+    assert "floating.toml: ok, 2 warning(s)" in result.output
     result = cli("run", path)
     assert result.exit_code == 0, result.output
     assert sum(line.startswith("warning: ") for line in result.output.splitlines()) == 2

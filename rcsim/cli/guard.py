@@ -1,8 +1,9 @@
 """From library errors and warnings to what a person reads: one line each, and an exit status.
 
 0 success; 2 bad input (:class:`rcsim.errors.InputError`: one line naming the file, key or row,
-no traceback); 3 the numerics failed on valid input (:class:`rcsim.errors.SolverError`); 130
-interrupted (Ctrl-C, or :class:`rcsim.errors.Interrupted` saying how far the run got). SIGTERM
+no traceback; also a file the system refused to read or write, as one line); 3 the numerics
+failed on valid input (:class:`rcsim.errors.SolverError`); 130 interrupted (Ctrl-C, or
+:class:`rcsim.errors.Interrupted` saying how far the run got). SIGTERM
 and SIGHUP are handled as Ctrl-C is (the work stops, temporary files are removed, the line says
 how far it got), with the status a shell gives for the signal: 143 (SIGTERM), 129 (SIGHUP). A
 signal the command was started to ignore (``nohup`` ignores SIGHUP) stays ignored.
@@ -100,6 +101,10 @@ def guard(func):
             except RcsimError as err:  # pragma: no cover - every error is one of the above
                 _relay(caught)
                 fail(str(err), EXIT_INPUT)
+            except OSError as err:   # the system refused a file (a reader did not say which)
+                _relay(caught)
+                where = f"{err.filename}: " if getattr(err, "filename", None) else ""
+                fail(f"{where}{err.strerror or err}", EXIT_INPUT)
             except KeyboardInterrupt:
                 _relay(caught)
                 leave_interrupted("interrupted: nothing was written")

@@ -32,8 +32,8 @@ from .errors import RcsimWarning
 from .laws import FilmLaw, SegmentLaws
 
 __all__ = ["network_warnings", "run_watchers", "FreezingWatch", "CorrelationWatch",
-           "collecting_warnings", "warning_texts", "warn_network", "warn_watched", "FreezingWarning", "CorrelationRangeWarning",
-           "FloatingNodesWarning"]
+           "collecting_warnings", "warning_texts", "warn_network", "warn_watched",
+           "FreezingWarning", "CorrelationRangeWarning", "FloatingNodesWarning"]
 
 
 class FloatingNodesWarning(RcsimWarning):

@@ -114,6 +114,6 @@ def check_stiff_groups(asm, limit: float = STIFF_RATIO) -> None:
         f"link {link!r} ({1.0 / asm.seg_g[s]:.3g} K/W) joins {', '.join(map(repr, names))}{more} "
         f"so stiffly that the {grp['leaving']:.3g} W/K leaving them is {grp['ratio']:.2g} times "
         f"smaller than the conductances inside: double precision cannot resolve it (limit "
-        f"{limit:.0e})", None,
+        f"{limit:.0e})", f"links.{link}",
         f"merge them into one node (capacities added) or give the link at least about "
         f"{r_min:.2g} K/W")

@@ -361,3 +361,14 @@ def test_equivalent_resistance_of_a_long_ladder_spanning_twelve_decades():
     net = _network_of(links)
     assert net.equivalent_resistance("in", "out") == pytest.approx(
         _exact_resistance(links, "in", "out"), rel=1e-12)
+
+
+def test_a_hair_thin_proportional_band_is_widened_to_the_floor():
+    # before: a 1e-12 K proportional band on the piecewise path delivered 0.17 % too much heat
+    # (gain 5e15 W/K times temperatures known to 4e-15 K); widened to 1e-6 K it holds the room
+    # and delivers the day's loss, 1.728e8 J (closed form as above)
+    with pytest.warns(rcsim.errors.RcsimWarning, match="widened to 1e-06 K"):
+        res = _room(1e-12, control="proportional").simulate(duration=86400, step=600)
+    row = res.thermostats.iloc[0]
+    assert row["energy [J]"] == pytest.approx(1.728e8, abs=0.5e-6 / 0.01 * 86400 + 200.0)
+    assert abs(res.temperatures["room"] - 20.0).max() <= 0.5e-6 + 1e-9

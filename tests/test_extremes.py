@@ -372,3 +372,32 @@ def test_a_hair_thin_proportional_band_is_widened_to_the_floor():
     row = res.thermostats.iloc[0]
     assert row["energy [J]"] == pytest.approx(1.728e8, abs=0.5e-6 / 0.01 * 86400 + 200.0)
     assert abs(res.temperatures["room"] - 20.0).max() <= 0.5e-6 + 1e-9
+
+
+# ---- time constants spanning more than double precision resolves (exact path) ----------------
+def _bead_on_block(bead_capacity):
+    """A bead of ``bead_capacity`` on a 1 kJ/K block (0.4 K/W), the block behind 2 K/W to
+    0 degC, both starting at 20 degC."""
+    net = rcsim.Network()
+    net.add_node("bead", capacity=bead_capacity, initial=20.0)
+    net.add_node("block", capacity=1000.0, initial=20.0)
+    net.add_boundary("out", temperature=0.0)
+    net.add_link("bead", "block", resistance=0.4, name="glue")
+    net.add_link("block", "out", resistance=2.0, name="wall")
+    return net
+
+
+def test_a_tiny_capacity_beside_a_large_one_is_not_run_on_the_exact_path():
+    # time constants 4e-16 s and 2000 s: the dense eigenproblem lost the slow mode (the exact
+    # path returned a balance error of 1.0 on the property-test network). Declined, another
+    # path runs it: the bead follows the block, 20 exp(-t / 2000 s) (closed form of the block's
+    # single RC; the bead's own time constant is 4e-16 s)
+    net = _bead_on_block(1e-15)
+    with pytest.raises(rcsim.InputError, match="cannot resolve this network's time constants"):
+        net.simulate(duration=3600, step=60, solver="exact")
+    res = net.simulate(duration=3600, step=60)
+    assert res.run_info.path != "exact"
+    want = 20.0 * np.exp(-res.time / 2000.0)
+    assert np.allclose(res.temperatures["block"], want, rtol=1e-5, atol=0)
+    assert np.allclose(res.temperatures["bead"], want, rtol=1e-5, atol=0)
+    assert res.energy_balance_error < 1e-6

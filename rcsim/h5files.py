@@ -31,15 +31,19 @@ ONE_D = ("time", "energy/stored")
 class GuardedFile(io.RawIOBase):
     """A binary file for HDF5's file-object driver that keeps its first write failure.
 
-    After a failure (``failed`` holds the OSError) writes are accepted and dropped, so the
-    library finishes whatever it was doing without error; the caller checks ``failed`` and
-    throws the file away.
+    After a failure (``failed`` holds the OSError) the bytes HDF5 goes on writing are kept in
+    memory instead (an overlay that reads see), so the library finishes whatever it was doing
+    on a consistent file, without an error it could only print; the caller checks ``failed``
+    after each operation and throws the file away. The overlay holds what one operation and the
+    final flush write (the chunk cache, 32 MB at most, for :class:`H5Sink`).
     """
 
     def __init__(self, path: str):
         super().__init__()
         self._raw = open(path, "r+b", buffering=0)   # noqa: SIM115 - closed in close()
         self.failed: BaseException | None = None
+        self._overlay: list[tuple[int, bytes]] = []   # (offset, bytes) written after failing
+        self._pos = 0
 
     def readable(self) -> bool:
         return True
@@ -50,36 +54,71 @@ class GuardedFile(io.RawIOBase):
     def seekable(self) -> bool:
         return True
 
+    def _end(self) -> int:
+        end = os.fstat(self._raw.fileno()).st_size
+        for off, data in self._overlay:
+            end = max(end, off + len(data))
+        return end
+
     def readinto(self, buffer) -> int:
-        return self._raw.readinto(buffer)
+        view = memoryview(buffer).cast("B")
+        self._raw.seek(self._pos)
+        n = self._raw.readinto(view) or 0
+        if self._overlay:
+            pos, size = self._pos, view.nbytes
+            reach = n
+            for off, data in self._overlay:
+                if off < pos + size and off + len(data) > pos:
+                    reach = max(reach, min(off + len(data), pos + size) - pos)
+            if reach > n:
+                view[n:reach] = bytes(reach - n)      # past the real end: zeros, then patches
+            for off, data in self._overlay:           # in the order they were written
+                lo, hi = max(off, pos), min(off + len(data), pos + size)
+                if lo < hi:
+                    view[lo - pos:hi - pos] = data[lo - off:hi - off]
+            n = reach
+        self._pos += n
+        return n
 
     def write(self, data) -> int:
         view = memoryview(data).cast("B")
         size = view.nbytes
-        if self.failed is not None:
-            return size
-        try:
-            done = 0
-            while done < size:                   # a raw write may write less than asked
-                done += self._raw.write(view[done:])
-        except OSError as exc:
-            self.failed = exc
+        done = 0
+        if self.failed is None:
+            try:
+                self._raw.seek(self._pos)
+                while done < size:                # a raw write may write less than asked
+                    done += self._raw.write(view[done:])
+            except OSError as exc:
+                self.failed = exc
+        if done < size:
+            self._overlay.append((self._pos + done, bytes(view[done:])))
+        self._pos += size
         return size
 
     def seek(self, offset: int, whence: int = 0) -> int:
-        return self._raw.seek(offset, whence)
+        if whence == 0:
+            self._pos = offset
+        elif whence == 1:
+            self._pos += offset
+        else:
+            self._pos = self._end() + offset
+        return self._pos
 
     def tell(self) -> int:
-        return self._raw.tell()
+        return self._pos
 
     def truncate(self, size=None) -> int:
+        size = self._pos if size is None else size
+        if self.failed is None:
+            try:
+                self._raw.truncate(size)
+            except OSError as exc:
+                self.failed = exc
         if self.failed is not None:
-            return self._raw.tell() if size is None else size
-        try:
-            return self._raw.truncate(size)
-        except OSError as exc:
-            self.failed = exc
-            return self._raw.tell() if size is None else size
+            self._overlay = [(off, data[:max(0, size - off)]) for off, data in self._overlay
+                             if off < size]
+        return size
 
     def flush(self) -> None:
         pass
@@ -87,6 +126,7 @@ class GuardedFile(io.RawIOBase):
     def close(self) -> None:
         if not self.closed:
             self._raw.close()
+            self._overlay = []
         super().close()
 
 
@@ -238,7 +278,7 @@ class H5Sink:
         if self._open:
             self._open = False
             if self._io is not None and self._io.failed is None:
-                self._io.failed = OSError("aborted")   # the closing flush goes nowhere
+                self._io.failed = OSError("aborted")   # the closing flush stays in memory
             try:
                 self.file.close()
             except Exception:  # pragma: no cover - closing a broken file

@@ -46,6 +46,8 @@ def resolve_input(file: str, base_dir: str, allow_outside: bool, where: str) -> 
     """
     hint = ("put the file in the scenario's folder or below it, or allow other places "
             "explicitly (--allow-absolute-paths)")
+    if "\x00" in file:
+        raise ScenarioError("a file name cannot hold a NUL character", where)
     if os.path.isabs(file) and not allow_outside:
         raise ScenarioError(f"absolute path {file!r} refused", where,
                             "use a path relative to the scenario file, or allow absolute "

@@ -321,7 +321,8 @@ def csv_profile(path: str, column: str, time=None, start=None, unit=None, time_u
         origin = outdoors.start if outdoors.start is not None else stamps[0]
         times = (stamps - origin).total_seconds().to_numpy(dtype=float)
     return Table.from_columns(path, column, times, frame[column].to_numpy(dtype=float),
-                              unit=unit, missing=missing, outside=outside, where=where)
+                              unit=unit, missing=missing, outside=outside, where=where,
+                              header=frame.attrs["headers"][column])
 
 
 # -- sun and sky from the record ---------------------------------------------------------------

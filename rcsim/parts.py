@@ -271,9 +271,11 @@ def _radii(spec: dict, where: str) -> tuple[float, float]:
     return radial.radii_from(**given, where=where)
 
 
-#: keys of a cylinder or sphere part (a cylinder has ``length`` too)
-_RADIAL_PART_KEYS = {"k", "material", *_RADIAL_KEYS, "density", "specific_heat", "slices",
-                     "spacing", "phase_change", "initial"}
+#: keys of a cylinder or sphere part (a cylinder has ``length`` too; README "Cylinder and sphere
+#: parts" documents each)
+RADIAL_PART_KEYS = frozenset({"k", "material", *_RADIAL_KEYS, "density", "specific_heat",
+                              "slices", "spacing", "phase_change", "initial"})
+_RADIAL_PART_KEYS = RADIAL_PART_KEYS
 
 
 def _radial(spec: dict, where: str, geometry: str) -> Part:

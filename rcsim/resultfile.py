@@ -135,10 +135,13 @@ def _walk(h5, label: str):
 def _names(h5, key: str, label: str) -> list[str] | None:
     """The names of series ``key`` (dataset, else attribute), checked as UTF-8 strings."""
     ds = names_dataset(key)
+    width = None if key in ONE_D else h5[key].shape[1]
     if ds in h5:
         raw = h5[ds]
         if raw.ndim != 1 or raw.dtype.kind not in "OS":
             raise _fail(label, f"/{ds} is not a list of names")
+        if width is not None and raw.shape[0] != width:
+            raise _fail(label, f"/{key} has {width} columns but {raw.shape[0]} names")
         values = raw[()]
     elif "names" in h5[key].attrs:
         values = np.atleast_1d(h5[key].attrs["names"])
@@ -240,6 +243,15 @@ def inspect_result(h5, label: str) -> ResultLayout:
         if not isinstance(time, h5py.Dataset) or time.ndim != 1 or time.dtype.kind not in "fiu":
             raise _fail(label, "/time is not a list of times")
         layout = ResultLayout(samples=int(time.shape[0]))
+        # what a full load allocates, before anything is read: every dataset once, the time
+        # and the histories twice (array and frame)
+        total = 0
+        for path, obj in objects.items():
+            if isinstance(obj, h5py.Dataset):
+                size = int(np.prod(obj.shape, dtype=np.float64)) * obj.dtype.itemsize
+                total += size * (_COPIES if path in SERIES or path == "time" else 1)
+        layout.needed_bytes = total
+        check_fits_in_memory(total, label, "loading this result")
         for key in SERIES:
             if key in objects:
                 _check_series(h5, key, layout.samples, label, layout)
@@ -252,12 +264,4 @@ def inspect_result(h5, label: str) -> ResultLayout:
             if group in objects:
                 _check_table(h5, group, label)
         _check_attrs(h5, label)
-        # what a full load allocates: every dataset once, histories also as frames
-        total = 0
-        for path, obj in objects.items():
-            if isinstance(obj, h5py.Dataset):
-                size = int(np.prod(obj.shape, dtype=np.float64)) * obj.dtype.itemsize
-                total += size * (_COPIES if path in layout.series or path == "time" else 1)
-        layout.needed_bytes = total
-    check_fits_in_memory(total, label, "loading this result")
     return layout

@@ -175,13 +175,18 @@ class Result:
     # -- histories ---------------------------------------------------------------------------
     def _array(self, key: str) -> np.ndarray:
         if key not in self._arrays and self.path is not None:
+            from .profiles import check_fits_in_memory
             from .resultfile import open_result, reading
 
             label = os.path.basename(self.path)
-            # the file was checked through at load (links, shapes, memory for all of it)
+            # the file was checked through at load (links, shapes, memory for all of it); the
+            # memory left now is checked again for this history
             with open_result(self.path) as h5, reading(label):
                 if key in h5:
-                    self._arrays[key] = np.asarray(h5[key][()], dtype=float)
+                    ds = h5[key]
+                    check_fits_in_memory(ds.size * ds.dtype.itemsize * 2, f"{label}: /{key}",
+                                         "loading this history")
+                    self._arrays[key] = np.asarray(ds[()], dtype=float)
         return self._arrays.get(key, np.empty((0, 0)))
 
     def _frame(self, key: str) -> pd.DataFrame:

@@ -30,6 +30,7 @@ from .profiles import Constant, Profile, Repeat, Sine, Steps, Table
 from .radiation_links import enclosures_from_scenario, radiation_from_scenario
 from .thermostat import add_thermostats_from_scenario
 from .tomlscan import check_nesting
+from .tomltext import explain as explain_toml_error
 from .transient.registry import check_solver
 from .units import to_si
 
@@ -303,7 +304,9 @@ def loads(text: str, name: str = "<scenario>", base_dir: str = ".", path: str | 
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise ScenarioError(f"TOML syntax error: {exc}", name) from None
+        message, line, hint = explain_toml_error(str(exc), text)
+        raise ScenarioError(message, name if line is None else f"{name} line {line}",
+                            hint) from None
     except RecursionError:
         raise ScenarioError("TOML nesting too deep", name) from None
     return build(data, text, path or name, base_dir, allow_absolute_paths)

@@ -22,7 +22,7 @@ from numbers import Real
 
 from .errors import UnitError
 
-__all__ = ["ureg", "registry", "KINDS", "ABSOLUTE_ZERO", "to_si", "to_si_array", "si_unit", "format_quantity",
+__all__ = ["ureg", "registry", "KINDS", "EXAMPLE_UNITS", "expected", "ABSOLUTE_ZERO", "to_si", "to_si_array", "si_unit", "format_quantity",
            "format_duration", "significant", "format_clock_time"]
 
 # kind -> (SI unit string, description used in messages "expected a length")
@@ -54,6 +54,28 @@ KINDS: dict[str, tuple[str, str]] = {
 
 #: absolute zero [degC]: absolute temperatures below it are refused where they are read
 ABSOLUTE_ZERO = -273.15
+
+#: kind -> a unit a user would write for it, shown in messages ("expected a length (e.g. mm)")
+EXAMPLE_UNITS: dict[str, str] = {
+    "dimensionless": "0.9", "length": "50 mm", "area": "0.8 m^2", "volume": "20 L",
+    "mass": "2 kg", "time": "5 min", "temperature": "25 degC", "temperature_difference": "7 K",
+    "power": "5 W", "energy": "3 kJ", "capacity": "8.4 kJ/K", "resistance": "2.5 K/W",
+    "conductance": "0.4 W/K", "area_resistance": "0.13 m^2*K/W",
+    "heat_transfer_coefficient": "10 W/(m^2*K)", "conductivity": "0.033 W/(m*K)",
+    "density": "1200 kg/m^3", "specific_heat": "900 J/(kg*K)", "specific_energy": "334 kJ/kg",
+    "velocity": "3 m/s", "pressure": "101.3 kPa", "heat_flux": "800 W/m^2", "rate": "0.5 K/min",
+}
+
+
+def expected(kind: str) -> str:
+    """What a value of ``kind`` is, in words with an example, for messages.
+
+    >>> expected("capacity"), expected("heat_transfer_coefficient")
+    ('a heat capacity (e.g. 8.4 kJ/K)', 'a heat transfer coefficient (e.g. 10 W/(m^2*K))')
+    """
+    words = KINDS[kind][1].split(" (e.g.")[0]
+    return f"{words} (e.g. {EXAMPLE_UNITS[kind]})"
+
 
 _registry = None
 _registry_lock = threading.Lock()
@@ -128,12 +150,19 @@ _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?inf|n
 _OFFSET_UNITS = {"degree_Celsius", "degree_Fahrenheit", "degree_Reaumur"}
 
 
-def _describe_dims(dims) -> str:
+def _describe_dims(dims, quantity=None) -> str:
+    """What a quantity of dimensions ``dims`` is, in words (never the unit library's dimension
+    notation): a kind's description, or its unit in SI base units."""
     for kind, d in _si_tables()[1].items():
         if d == dims and kind not in ("temperature_difference",):
-            return KINDS[kind][1]
-    text = str(dims)
-    return text if text else "a plain number"
+            return KINDS[kind][1].split(" (e.g.")[0]
+    if not dims:
+        return "a plain number"
+    if quantity is not None:
+        base = quantity.to_base_units().units
+        text = f"{base:~C}".replace("**", "^").replace("delta_degC", "K")
+        return f"{text} in SI base units: not a quantity rcsim uses"
+    return "a quantity rcsim does not use"
 
 
 @lru_cache(maxsize=8192)
@@ -258,25 +287,30 @@ def _convert(number: float, units, kind: str, original, where) -> float:
     is_offset = any(name in _OFFSET_UNITS for name in names)
     if kind == "temperature":
         if dims != dimensions["temperature"]:
-            raise UnitError(f"expected a temperature, got {_short(original)} "
-                            f"({_describe_dims(dims)})", where)
+            raise _wrong_dimension("temperature", original, dims, q, where)
         if any(name.startswith("delta_") for name in names):
             raise UnitError(f"expected an absolute temperature, got a temperature difference "
                             f"{_short(original)}", where, "write e.g. '25 degC' or '298.15 K'")
         return float(q.to(ureg.degC).magnitude)
     if kind == "temperature_difference":
         if dims != dimensions["temperature"]:
-            raise UnitError(f"expected a temperature difference, got {_short(original)} "
-                            f"({_describe_dims(dims)})", where)
+            raise _wrong_dimension("temperature_difference", original, dims, q, where)
         if is_offset:
             raise UnitError(f"expected a temperature difference, got the absolute temperature "
                             f"{_short(original)}", where, "write e.g. '7 K' or '7 delta_degC'")
         return float(q.to(ureg.kelvin).magnitude)
     target = _si_tables()[0][kind]
     if dims != dimensions[kind]:
-        raise UnitError(f"expected {KINDS[kind][1]}, got {_short(original)} "
-                        f"({_describe_dims(dims)})", where)
+        raise _wrong_dimension(kind, original, dims, q, where)
     return float(q.to(target).magnitude)
+
+
+def _wrong_dimension(kind, original, dims, quantity, where) -> UnitError:
+    """'expected a length, got '3 kg' (a mass)', with an example of the expected unit."""
+    words = KINDS[kind][1].split(" (e.g.")[0]
+    return UnitError(f"expected {words}, got {_short(original)} "
+                     f"({_describe_dims(dims, quantity)})", where,
+                     f"write {words} such as '{EXAMPLE_UNITS[kind]}'")
 
 
 def to_si_array(values, kind: str, where: str | None = None):

@@ -156,3 +156,22 @@ def test_a_scenario_without_free_values_is_refused(cli):
     r = cli("fit", BLOCK, BLOCK_LOG)
     one_error_line(r, "fit-block.toml: nothing to fit")
     assert "[fit] section" in r.output
+
+
+@pytest.mark.slow
+def test_identify_with_process_noise(cli):
+    # the invented two-node case record of the README (scenarios/make-identify-log.py)
+    log = os.path.join(SCENARIOS, "identify-case-log.csv")
+    args = ["--measured", "inside", "--driver", "heater [W]", "--ambient", "room",
+            "--max-nodes", "2", "--extension", "envelope"]
+    r = cli("identify", log, *args, "--noise", "process")
+    assert r.exit_code == 0, r.output
+    api = quiet(rcsim.identify, log, measured="inside", drivers=["heater [W]"], ambient="room",
+                max_nodes=2, moves=("envelope",), noise="process")
+    assert api.fit.noise == "process" and api.fit.n_states == 2
+    for _, row in api.steps.iterrows():
+        line = next(ln for ln in r.output.splitlines() if f" {row['structure']} " in f"{ln} ")
+        assert f"{row['log_likelihood']:.6g}" in line
+    noise = api.fit.noise_estimates
+    assert f"process.inside {noise.loc['process.inside', 'value']:.4g} K/s^0.5" in r.output
+    assert "with process noise (Kalman filter)" in r.output

@@ -460,7 +460,11 @@ power = { csv = { file = "power.csv", column = "p" } }
     out = tmp_path / "elsewhere"
     out.mkdir()
     p = res.write_scenario(out / "fitted.toml")
-    back = rcsim.load(p)
+    # the CSV now lies outside the written scenario's folder: read only when allowed (issue 16
+    # item 5: files a scenario names stay in its folder unless allowed)
+    with pytest.raises(rcsim.InputError, match="leads outside the scenario's folder"):
+        rcsim.load(p)
+    back = rcsim.load(p, allow_absolute_paths=True)
     assert back.value("sources.heater.power.csv.file") == "../src/power.csv"
     assert back.si_value("boundaries.room.temperature") == pytest.approx(25.0, abs=1e-6)
 

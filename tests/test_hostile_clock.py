@@ -91,6 +91,35 @@ def test_time_unit_conflicts_refused(tmp_path, cli, csv_text, profile, fragment)
     assert "s.toml" in line
 
 
+@pytest.mark.parametrize("header,column,unit,expected", [
+    # 50 degF = 10 degC (T/degC = (T/degF - 32) / 1.8, NIST SP 811, B.8); 2 kW = 2000 W
+    ("T [degF]", "T", None, 10.0), ("T [degF]", "T [degF]", None, 10.0),
+    ("T [degF]", "T", "degree_Fahrenheit", 10.0), ("T", "T", "degF", 10.0), ("T", "T", None, 50.0),
+    ("T (north)", "T (north)", None, 50.0),      # parentheses: a note, not a unit
+])
+def test_csv_value_units_in_headers_are_honoured(tmp_path, header, column, unit, expected):
+    (tmp_path / "p.csv").write_text(f"time [h],{header}\n0,50\n48,50\n")
+    prof = Table.from_csv(tmp_path / "p.csv", column, unit=unit).bind("temperature", "k")
+    assert prof.value(3600.0) == pytest.approx(expected, abs=1e-12)
+
+
+def test_csv_power_header_in_kilowatts(tmp_path):
+    (tmp_path / "p.csv").write_text("t,P [kW]\n0,2\n10,2\n")
+    assert Table.from_csv(tmp_path / "p.csv", "P").bind("power").value(5.0) == 2000.0
+
+
+@pytest.mark.parametrize("header,unit,fragment", [
+    ("T [degF]", "degC", "column 'T [degF]': its header says 'degF' but unit is 'degC'"),
+    ("T [W]", None, "boundaries.out.temperature: p.csv column 'T [W]': expected a temperature"),
+])
+def test_csv_value_unit_conflicts_refused(tmp_path, cli, header, unit, fragment):
+    profile = '{ csv = { file = "p.csv", column = "T"%s } }' % (
+        f', unit = "{unit}"' if unit else "")
+    line = _one_line_error(cli, tmp_path, _scenario(tmp_path, f"t,{header}\n0,1\n200000,2\n",
+                                                    profile))
+    assert fragment in line, line
+
+
 def test_fit_log_refuses_a_header_unit_that_disagrees_with_time_unit(tmp_path):
     (tmp_path / "log.csv").write_text("time [h],a\n0,1\n1,2\n2,3\n")
     assert read_log(tmp_path / "log.csv", ["a"], []).time[-1] == 7200.0   # 2 h
@@ -232,6 +261,17 @@ def test_melting_point_below_absolute_zero_refused(tmp_path, cli):
     assert "nodes.a.phase_change.melting[0]: '-300 degC' is below absolute zero" in line, line
 
 
+@pytest.mark.parametrize("text,fragment", [
+    ("time,a,out\n0,20,10\n60,-300,10\n120,20,10\n", "column 'a' line 3: -300 degC is below"),
+    ("time,a,out\n0,20,10\n60,20,10\n120,20,-274\n", "column 'out' line 4: -274 degC is below"),
+])
+def test_fit_log_temperatures_below_absolute_zero_refused(tmp_path, text, fragment):
+    (tmp_path / "log.csv").write_text(text)
+    with pytest.raises(InputError) as err:
+        read_log(tmp_path / "log.csv", ["a"], ["out"])
+    assert str(err.value).startswith("log.csv: ") and fragment in str(err.value), str(err.value)
+
+
 def test_absolute_zero_itself_and_just_above_are_accepted():
     from rcsim.units import to_si
 
@@ -246,3 +286,97 @@ def test_weather_record_other_separator(tmp_path):
     (tmp_path / "w.csv").write_text("time [h];T_air\n0;20,5\n1;21,0\n")
     with pytest.raises(InputError, match="w.csv: its header .* separated by semicolons"):
         read_weather(tmp_path / "w.csv", {"air_temperature": "T_air"})
+
+
+# ---- 5. units in words, duplicated TOML keys ---------------------------------------------------
+@pytest.mark.parametrize("value,kind,fragment", [
+    ("5 W*K/m^2", "heat_transfer_coefficient",
+     "expected a heat transfer coefficient, got '5 W*K/m^2' (K*kg/s^3 in SI base units: not a "
+     "quantity rcsim uses) (write a heat transfer coefficient such as '10 W/(m^2*K)')"),
+    ("3 m/s^2", "capacity", "(m/s^2 in SI base units: not a quantity rcsim uses) "
+                            "(write a heat capacity such as '8.4 kJ/K')"),
+    ("3 kg", "length", "expected a length, got '3 kg' (a mass) (write a length such as '50 mm')"),
+    ("3 m", "temperature", "(a length) (write a temperature such as '25 degC')"),
+    ("3 W", "temperature_difference", "(a power) (write a temperature difference such as '7 K')"),
+    ("2 m", "dimensionless", "expected a plain number, got '2 m' (a length)"),
+])
+def test_wrong_dimensions_are_said_in_words_with_an_example(value, kind, fragment):
+    from rcsim.units import to_si
+
+    with pytest.raises(InputError) as err:
+        to_si(value, kind, "a.b")
+    text = str(err.value)
+    assert fragment in text, text
+    assert "[" not in text   # never the unit library's notation, "[mass] * [temperature] / ..."
+
+
+def test_every_kind_has_an_example_of_its_own_dimension():
+    from rcsim.units import EXAMPLE_UNITS, KINDS, to_si
+
+    assert set(EXAMPLE_UNITS) == set(KINDS)
+    for kind, example in EXAMPLE_UNITS.items():
+        to_si(example, kind)   # each example is a valid value of its kind
+
+
+@pytest.mark.parametrize("addition,fragment", [
+    ('\n[nodes.b]\ncapacity = "1 kJ/K"\ninitial = "5 degC"\ncapacity = "2 kJ/K"\n',
+     "s.toml line 18: key 'nodes.b.capacity' is given twice (first at line 16)"),
+    ('\n[links.w]\nresistance = "1 K/W"\n', "s.toml line 15: table [links.w] is declared twice "
+                                           "(first at line 11)"),
+    ('\n[nodes.b]\ncapacity = "1 kJ/K"\n"capacity" = 3',
+     "s.toml line 17: key 'nodes.b.capacity' is given twice (first at line 16)"),
+    ('\n[nodes.b]\nphase_change = { latent_heat = 1, latent_heat = 2 }\n',
+     "s.toml line 16: key 'nodes.b.phase_change.latent_heat' is given twice in one inline table"),
+])
+def test_duplicated_toml_keys_are_named_with_their_lines(tmp_path, cli, addition, fragment):
+    # the line numbers counted by hand in SCENARIO + addition (line 1 is the empty first line)
+    path = _scenario(tmp_path, profile='"5 degC"', extra=addition)
+    line = _one_line_error(cli, tmp_path, path)
+    assert fragment in line, line
+
+
+# ---- 6. cylinder and sphere parts: every key documented, diameters accepted -------------------
+def test_readme_documents_every_key_of_cylinder_and_sphere_parts():
+    import os
+    import re
+
+    from conftest import ROOT
+    from rcsim.parts import RADIAL_PART_KEYS
+
+    text = open(os.path.join(ROOT, "README.md"), encoding="utf-8").read()
+    start = text.index("**Cylinder and sphere parts**")
+    paragraph = text[start:text.index("\n\n", start)]
+    documented = set(re.findall(r"`([a-z_]+)(?: = [^`]*)?`", paragraph))
+    assert set(RADIAL_PART_KEYS) | {"length"} <= documented
+
+
+CYLINDER = SCENARIO.replace('resistance = "0.1 K/W"', 'parts = [ { cylinder = { k = "0.04 W/(m*K)", '
+                            'inner_diameter = "60 mm", outer_diameter = "110 mm", length = "2 m" } } ]')
+
+
+def test_cylinder_and_sphere_by_diameters_match_the_closed_forms(tmp_path):
+    import math
+
+    from rcsim.errors import InputError
+
+    (tmp_path / "c.toml").write_text(CYLINDER.replace("PROFILE", '"5 degC"'))
+    sc = rcsim.load(tmp_path / "c.toml")
+    # Incropera & DeWitt, Fundamentals of Heat and Mass Transfer, 6th ed., eq. 3.28:
+    # R = ln(r2/r1) / (2 pi L k); r1 = 30 mm, r2 = 55 mm
+    expected = math.log(0.055 / 0.030) / (2 * math.pi * 2.0 * 0.04)
+    assert sc.network.links["w"].parts[0].resistance == pytest.approx(expected, rel=1e-12)
+    # the diameter is a key path for sweeps and fits: 150 mm outside
+    wider = sc.with_values({"links.w.parts[0].cylinder.outer_diameter": "150 mm"})
+    assert wider.network.links["w"].parts[0].resistance == pytest.approx(
+        math.log(0.075 / 0.030) / (2 * math.pi * 2.0 * 0.04), rel=1e-12)
+    # eq. 3.36: R = (1/r1 - 1/r2) / (4 pi k); 20 mm inside, 10 mm thick
+    net = rcsim.Network()
+    net.add_node("a", capacity=1.0)
+    net.add_boundary("b", temperature=0.0)
+    net.add_link("a", "b", parts=[{"sphere": {"k": 0.5, "inner_diameter": "40 mm",
+                                              "thickness": "10 mm"}}])
+    assert net.links["a-b"].parts[0].resistance == pytest.approx(
+        (1 / 0.02 - 1 / 0.03) / (4 * math.pi * 0.5), rel=1e-12)
+    with pytest.raises(InputError, match="give inner_radius or inner_diameter, not both"):
+        net.add_link("a", "b", name="x", parts=[{"sphere": {
+            "k": 1, "inner_radius": "1 cm", "inner_diameter": "2 cm", "outer_radius": "3 cm"}}])

@@ -118,6 +118,14 @@ UNWRITABLE = [
       "{d}/file.txt/p"], ["--plots", "is not a folder"]),
     (["report", "{s}", "-o", "{d}/file.txt/r.html"], ["--output", "is not a folder"]),
     (["draw", "{s}", "-o", "{d}/file.txt/n.svg"], ["--output", "is not a folder"]),
+    (["size", "{s}", "--vary", "links.skin.resistance=1..2", "--require", "max.block <= 30 degC",
+      "--write-scenario", "{d}/file.txt/sized.toml"], ["--write-scenario", "is not a folder"]),
+    (["size", "{s}", "--vary", "links.skin.resistance=1..2", "--require", "max.block <= 30 degC",
+      "--plots", "{d}/file.txt/p"], ["--plots", "is not a folder"]),
+    (["size", "{s}", "--vary", "links.skin.resistance=1..2", "--require", "max.block <= 30 degC",
+      "-o", "{d}/file.txt/t.csv"], ["output", "is not a folder"]),
+    (["fit", "{s}", "{d}/file.txt", "--free", "nodes.block.capacity", "-o",
+      "{d}/file.txt/e.csv"], ["--output", "is not a folder"]),
 ]
 
 
@@ -346,6 +354,12 @@ def test_a_csv_outside_the_scenarios_folder_is_refused_without_showing_it(cli, n
     # allowed explicitly, the same file is read (and its header quoted short at most)
     r = cli("check", s, "--allow-absolute-paths")
     assert "Traceback" not in r.output and "x" * 41 not in r.output
+
+
+@pytest.mark.parametrize("file,words", [("a\\u0000b.csv", ["NUL"]), ("", ["file must be a path"]),
+                                        (".", ["is a directory"]), ("sub", ["is a directory"])])
+def test_odd_file_names_are_one_line(cli, nest, file, words):
+    one_line(cli("check", nest(file)), *words)
 
 
 def test_links_and_dots_that_stay_inside_the_folder_are_read(cli, nest, tmp_path):
@@ -696,3 +710,31 @@ def test_a_fit_candidate_is_read_with_the_same_guards(tmp_path):
     os.mkfifo(tmp_path / "pipe.toml")
     with pytest.raises(InputError, match="FIFO"):
         read_candidate(tmp_path / "pipe.toml")
+
+
+def test_a_small_file_declaring_millions_of_names_is_refused_before_reading_them(tmp_path):
+    import h5py
+
+    path = _good_result(tmp_path / "r.h5")
+    with h5py.File(path, "r+") as h5:
+        del h5["temperature"], h5["temperature_names"]
+        h5.create_dataset("temperature", shape=(13, 400_000_000), dtype="f8",
+                          chunks=(1, 65536), compression="gzip")
+        h5.create_dataset("temperature_names", shape=(400_000_000,),
+                          dtype=h5py.string_dtype(), chunks=(65536,), compression="gzip")
+    assert os.path.getsize(path) < 5_000_000
+    r = Child(["plot", "r.h5", "-o", "f.png"], tmp_path)
+    one_line(r, "r.h5", "needs about")
+    assert r.peak < 600e6, r.peak
+
+
+def test_a_file_the_system_refuses_is_one_line(cli, block, tmp_path, monkeypatch):
+    # a reader that meets an OSError it does not turn into rcsim's own error (an unreadable
+    # file, a failing disk): still one line and status 2, naming the file
+    import rcsim.scenario
+
+    def refused(path):
+        raise PermissionError(errno.EACCES, "Permission denied", str(path))
+
+    monkeypatch.setattr(rcsim.scenario, "read_text", refused)
+    one_line(cli("check", block), "block.toml", "Permission denied")

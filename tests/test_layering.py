@@ -38,7 +38,7 @@ FACADES = {
 LAYERS = [
     ("base", ["rcsim.base", "rcsim.errors", "rcsim.units", "rcsim.atomic", "rcsim.runinfo",
               "rcsim.arguments", "rcsim.clock", "rcsim.caution", "rcsim.threads",
-              "rcsim.inputfiles", "rcsim.tomlscan"]),
+              "rcsim.inputfiles", "rcsim.tomlscan", "rcsim.tomltext"]),
     ("physics and inputs", ["rcsim.elements", "rcsim.correlations", "rcsim.laws", "rcsim.phase",
                             "rcsim.materials", "rcsim.profiles", "rcsim.limits",
                             "rcsim.solar", "rcsim.sky", "rcsim.exposure", "rcsim.weather",

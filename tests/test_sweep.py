@@ -2,6 +2,7 @@
 
 import math
 import os
+import stat
 
 import numpy as np
 import pandas as pd
@@ -291,12 +292,52 @@ def test_interrupted_sweep_keeps_and_writes_the_finished_rows(body, tmp_path):
               progress=stop_after_two_batches)
     stop = info.value
     assert (stop.done, stop.planned) == (4, 9)
-    assert stop.output == str(out)
+    # the finished rows beside the requested table, under a name that says so
+    assert stop.output == str(tmp_path / "partial.interrupted.csv")
+    assert not out.exists()
     full = sweep(body, vary, executor="serial")
-    saved = read_table(out)
+    saved = read_table(stop.output)
     assert list(saved.index) == [0, 1, 2, 3]
     np.testing.assert_array_equal(saved["hold_time.body"], full["hold_time.body"][:4])
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")]  # no temporary left
+
+
+def test_ctrl_c_inside_a_serial_run_stops_the_sweep(body, tmp_path, monkeypatch):
+    # before: the run's Interrupted (Ctrl-C during a run) was caught as one failed row and the
+    # sweep ran on to the end
+    from rcsim.errors import Interrupted
+    from rcsim.scenario import Scenario
+
+    real_run, calls = Scenario.run, []
+
+    def run(self, **kwargs):
+        calls.append(1)
+        if len(calls) == 3:
+            raise Interrupted("interrupted at t = 5 s of 100 s")
+        return real_run(self, **kwargs)
+
+    monkeypatch.setattr(Scenario, "run", run)
+    out = tmp_path / "grid.h5"
+    with pytest.raises(SweepInterrupted) as info:
+        sweep(body, {"links.skin.resistance": "2 K/W..3 K/W:6"}, executor="serial",
+              batch_size=1, output=out)
+    assert (info.value.done, info.value.planned, len(calls)) == (2, 6, 3)
+    assert not out.exists()
+    record = SweepTable.read(info.value.output)
+    assert record.interrupted and list(record.frame.index) == [0, 1]
+    assert (record.frame["error"] == "").all()
+
+
+@pytest.mark.parametrize("suffix", [".csv", ".h5", ".parquet"])
+def test_sweep_tables_have_the_mode_of_any_new_file(body, tmp_path, suffix):
+    # an ordinary new file gets 0666 minus the umask (POSIX open(2), O_CREAT), not mkstemp's 0600
+    mask = os.umask(0o022)
+    try:
+        sweep(body, {"links.skin.resistance": [2.0, 3.0]}, executor="serial",
+              output=tmp_path / f"t{suffix}")
+    finally:
+        os.umask(mask)
+    assert stat.S_IMODE(os.stat(tmp_path / f"t{suffix}").st_mode) == 0o644
 
 
 # -- executors --------------------------------------------------------------------------------

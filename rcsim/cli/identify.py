@@ -139,7 +139,9 @@ def _figures(res, folder, stem) -> list[str]:
 
     from ..plotting import save_figure
 
-    os.makedirs(folder, exist_ok=True)
+    from ..atomic import make_folder
+
+    make_folder(folder, "--plots")
     out = []
     for name, draw in (("structures", res.plot), ("fit", res.fit.plot)):
         drawn = draw()

@@ -12,7 +12,7 @@ import click
 
 from ..errors import InputError
 from .format import CAUTION, format_time
-from .guard import EXIT_INTERRUPTED, guard
+from .guard import guard, leave_interrupted
 from .options import (allow_absolute_paths_option, check_folder, load_scenario, quiet_option,
                       scenario_argument)
 from .progress import Progress
@@ -119,10 +119,10 @@ def _run_sweep(scenario, vary, samples, seed, executor, workers, scheduler, dask
                           progress=progress.runs, **places)
         except SweepInterrupted as stop:
             progress.close()
-            where = (f"wrote the {len(stop.table)} finished rows to {stop.output}" if stop.output
+            where = (f"wrote the {len(stop.table)} finished rows to {stop.output} (marked "
+                     "interrupted; nothing under the requested name)" if stop.output
                      else "no table written")
-            click.echo(f"interrupted after {stop.done} of {stop.planned} runs; {where}", err=True)
-            sys.exit(EXIT_INTERRUPTED)
+            leave_interrupted(f"interrupted after {stop.done} of {stop.planned} runs; {where}")
     return table, oat, time.perf_counter() - t0, sc, places
 
 

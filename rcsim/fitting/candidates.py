@@ -33,6 +33,7 @@ from dataclasses import dataclass, field, replace
 from ..errors import InputError, ScenarioError
 from ..parts import check_keys
 from ..scenario import FIT_KEYS, Scenario, loads, read_text
+from ..tomltext import explain as explain_toml_error
 
 __all__ = ["FitSpec", "Candidate", "read_candidate", "fit_spec", "split_fit_section", "FIT_KEYS"]
 
@@ -141,7 +142,9 @@ def split_fit_section(text: str, name: str) -> tuple[str, dict | None]:
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise ScenarioError(f"TOML syntax error: {exc}", name) from None
+        message, line, hint = explain_toml_error(str(exc), text)
+        raise ScenarioError(message, name if line is None else f"{name} line {line}",
+                            hint) from None
     if "fit" not in data:
         return text, None
     table = data["fit"]

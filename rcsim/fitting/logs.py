@@ -19,7 +19,7 @@ from ..base import suggest
 from ..errors import DataError, InputError
 from ..profiles import read_csv_text, read_time_series
 from ..profiles.timeseries import check_separator, first_row_clock, split_header, time_unit_of
-from ..units import to_si
+from ..units import ABSOLUTE_ZERO, to_si
 
 __all__ = ["Log", "read_log", "gap_notes", "log_header"]
 
@@ -180,6 +180,14 @@ def read_log(source, nodes, boundaries, *, columns=None, ignore=(), time=None, t
     for c in used:
         if not np.isfinite(values[c].to_numpy()).any():
             raise DataError(f"column {c!r} has no numeric values", label)
+    for c in measured + inputs:   # temperatures [degC]
+        below = values[c].to_numpy() < ABSOLUTE_ZERO
+        if below.any():
+            i = int(np.argmax(below))
+            place = f"line {raw.lines[i]}" if label != "<data>" else f"row {raw.lines[i]}"
+            raise DataError(f"column {c!r} {place}: {values[c].iloc[i]:g} degC is below "
+                            f"absolute zero ({ABSOLUTE_ZERO:g} degC)", label,
+                            "check the value and the column's unit (degC)")
     if max_gap is None:
         gap_limit = 5.0 * float(np.median(np.diff(t)))
     else:

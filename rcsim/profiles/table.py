@@ -9,7 +9,7 @@ import numpy as np
 
 from ..errors import ProfileError
 from .base import ABSOLUTE_ZERO, LEVEL_KIND, Profile, check_points, to_si, to_si_array
-from .timeseries import read_time_series
+from .timeseries import read_time_series, value_header, value_unit_of
 
 
 class Table(Profile):
@@ -30,6 +30,8 @@ class Table(Profile):
 
     #: file line of each point when read from a CSV file (for messages), else None
     lines = None
+    #: where the values' unit was read when a CSV header gave it ("x.csv column 'T [degF]'")
+    unit_header = None
 
     def __init__(self, times, values, outside="error", unit=None, source=None, where=None):
         self.raw = dict(times=times, values=values, outside=outside, unit=unit)
@@ -49,12 +51,15 @@ class Table(Profile):
     def _bind(self, kind, where):
         out = Table.__new__(Table)
         out.raw, out.source, out.lines = self.raw, self.source, self.lines
+        out.unit_header = self.unit_header
         w = f"{where}." if where else ""
         unit = self.raw["unit"]
         times = to_si_array(self.raw["times"], "time", w + "times")
         if unit is not None:
+            at = self.unit_header
             values = convert_array(np.asarray(self.raw["values"], dtype=float), unit,
-                                   LEVEL_KIND[kind], w + "unit")
+                                   LEVEL_KIND[kind], w + "unit" if at is None else
+                                   (f"{where}: {at}" if where else at))
         elif self.lines is not None:  # read from a CSV file: numbers in degC (or SI) already
             values = np.asarray(self.raw["values"], dtype=float)
         else:
@@ -117,7 +122,9 @@ class Table(Profile):
             When time is given as ISO-8601 timestamps, the time that counts as t = 0;
             default the first timestamp.
         unit : str, optional
-            Unit of the values (e.g. ``"degF"``, ``"kW"``); default SI (degC, W).
+            Unit of the values (e.g. ``"degF"``, ``"kW"``) when the column's header does not
+            say (``T_out [degF]``); default SI (degC, W). A header and a ``unit`` that disagree
+            are refused.
         time_unit : str, optional
             Unit of a numeric time column when its header does not say (``time [h]``);
             default seconds. A header and a ``time_unit`` that disagree are refused.
@@ -129,22 +136,29 @@ class Table(Profile):
                                   missing=missing, where=where)
         times = series.index.to_numpy(dtype=float)
         return cls.from_columns(path, column, times, series[column].to_numpy(dtype=float),
-                                unit=unit, missing=missing, outside=outside, where=where)
+                                unit=unit, missing=missing, outside=outside, where=where,
+                                header=series.attrs["headers"][column])
 
     @classmethod
     def from_columns(cls, path, column, times, values, *, unit=None, missing="error",
-                     outside="error", where=None) -> "Table":
+                     outside="error", where=None, header=None) -> "Table":
         """A table of the column ``column`` of the CSV file ``path`` as read (``times`` [s] and
-        ``values``, one per data row, NaN where ``missing = 'interpolate'`` skips a row)."""
+        ``values``, one per data row, NaN where ``missing = 'interpolate'`` skips a row);
+        ``header``: the column's header as written, whose unit in square brackets
+        (``T_out [degF]``) is the values' unit (:func:`~rcsim.profiles.timeseries.value_unit_of`)."""
         lines = np.arange(values.size) + 2   # file lines: the header is line 1
         if missing == "interpolate":
             keep = np.isfinite(values)
             times, values, lines = times[keep], values[keep], lines[keep]
         name = os.path.basename(str(path))
         where = where if where is not None else name
+        header = header if header is not None else column
+        unit = value_unit_of(header, unit, where)
         table = cls(times, values, outside=outside, unit=unit, source=f"{name}:{column}",
                     where=where)
         table.lines = lines
+        if value_header(header)[1] is not None:
+            table.unit_header = f"{name} column {header!r}"
         return table
 
 

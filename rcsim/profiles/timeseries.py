@@ -40,6 +40,39 @@ def split_header(name: str) -> tuple[str, str | None]:
     return name.strip(), None
 
 
+_VALUE_UNIT = re.compile(r"^(.*?)\s*\[\s*([^\]]+?)\s*\]\s*$")
+
+
+def value_header(name: str) -> tuple[str, str | None]:
+    """A value column's header: ``"T_out [degF]"`` -> ``("T_out", "degF")``; the unit of a value
+    is written in square brackets only (parentheses are left to notes: ``"T (north)"``).
+
+    >>> value_header("T_out [degF]"), value_header("T (north)")
+    (('T_out', 'degF'), ('T (north)', None))
+    """
+    m = _VALUE_UNIT.match(name)
+    if m:
+        return m.group(1).strip(), m.group(2)
+    return name.strip(), None
+
+
+def value_unit_of(header: str, unit: str | None, label: str) -> str | None:
+    """The unit of a value column: the one in its header (``T_out [degF]``), else ``unit``, else
+    None (SI: degC, W). A header unit and a ``unit`` that differ are refused."""
+    in_header = value_header(header)[1]
+    if in_header is not None and unit is not None and in_header != unit:
+        from ..units import registry
+
+        try:
+            same = registry().parse_units(in_header) == registry().parse_units(unit)
+        except Exception:  # noqa: BLE001 - pint fails in many ways; the binding names the unit
+            same = False
+        if not same:
+            raise DataError(f"column {header!r}: its header says {in_header!r} but unit is "
+                            f"{unit!r}", label, "give the unit in one place")
+    return in_header or unit
+
+
 def time_unit_of(header: str, time_unit: str | None, label: str) -> str:
     """The unit of a numeric time column: the one in its header (``time [h]``), else
     ``time_unit``, else seconds. A header and a ``time_unit`` that disagree, or a unit that is
@@ -103,8 +136,11 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
                         "columns are: " + quote_names(df.columns))
     if columns is None:
         columns = [c for c in df.columns if c != tcol]
+    headers = {}      # requested name -> the header as written ("T" -> "T [degF]")
     for c in columns:
-        if c not in df.columns:
+        headers[c] = c if c in df.columns else next(
+            (x for x in df.columns if x != tcol and value_header(x)[0] == c), c)
+        if headers[c] not in df.columns:
             others = [x for x in df.columns if x != tcol]
             raise DataError(f"no column {quote_cell(c)}", label,
                             suggest(c, [cut(x) for x in others]) if len(others) <= 6
@@ -119,7 +155,7 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
                         "sort the rows and remove duplicates")
     out = {}
     for c in columns:
-        text = df[c].str.strip()
+        text = df[headers[c]].str.strip()
         values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float, copy=True)
         bad = ~np.isfinite(values)
         if bad.any() and missing != "interpolate":
@@ -134,6 +170,7 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
         out[c] = values
     frame = pd.DataFrame(out, index=pd.Index(t, name="time"))
     frame.attrs["is_datetime"] = parsed.is_datetime
+    frame.attrs["headers"] = headers
     return frame
 
 

@@ -40,18 +40,15 @@ def _check_paths(output, write_scenario, plots_dir, report=None) -> None:
         from ..sweep.tables import check_table_path
 
         check_table_path(output)
+    from ..atomic import check_folder_writable, check_writable
+
     if write_scenario is not None:
         path = os.fspath(write_scenario)
-        folder = os.path.dirname(os.path.abspath(path))
         if not path.lower().endswith(".toml"):
             raise InputError(f"{path!r} should end with .toml", "--write-scenario")
-        if not os.path.isdir(folder):
-            raise InputError(f"folder {os.path.dirname(path)!r} does not exist",
-                             "--write-scenario", "create it first")
-        if os.path.isdir(path):
-            raise InputError(f"{path!r} is a directory", "--write-scenario", "give a file name")
-    if plots_dir is not None and os.path.exists(plots_dir) and not os.path.isdir(plots_dir):
-        raise InputError(f"{plots_dir!r} exists and is not a folder", "--plots")
+        check_writable(path, "--write-scenario")    # folder there, writable; not a folder
+    if plots_dir is not None:
+        check_folder_writable(plots_dir, "--plots")
     if report is not None:
         from ..report.render import check_report_path
 

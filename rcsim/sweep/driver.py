@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import os
+
 import pandas as pd
 
 from .design import MAX_RUNS, check_design_values, make_design, scenario_of
@@ -9,11 +11,13 @@ from .executors import check_executor, relay_warnings, run_rows
 from .tables import check_table_path, make_table, write_table
 from .worker import make_job, output_layout
 
-__all__ = ["sweep", "SweepInterrupted"]
+__all__ = ["sweep", "SweepInterrupted", "interrupted_path"]
 
 
 class SweepInterrupted(KeyboardInterrupt):
-    """Ctrl-C during a sweep. ``table`` holds the rows that finished (also written to ``output``).
+    """Ctrl-C during a sweep. ``table`` holds the rows that finished, also written to ``output``:
+    beside the requested table, under a name that says so (:func:`interrupted_path`), never
+    under the requested name.
 
     Attributes
     ----------
@@ -21,12 +25,23 @@ class SweepInterrupted(KeyboardInterrupt):
         The finished runs, in run order.
     done, planned : int
     output : str or None
-        Where the finished rows were written.
+        Where the finished rows were written (``grid.interrupted.csv`` for ``grid.csv``).
     """
 
     def __init__(self, table, done, planned, output=None):
         super().__init__(f"interrupted after {done} of {planned} runs")
         self.table, self.done, self.planned, self.output = table, done, planned, output
+
+
+def interrupted_path(output) -> str:
+    """Where an interrupted sweep writes its finished rows: ``grid.csv`` -> ``grid.interrupted.csv``
+    (so the requested name never holds a partial table, and a previous table there is kept).
+
+    >>> interrupted_path("out/grid.csv"), interrupted_path("t.h5")
+    ('out/grid.interrupted.csv', 't.interrupted.h5')
+    """
+    stem, ext = os.path.splitext(os.fspath(output))
+    return f"{stem}.interrupted{ext}"
 
 
 def sweep(scenario, vary, *, samples=None, seed=None, executor="processes", workers=None,
@@ -75,7 +90,8 @@ def sweep(scenario, vary, *, samples=None, seed=None, executor="processes", work
         A key that does not exist (with a suggestion) or holds no number, a refused value, a bad
         option; all checked before any run starts.
     SweepInterrupted
-        On Ctrl-C: carries the finished rows (written to ``output`` first).
+        On Ctrl-C: carries the finished rows (written first beside ``output``, as
+        ``<name>.interrupted.<suffix>``; the table there is marked ``interrupted``).
 
     Runs that fail are rows with NaN outputs and the error text; distinct warnings of the runs
     are re-issued once each with the number of runs that gave them.
@@ -96,7 +112,7 @@ def sweep(scenario, vary, *, samples=None, seed=None, executor="processes", work
         partial = record.finished_only(found.done)
         written = None
         if output is not None and len(partial.frame):
-            written = write_table(partial, output)
+            written = write_table(partial, interrupted_path(output))
         raise SweepInterrupted(partial.to_frame(), found.finished, len(found.done), written)
     if output is not None:
         write_table(record, output)

@@ -5,7 +5,9 @@ order they finish; the caller closes it on Ctrl-C, which cancels what has not st
 
 * ``serial``: batch after batch in this process.
 * ``processes``: a ``concurrent.futures.ProcessPoolExecutor``; the job goes once per worker
-  through the initializer; workers ignore SIGINT so Ctrl-C reaches the parent only.
+  through the initializer; workers ignore SIGINT so Ctrl-C reaches the parent only, and leave
+  at once when the parent stops the sweep (Ctrl-C, SIGTERM, SIGHUP) or dies (even by SIGKILL):
+  a thread in each worker watches for both.
 * ``dask``: a Dask distributed cluster at ``scheduler`` (an address or a ``Client``), or a local
   one of ``dask_workers`` workers started and closed here; the job is scattered once with
   ``broadcast=True``. dask is imported only here.
@@ -86,15 +88,55 @@ def _serial(job, todo):
 _WORKER_JOB: list = []
 
 
-def _init_worker(job):  # pragma: no cover - runs in the worker processes
-    """Keep the job in the worker (sent once per process) and leave Ctrl-C to the parent."""
+#: How often [s] a worker process checks that its parent lives and has not stopped the sweep.
+WATCH_INTERVAL = 0.2
+
+
+def _init_worker(job, stop=None):  # pragma: no cover - runs in the worker processes
+    """Keep the job in the worker (sent once per process), leave Ctrl-C to the parent, and
+    watch the parent: the worker leaves at once when its parent dies or sets ``stop``."""
     import signal
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    for name in ("SIGTERM", "SIGHUP"):   # their default action, not the parent's handler
+        if hasattr(signal, name):
+            signal.signal(getattr(signal, name), signal.SIG_DFL)
     from ..threads import worker_setup
 
     worker_setup()                  # one BLAS thread per worker (rcsim.threads)
     _WORKER_JOB[:] = [job]
+    _watch_parent(stop)
+
+
+def _watch_parent(stop) -> None:  # pragma: no cover - runs in the worker processes
+    """Start a daemon thread that ends this process when the parent process is gone (killed,
+    even by SIGKILL: the worker is then adopted by another process) or sets ``stop`` (an
+    interrupted sweep), instead of running its batch to the end for nobody."""
+    import threading
+    import time
+
+    parent = os.getppid()
+
+    def watch():
+        while True:
+            if os.getppid() != parent or (stop is not None and stop.is_set()):
+                os._exit(1)
+            time.sleep(WATCH_INTERVAL)
+
+    threading.Thread(target=watch, name="rcsim-parent-watch", daemon=True).start()
+
+
+def _pool(workers, job):
+    """A process pool whose workers hold ``job`` and watch the parent; returns (pool, stop):
+    ``stop.set()`` makes every worker leave at once."""
+    import concurrent.futures as cf
+    import multiprocessing
+
+    context = multiprocessing.get_context()
+    stop = context.Event()
+    pool = cf.ProcessPoolExecutor(max_workers=workers, mp_context=context,
+                                  initializer=_init_worker, initargs=(job, stop))
+    return pool, stop
 
 
 def _run_batch_here(batch):  # pragma: no cover - runs in the worker processes
@@ -117,8 +159,7 @@ def _worker_result(fut):
 def _processes(job, todo, workers):
     import concurrent.futures as cf
 
-    pool = cf.ProcessPoolExecutor(max_workers=workers, initializer=_init_worker,
-                                  initargs=(job,))
+    pool, stop = _pool(workers, job)
     finished = False
     try:
         pending = {pool.submit(_run_batch_here, b) for b in todo}
@@ -128,6 +169,8 @@ def _processes(job, todo, workers):
                 yield _worker_result(fut)
         finished = True
     finally:
+        if not finished:   # interrupted (or a worker failed): the running batches stop too
+            stop.set()
         pool.shutdown(wait=finished, cancel_futures=True)
 
 
@@ -286,6 +329,7 @@ class RowRunner:
         self.runs = 0  # rows run so far, over every call
         self._job = None
         self._pool = None
+        self._stop = None
         self._client = None
         self._closers: list = []
 
@@ -330,9 +374,7 @@ class RowRunner:
         import concurrent.futures as cf
 
         if self._pool is None:
-            self._pool = cf.ProcessPoolExecutor(max_workers=self.info.workers,
-                                                initializer=_init_worker,
-                                                initargs=(self.job_of(True),))
+            self._pool, self._stop = _pool(self.info.workers, self.job_of(True))
         futures = [self._pool.submit(_run_batch_here, b) for b in todo]
         try:
             for fut in cf.as_completed(futures):
@@ -365,6 +407,8 @@ class RowRunner:
         """Stop the pool or close the Dask client (and a local cluster) this runner started;
         ``wait=False`` (after Ctrl-C) does not wait for batches already running."""
         if self._pool is not None:
+            if not wait:        # after Ctrl-C: batches already running stop too
+                self._stop.set()
             self._pool.shutdown(wait=wait, cancel_futures=True)
             self._pool = None
         for close in self._closers:

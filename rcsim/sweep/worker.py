@@ -176,6 +176,8 @@ def run_batch(job: Job, batch):
                 sc = base.with_values({k: float(v) for k, v in zip(job.keys, row)})
                 res = sc.run(record=layout.record)
                 out[r] = outputs_of(res, layout.record, layout.limit_nodes)
+            except KeyboardInterrupt:  # Ctrl-C (rcsim's Interrupted too): the end of the sweep
+                raise
             except Exception as exc:  # noqa: BLE001 - a failed run is a row, not the end
                 errors[r] = f"{type(exc).__name__}: {exc}".replace("\n", " ")
         for w in caught:

@@ -29,11 +29,11 @@ import numpy as np
 
 from .correlations import outside_validity
 from .errors import RcsimWarning
-from .laws import FilmLaw
+from .laws import FilmLaw, SegmentLaws
 
 __all__ = ["network_warnings", "run_watchers", "FreezingWatch", "CorrelationWatch",
-           "collecting_warnings", "warning_texts", "warn_network", "warn_watched", "FreezingWarning", "CorrelationRangeWarning",
-           "FloatingNodesWarning"]
+           "collecting_warnings", "warning_texts", "warn_network", "warn_watched",
+           "FreezingWarning", "CorrelationRangeWarning", "FloatingNodesWarning"]
 
 
 class FloatingNodesWarning(RcsimWarning):
@@ -150,18 +150,22 @@ class CorrelationWatch:
     def __init__(self, network, asm):
         nl = asm.nl
         self.prefix = _prefix(network)
-        self.nl = nl
-        self.films = [k for k, law in enumerate(nl.laws) if isinstance(law, FilmLaw)]
+        films = [k for k, law in enumerate(nl.laws) if isinstance(law, FilmLaw)]
+        self.laws = [nl.laws[k] for k in films]
+        self.films = list(range(len(films)))
+        # the film segments alone, with the linear parts in series with each
+        self.nl = SegmentLaws([(nl.seg[k], nl.laws[k], nl.R1[k], nl.R2[k]) for k in films])
         n = asm.n_nodes
-        ends = np.concatenate([asm.seg_a[nl.seg], asm.seg_b[nl.seg]])
+        seg = self.nl.seg
+        ends = np.concatenate([asm.seg_a[seg], asm.seg_b[seg]])
         self.nodes = sorted({int(p) for p in ends if p < n})
         col = {p: j for j, p in enumerate(self.nodes)}
         m = len(self.nodes)
         # segment ends as columns of [T of self.nodes | u]
         self.a_col = np.asarray([col[int(p)] if p < n else m + int(p - n)
-                                 for p in asm.seg_a[nl.seg]], dtype=np.int64)
+                                 for p in asm.seg_a[seg]], dtype=np.int64)
         self.b_col = np.asarray([col[int(p)] if p < n else m + int(p - n)
-                                 for p in asm.seg_b[nl.seg]], dtype=np.int64)
+                                 for p in asm.seg_b[seg]], dtype=np.int64)
         self.samples = 0
         self.heat = np.zeros(len(self.films))
         # per film: {range: [count, heat, lowest value, highest value]} of samples outside
@@ -174,7 +178,7 @@ class CorrelationWatch:
         t1, t2 = ta - q * self.nl.R1, tb + q * self.nl.R2      # the film's own faces
         self.samples += T.shape[0]
         for j, k in enumerate(self.films):
-            law = self.nl.laws[k]
+            law = self.laws[k]
             ts, tf = (t1[:, k], t2[:, k]) if law.surface_first else (t2[:, k], t1[:, k])
             heat = np.abs(q[:, k])
             self.heat[j] += heat.sum()
@@ -193,7 +197,7 @@ class CorrelationWatch:
         for j, k in enumerate(self.films):
             if not self.found[j]:
                 continue
-            law = self.nl.laws[k]
+            law = self.laws[k]
             parts, sources = [], []
             for rng, (count, heat, lo, hi) in self.found[j].items():
                 share = heat / self.heat[j] if self.heat[j] > 0 else 0.0

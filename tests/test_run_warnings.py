@@ -58,6 +58,7 @@ def test_nodes_without_a_boundary_warn_in_check_and_run(tmp_path, cli):
     warned = [line for line in result.output.splitlines() if line.startswith("warning:")]
     assert len(warned) == 2, result.output
     assert any(lonely in line for line in warned) and any(group in line for line in warned)
+    assert "floating.toml: ok, 2 warning(s)" in result.output
     result = cli("run", path)
     assert result.exit_code == 0, result.output
     assert sum(line.startswith("warning: ") for line in result.output.splitlines()) == 2
@@ -293,3 +294,11 @@ def test_a_surface_passing_the_air_temperature_is_not_flagged():
     found = outside_validity("horizontal-plate-up", res.temperatures["lid"].to_numpy(),
                              res.boundary_temperatures["air"].to_numpy(), {"length": 0.2})
     assert sum(int(m.sum()) for _, _, m in found) >= 4
+
+
+def test_a_report_carries_the_run_warnings_without_being_told():
+    net = _payload(5.0, -6.0, freezes_at="0 degC")
+    with pytest.warns(rcsim.run_warnings.FreezingWarning):
+        res = net.simulate("12 h", "5 min")
+    page = res.report(scenario=net)          # the page's HTML text
+    assert "falls below its freezing point 0 degC" in page

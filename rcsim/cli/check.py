@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import warnings
+
 import click
 
 from .format import CAUTION, format_time
@@ -16,9 +18,11 @@ from .options import allow_absolute_paths_option, load_scenario, scenario_argume
 def check(scenario, allow_absolute_paths):
     """Validate SCENARIO and summarise its network."""
     sc = load_scenario(scenario, allow_absolute_paths)
-    from ..run_warnings import warn_network
+    from ..run_warnings import FloatingNodesWarning, network_warnings
 
-    warn_network(sc.network)          # nodes with no path to a boundary (relayed by guard)
+    found = network_warnings(sc.network)   # nodes with no path to a boundary
+    for text in found:
+        warnings.warn(text, FloatingNodesWarning, stacklevel=2)    # guard prints them
     click.echo(sc.network.summary())
     for line in _box_lines(sc.network):
         click.echo(line)
@@ -28,7 +32,8 @@ def check(scenario, allow_absolute_paths):
         click.echo(f"run: {format_time(st.duration)} at {format_time(st.step)} output steps, "
                    f"start {st.initial}, solver {st.solver}")
     click.echo("")
-    click.echo(f"{sc.name}: ok")
+    click.echo(f"{sc.name}: ok" + (f", {len(found)} warning(s): see the lines starting with "
+                                   "'warning:'" if found else ""))
     click.echo(CAUTION)
 
 

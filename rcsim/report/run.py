@@ -206,5 +206,5 @@ def build_run_report(scenario, result, *, warnings=None, figures: bool = True,
     if result.meta.get("created"):
         extra.append(("run finished", str(result.meta["created"])))
     return Report("run", heading, f"Simulation report \u00b7 {name}", purpose_of(scenario),
-                  glance, sections, warning_texts(warnings),
+                  glance, sections, warning_texts(list(warnings or []) + result.warnings),
                   provenance_items(text, name, extra), text)

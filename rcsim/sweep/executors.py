@@ -20,6 +20,7 @@ cluster starts once and the job travels once.
 
 from __future__ import annotations
 
+import contextlib
 import math
 import os
 import sys
@@ -189,8 +190,12 @@ def _dask_client(scheduler, n_workers):
         except (OSError, TimeoutError) as exc:
             raise InputError(f"cannot reach the Dask scheduler at {scheduler!r} ({exc})",
                              "scheduler", "check the address, e.g. tcp://10.0.0.5:8786") from None
+    import logging
+
+    # the workers' own chatter (cancelled tasks, a lost scheduler when a sweep is interrupted)
+    # is not the user's business: a failed run is a row with its error, a lost worker an error
     cluster = LocalCluster(n_workers=n_workers, threads_per_worker=1, processes=True,
-                           dashboard_address=None)
+                           dashboard_address=None, silence_logs=logging.CRITICAL)
     return Client(cluster), True, cluster
 
 
@@ -199,19 +204,40 @@ def _dask(job, todo, scheduler, n_workers):
     from dask.distributed import as_completed
 
     futures = []
+    finished = False
     try:
         shared = client.scatter(job, broadcast=True)
         futures = [client.submit(run_batch, shared, b, pure=False) for b in todo]
         for fut in as_completed(futures):
             yield _worker_result(fut)
+        finished = True
     finally:
-        pending = [f for f in futures if not f.done()]
-        if pending:
-            client.cancel(pending)
-        if own_client:
-            client.close()
-        if cluster is not None:
-            cluster.close()
+        with _quiet_dask(not finished and cluster is not None):
+            pending = [f for f in futures if not f.done()]
+            if pending:
+                client.cancel(pending)
+            if own_client:
+                client.close()
+            if cluster is not None:
+                cluster.close()
+
+
+@contextlib.contextmanager
+def _quiet_dask(quiet: bool):
+    """While a local cluster started here is torn down after an interruption, its scheduler's
+    and nannies' complaints about cancelled work are not printed (the sweep says how far it got)."""
+    import logging
+
+    loggers = [logging.getLogger(name) for name in ("distributed", "asyncio", "tornado")]
+    levels = [lg.level for lg in loggers]
+    if quiet:
+        for lg in loggers:
+            lg.setLevel(logging.CRITICAL + 1)
+    try:
+        yield
+    finally:
+        for lg, level in zip(loggers, levels):
+            lg.setLevel(level)
 
 
 def _execute(job_of, values, info: ExecutorInfo, scheduler, batch_size):

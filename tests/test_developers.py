@@ -67,8 +67,11 @@ def test_the_picture_of_the_layers_is_the_layering_table():
                 placed.setdefault(name, set()).add(k)
     wrong = {m: (sorted(placed.get(m, ())), k) for m, k in table.items()
              if m != "rcsim" and placed.get(m) != {k}}
-    assert not wrong, ("DEVELOPERS.md's layers differ from tests/test_layering.py's LAYERS "
-                       f"(module: (floors drawn, floor in the table)): {wrong}")
+    assert not wrong, ("DEVELOPERS.md's picture of the layers differs from LAYERS in "
+                       "tests/test_layering.py; draw each module on its floor in the picture "
+                       "(and say in a line of DEVELOPERS.md what a new module does): "
+                       + "; ".join(f"{m} drawn on floor(s) {d or 'none'}, belongs on floor {k}"
+                                   for m, (d, k) in sorted(wrong.items())))
 
 
 def test_nothing_outside_the_repository_is_referenced():

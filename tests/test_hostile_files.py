@@ -380,9 +380,8 @@ def test_a_weather_file_outside_the_folder_is_refused(cli, nest, tmp_path):
     s.write_text(BLOCK + '[site]\nlatitude = 48.0\nlongitude = 11.0\ntime_zone = "+01:00"\n'
                  '[weather]\nfile = "../outside.csv"\ncolumns = { air_temperature = "t" }\n',
                  encoding="utf-8")
-    r = cli("check", s)
-    assert r.exit_code == 2 and "s3cr3t" not in r.output and "Traceback" not in r.output
-    assert "leads outside the scenario's folder" in r.output or "site" in r.output
+    line = one_line(cli("check", s), "weather.file", "leads outside the scenario's folder")
+    assert "s3cr3t" not in line
 
 
 def _run_with_timeout(args, cwd, seconds=120):

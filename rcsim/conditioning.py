@@ -14,7 +14,9 @@ exchanges heat, or a singular matrix).
 :func:`check_stiff_groups` finds the groups by single linkage over the conductances between nodes
 (the connected components of the links above a threshold, for thresholds half a decade apart) and
 refuses a group whose ratio ``sum of K's diagonal over the group / conductance leaving it``
-exceeds :data:`STIFF_RATIO` (1e10: rates then known to about 1e-6 or better).
+exceeds :data:`STIFF_RATIO` (1e10: rates then known to about 1e-6 or better). Boundaries take
+part: a node tied to a boundary by such a link sits at its temperature, and the heat through
+that link is lost in rounding alike.
 """
 
 from __future__ import annotations
@@ -36,35 +38,37 @@ _LEVELS_PER_DECADE = 2
 
 
 def stiff_groups(asm, limit: float = STIFF_RATIO) -> list[dict]:
-    """The groups of nodes of ``asm`` (an :class:`rcsim.assembly.Assembled`) whose ratio
-    (sum of K's diagonal over the group / conductance leaving it) exceeds ``limit``.
+    """The groups of points of ``asm`` (an :class:`rcsim.assembly.Assembled`) whose ratio
+    (sum of K's diagonal over the group's nodes / conductance leaving its nodes) exceeds
+    ``limit``.
 
-    Each entry: ``nodes`` (indices), ``ratio``, ``leaving`` [W/K], ``segment`` (the stiffest
-    segment inside the group). Groups with nothing leaving them (floating groups, whose steady
-    state is undefined anyway) are not listed. Worst group first.
+    Points are nodes and boundaries: a node tied to a boundary by a link that dwarfs its other
+    links sits at the boundary's temperature, and the heat through that link, g (T_b - T), is
+    the difference of two equal numbers times a huge one. Each entry: ``points`` (indices, nodes
+    ``0..N-1`` then boundaries), ``ratio``, ``leaving`` [W/K], ``segment`` (the stiffest segment
+    inside the group). Groups with nothing leaving them are not listed. Worst group first.
     """
     n = asm.n_nodes
+    n_pts = n + asm.n_boundaries
     a, b, g = asm.seg_a, asm.seg_b, np.asarray(asm.seg_g, dtype=float)
-    use = np.isfinite(g) & (g > 0)
-    a, b, g, seg = a[use], b[use], g[use], np.flatnonzero(use)
-    inner = (a < n) & (b < n) & (a != b)
-    if not inner.any():
+    use = np.isfinite(g) & (g > 0) & (a != b)
+    if not use.any():
         return []
-    diag = (np.bincount(a[a < n], weights=g[a < n], minlength=n)
-            + np.bincount(b[b < n], weights=g[b < n], minlength=n))
-    gi = g[inner]
-    g_max, g_min = float(gi.max()), float(gi.min())
-    # a group's diagonal sum is twice its inner conductances plus what leaves it: below this
-    # bound no group can be too stiff
-    if 2.0 * float(gi.sum()) <= (limit - 1.0) * float(g.min()):
+    a, b, g, seg = a[use], b[use], g[use], np.flatnonzero(use)
+    diag = (np.bincount(a[a < n], weights=g[a < n], minlength=n_pts)
+            + np.bincount(b[b < n], weights=g[b < n], minlength=n_pts))   # boundaries: 0
+    g_max, g_min = float(g.max()), float(g.min())
+    # a group's diagonal sum is at most twice its inner conductances plus what leaves it: below
+    # this bound no group can be too stiff
+    if 2.0 * float(g.sum()) <= (limit - 1.0) * g_min:
         return []
     n_levels = int(np.ceil(np.log10(g_max / g_min) * _LEVELS_PER_DECADE)) + 1
     found: dict[tuple, dict] = {}
     for k in range(n_levels):
         threshold = g_max * 10.0 ** (-k / _LEVELS_PER_DECADE)
-        strong = gi >= threshold
-        adj = sp.coo_matrix((np.ones(int(strong.sum())), (a[inner][strong], b[inner][strong])),
-                            shape=(n, n))
+        strong = g >= threshold
+        adj = sp.coo_matrix((np.ones(int(strong.sum())), (a[strong], b[strong])),
+                            shape=(n_pts, n_pts))
         ncomp, labels = connected_components(adj, directed=False)
         size = np.bincount(labels, minlength=ncomp)
         if not (size > 1).any():
@@ -76,20 +80,20 @@ def stiff_groups(asm, limit: float = STIFF_RATIO) -> list[dict]:
             members = np.asarray(key)
             inside = np.isin(a, members) & np.isin(b, members)
             worst = int(np.argmax(np.where(inside, g, -np.inf)))
-            found[key] = {"nodes": members, "ratio": group[1], "leaving": group[2],
-                          "segment": int(seg[worst])}
+            found[key] = {"points": members, "nodes": members, "ratio": group[1],
+                          "leaving": group[2], "segment": int(seg[worst])}
     return sorted(found.values(), key=lambda d: -d["ratio"])
 
 
 def _too_stiff(labels, size, a, b, g, diag, n, limit):
-    """(label, ratio, leaving conductance) of the groups of ``labels`` above ``limit``."""
+    """(label, ratio, leaving conductance) of the groups of ``labels`` above ``limit``; what
+    leaves a group is counted from its nodes only (not from a boundary in it)."""
     ncomp = size.size
-    la = np.where(a < n, labels[np.minimum(a, n - 1)], -1)
-    lb = np.where(b < n, labels[np.minimum(b, n - 1)], -1)
-    cross = la != lb                     # the segment leaves a group (to another or a boundary)
-    leaving = (np.bincount(la[cross & (la >= 0)], weights=g[cross & (la >= 0)], minlength=ncomp)
-               + np.bincount(lb[cross & (lb >= 0)], weights=g[cross & (lb >= 0)],
-                             minlength=ncomp))
+    la, lb = labels[a], labels[b]
+    cross = la != lb                     # the segment leaves a group
+    from_a, from_b = cross & (a < n), cross & (b < n)
+    leaving = (np.bincount(la[from_a], weights=g[from_a], minlength=ncomp)
+               + np.bincount(lb[from_b], weights=g[from_b], minlength=ncomp))
     total = np.bincount(labels, weights=diag, minlength=ncomp)
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = total / leaving
@@ -106,14 +110,17 @@ def check_stiff_groups(asm, limit: float = STIFF_RATIO) -> None:
     grp = groups[0]
     s = grp["segment"]
     link = asm.link_names[int(np.searchsorted(asm.link_last_seg, s))]
-    names = [asm.node_names[i] for i in grp["nodes"][:4]]
-    more = f" and {grp['nodes'].size - 4} more" if grp["nodes"].size > 4 else ""
+    points = asm.node_names + asm.boundary_names
+    names = [points[i] for i in grp["points"][:4]]
+    more = f" and {grp['points'].size - 4} more" if grp["points"].size > 4 else ""
     # a link between two nodes: ratio ~ 2 G / leaving; the resistance that brings it to the limit
     r_min = 2.1 / (limit * grp["leaving"])
+    bounds = [points[i] for i in grp["points"] if i >= asm.n_nodes]
+    fix = (f"link the node's other links to {bounds[0]!r} directly (it sits at its temperature)"
+           if bounds else "merge them into one node (capacities added)")
     raise NetworkError(
         f"link {link!r} ({1.0 / asm.seg_g[s]:.3g} K/W) joins {', '.join(map(repr, names))}{more} "
         f"so stiffly that the {grp['leaving']:.3g} W/K leaving them is {grp['ratio']:.2g} times "
         f"smaller than the conductances inside: double precision cannot resolve it (limit "
-        f"{limit:.0e})", None,
-        f"merge them into one node (capacities added) or give the link at least about "
-        f"{r_min:.2g} K/W")
+        f"{limit:.0e})", f"links.{link}",
+        f"{fix} or give the link at least about {r_min:.2g} K/W")

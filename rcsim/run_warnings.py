@@ -23,6 +23,7 @@ Messages start with the scenario file's name when the network was read from one
 from __future__ import annotations
 
 import contextlib
+import sys
 import warnings
 
 import numpy as np
@@ -250,18 +251,28 @@ def warn_watched(watchers) -> None:
 # -- collecting --------------------------------------------------------------------------------
 @contextlib.contextmanager
 def collecting_warnings():
-    """Record every warning raised inside (yields the list of records, growing as they come;
-    :func:`warning_texts` reads it). On leaving, even by an exception, the warnings are raised
-    again, so the caller's own filters decide what it sees."""
+    """Record the warnings raised inside (yields the list of records, growing as they come;
+    :func:`warning_texts` reads it): every one of rcsim's, and the others as the caller's
+    filters let them through (an 'error' filter still raises where the warning is raised). On
+    leaving, even by an exception, the records are raised again, from the module that raised
+    them, so the caller's own filters decide what it sees."""
     caught: list = []
     try:
         with warnings.catch_warnings(record=True) as recorded:
-            warnings.simplefilter("always")
+            warnings.simplefilter("always", RcsimWarning)
             caught = recorded
             yield recorded
     finally:
+        modules = _modules_by_file() if caught else {}
         for w in caught:
-            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno, source=w.source)
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno,
+                                   module=modules.get(w.filename), source=w.source)
+
+
+def _modules_by_file() -> dict:
+    """{file: module name} of the modules loaded (warnings are filtered by module name)."""
+    return {getattr(m, "__file__", None): name for name, m in list(sys.modules.items())
+            if getattr(m, "__file__", None)}
 
 
 def warning_texts(caught) -> list[str]:

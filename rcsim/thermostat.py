@@ -259,7 +259,8 @@ def run_as_ideal(thermostats, capacity_of, step: float, duration: float):
     bound; it is run as an *ideal controller*: the average of its switching, a proportional law
     over its band (widened to :data:`IDEAL_BAND_FLOOR` if narrower). It delivers the same heat
     and keeps the sensed temperature inside the same band as the switching would; its
-    switchings are not counted. ``capacity_of(node)`` gives a node's capacity [J/K].
+    switchings are not counted. A proportional band narrower than IDEAL_BAND_FLOOR is widened
+    to it (listed too). ``capacity_of(node)`` gives a node's capacity [J/K].
     """
     out, ideal = [], []
     for th in thermostats:
@@ -267,6 +268,9 @@ def run_as_ideal(thermostats, capacity_of, step: float, duration: float):
                 th, capacity_of(th.sensor), step, duration):
             th = replace(th, control="proportional", band=max(th.band, IDEAL_BAND_FLOOR),
                          ideal=True)
+            ideal.append(th.name)
+        elif th.control == "proportional" and th.band < IDEAL_BAND_FLOOR:
+            th = replace(th, band=IDEAL_BAND_FLOOR)      # its power would be rounding noise
             ideal.append(th.name)
         out.append(th)
     return tuple(out), ideal

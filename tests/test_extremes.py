@@ -85,22 +85,44 @@ def test_stiff_but_resolvable_links_are_solved_right(r_link, solver):
     assert res.energy_balance_error < 1e-6
 
 
-def test_a_node_pinned_to_a_boundary_is_not_a_stiff_group():
-    # a huge conductance to a boundary pins its node: nothing is lost; b cools through 1 K/W
-    # towards 0 degC as 20 exp(-t / 1000 s) (closed form of a single RC)
+@pytest.mark.parametrize("r_pin", [1e-20, 1e-12])
+def test_a_node_pinned_to_a_boundary_by_a_stiff_link_is_refused(r_pin):
+    # the node sits at the boundary's 25 degC and the heat through the pin, g (25 - T), is lost
+    # in rounding: before, at 1e-20 K/W 'pin' carried 0 W where b drew 0.137 W through it
+    # (closed form: b warms as 25 - 5 exp(-t / 1000 s) through 1 K/W), at 1e-12 K/W 0.08 % off
     net = rcsim.Network()
     net.add_node("a", capacity=1000.0, initial=20.0)
     net.add_node("b", capacity=1000.0, initial=20.0)
-    net.add_boundary("out", temperature=0.0)
-    net.add_link("a", "out", resistance=1e-20, name="pin")
+    net.add_boundary("out", temperature=25.0)
+    net.add_link("a", "out", resistance=r_pin, name="pin")
+    net.add_link("a", "b", resistance=1.0, name="wall")
+    with pytest.raises(NetworkError) as err:
+        net.simulate(duration=3600, step=60)
+    assert "links.pin: link 'pin'" in str(err.value) and "'a', 'out'" in str(err.value)
+    assert "link the node's other links to 'out' directly" in str(err.value)
+
+
+def test_a_moderately_stiff_pin_is_solved_right():
+    # 1e-9 K/W: ratio 1e9, below the limit; the pin's heat is b's draw, -(25 - T_b) / 1 K/W,
+    # with T_b = 25 - 5 exp(-t / 1000 s) (closed form of b's RC behind the pinned node)
+    net = rcsim.Network()
+    net.add_node("a", capacity=1000.0, initial=25.0)
+    net.add_node("b", capacity=1000.0, initial=20.0)
+    net.add_boundary("out", temperature=25.0)
+    net.add_link("a", "out", resistance=1e-9, name="pin")
     net.add_link("a", "b", resistance=1.0, name="wall")
     res = net.simulate(duration=3600, step=60)
-    assert res.temperatures["b"].iloc[-1] == pytest.approx(20.0 * math.exp(-3.6), rel=1e-9)
+    t_b = 25.0 - 5.0 * math.exp(-3.6)
+    assert res.temperatures["b"].iloc[-1] == pytest.approx(t_b, rel=1e-8)
+    assert res.heat_flows["pin"].iloc[-1] == pytest.approx(-(25.0 - t_b), rel=1e-4)
 
 
 def _unchecked(monkeypatch):
     """Let a too-stiff network through, to check what stands behind the refusal."""
+    import rcsim.transient.exact_path as exact_path
+
     monkeypatch.setattr(rcsim.network, "check_stiff_groups", lambda asm: None)
+    monkeypatch.setattr(exact_path, "MODE_SPREAD", math.inf)
 
 
 @pytest.mark.parametrize("kind", ["sine", "source"])
@@ -361,3 +383,43 @@ def test_equivalent_resistance_of_a_long_ladder_spanning_twelve_decades():
     net = _network_of(links)
     assert net.equivalent_resistance("in", "out") == pytest.approx(
         _exact_resistance(links, "in", "out"), rel=1e-12)
+
+
+def test_a_hair_thin_proportional_band_is_widened_to_the_floor():
+    # before: a 1e-12 K proportional band on the piecewise path delivered 0.17 % too much heat
+    # (gain 5e15 W/K times temperatures known to 4e-15 K); widened to 1e-6 K it holds the room
+    # and delivers the day's loss, 1.728e8 J (closed form as above)
+    with pytest.warns(rcsim.errors.RcsimWarning, match="widened to 1e-06 K"):
+        res = _room(1e-12, control="proportional").simulate(duration=86400, step=600)
+    row = res.thermostats.iloc[0]
+    assert row["energy [J]"] == pytest.approx(1.728e8, abs=0.5e-6 / 0.01 * 86400 + 200.0)
+    assert abs(res.temperatures["room"] - 20.0).max() <= 0.5e-6 + 1e-9
+
+
+# ---- time constants spanning more than double precision resolves (exact path) ----------------
+def _bead_on_block(bead_capacity):
+    """A bead of ``bead_capacity`` on a 1 kJ/K block (0.4 K/W), the block behind 2 K/W to
+    0 degC, both starting at 20 degC."""
+    net = rcsim.Network()
+    net.add_node("bead", capacity=bead_capacity, initial=20.0)
+    net.add_node("block", capacity=1000.0, initial=20.0)
+    net.add_boundary("out", temperature=0.0)
+    net.add_link("bead", "block", resistance=0.4, name="glue")
+    net.add_link("block", "out", resistance=2.0, name="wall")
+    return net
+
+
+def test_a_tiny_capacity_beside_a_large_one_is_not_run_on_the_exact_path():
+    # time constants 4e-16 s and 2000 s: the dense eigenproblem lost the slow mode (the exact
+    # path returned a balance error of 1.0 on the property-test network). Declined, another
+    # path runs it: the bead follows the block, 20 exp(-t / 2000 s) (closed form of the block's
+    # single RC; the bead's own time constant is 4e-16 s)
+    net = _bead_on_block(1e-15)
+    with pytest.raises(rcsim.InputError, match="cannot resolve this network's time constants"):
+        net.simulate(duration=3600, step=60, solver="exact")
+    res = net.simulate(duration=3600, step=60)
+    assert res.run_info.path != "exact"
+    want = 20.0 * np.exp(-res.time / 2000.0)
+    assert np.allclose(res.temperatures["block"], want, rtol=1e-5, atol=0)
+    assert np.allclose(res.temperatures["bead"], want, rtol=1e-5, atol=0)
+    assert res.energy_balance_error < 1e-6

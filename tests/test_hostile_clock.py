@@ -380,3 +380,21 @@ def test_cylinder_and_sphere_by_diameters_match_the_closed_forms(tmp_path):
     with pytest.raises(InputError, match="give inner_radius or inner_diameter, not both"):
         net.add_link("a", "b", name="x", parts=[{"sphere": {
             "k": 1, "inner_radius": "1 cm", "inner_diameter": "2 cm", "outer_radius": "3 cm"}}])
+
+
+# ---- temperature units in fit-log headers --------------------------------------------------------
+def test_fit_log_temperature_headers_with_units_are_converted(tmp_path):
+    # 32 degF = 0 degC, 212 degF = 100 degC, 50 degF = 10 degC (the Fahrenheit scale's definition);
+    # 293.15 K = 20 degC. Before: 'a [degF]' matched no node, and mapped it was read as degC.
+    (tmp_path / "log.csv").write_text("time [h],a [degF],amb [K]\n0,32,293.15\n1,212,293.15\n"
+                                      "2,50,293.15\n")
+    log = read_log(tmp_path / "log.csv", ["a"], ["amb"])
+    assert log.targets == {"a [degF]": "a", "amb [K]": "amb"}
+    np.testing.assert_allclose(log.values["a [degF]"].to_numpy(), [0.0, 100.0, 10.0], atol=1e-12)
+    np.testing.assert_allclose(log.values["amb [K]"].to_numpy(), 20.0, atol=1e-12)
+    mapped = read_log(tmp_path / "log.csv", ["probe"], ["amb"], columns={"a [degF]": "probe"})
+    np.testing.assert_allclose(mapped.values["a [degF]"].to_numpy(), [0.0, 100.0, 10.0],
+                               atol=1e-12)
+    (tmp_path / "bad.csv").write_text("time,a [W]\n0,1\n1,2\n")
+    with pytest.raises(InputError, match="temperature"):
+        read_log(tmp_path / "bad.csv", ["a"], [])

@@ -18,6 +18,7 @@ import pandas as pd
 from ..base import suggest
 from ..errors import DataError, InputError
 from ..profiles import read_csv_text, read_time_series
+from ..profiles.table import convert_array
 from ..profiles.timeseries import check_separator, first_row_clock, split_header, time_unit_of
 from ..units import ABSOLUTE_ZERO, to_si
 
@@ -180,6 +181,11 @@ def read_log(source, nodes, boundaries, *, columns=None, ignore=(), time=None, t
     for c in used:
         if not np.isfinite(values[c].to_numpy()).any():
             raise DataError(f"column {c!r} has no numeric values", label)
+    for c in measured + inputs:   # temperatures: degC, or the unit in the header ('T [degF]')
+        unit = strip_unit(c)[1]
+        if unit is not None:
+            values[c] = convert_array(values[c].to_numpy(dtype=float), unit, "temperature",
+                                      f"{label}: column {c!r}")
     for c in measured + inputs:   # temperatures [degC]
         below = values[c].to_numpy() < ABSOLUTE_ZERO
         if below.any():
@@ -247,6 +253,8 @@ def _match_columns(used, columns, names, label) -> dict:
     targets = {}
     for c in used:
         target = columns.get(c, c)
+        if c not in columns and target not in names and strip_unit(c)[0] in names:
+            target = strip_unit(c)[0]   # 'block [degF]' is the node 'block', in degF
         if target not in names:
             if c in columns:
                 raise DataError(f"column {c!r} is mapped to {target!r}, which is no node, "

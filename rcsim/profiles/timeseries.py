@@ -68,8 +68,9 @@ def value_unit_of(header: str, unit: str | None, label: str) -> str | None:
         except Exception:  # noqa: BLE001 - pint fails in many ways; the binding names the unit
             same = False
         if not same:
-            raise DataError(f"column {header!r}: its header says {in_header!r} but unit is "
-                            f"{unit!r}", label, "give the unit in one place")
+            raise DataError(f"column {quote_cell(header)}: its header says "
+                            f"{quote_cell(in_header)} but unit is {unit!r}", label,
+                            "give the unit in one place")
     return in_header or unit
 
 

@@ -22,7 +22,8 @@ from ..recording import RecordingPlan, plan_recording
 from ..run_warnings import run_watchers
 from ..statespace import state_space
 from ..surfaces import sol_air_series
-from ..thermostat import narrowest_switching_band, run_as_ideal, shortest_cycle
+from ..thermostat import (IDEAL_BAND_FLOOR, narrowest_switching_band, run_as_ideal,
+                          shortest_cycle)
 from ..units import to_si
 from .initial import given_temperatures, resolve_initial_option
 from .registry import check_solver
@@ -193,6 +194,12 @@ def _ideal_where_needed(thermostats: tuple, asm, t_out: np.ndarray) -> tuple:
     duration = float(t_out[-1])
     out, ideal = run_as_ideal(thermostats, capacity_of, step, duration)
     for th in (t for t in thermostats if t.name in ideal):
+        if th.control == "proportional":
+            warnings.warn(RcsimWarning(
+                f"thermostat {th.name!r}: its proportional band of {th.band:.3g} K is widened to "
+                f"{IDEAL_BAND_FLOOR:g} K (narrower, its power would be a gain times a "
+                "temperature difference lost in rounding)"), stacklevel=4)
+            continue
         c = capacity_of(th.sensor)
         narrowest = narrowest_switching_band(th, c, step, duration)
         warnings.warn(RcsimWarning(

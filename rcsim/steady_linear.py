@@ -20,7 +20,8 @@ def check_grounded(asm, what: str = "the steady state") -> None:
     if groups:
         names = [asm.node_names[i] for i in groups[0]]
         shown = ", ".join(repr(n) for n in names[:6]) + (" ..." if len(names) > 6 else "")
-        raise NetworkError(f"nodes {shown} have no path to any boundary, so {what} is undefined",
+        subject = f"nodes {shown} have" if len(names) > 1 else f"node {shown} has"
+        raise NetworkError(f"{subject} no path to any boundary, so {what} is undefined",
                            None, "link them to a boundary, or start from given temperatures")
 
 

@@ -131,7 +131,17 @@ def test_floating_group_is_an_error():
     net.add_node("c", capacity=1.0, initial=0)
     net.add_link("a", "b", resistance=1.0)
     net.add_link("c", "o", resistance=1.0)
-    with pytest.raises(NetworkError, match="no path to any boundary"):
+    with pytest.raises(NetworkError, match="nodes 'a', 'b' have no path to any boundary"):
+        net.steady()
+
+
+def test_one_floating_node_is_named_in_the_singular():
+    net = rcsim.Network()
+    net.add_boundary("o", temperature=0.0)
+    net.add_node("a", capacity=1.0, initial=0)
+    net.add_node("c", capacity=1.0, initial=0)
+    net.add_link("c", "o", resistance=1.0)
+    with pytest.raises(NetworkError, match="node 'a' has no path to any boundary"):
         net.steady()
 
 

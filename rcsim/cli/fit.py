@@ -10,8 +10,8 @@ import click
 from ..errors import InputError
 from .fit_text import format_comparison, format_fit_summary, format_joint_summary
 from .guard import guard
-from .options import (SOLVERS, solver_help, allow_absolute_paths_option, check_output, load_scenario,
-                      scenario_argument)
+from .options import (SOLVERS, solver_help, allow_absolute_paths_option, check_output,
+                      holdout_value, load_scenario, log_time_options, scenario_argument)
 
 __all__ = ["fit", "format_fit_summary"]
 
@@ -59,12 +59,7 @@ NOISE_KINDS = ("measurement", "process")
 @click.option("--sigma", "sigma_items", multiple=True, metavar="[COLUMN=]K",
               help="Measurement standard deviation, for all columns or per column; sets the "
               "weights (default: from the residuals of each column).")
-@click.option("--time", "time_column", help="Name of the time column (default: a column "
-              "named time, t, timestamp, ... else the first).")
-@click.option("--time-unit", help="Unit of a numeric time column (default s, or the unit in "
-              "its header as in 'time [min]').")
-@click.option("--max-gap", help="Report spans without data longer than this, e.g. 10min "
-              "(default 5 times the median row interval).")
+@log_time_options
 @click.option("--starts", default=4, show_default=True, type=click.IntRange(1, 50),
               help="Number of starting points (against local minima).")
 @click.option("--solver", type=click.Choice(SOLVERS), default="auto",
@@ -129,7 +124,7 @@ def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout,
                                  "[\"nodes.block.capacity\"]")
         res = run_fit(pool if candidates else pool[0], logs if len(logs) > 1 else logs[0],
                       time=time_column, time_unit=time_unit, max_gap=max_gap, starts=starts,
-                      solver=solver, holdout=_holdout_option(holdout), select=select, lags=lags)
+                      solver=solver, holdout=holdout_value(holdout), select=select, lags=lags)
     chosen = res.selected_fit if candidates else res
     sc = dict(zip(res.fits, pool))[res.selected].scenario if candidates else pool[0].scenario
     written = []
@@ -191,15 +186,6 @@ def _say_overridden(cand, given) -> None:
                           f"of {option} (which applies to candidates whose section does not)",
                           FitWarning, stacklevel=2)
 
-
-def _holdout_option(text):
-    """A fraction as a number, anything else as written (read by parse_holdout)."""
-    if text is None:
-        return None
-    try:
-        return float(text)
-    except ValueError:
-        return text
 
 
 def _save_plots(res, path) -> list:

@@ -10,7 +10,7 @@ import click
 
 from .fit_text import CLOSING, format_fit_summary, format_steps
 from .guard import guard
-from .options import check_folder, check_output
+from .options import check_folder, check_output, holdout_value, log_time_options
 
 __all__ = ["identify"]
 
@@ -57,12 +57,7 @@ NOISE_KINDS = ("measurement", "process")
               help="Starting points of each structure's fit, at most.")
 @click.option("--lags", type=click.IntRange(1), metavar="N",
               help="Lags of the Ljung-Box test of the residuals (default min(10, n/5)).")
-@click.option("--time", "time_column", help="Name of the time column (default: a column "
-              "named time, t, timestamp, ... else the first).")
-@click.option("--time-unit", help="Unit of a numeric time column (default s, or the unit in "
-              "its header as in 'time [min]').")
-@click.option("--max-gap", help="Report spans without data longer than this, e.g. 10min "
-              "(default 5 times the median row interval).")
+@log_time_options
 @click.option("-o", "--output", type=click.Path(), help="Write the table of the structures "
               "tried (one row each) to this CSV file.")
 @click.option("--write-scenario", type=click.Path(), help="Write the selected structure, with "
@@ -97,7 +92,7 @@ def identify(log, measured, drivers, ambient, holdout, noise, significance, max_
         check_report_path(report_path, "--report")
     with kept_warnings() as caught:  # for the report; printed as usual all the same
         res = run_identify(log, list(measured), list(drivers), ambient, time=time_column,
-                           time_unit=time_unit, max_gap=max_gap, holdout=_holdout(holdout),
+                           time_unit=time_unit, max_gap=max_gap, holdout=holdout_value(holdout),
                            noise=noise, significance=significance, max_nodes=max_nodes,
                            capacity=capacity, sigma=sigma, starts=starts, lags=lags,
                            moves=tuple(extensions) or MOVES)
@@ -118,15 +113,6 @@ def identify(log, measured, drivers, ambient, holdout, noise, significance, max_
     for p in written:
         click.echo(f"wrote {p}")
 
-
-def _holdout(text):
-    """A fraction as a number, anything else as written (read by parse_holdout)."""
-    if text is None:
-        return None
-    try:
-        return float(text)
-    except ValueError:
-        return text
 
 
 def _figures(res, folder, stem) -> list[str]:

@@ -13,7 +13,8 @@ import click
 from ..errors import InputError
 
 __all__ = ["SOLVERS", "solver_help", "scenario_argument", "allow_absolute_paths_option", "quiet_option",
-           "check_output", "check_folder", "load_scenario", "names"]
+           "check_output", "check_folder", "load_scenario", "names", "log_time_options",
+           "holdout_value"]
 
 #: the transient paths a run may be given (``auto`` chooses): the engine's registry, which
 #: imports nothing heavy, so ``--help`` stays light
@@ -25,6 +26,31 @@ allow_absolute_paths_option = click.option(
     help="Let the scenario read CSV files by absolute path or outside its folder.")
 quiet_option = click.option("--quiet", is_flag=True,
                             help="Print nothing but errors and warnings.")
+
+
+def log_time_options(command):
+    """--time, --time-unit and --max-gap: how a logged record's time column is read (fit,
+    identify)."""
+    for option in reversed([
+            click.option("--time", "time_column", help="Name of the time column (default: a "
+                         "column named time, t, timestamp, ... else the first)."),
+            click.option("--time-unit", help="Unit of a numeric time column (default s, or the "
+                         "unit in its header as in 'time [min]')."),
+            click.option("--max-gap", help="Report spans without data longer than this, e.g. "
+                         "10min (default 5 times the median row interval).")]):
+        command = option(command)
+    return command
+
+
+def holdout_value(text):
+    """--holdout as the fitting reads it: a fraction as a number, anything else (a time range)
+    as written (read by :func:`rcsim.fitting.holdout.parse_holdout`)."""
+    if text is None:
+        return None
+    try:
+        return float(text)
+    except ValueError:
+        return text
 
 
 def check_output(path, suffixes, option: str) -> None:

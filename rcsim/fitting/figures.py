@@ -1,9 +1,9 @@
 """The figure of a comparison: the measured record with every candidate's fitted curve overlaid,
 and each candidate's residuals below; the held-out span shaded.
 
-Drawn with matplotlib from the fits' own tables; never runs a model. (This figure joins the
-plotting package when that becomes one; its colours and line styles are the same as rcsim's
-other figures.)
+Drawn with matplotlib from the fits' own tables; never runs a model. Its colours, line
+styles and time-axis unit are those of rcsim's other figures (:mod:`rcsim.plotting.style`,
+:mod:`rcsim.plotting.timeaxis`).
 """
 
 from __future__ import annotations
@@ -13,15 +13,10 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..errors import InputError
+from ..plotting.style import LINE_STYLES, PALETTE
+from ..plotting.timeaxis import UNIT_SECONDS, time_unit_for
 
 __all__ = ["plot_candidates", "CandidatesFigure"]
-
-#: rcsim's palette and line styles, in step (chosen to stay apart for colour-blind readers and
-#: in grey; see the plotting module's tests).
-PALETTE = ("#1d3f8f", "#e3871a", "#8e1f4f", "#3aa394", "#6b4e16", "#8fbde6")
-LINE_STYLES = ("-", (0, (6, 2.2)), (0, (1.2, 1.8)), (0, (7, 2, 1.5, 2)),
-               (0, (3, 1.5, 1, 1.5, 1, 1.5)), (0, (10, 3)))
-_UNITS = (("s", 1.0), ("min", 60.0), ("h", 3600.0), ("d", 86400.0))
 
 
 @dataclass
@@ -38,17 +33,13 @@ class CandidatesFigure:
 
 
 def _unit(span: float, unit: str | None) -> tuple[str, float]:
-    if unit is not None:
-        for name, scale in _UNITS:
-            if name == unit:
-                return name, scale
-        raise InputError(f"time_unit must be one of {', '.join(n for n, _ in _UNITS)}, got "
-                         f"{unit!r}", "time_unit")
-    if span <= 2 * 3600:
-        return "min", 60.0
-    if span <= 4 * 86400:
-        return "h", 3600.0
-    return "d", 86400.0
+    """The axis unit: the one asked for, else the one rcsim's time axes take for the span."""
+    if unit is None:
+        return time_unit_for(span)
+    if unit not in UNIT_SECONDS:
+        raise InputError(f"time_unit must be one of {', '.join(UNIT_SECONDS)}, got {unit!r}",
+                         "time_unit")
+    return unit, UNIT_SECONDS[unit]
 
 
 def _single(fit):

@@ -10,6 +10,23 @@ ROOT = os.path.dirname(HERE)
 SCENARIOS = os.path.join(ROOT, "scenarios")
 
 
+#: A block in a room with a heater whose power a log's heater column gives: the network of the
+#: fitting tests (one node, C and R to fit).
+HEATER_BLOCK = """
+[nodes.block]
+capacity = "1.2 kJ/K"
+initial = "10 degC"
+[boundaries.room]
+temperature = "20 degC"
+[links.skin]
+between = ["block", "room"]
+resistance = "1 K/W"
+[sources.heater]
+node = "block"
+power = "0 W"      # the log's heater column drives it
+"""
+
+
 @pytest.fixture
 def write(tmp_path):
     """Write a text file into tmp_path and return its path."""

@@ -13,23 +13,12 @@ import pytest
 import scipy.signal as sig
 
 import rcsim
+from conftest import HEATER_BLOCK
 from rcsim.errors import InputError
 from rcsim.fitting import FitWarning, JointFit
 
 C_TRUE, R_TRUE = 1794.0, 1.5
-BLOCK = """
-[nodes.block]
-capacity = "1.2 kJ/K"
-initial = "10 degC"
-[boundaries.room]
-temperature = "20 degC"
-[links.skin]
-between = ["block", "room"]
-resistance = "1 K/W"
-[sources.heater]
-node = "block"
-power = "0 W"
-"""
+BLOCK = HEATER_BLOCK
 SHARED = ["nodes.block.capacity", "links.skin.resistance"]
 
 

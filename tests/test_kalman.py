@@ -18,6 +18,7 @@ from scipy.integrate import quad_vec, simpson
 from scipy.linalg import expm, solve_discrete_are
 
 import rcsim
+from conftest import HEATER_BLOCK
 from rcsim.fitting import FitWarning
 from rcsim.fitting.kalman import (kalman_filter, modal_discretisation, stationary_covariance,
                                   van_loan)
@@ -209,19 +210,7 @@ def test_linear_recurrence_equals_a_loop(pattern):
 # spread about 0.2 K) and is measured with 0.05 K of noise
 C_TRUE, R_TRUE, T0_TRUE = 1794.0, 1.5, 6.0
 SPAN, DT = 8 * 3600.0, 120.0
-BLOCK = """
-[nodes.block]
-capacity = "1.2 kJ/K"
-initial = "10 degC"
-[boundaries.room]
-temperature = "20 degC"
-[links.skin]
-between = ["block", "room"]
-resistance = "1 K/W"
-[sources.heater]
-node = "block"
-power = "0 W"      # the log's heater column drives it
-"""
+BLOCK = HEATER_BLOCK
 FREE = ["nodes.block.capacity", "links.skin.resistance", "nodes.block.initial"]
 
 

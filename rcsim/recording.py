@@ -17,6 +17,7 @@ import numpy as np
 import pandas as pd
 
 # the HDF5 side lives in rcsim.h5files; re-exported here for older imports
+from .h5files import ONE_D
 from .h5files import (NAMES_ATTRIBUTE_BYTES, H5Sink, names_dataset, read_frame,  # noqa: F401
                       read_names, write_frame, write_names)
 from .base import suggest
@@ -56,7 +57,6 @@ class Chunk:
 
 
 # -- sinks -----------------------------------------------------------------------------------
-_ONE_D = ("time", "energy/stored")   # as in rcsim.h5files.ONE_D
 class _Growing:
     """A history filled chunk by chunk into a preallocated column-major array (doubled when a
     run delivers more rows than announced: never a concatenation of all chunks)."""
@@ -116,7 +116,7 @@ class MemorySink:
 
     def declare(self, key: str, names: list[str]) -> None:
         self.names[key] = list(names)
-        width = None if key in _ONE_D else len(names)
+        width = None if key in ONE_D else len(names)
         self.buffers[key] = _Growing(width, self.expected)
 
     def append(self, key: str, array: np.ndarray) -> None:

@@ -465,8 +465,7 @@ class PiecewiseSolver:
         seg = self.seg
         ta_r, tb_r = seg.ends(Tg[:-1], self._WR)
         ta_l, tb_l = seg.ends(Tg[1:], self._WL)
-        qR = seg.flows(ta_r, tb_r, self.grid[:-1], "right")
-        qL = seg.flows(ta_l, tb_l, self.grid[1:], "left")
+        qR, qL = seg.flows_on_grid(ta_r, tb_r, ta_l, tb_l, self.grid)
         return qR - self.g * (ta_r - tb_r), qL - self.g * (ta_l - tb_l)
 
     def _tangent_reference(self, Tg: np.ndarray) -> np.ndarray:

@@ -178,33 +178,39 @@ def locate_event(reg, t0, h, z0, FR, dF, vals_end, dips=None):
 
 
 def crossings_past(curve: EventCurve, ks, lo, hi, f_lo, f_hi, xtol: float,
-                   max_iter: int = 60) -> np.ndarray:
+                   max_iter: int = 100) -> np.ndarray:
     """A time just past the crossing of each event function ``ks`` of ``curve`` in its
     bracket [lo, hi] (f_lo <= 0 < f_hi): within ``xtol`` after it, where the function is
     positive.
 
-    Newton's method on the closed form and its exact rate, for all functions at once, aimed
-    half a tolerance past the crossing and started at the secant's crossing (for the nearly
-    linear functions met here, that start is often the answer): a point where the function is
-    positive and the Newton step back to the crossing is within ``xtol`` is returned as it is.
-    A step that leaves the bracket is replaced by regula falsi in it (or bisection).
+    Newton's method on the closed form and its exact rate, for all functions at once, aimed a
+    quarter of the tolerance past the crossing and started at the secant's crossing (for the
+    nearly linear functions met here, that start is often the answer): a point where the
+    function is positive and the Newton step back to the crossing is within half the tolerance
+    is returned as it is, as is the bracket's upper end once the bracket is narrower than the
+    tolerance. A Newton step that leaves the bracket is replaced by regula falsi in it, and by
+    bisection when the same end moved twice in a row (regula falsi stalls on a function that
+    bends sharply: a fast mode settling next to the crossing).
     """
     lo, hi = np.array(lo, dtype=float), np.array(hi, dtype=float)
     f_lo, f_hi = np.array(f_lo, dtype=float), np.array(f_hi, dtype=float)
-    ahead = 0.5 * xtol
+    ahead = 0.25 * xtol
     t = np.minimum(lo - f_lo * (hi - lo) / (f_hi - f_lo) + ahead, hi)
     out = hi.copy()
     todo = np.ones(ks.size, dtype=bool)
+    side = np.zeros(ks.size)                       # +1: the last step moved hi, -1: lo
     for _ in range(max_iter):
         g, rate = curve.value_and_rate(t, ks)
         up = g > 0.0
+        again = side == np.where(up, 1.0, -1.0)
+        side = np.where(up, 1.0, -1.0)
         hi = np.where(up, t, hi)
         f_hi = np.where(up, g, f_hi)
         lo = np.where(up, lo, t)
         f_lo = np.where(up, f_lo, g)
         with np.errstate(divide="ignore", invalid="ignore"):
             back = np.where(rate > 0.0, g / rate, np.inf)      # Newton step back to the root
-        done = todo & ((up & (back <= xtol)) | (hi - lo <= xtol))
+        done = todo & ((up & (back <= 2.0 * ahead)) | (hi - lo <= xtol))
         out[done] = hi[done]
         todo &= ~done
         if not todo.any():
@@ -214,6 +220,7 @@ def crossings_past(curve: EventCurve, ks, lo, hi, f_lo, f_hi, xtol: float,
         if bad.any():
             with np.errstate(divide="ignore", invalid="ignore"):
                 falsi = lo - f_lo * (hi - lo) / (f_hi - f_lo)
-            tn = np.where(bad, np.where((lo < falsi) & (falsi < hi), falsi, 0.5 * (lo + hi)), tn)
+            falsi_ok = (lo < falsi) & (falsi < hi) & ~again
+            tn = np.where(bad, np.where(falsi_ok, falsi, 0.5 * (lo + hi)), tn)
         t = tn
     return out

@@ -82,57 +82,72 @@ class EventCurve:
     def __init__(self, reg, t0, h, z0, FR, dF, rows, d):
         self.lam, self.t0 = reg.lam, float(t0)
         zp0 = reg.particular(np.array([t0]))[0] if reg.cz else 0.0
-        self.A = rows * (z0 - zp0)[None, :]              # (k, n) of E0
-        self.B = rows * FR[None, :]                       # of tau E1
-        self.D = rows * (dF / h)[None, :]                 # of tau^2 E2
+        A = rows * (z0 - zp0)[None, :]
+        B = rows * FR[None, :]
+        D = rows * (dF / h)[None, :]
+        self.coef = np.stack([A, B, D], axis=1)            # (k, 3, n): of E0, tau E1, tau^2 E2
+        self.rate_coef = np.stack([B - self.lam * A, D], axis=1)      # (k, 2, n): E0, tau E1
         self.d = d
-        self.sines = [(rows @ cz, om) for cz, om in reg.cz]   # Im(P exp(i om t)) each
+        # the sines: Im(sum_s P[s, k] exp(i om_s t)), P = cz_s projected on the rows
+        self.om = np.array([om for _, om in reg.cz])
+        self.P = np.array([rows @ cz for cz, _ in reg.cz]).reshape(self.om.size, rows.shape[0])
+
+    def subset(self, ks: np.ndarray) -> "EventCurve":
+        """The same interval for rows ``ks`` only."""
+        out = object.__new__(EventCurve)
+        out.lam, out.t0, out.om = self.lam, self.t0, self.om
+        out.coef, out.rate_coef = self.coef[ks], self.rate_coef[ks]
+        out.d, out.P = self.d[ks], self.P[:, ks]
+        return out
 
     def values(self, taus: np.ndarray) -> np.ndarray:
         """g of every row at times ``taus`` into the interval: (len(taus), rows)."""
-        tt = taus[:, None]
-        e0, te1, t2e2 = _phi_terms(tt, self.lam[None, :])
-        out = e0 @ self.A.T + te1 @ self.B.T + t2e2 @ self.D.T + self.d
-        for P, om in self.sines:
-            out += (np.exp(1j * om * (self.t0 + taus))[:, None] * P[None, :]).imag
+        out = np.tensordot(_phi_terms(taus, self.lam), self.coef, axes=([1, 2], [1, 2]))
+        out += self.d
+        if self.om.size:
+            out += (np.exp(1j * np.outer(self.t0 + taus, self.om)) @ self.P).imag
         return out
 
-    def value_and_rate(self, taus: np.ndarray, ks: np.ndarray):
-        """g_k and dg_k/dtau of rows ``ks`` at times ``taus`` (one each) into the interval."""
-        tt = taus[:, None]
-        e0, te1, t2e2 = _phi_terms(tt, self.lam[None, :])
-        A, B, D = self.A[ks], self.B[ks], self.D[ks]
-        g = (A * e0 + B * te1 + D * t2e2).sum(axis=1) + self.d[ks]
-        rate = ((B - self.lam * A) * e0 + D * te1).sum(axis=1)
-        for P, om in self.sines:
-            ph = P[ks] * np.exp(1j * om * (self.t0 + taus))
-            g += ph.imag
-            rate += om * ph.real
+    def value_and_rate(self, taus: np.ndarray):
+        """g and dg/dtau of every row k at its own time ``taus[k]`` into the interval."""
+        phi = _phi_terms(taus, self.lam)
+        g = np.einsum("kjn,kjn->k", phi, self.coef) + self.d
+        rate = np.einsum("kjn,kjn->k", phi[:, :2], self.rate_coef)
+        if self.om.size:
+            ph = np.exp(1j * np.outer(self.t0 + taus, self.om)) * self.P.T      # (k, sines)
+            g += ph.imag.sum(axis=1)
+            rate += (ph.real * self.om).sum(axis=1)
         return g, rate
 
 
-#: below this x = lam tau, E1 and E2 come from their Taylor series (the first neglected term,
-#: x^5/5!, is under 1e-17), above it from expm1 (relative error of E2 about 1e-16 / x)
-_SERIES_BELOW = 1e-3
+#: below this x = lam tau, E1 and E2 come from three terms of their Taylor series (the first
+#: neglected one, x^3/24, is under 5e-17), above it from expm1 (relative error of E2 below
+#: about 1e-16 / x: 1e-11, far inside the 1e-6 to which events are placed)
+_SERIES_BELOW = 1e-5
 
 
 def _phi_terms(tau, lam):
-    """E0(x), tau E1(x) and tau^2 E2(x) for x = lam tau (broadcast), the terms of an event
-    function: E0 = exp(-x), E1 = (1 - E0)/x, E2 = (1 - E1)/x."""
-    x = tau * lam
-    e0 = np.exp(-x)
+    """E0(x), tau E1(x) and tau^2 E2(x) for x = lam tau, stacked: (len(tau), 3, len(lam)); the
+    terms of an event function (E0 = exp(-x), E1 = (1 - E0)/x, E2 = (1 - E1)/x)."""
+    tt = tau[:, None]
+    x = tt * lam[None, :]
+    out = np.empty((tau.size, 3, lam.size))
+    np.exp(-x, out=out[:, 0])
     if x.min(initial=np.inf) >= _SERIES_BELOW:
         e1 = -np.expm1(-x) / x
         e2 = (1.0 - e1) / x
     else:
         small = x < _SERIES_BELOW
-        xs = np.where(small, x, 0.0)
         xl = np.where(small, 1.0, x)
-        e1 = np.where(small, 1.0 - xs * (0.5 - xs * (1 / 6 - xs * (1 / 24 - xs / 120))),
-                      -np.expm1(-xl) / xl)
-        e2 = np.where(small, 0.5 - xs * (1 / 6 - xs * (1 / 24 - xs * (1 / 120 - xs / 720))),
-                      (1.0 - e1) / xl)
-    return e0, tau * e1, tau * tau * e2
+        e1 = np.where(small, 1.0 - x * (0.5 - x / 6), -np.expm1(-xl) / xl)
+        e2 = np.where(small, 0.5 - x * (1 / 6 - x / 24), (1.0 - e1) / xl)
+    np.multiply(tt, e1, out=out[:, 1])
+    np.multiply(tt * tt, e2, out=out[:, 2])
+    return out
+
+
+#: points of the bracketing scan, as fractions of the interval
+_BRACKET = np.arange(1, 33) / 32.0
 
 
 def locate_event(reg, t0, h, z0, FR, dF, vals_end, dips=None):
@@ -159,10 +174,9 @@ def locate_event(reg, t0, h, z0, FR, dF, vals_end, dips=None):
     if (f0 > 0.0).any():  # already past at the start (rounding): switch at once
         return t0 + min(h, xtol), int(fired[int(np.argmax(f0))])
     curve = EventCurve(reg, t0, h, z0, FR, dF, rows, d)
-    taus = h * np.arange(1, 33) / 32.0
-    probe = probe[(probe > 0.0) & (probe < h)]
+    taus = h * _BRACKET
     if probe.size:
-        taus = np.union1d(taus, probe)
+        taus = np.union1d(taus, probe[(probe > 0.0) & (probe < h)])
     vals = curve.values(taus)                               # (points, candidates)
     positive = vals > 0.0
     if not positive.any():
@@ -172,14 +186,15 @@ def locate_event(reg, t0, h, z0, FR, dF, vals_end, dips=None):
     ks = np.flatnonzero(first == i)           # a later bracket holds a later crossing
     lo = np.full(ks.size, taus[i - 1] if i else 0.0)
     f_lo = vals[i - 1, ks] if i else f0[ks]
-    t_hit = crossings_past(curve, ks, lo, np.full(ks.size, taus[i]), f_lo, vals[i, ks], xtol)
+    t_hit = crossings_past(curve.subset(ks), lo, np.full(ks.size, taus[i]), f_lo,
+                           vals[i, ks], xtol)
     best = int(np.argmin(t_hit))
     return t0 + float(t_hit[best]), int(fired[ks[best]])
 
 
-def crossings_past(curve: EventCurve, ks, lo, hi, f_lo, f_hi, xtol: float,
+def crossings_past(curve: EventCurve, lo, hi, f_lo, f_hi, xtol: float,
                    max_iter: int = 100) -> np.ndarray:
-    """A time just past the crossing of each event function ``ks`` of ``curve`` in its
+    """A time just past the crossing of each event function of ``curve`` in its
     bracket [lo, hi] (f_lo <= 0 < f_hi): within ``xtol`` after it, where the function is
     positive.
 
@@ -197,24 +212,24 @@ def crossings_past(curve: EventCurve, ks, lo, hi, f_lo, f_hi, xtol: float,
     ahead = 0.25 * xtol
     t = np.minimum(lo - f_lo * (hi - lo) / (f_hi - f_lo) + ahead, hi)
     out = hi.copy()
-    todo = np.ones(ks.size, dtype=bool)
-    side = np.zeros(ks.size)                       # +1: the last step moved hi, -1: lo
+    todo = np.ones(lo.size, dtype=bool)
+    side = np.zeros(lo.size)                       # +1: the last step moved hi, -1: lo
     for _ in range(max_iter):
-        g, rate = curve.value_and_rate(t, ks)
+        g, rate = curve.value_and_rate(t)
         up = g > 0.0
-        again = side == np.where(up, 1.0, -1.0)
-        side = np.where(up, 1.0, -1.0)
         hi = np.where(up, t, hi)
-        f_hi = np.where(up, g, f_hi)
         lo = np.where(up, lo, t)
-        f_lo = np.where(up, f_lo, g)
         with np.errstate(divide="ignore", invalid="ignore"):
             back = np.where(rate > 0.0, g / rate, np.inf)      # Newton step back to the root
-        done = todo & ((up & (back <= 2.0 * ahead)) | (hi - lo <= xtol))
-        out[done] = hi[done]
+        done = (up & (back <= 2.0 * ahead)) | (hi - lo <= xtol)
+        out = np.where(todo & done, hi, out)
         todo &= ~done
         if not todo.any():
             break
+        f_hi = np.where(up, g, f_hi)
+        f_lo = np.where(up, f_lo, g)
+        again = side == np.where(up, 1.0, -1.0)
+        side = np.where(up, 1.0, -1.0)
         tn = t - back + ahead
         bad = ~((lo < tn) & (tn <= hi))
         if bad.any():

@@ -12,8 +12,6 @@ from __future__ import annotations
 
 import numpy as np
 
-from .exact import phi_functions
-
 __all__ = ["EventCurve", "find_dips", "locate_event", "crossings_past"]
 
 
@@ -66,6 +64,7 @@ def find_dips(reg, s, h, z0, Z, FR, FL, zp, dzp, vals, upto):
         if found:
             return i, found
     return None
+
 
 class EventCurve:
     """Event functions ``g_k(tau) = rows_k . z(tau) + d_k`` inside one interval, in closed form.

@@ -101,10 +101,11 @@ def registry():
 
 #: The units written most in scenario files, logs and options, converted without the unit
 #: registry: (unit as written, kind) -> (factor, offset), SI value = factor * number + offset.
-#: Factors are exact by definition (SI brochure, 9th ed.: prefixes, minute, hour, day, litre,
-#: tonne, bar; the international yard and pound agreement of 1959: inch, foot, pound), and
-#: tests/test_units.py checks each against pint's own conversion. A unit not listed here, or
-#: written another way, or of another kind, goes through the registry (and its errors).
+#: Factors are exact by definition (SI brochure, 9th ed.: the prefixes, and minute, hour, day,
+#: litre and tonne of its Table 8; the bar is 100 kPa; inch, foot and pound by the
+#: international yard and pound agreement of 1959), and tests/test_startup.py checks each
+#: against pint's own conversion. A unit not listed here, or written another way, or of another
+#: kind, goes through the registry (and its errors).
 COMMON_UNITS: dict[tuple[str, str], tuple[float, float]] = {}
 
 

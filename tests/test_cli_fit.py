@@ -2,6 +2,7 @@
 
 import os
 
+import numpy as np
 import pandas as pd
 import pytest
 
@@ -263,3 +264,45 @@ def test_an_undetermined_noise_gives_an_open_interval_without_a_numpy_warning(cl
     assert "overflow" not in r.output
     res = _quiet(rcsim.fit, case, log, noise="process", holdout=0.2)
     assert res.noise_estimates.loc["measurement.inside", "ci_high"] == float("inf")
+
+
+def test_a_fitted_scenario_written_elsewhere_runs_with_no_option(cli, tmp_path):
+    """The block's heater read from a CSV beside its scenario; the fitted scenario written into
+    another folder gets a copy of the CSV (said on stdout) and `rcsim run` reads it with no
+    option. The run is checked against the closed form of one node behind one resistance, with
+    the fitted values: T = T_a + (T_0 - T_a) e^(-t/RC), plus P R (1 - e^(-t/RC)) while heated
+    (standard heat-transfer texts, lumped capacitance)."""
+    src, out = tmp_path / "src", tmp_path / "out"
+    src.mkdir()
+    out.mkdir()
+    text = open(BLOCK, encoding="utf-8").read()
+    steps = 'power = { steps = { at = ["0 h", "3 h", "7 h"], values = ["0 W", "8 W", "0 W"] } }'
+    assert steps in text
+    (src / "block.toml").write_text(text.replace(
+        steps, 'power = { csv = { file = "heater.csv", column = "P [W]" } }'), encoding="utf-8")
+    # the resistor's 8 W from 3 h to 7 h (ramps of 3.6 ms at the switching times)
+    (src / "heater.csv").write_text("time [h],P [W]\n0,0\n2.999999,0\n3,8\n6.999999,8\n7,0\n"
+                                    "12,0\n",
+                                    encoding="utf-8")
+    est, fitted = tmp_path / "est.csv", out / "fitted.toml"
+    r = cli("fit", src / "block.toml", LOG, *FREE, "--starts", "1", "--max-gap", "1 h",
+            "-o", est, "--write-scenario", fitted)
+    assert r.exit_code == 0, r.output
+    assert f"wrote {fitted}" in r.output
+    assert f"copied {os.path.realpath(src / 'heater.csv')} to {out / 'heater.csv'}" in r.output
+    assert (out / "heater.csv").read_bytes() == (src / "heater.csv").read_bytes()
+    h5 = out / "run.h5"
+    run = cli("run", fitted, "-o", h5)
+    assert run.exit_code == 0, run.output
+    T = rcsim.Result.load(str(h5)).temperatures["block"]
+    table = pd.read_csv(est, index_col="key")["value"]
+    C, R, T0 = (table[k] for k in ("nodes.block.capacity", "links.skin.resistance",
+                                   "nodes.block.initial"))
+    tau, room = R * C, 20.0           # the scenario's room: 20 degC (the log drove the fit)
+    t3, t7 = 3 * 3600.0, 7 * 3600.0
+    at3 = room + (T0 - room) * np.exp(-t3 / tau)
+    decay = np.exp(-(t7 - t3) / tau)
+    at7 = room + (at3 - room) * decay + 8.0 * R * (1 - decay)
+    # the ramps add or take at most 8 W x 3.6 ms / C, below 2e-5 K
+    assert T.loc[t3] == pytest.approx(at3, abs=1e-4)
+    assert T.loc[t7] == pytest.approx(at7, abs=1e-4)

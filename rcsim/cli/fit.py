@@ -69,7 +69,8 @@ NOISE_KINDS = ("measurement", "process")
 @click.option("--comparison", "comparison_path", type=click.Path(), metavar="FILE.csv",
               help="With candidates: write the comparison table to this CSV file.")
 @click.option("--write-scenario", type=click.Path(), help="Write the fitted scenario (of the "
-              "selected candidate; of the first log) to this TOML file.")
+              "selected candidate; of the first log) to this TOML file; a CSV it reads that "
+              "would lie outside its folder is copied beside it.")
 @click.option("--plot", "plot_path", type=click.Path(), help="Write the measured vs fitted "
               "figure (with residuals; with candidates every fit overlaid, on the first log; "
               "with several logs and one scenario one file per log, named after it) to this "
@@ -144,8 +145,12 @@ def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout,
         click.echo("")
     click.echo(format_joint_summary(sc, chosen) if hasattr(chosen, "records")
                else format_fit_summary(sc, chosen))
+    from ..tomlwrite import copy_lines
+
     for p in written:
         click.echo(f"wrote {p}")
+        for line in copy_lines(p):   # files copied beside the written scenario
+            click.echo(line)
 
 
 def _check_outputs(output, comparison_path, write_scenario, plot_path, report_path, candidates,

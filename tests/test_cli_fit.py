@@ -306,3 +306,30 @@ def test_a_fitted_scenario_written_elsewhere_runs_with_no_option(cli, tmp_path):
     # the ramps add or take at most 8 W x 3.6 ms / C, below 2e-5 K
     assert T.loc[t3] == pytest.approx(at3, abs=1e-4)
     assert T.loc[t7] == pytest.approx(at7, abs=1e-4)
+
+
+def test_command_line_options_override_a_fit_section(cli, tmp_path):
+    """A [fit] section freeing the capacity only, with a 5 K sigma: --free and --sigma on the
+    command line win, and one note names what they overrode. The estimates cover the values
+    that made the log (scenarios/make-fit-block-log.py: 1794 J/K, 1.5 K/W, 6.0 degC)."""
+    text = open(BLOCK, encoding="utf-8").read()
+    sc = tmp_path / "block.toml"
+    sc.write_text(text + '\n[fit]\nfree = ["nodes.block.capacity"]\nsigma = "5 K"\n',
+                  encoding="utf-8")
+    est = tmp_path / "est.csv"
+    r = cli("fit", sc, LOG, *FREE, "--sigma", "0.05 K", "--starts", "1", "--max-gap", "1 h",
+            "-o", est)
+    assert r.exit_code == 0, r.output
+    notes = [ln for ln in r.output.splitlines() if ln.startswith("note:")]
+    assert notes == ["note: block.toml: the command line overrides its [fit] section's free "
+                     "(--free), sigma (--sigma)"]
+    assert "warning:" not in r.output
+    table = pd.read_csv(est, index_col="key")
+    assert list(table.index) == FREE[1::2]
+    for key, truth in (("nodes.block.capacity", 1794.0), ("links.skin.resistance", 1.5),
+                       ("nodes.block.initial", 6.0)):
+        assert table.loc[key, "ci_low"] <= truth <= table.loc[key, "ci_high"], key
+    # the section alone: its one free value; an option it does not give is no override
+    r = cli("fit", sc, LOG, "--starts", "1", "--max-gap", "1 h", "-o", est)
+    assert r.exit_code == 0 and "note:" not in r.output, r.output
+    assert list(pd.read_csv(est, index_col="key").index) == ["nodes.block.capacity"]

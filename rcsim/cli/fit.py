@@ -28,8 +28,9 @@ NOISE_KINDS = ("measurement", "process")
               help="A further log (repeatable): the logs are fitted at once, values shared "
                    "across them except those given by --per-record.")
 @click.option("--free", "free", multiple=True, metavar="KEY", help="Key path of a value to fit, "
-              "e.g. nodes.block.capacity (repeatable). A scenario's [fit] section gives its "
-              "own free values, bounds, ...; these options apply where it does not.")
+              "e.g. nodes.block.capacity (repeatable). A scenario's [fit] section may give "
+              "its free values, bounds, ...; options given here override it (a note names "
+              "what they override).")
 @click.option("--per-record", "per_record", multiple=True, metavar="KEY",
               help="With several logs: a value fitted once per log, e.g. nodes.block.initial "
                    "(repeatable).")
@@ -88,7 +89,8 @@ def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout,
 
     LOG has a time column (seconds or ISO-8601) and temperature columns named after nodes
     (fitted) or boundaries (measured ambient that drives the model); --map matches others.
-    Without --free the scenario's [fit] section says what is free. With --candidate the
+    Without --free the scenario's [fit] section says what is free; options given here
+    override what the section says. With --candidate the
     candidates are compared and one is selected; with --log several logs are fitted at once.
     """
     from ..fitting import fit as run_fit, parse_bound
@@ -114,10 +116,12 @@ def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout,
 
     with kept_warnings() as caught:          # for the report; printed as usual all the same
         pool = []
-        for path in (scenario, *candidates):  # a [fit] section wins, as in rcsim.fit
+        for path in (scenario, *candidates):  # the command line wins over a [fit] section
             cand = read_candidate(path, allow_absolute_paths=allow_absolute_paths)
-            _say_overridden(cand, given)
-            pool.append(Candidate(cand.scenario, cand.spec.over(given)))
+            note = overridden_note(cand, given)
+            if note:
+                click.echo(note)
+            pool.append(Candidate(cand.scenario, given.over(cand.spec)))
             if not pool[-1].spec.free and not pool[-1].spec.per_record:
                 raise InputError("nothing to fit", os.path.basename(path),
                                  "free at least one value, e.g. --free nodes.block.capacity, "
@@ -177,20 +181,16 @@ _OPTIONS = {"free": "--free", "bounds": "--bound", "per_record": "--per-record",
             "columns": "--map", "ignore": "--ignore", "sigma": "--sigma", "noise": "--noise"}
 
 
-def _say_overridden(cand, given) -> None:
-    """Warn where a candidate's [fit] section gives what an option also gives (the section's
-    is used), so that no option is dropped unsaid."""
-    import warnings
-
-    from ..fitting import FitWarning
-
-    for field, option in _OPTIONS.items():
-        mine, theirs = getattr(cand.spec, field), getattr(given, field)
-        if mine is not None and theirs is not None and mine != theirs:
-            warnings.warn(f"{cand.scenario.name}: its [fit] section gives {field}, used instead "
-                          f"of {option} (which applies to candidates whose section does not)",
-                          FitWarning, stacklevel=2)
-
+def overridden_note(cand, given) -> str:
+    """One line naming what the command line overrides in a candidate's [fit] section (empty
+    when it overrides nothing)."""
+    said = [f"{field} ({option})" for field, option in _OPTIONS.items()
+            if getattr(cand.spec, field) is not None and getattr(given, field) is not None
+            and getattr(cand.spec, field) != getattr(given, field)]
+    if not said:
+        return ""
+    return (f"note: {cand.scenario.name}: the command line overrides its [fit] section's "
+            + ", ".join(said))
 
 
 def _save_plots(res, path) -> list:

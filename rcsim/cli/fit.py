@@ -73,9 +73,9 @@ NOISE_KINDS = ("measurement", "process")
               "selected candidate; of the first log) to this TOML file; a CSV it reads that "
               "would lie outside its folder is copied beside it.")
 @click.option("--plot", "plot_path", type=click.Path(), help="Write the measured vs fitted "
-              "figure (with residuals; with candidates every fit overlaid, on the first log; "
-              "with several logs and one scenario one file per log, named after it) to this "
-              "PNG, SVG or PDF file.")
+              "figure (with residuals; with candidates every fit overlaid, a pair of panels per "
+              "log; with several logs and one scenario one file per log, named after it) to "
+              "this PNG, SVG or PDF file.")
 @click.option("--report", "report_path", type=click.Path(), metavar="REPORT.html",
               help="Write the fit's report (of the selected candidate; estimates, quality, "
               "figure, fitted scenario, warnings, provenance) to this .html file.")

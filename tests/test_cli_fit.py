@@ -189,9 +189,10 @@ def test_several_logs_with_values_per_record(cli, tmp_path):
     a = _one_node_log(tmp_path / "a.csv", 22.0, seed=1)
     b = _one_node_log(tmp_path / "b.csv", 9.0, seed=2)
     est = tmp_path / "est.csv"
+    html = tmp_path / "fit.html"
     r = cli("fit", sc, "--log", a, "--log", b, "--free", "nodes.M.capacity", "--free",
             "links.out.resistance", "--per-record", "nodes.M.initial", "--starts", "1",
-            "-o", est, "--plot", tmp_path / "fig.png")
+            "-o", est, "--plot", tmp_path / "fig.png", "--report", html)
     assert r.exit_code == 0, r.output
     api = _quiet(rcsim.fit, rcsim.load(sc), [a, b], ["nodes.M.capacity", "links.out.resistance"],
                  per_record=["nodes.M.initial"], starts=1)
@@ -205,6 +206,12 @@ def test_several_logs_with_values_per_record(cli, tmp_path):
     assert "one.toml fitted to 2 logs at once" in r.output
     assert "a.csv: 240 values" in r.output and "b.csv: 240 values" in r.output
     assert (tmp_path / "fig-a.csv.png").exists() and (tmp_path / "fig-b.csv.png").exists()
+    # the report: a section per log, each with its own starting temperature
+    page = html.read_text(encoding="utf-8")
+    assert "Log 1: a.csv" in page and "Log 2: b.csv" in page
+    for name in ("a.csv", "b.csv"):
+        value = repr(float(table.loc[f"nodes.M.initial@{name}", "value"]))
+        assert f'data-value="{value}"' in page
 
 
 @pytest.mark.slow
@@ -238,8 +245,7 @@ def test_new_fit_options_refuse_bad_input(cli, tmp_path):
         (["fit", BLOCK, *FREE], "no log to fit"),
         (["fit", BLOCK, LOG, *FREE, "--comparison", tmp_path / "c.csv"],
          "there is no comparison without candidates"),
-        (["fit", BLOCK, LOG, "--log", a, *FREE, "--report", tmp_path / "r.html"],
-         "a report covers the fit of one log"),
+        (["fit", BLOCK, LOG, "--log", a, *FREE, "--report", tmp_path / "r.txt"], ".html"),
         (["fit", BLOCK, LOG, *FREE, "--holdout", "5 kg"], "holdout"),
         (["fit", BLOCK, LOG, *FREE, "--candidate", tmp_path / "none.toml"], "file not found"),
     ]

@@ -145,6 +145,24 @@ def test_records_written_out(tmp_path):
             assert np.sqrt(np.mean(r ** 2)) == pytest.approx(0.05, rel=0.2)
     finally:
         plt.close(drawn.figure)
+    # the report covers every log: a section each, with its own starting temperature, whose
+    # interval holds the one that made the log (6.0 and 14.0 degC above)
+    from rcsim.report.fit import build_fit_report
+
+    report = build_fit_report(res, log_path=[tmp_path / "day1.csv", tmp_path / "day2.csv"],
+                              figures=False)
+    sections = {sec.id: sec for sec in report.sections}
+    for i, (name, truth) in enumerate((("day1.csv", 6.0), ("day2.csv", 14.0)), 1):
+        sec = sections[f"log-{i}"]
+        assert sec.title == f"Log {i}: {name}"
+        own = next(b for b in sec.blocks if getattr(b, "id", "") == f"fit-own-{i}")
+        [row] = own.rows
+        key, value, _, low, high, unit = row
+        assert key.text == f"nodes.block.initial@{name}" and unit.text == "degC"
+        assert float(value.value) == res.estimates.loc[key.text, "value"]
+        assert float(low.value) <= truth <= float(high.value)
+    provenance = dict(report.provenance)
+    assert "SHA-256 of day1.csv" in provenance and "SHA-256 of day2.csv" in provenance
 
 
 def test_records_with_process_noise():

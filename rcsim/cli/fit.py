@@ -78,7 +78,8 @@ NOISE_KINDS = ("measurement", "process")
               "this PNG, SVG or PDF file.")
 @click.option("--report", "report_path", type=click.Path(), metavar="REPORT.html",
               help="Write the fit's report (of the selected candidate; estimates, quality, "
-              "figure, fitted scenario, warnings, provenance) to this .html file.")
+              "figure, fitted scenario, warnings, provenance; with several logs a section per "
+              "log) to this .html file.")
 @allow_absolute_paths_option
 @guard
 def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout, noise, lags,
@@ -100,8 +101,7 @@ def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout,
     if not logs:
         raise InputError("no log to fit", "LOG", "give LOG.csv after the scenario (or --log "
                          "FILE, repeatable)")
-    _check_outputs(output, comparison_path, write_scenario, plot_path, report_path,
-                   candidates, logs)
+    _check_outputs(output, comparison_path, write_scenario, plot_path, report_path, candidates)
     bounds = {}
     for item in bound_items:
         key, low, high = parse_bound(item)
@@ -142,8 +142,10 @@ def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout,
     if plot_path:
         written += _save_plots(res, plot_path)
     if report_path:
-        written.append(chosen.report(report_path, scenario=sc, log_path=logs[0],
-                                     warnings=list(caught)))
+        from ..report.dispatch import report_page
+
+        written.append(report_page(chosen, report_path, sc, warnings=list(caught),
+                                   log_path=logs if len(logs) > 1 else logs[0]))
     if candidates:
         click.echo(format_comparison(res))
         click.echo("")
@@ -157,8 +159,8 @@ def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout,
             click.echo(line)
 
 
-def _check_outputs(output, comparison_path, write_scenario, plot_path, report_path, candidates,
-                   logs) -> None:
+def _check_outputs(output, comparison_path, write_scenario, plot_path, report_path,
+                   candidates) -> None:
     """Refuse bad output paths, and outputs that do not apply, before any work."""
     check_output(output, (".csv",), "--output")
     check_output(comparison_path, (".csv",), "--comparison")
@@ -168,9 +170,6 @@ def _check_outputs(output, comparison_path, write_scenario, plot_path, report_pa
         raise InputError("there is no comparison without candidates", "--comparison",
                          "add --candidate FILE (repeatable), or leave --comparison out")
     if report_path is not None:
-        if len(logs) > 1:
-            raise InputError("a report covers the fit of one log", "--report",
-                             "fit one log for the report, or leave --report out")
         from ..report.render import check_report_path
 
         check_report_path(report_path, "--report")

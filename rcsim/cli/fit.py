@@ -91,8 +91,8 @@ def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout,
     LOG has a time column (seconds or ISO-8601) and temperature columns named after nodes
     (fitted) or boundaries (measured ambient that drives the model); --map matches others.
     Without --free the scenario's [fit] section says what is free; options given here
-    override what the section says. With --candidate the
-    candidates are compared and one is selected; with --log several logs are fitted at once.
+    override what the section says. With --candidate the candidates are compared and one is
+    selected; with --log several logs are fitted at once.
     """
     from ..fitting import fit as run_fit, parse_bound
     from ..fitting.candidates import Candidate, FitSpec, read_candidate

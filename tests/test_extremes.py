@@ -423,3 +423,59 @@ def test_a_tiny_capacity_beside_a_large_one_is_not_run_on_the_exact_path():
     assert np.allclose(res.temperatures["block"], want, rtol=1e-5, atol=0)
     assert np.allclose(res.temperatures["bead"], want, rtol=1e-5, atol=0)
     assert res.energy_balance_error < 1e-6
+
+
+# ---- every command that runs and writes relays an open balance as exit 3 ---------------------
+def test_sweep_writes_its_table_names_the_open_runs_and_exits_3(cli, tmp_path, monkeypatch):
+    # the 1e-15 K/W link without the refusal leaves the balance open (the run test above); the
+    # 1e-6 K/W one closes it: the table is written, the summary names run 0 alone, exit 3
+    from rcsim.sweep import read_table
+
+    _unchecked(monkeypatch)
+    path = tmp_path / "stiff.toml"
+    path.write_text(SCENARIO.format(r="1e-6"))
+    table = tmp_path / "t.csv"
+    r = cli("sweep", path, "--vary", "links.tiny.resistance=1e-15,1e-6", "--executor", "serial",
+            "-o", table)
+    assert r.exit_code == 3, r.output
+    assert "energy balance open (error above 0.001, worst " in r.output
+    assert "in 1 of 2 runs: 0 (column energy_balance;" in r.output
+    assert "error: the energy balance of 1 of 2 runs does not close" in r.output
+    assert "runs 0; their outputs are not to be trusted" in r.output
+    back = read_table(table)
+    assert back["energy_balance"].iloc[0] > 1e-3 and back["energy_balance"].iloc[1] < 1e-6
+    assert "energy_balance" not in back.columns[:1].tolist()      # not read as an input
+    # a sound sweep: exit 0, no such line, the column there and small
+    r = cli("sweep", path, "--vary", "links.tiny.resistance=1e-6,1e-5", "--executor", "serial",
+            "-o", table)
+    assert r.exit_code == 0, r.output
+    assert "energy balance open" not in r.output
+    assert (read_table(table)["energy_balance"] < 1e-6).all()
+
+
+def test_report_is_written_and_exits_3_on_an_open_balance(cli, tmp_path, monkeypatch):
+    _unchecked(monkeypatch)
+    path = tmp_path / "stiff.toml"
+    path.write_text(SCENARIO.format(r="1e-15"))
+    page = tmp_path / "r.html"
+    r = cli("report", path, "-o", page)
+    assert r.exit_code == 3, r.output
+    assert page.exists() and "does not close" in page.read_text(encoding="utf-8")
+    assert "error: the energy balance error of this run is" in r.output
+
+
+def test_size_answers_and_exits_3_on_an_open_balance(cli, tmp_path, monkeypatch):
+    # a = b (joined by 1e-15 K/W) cool from 20 degC through R to 0 degC: 2 kJ/K, after 1 h
+    # 20 exp(-3600 / (2000 R)) degC (first-order closed form): 0.55 degC at R = 0.5 K/W, 13.95 at
+    # 5 K/W, so the range is met at one end only and the sizing answers; with the balance open
+    # its answer is off the closed form's 1.8 / ln 4 = 1.2984 K/W, which is why it exits 3
+    _unchecked(monkeypatch)
+    path = tmp_path / "stiff.toml"
+    path.write_text(SCENARIO.format(r="1e-15"))
+    out = tmp_path / "runs.csv"
+    r = cli("size", path, "--vary", "links.wall.resistance=0.5..5", "--require",
+            "min.a >= 5 degC", "-o", out)
+    assert r.exit_code == 3, r.output
+    assert out.exists() and "answer: links.wall.resistance = " in r.output
+    assert "warning: the energy balance of a run does not close (error above 0.001)" in r.output
+    assert "error: the energy balance of " in r.output and "runs of the sizing" in r.output

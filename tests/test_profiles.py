@@ -170,3 +170,92 @@ print("pint" in sys.modules)
 """
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.split("\n")[:2] == ["[]", "True"], out.stdout + out.stderr
+
+
+# -- huge periods and peaks (computed stably, checked against closed forms) --------------------
+def _sine_integral_series(mean, amplitude, period, phase, duration):
+    """The integral over [0, duration] of mean + amplitude sin(omega t + phase), omega = 2 pi /
+    period, by the Taylor series of sin(x)/omega and (1 - cos x)/omega in x = omega duration
+    (closed form; the terms beyond x^2 are below double precision for x < 1e-5)."""
+    omega = 2.0 * math.pi / period
+    x = omega * duration
+    assert x < 1e-5
+    sin_over = duration * (1.0 - x * x / 6.0)            # sin(x) / omega
+    one_minus_cos_over = duration * (x / 2.0 - x ** 3 / 24.0)   # (1 - cos x) / omega
+    return mean * duration + amplitude * (math.sin(phase) * sin_over
+                                          + math.cos(phase) * one_minus_cos_over)
+
+
+@pytest.mark.parametrize("peak", [None, 0.0, 3600.0])
+def test_a_sine_with_a_long_period_integrates_to_its_closed_form(peak):
+    # before: -a/omega (cos(omega t1 + phase) - cos(omega t0 + phase)) subtracted two nearly
+    # equal cosines and multiplied by period / (2 pi): at 1e20 s, 2 % off with peak = 0
+    # (a cosine); now the product form keeps the digits up to the longest period accepted
+    for period in (1e10, 3e9):
+        s = rcsim.Sine(mean=25.0, amplitude=7.0, period=period, peak=peak)
+        phase = 0.0 if peak is None else math.pi / 2.0 - 2.0 * math.pi * peak / period
+        want = _sine_integral_series(25.0, 7.0, period, phase, 60.0)
+        assert s.integral(0.0, 60.0) == pytest.approx(want, rel=1e-15)
+    # an ordinary period still matches quadrature (scipy.integrate.quad)
+    d = rcsim.Sine(mean=25.0, amplitude=7.0, period=86400.0, peak=15 * 3600.0)
+    assert d.integral(1000.0, 50000.0) == pytest.approx(quad(d.value, 1000.0, 50000.0)[0],
+                                                        rel=1e-12)
+
+
+def test_a_sine_period_beyond_1e10_s_is_refused_naming_the_key(tmp_path, cli):
+    with pytest.raises(ProfileError, match=r"period 1e\+20 s is longer than 1e\+10 s"):
+        rcsim.Sine(mean=25.0, amplitude=7.0, period=1e20)
+    path = tmp_path / "slow.toml"
+    path.write_text("""
+[simulation]
+duration = "1 d"
+step = "10 min"
+[nodes.x]
+capacity = "8.4 kJ/K"
+initial = "5 degC"
+[boundaries.out]
+temperature = { sine = { mean = "25 degC", amplitude = "7 K", period = "1e20 s" } }
+[links.wall]
+between = ["x", "out"]
+resistance = "2.5 K/W"
+""", encoding="utf-8")
+    r = cli("run", path)
+    assert r.exit_code == 2 and "Traceback" not in r.output
+    assert "boundaries.out.temperature" in r.output and ".period" in r.output
+    assert "longer than 1e+10 s" in r.output
+
+
+def test_a_peak_many_periods_away_keeps_its_phase():
+    # peak = 1e20 s with a 1-day period: the peak reduced by exact integer arithmetic
+    # (1e20 is an integer in double precision) gives the closed-form value
+    # mean + amplitude cos(2 pi (t - peak mod period) / period)
+    s = rcsim.Sine(mean=25.0, amplitude=7.0, period=86400.0, peak=1e20)
+    r = int(1e20) % 86400
+    t = np.array([0.0, 3600.0, 40000.0, 86399.0])
+    want = 25.0 + 7.0 * np.cos(2.0 * np.pi * (t - r) / 86400.0)
+    assert s.value(t) == pytest.approx(want, abs=1e-12)
+    # before, the integral over an hour came out as mean x 1 h: the sine part was lost
+    want_int = 25.0 * 3600.0 + 7.0 * 86400.0 / (2 * math.pi) * (
+        math.sin(2 * math.pi * (3600.0 - r) / 86400.0) - math.sin(2 * math.pi * (0.0 - r) / 86400.0))
+    assert s.integral(0.0, 3600.0) == pytest.approx(want_int, rel=1e-12)
+
+
+@pytest.mark.parametrize("kw", [dict(period=1e10), dict(period=1e10, peak=0.0),
+                                dict(period=86400.0, peak=1e20), dict(period=1e10, peak=1e20)])
+def test_huge_periods_and_peaks_close_the_energy_balance_on_the_exact_path(kw):
+    # before: a balance error of 0.03 with the peak 1e20 s away (its phase lost)
+    net = rcsim.Network()
+    net.add_node("x", capacity=8400.0, initial=5.0)
+    net.add_boundary("amb", temperature=rcsim.Sine(mean=25.0, amplitude=7.0, **kw))
+    net.add_link("x", "amb", resistance=2.5, name="skin")
+    exact = net.simulate(duration=86400, step=600, solver="exact")
+    assert exact.energy_balance_error < 1e-9
+    # the same run on the stiff path (BDF, independent of the closed forms) agrees
+    stiff = net.simulate(duration=86400, step=600, solver="stiff", rtol=1e-9, atol=1e-9)
+    assert exact.temperatures["x"].to_numpy() == pytest.approx(
+        stiff.temperatures["x"].to_numpy(), abs=1e-4)
+
+
+def test_a_sine_refuses_values_that_are_not_finite():
+    with pytest.raises(ProfileError, match="peak must be a finite number"):
+        rcsim.Sine(mean=25.0, amplitude=7.0, period=86400.0, peak=math.inf)

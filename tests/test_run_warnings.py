@@ -62,7 +62,13 @@ def test_nodes_without_a_boundary_warn_in_check_and_run(tmp_path, cli):
     result = cli("run", path)
     assert result.exit_code == 0, result.output
     assert sum(line.startswith("warning: ") for line in result.output.splitlines()) == 2
-    assert "  warnings (2)" in result.output          # the summary lists them too
+    # each text printed once (the summary counts them and points at the 'warning:' lines)
+    assert result.output.count(lonely) == 1 and result.output.count(group) == 1
+    assert "  2 warning(s): see the lines starting with 'warning:'" in result.output
+    # with --quiet there is no summary: the 'warning:' lines are still there, once each
+    result = cli("run", path, "--quiet")
+    assert result.exit_code == 0, result.output
+    assert result.output.count(lonely) == 1 and result.output.count(group) == 1
 
 
 def test_result_warnings_keep_them_and_the_physics_is_unchanged(tmp_path):
@@ -182,6 +188,7 @@ def test_the_winter_shipper_warns_that_its_payload_freezes(cli):
     assert result.exit_code == 0, result.output
     assert ("warning: cold-box-winter.toml: nodes.payload: 'payload' falls below its freezing "
             "point 0 degC at t = 4.6 h") in result.output
+    assert result.output.count("falls below its freezing point") == 1     # once, not twice
 
 
 # -- item 5 (issue 18): convection correlations outside the ranges of their sources -------------
@@ -272,7 +279,8 @@ parts = [{ convection = { correlation = "horizontal-plate-up", length = "0.025 m
     assert result.exit_code == 0, result.output
     assert result.output.count("warning: lid.toml: links.film.parts[0].convection: the "
                                "horizontal-plate-up correlation left its validity range") == 1
-    assert "  warnings (1)" in result.output
+    assert result.output.count("horizontal-plate-up correlation left its validity range") == 1
+    assert "  1 warning(s): see the lines starting with 'warning:'" in result.output
 
 
 def test_a_surface_passing_the_air_temperature_is_not_flagged():

@@ -130,6 +130,43 @@ def test_exact_path_matches_lsim_to_1e9():
     assert np.abs(x - res.temperatures.to_numpy()).max() < 1e-9
 
 
+@pytest.mark.parametrize("length", [5, 37, 304, 10_000])
+def test_exact_path_in_chunks_of_any_length_matches_lsim(monkeypatch, length):
+    # The exact path scans each chunk in blocks of 16 samples, pads a chunk that is not a
+    # multiple of 16 and chains block ends one level up (two levels past 256 samples, three past
+    # 4096). Chunks of 5 (one short block), 37 (padded), 304 (two levels) and one chunk of the
+    # whole run must all give scipy.signal.lsim's first-order-hold solution (independent
+    # library) to 1e-9 K, and close the energy balance to rounding. Inputs: tables only (linear
+    # between samples, which is what lsim assumes), knots on the output grid.
+    from rcsim.transient.exact import ExactPropagator
+
+    monkeypatch.setattr(ExactPropagator, "chunk_length", lambda self: length)
+    rng = np.random.default_rng(5)
+    net = rcsim.Network()
+    for i in range(12):
+        net.add_node(f"n{i}", capacity=float(rng.uniform(1e3, 1e5)), initial=float(20 + i))
+    hours = np.arange(0, 9) * 3600.0
+    net.add_boundary("a", temperature=rcsim.Table(hours, rng.uniform(-5, 35, hours.size)))
+    net.add_boundary("b", temperature=12.0)
+    net.add_link("a", "n0", resistance=0.2)
+    for i in range(11):
+        net.add_link(f"n{i}", f"n{i + 1}", resistance=float(rng.uniform(0.01, 0.5)))
+    net.add_link("n11", "b", resistance=0.3)
+    net.add_source("n6", power=rcsim.Table([0, 28800], [0.0, 80.0]))
+    res = net.simulate("8 h", "50 s", solver="exact")
+    asm = net.assemble()
+    n = asm.n_nodes
+    A = -(1 / asm.capacity)[:, None] * asm.K.toarray()
+    B = (1 / asm.capacity)[:, None] * np.hstack([asm.B.toarray(), asm.P.toarray()])
+    t = res.time
+    U = np.column_stack([p.value(t) for p in asm.boundary_profiles + asm.source_profiles])
+    _, _, x = sig.lsim((A, B, np.eye(n), np.zeros((n, B.shape[1]))), U, t,
+                       X0=asm.initial, interp=True)
+    assert t.size == 577
+    assert np.abs(x - res.temperatures.to_numpy()).max() < 1e-9
+    assert res.energy_balance < 1e-12
+
+
 @pytest.mark.parametrize("solver, tol", [("stiff", 1e-4), ("piecewise", 1e-9)])
 def test_other_paths_match_the_exact_path(solver, tol):
     # a 20-node network with a ramp, a step and a source: the stiff path to its tolerance (rtol

@@ -2,7 +2,9 @@
 
 0 success; 2 bad input (:class:`rcsim.errors.InputError`: one line naming the file, key or row,
 no traceback; also a file the system refused to read or write, as one line); 3 the numerics
-failed on valid input (:class:`rcsim.errors.SolverError`); 130 interrupted (Ctrl-C, or
+failed on valid input (:class:`rcsim.errors.SolverError`), or a command wrote its results but a
+run's energy balance does not close (:func:`check_balance`: ``run``, ``report``, ``sweep``,
+``size``); 130 interrupted (Ctrl-C, or
 :class:`rcsim.errors.Interrupted` saying how far the run got). SIGTERM
 and SIGHUP are handled as Ctrl-C is (the work stops, temporary files are removed, the line says
 how far it got), with the status a shell gives for the signal: 143 (SIGTERM), 129 (SIGHUP). A
@@ -23,8 +25,8 @@ import click
 
 from ..errors import InputError, Interrupted, RcsimError, SolverError
 
-__all__ = ["guard", "fail", "leave_interrupted", "stop_signals_as_interrupt", "EXIT_INPUT",
-           "EXIT_SOLVER", "EXIT_INTERRUPTED"]
+__all__ = ["guard", "fail", "leave_interrupted", "stop_signals_as_interrupt", "check_balance",
+           "EXIT_INPUT", "EXIT_SOLVER", "EXIT_INTERRUPTED"]
 
 EXIT_INPUT = 2
 EXIT_SOLVER = 3
@@ -35,6 +37,27 @@ def fail(message: str, code: int) -> None:
     """Print ``error: message`` on stderr and leave with status ``code``."""
     click.echo(f"error: {message}", err=True)
     sys.exit(code)
+
+
+def check_balance(error: float, runs: list | None = None, total: int | None = None) -> None:
+    """Leave with status 3 (through :func:`guard`) after a command whose results are written
+    but whose runs do not all close their energy balance: ``error`` the relative error of one
+    run, or, with ``runs`` (the names of the runs whose balance is open, out of ``total``), of
+    the worst of them. Nothing happens when the balance closes (error at or below
+    ``rcsim.transient.registry.BALANCE_LIMIT``)."""
+    from ..transient.registry import BALANCE_LIMIT
+
+    if runs is None:
+        if not error <= BALANCE_LIMIT:
+            raise SolverError(f"the energy balance error of this run is {error:.2g}, above "
+                              f"{BALANCE_LIMIT:g}: the result is not to be trusted")
+        return
+    if runs:
+        shown = ", ".join(str(r) for r in runs[:10]) + (" ..." if len(runs) > 10 else "")
+        worst = "" if error != error else f" (worst error {error:.2g})"
+        raise SolverError(f"the energy balance of {len(runs)} of {total} runs does not close, "
+                          f"above {BALANCE_LIMIT:g}{worst}: runs {shown}; their outputs are not "
+                          "to be trusted")
 
 
 #: the signals handled like Ctrl-C (those that exist on this platform)

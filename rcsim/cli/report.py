@@ -7,7 +7,7 @@ import sys
 
 import click
 
-from .guard import guard
+from .guard import check_balance, guard
 from .options import (SOLVERS, allow_absolute_paths_option, load_scenario, quiet_option,
                       scenario_argument, solver_help)
 from .progress import Progress
@@ -46,3 +46,4 @@ def report(scenario, output, expand_layers, no_figures, solver, allow_absolute_p
     write_report(page, output)
     if not quiet:
         click.echo(f"wrote {output}")
+    check_balance(res.energy_balance_error)     # exit 3 after writing, as `rcsim run`

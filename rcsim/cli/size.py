@@ -64,9 +64,12 @@ def size_command(scenario, vary_items, require_items, vary_uncertain_items, samp
                  dask_workers, report_path, allow_absolute_paths, quiet):
     """Find the value of a key of SCENARIO that just meets the requirements (with uncertain
     inputs: in the share of draws asked for)."""
+    from ..report.collect import kept_warnings
     from ..sizing.command import size_command as run_size
+    from ..sweep.worker import open_balance_text
 
-    with Progress(sys.stderr.isatty() and not quiet, "sizing") as bar:
+    with kept_warnings() as caught, \
+            Progress(sys.stderr.isatty() and not quiet, "sizing") as bar:
         text = run_size(scenario, vary_items, require_items,
                         vary_uncertain_items=vary_uncertain_items, samples=samples,
                         confidence=confidence, seed=seed, tolerance=tolerance, executor=executor,
@@ -77,3 +80,19 @@ def size_command(scenario, vary_items, require_items, vary_uncertain_items, samp
                         progress=lambda fraction, _detail=None: bar(fraction))
     if text:
         click.echo(text)
+    # runs whose energy balance does not close are counted in one warning ("... (in 3 of 40
+    # runs)"): the answer and the files are written, and the exit status is 3
+    _check_runs_balance(caught, open_balance_text())
+
+
+def _check_runs_balance(caught, text: str) -> None:
+    """Exit 3 (the guard) when a warning of ``caught`` counts runs with an open balance."""
+    import re
+
+    from ..errors import SolverError
+
+    for w in caught:
+        found = re.fullmatch(re.escape(text) + r" \(in (\d+) of (\d+) runs\)", str(w.message))
+        if found:
+            raise SolverError(f"the energy balance of {found[1]} of {found[2]} runs of the "
+                              "sizing does not close: the answer is not to be trusted")

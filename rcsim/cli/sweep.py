@@ -12,7 +12,7 @@ import click
 
 from ..errors import InputError
 from .format import CAUTION, format_time
-from .guard import guard, leave_interrupted
+from .guard import check_balance, guard, leave_interrupted
 from .options import (allow_absolute_paths_option, check_folder, load_scenario, quiet_option,
                       scenario_argument)
 from .progress import Progress
@@ -90,12 +90,33 @@ def sweep_command(scenario, vary_items, samples, seed, executor, workers, schedu
 
         written.append(write_report(build_sweep_report(
             table, sc, oat=oat, target_hold=target, warnings=list(caught)), report_path))
-    if quiet:
-        return
-    click.echo(format_sweep_summary(sc, table, percentiles(table), _where(places), wall, target,
-                                    first_order_indices(table) if samples else None, oat))
-    for p in written:
-        click.echo(f"wrote {p}")
+    if not quiet:
+        click.echo(format_sweep_summary(sc, table, percentiles(table), _where(places), wall,
+                                        target, first_order_indices(table) if samples else None,
+                                        oat))
+        for p in written:
+            click.echo(f"wrote {p}")
+    _check_balance(table, oat, caught)
+
+
+def _check_balance(table, oat, caught) -> None:
+    """Exit 3 (the guard) when a run of the sweep (or of ``--tornado``) has an open energy
+    balance: the table, figures and report are written first, the summary names the runs."""
+    from ..sweep.tables import BALANCE_COLUMN, open_balance_runs
+    from ..sweep.worker import open_balance_text
+
+    runs = open_balance_runs(table)
+    if runs:
+        worst = float(table.loc[runs, BALANCE_COLUMN].max())
+        check_balance(worst, runs, len(table))
+    if oat is not None:      # the one-at-a-time runs: counted in one warning
+        text = open_balance_text()
+        for w in caught:
+            if str(w.message).startswith(text):
+                from ..errors import SolverError
+
+                raise SolverError("the energy balance of a one-at-a-time run (--tornado) does "
+                                  "not close: its ranking is not to be trusted")
 
 
 def _run_sweep(scenario, vary, samples, seed, executor, workers, scheduler, dask_workers, output,
@@ -185,6 +206,7 @@ def format_sweep_summary(sc, table, pct, where, wall, target=None, indices=None,
         lines.append(f"    {k:<{width}}  {attrs.get('design', {}).get(k, '')}")
     lines += _percentile_table(pct, attrs.get("duration"))
     lines += _failures(table)
+    lines += _open_balance(table)
     if target is not None:
         lines += _target_shares(table, target)
     if indices is not None and not indices.empty:
@@ -215,6 +237,21 @@ def _failures(table) -> list[str]:
         first = table.loc[table["error"].astype(str) != "", "error"].iloc[0]
         lines.append(f"    first: {first}")
     return lines
+
+
+def _open_balance(table) -> list[str]:
+    """The runs whose energy balance does not close (none: nothing printed)."""
+    from ..sweep.tables import BALANCE_COLUMN, open_balance_runs
+    from ..transient.registry import BALANCE_LIMIT
+
+    runs = open_balance_runs(table)
+    if not runs:
+        return []
+    shown = ", ".join(str(r) for r in runs[:20]) + (" ..." if len(runs) > 20 else "")
+    worst = float(table.loc[runs, BALANCE_COLUMN].max())
+    return [f"  energy balance open (error above {BALANCE_LIMIT:g}, worst {worst:.2g}) in "
+            f"{len(runs)} of {len(table)} runs: {shown} (column {BALANCE_COLUMN}; their "
+            "outputs are not to be trusted)"]
 
 
 def _target_shares(table, target) -> list[str]:

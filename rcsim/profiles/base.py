@@ -154,14 +154,20 @@ class Profile:
         """Exact integral of the profile over [t0, t1] [value*s].
 
         The piecewise-linear part by the trapezoid rule between knots (exact for straight
-        pieces); each sinusoid by its antiderivative ``-a/omega cos(omega t + phase)``.
+        pieces); each sinusoid by its antiderivative ``-a/omega cos(omega t + phase)``, the
+        difference of the two cosines written as the product
+        ``2 sin(omega (t0 + t1)/2 + phase) sin(omega (t1 - t0)/2)``: no two nearly equal numbers
+        are subtracted, so a period far longer than the interval (omega (t1 - t0) tiny) keeps
+        its digits (the factor tends to ``a (t1 - t0) sin(phase)``).
         """
         tau = np.concatenate(([t0], self.knots(t0, t1), [t1]))
         right = self._pl(tau[:-1], "right")
         left = self._pl(tau[1:], "left")
         total = float(np.sum(0.5 * (right + left) * np.diff(tau)))
         for amplitude, omega, phase in self.sines():
-            total += amplitude / omega * (math.cos(omega * t0 + phase) - math.cos(omega * t1 + phase))
+            half = 0.5 * omega * (t1 - t0)
+            total += 2.0 * amplitude * math.sin(0.5 * omega * (t0 + t1) + phase) * \
+                (math.sin(half) / omega)
         return total
 
     def check_span(self, t0: float, t1: float) -> None:

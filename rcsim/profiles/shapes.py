@@ -59,13 +59,32 @@ class Sine(Profile):
             self._set(float(mean), float(amplitude), float(period),
                       None if peak is None else float(peak), None)
 
+    #: Longest period [s] (1e10 s, about 317 years). A longer sine is a constant or a straight
+    #: line over any run, and its phase advances by less than 1e-16 rad a second: the
+    #: closed-form integrals of the exact path (a difference of two cosines times the period)
+    #: would lose their digits (at 1e20 s the energy balance was 1 % open).
+    MAX_PERIOD = 1e10
+
     def _set(self, mean, amplitude, period, peak, where):
         if not (period > 0 and math.isfinite(period)):
             raise ProfileError(f"sine period must be positive, got {period:g} s", where)
+        if period > self.MAX_PERIOD:
+            raise ProfileError(f"sine period {period:g} s is longer than {self.MAX_PERIOD:g} s "
+                               "(about 317 years): over any run such a sine is a constant or a "
+                               "straight line, and double precision cannot carry its phase",
+                               f"{where}.period" if where else "period",
+                               "give a constant, steps or a table instead")
+        for key, value in (("mean", mean), ("amplitude", amplitude), ("peak", peak)):
+            if value is not None and not math.isfinite(value):
+                raise ProfileError(f"sine {key} must be a finite number, got {value!r}",
+                                   f"{where}.{key}" if where else key)
         self.mean, self.amplitude, self.period_s, self.peak = mean, amplitude, period, peak
         self.period = period
         self.omega = 2.0 * math.pi / period
-        self.phase = 0.0 if peak is None else math.pi / 2.0 - self.omega * peak
+        # the phase from the peak reduced to one period first (math.fmod is exact): the peak
+        # times omega of a peak many periods away would carry no digit of the phase
+        self.phase = 0.0 if peak is None else \
+            math.pi / 2.0 - 2.0 * math.pi * (math.fmod(peak, period) / period)
 
     def _bind(self, kind, where):
         r = self.raw

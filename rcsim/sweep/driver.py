@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+from dataclasses import replace
 
 import pandas as pd
 
@@ -80,7 +81,8 @@ def sweep(scenario, vary, *, samples=None, seed=None, executor="processes", work
     DataFrame
         One row per run (index ``run``): the inputs by key path (SI; degC for temperatures), the
         outputs ``min.<node>``, ``max.<node>`` [degC], ``hold_time.<node>``,
-        ``time_outside_band.<node>`` [s], then ``error``, then ``time_out.<node>`` (the former
+        ``time_outside_band.<node>`` [s], then ``error``, then ``energy_balance`` (the run's
+        relative energy balance error; above 1e-3 its outputs are not to be trusted), then ``time_out.<node>`` (the former
         name of ``time_outside_band.<node>``, same values). ``attrs`` holds units, seed, limits,
         duration, the design and the executor; ``rcsim.sweep.SweepTable.from_frame(table)`` gives them as a typed record.
 
@@ -99,12 +101,12 @@ def sweep(scenario, vary, *, samples=None, seed=None, executor="processes", work
     sc = scenario_of(scenario)
     if output is not None:
         check_table_path(output)
-    layout = output_layout(sc, nodes)
+    layout = replace(output_layout(sc, nodes), balance=True)   # each row's balance error too
     design = make_design(sc, vary, samples, seed, max_runs)
     check_design_values(sc, design)
     info = check_executor(executor, workers, scheduler, dask_workers)
     found = run_rows(lambda ship: make_job(sc, design.keys, layout, ship), design.values,
-                     len(layout.columns), info, scheduler=scheduler, batch_size=batch_size,
+                     layout.width, info, scheduler=scheduler, batch_size=batch_size,
                      progress=progress)
     record = make_table(sc, design, layout, found, info)
     relay_warnings(found.warnings, found.finished)

@@ -3,8 +3,10 @@
 A table (``pandas.DataFrame``, index ``run``) holds the inputs by key path (SI values; degC for
 temperatures), then the outputs (``min.<node>``, ``max.<node>`` [degC], ``hold_time.<node>``,
 ``time_outside_band.<node>`` [s]), then ``error`` (empty, or the error text of a run that failed),
-then, under former names kept for scripts written before, ``time_out.<node>`` (the same values as
-``time_outside_band.<node>``; not listed among the outputs). A table written before the rename is
+then ``energy_balance`` (each run's relative energy balance error: above 1e-3 its outputs are
+not to be trusted; :func:`open_balance_runs`), then, under former names kept for scripts written
+before, ``time_out.<node>`` (the same values as ``time_outside_band.<node>``; not listed among the
+outputs). A table written before the rename is
 read with the current names added.
 ``rcsim.sweep(...)`` returns the DataFrame with its metadata in ``.attrs``;
 :class:`SweepTable` is the same thing as a typed record (``SweepTable.from_frame(table)``).
@@ -32,9 +34,12 @@ from .worker import OUTPUT_ALIASES, OUTPUT_PREFIXES, canonical_output
 
 __all__ = ["SweepTable", "TABLE_SUFFIXES", "unit_of", "make_table", "check_table_path",
            "write_table", "read_table", "output_columns", "input_columns", "succeeded",
-           "alias_columns", "add_alias_columns"]
+           "alias_columns", "add_alias_columns", "BALANCE_COLUMN", "open_balance_runs"]
 
 TABLE_SUFFIXES = (".csv", ".h5", ".hdf5", ".parquet")
+
+#: The column of each run's relative energy balance error (after ``error``; not an output).
+BALANCE_COLUMN = "energy_balance"
 
 
 # -- columns ---------------------------------------------------------------------------------
@@ -53,7 +58,7 @@ def input_columns(table: pd.DataFrame) -> list[str]:
     if ins:
         return [c for c in ins if c in table.columns]
     outs = set(output_columns(table)) | set(alias_columns(table))
-    return [c for c in table.columns if c not in outs and c != "error"]
+    return [c for c in table.columns if c not in outs and c not in ("error", BALANCE_COLUMN)]
 
 
 def alias_columns(table: pd.DataFrame) -> list[str]:
@@ -86,6 +91,17 @@ def _current_names(table: pd.DataFrame, meta: dict) -> None:
     if isinstance(meta.get("units"), dict):
         meta["units"] = {**{canonical_output(k): v for k, v in meta["units"].items()},
                          **meta["units"]}
+
+
+def open_balance_runs(table: pd.DataFrame) -> list:
+    """The runs (index values) whose energy balance error is above
+    ``rcsim.transient.registry.BALANCE_LIMIT`` (none in a table without the column)."""
+    from ..transient.registry import BALANCE_LIMIT
+
+    if BALANCE_COLUMN not in table.columns:
+        return []
+    error = pd.to_numeric(table[BALANCE_COLUMN], errors="coerce").to_numpy(dtype=float)
+    return list(table.index[error > BALANCE_LIMIT])
 
 
 def succeeded(table: pd.DataFrame) -> np.ndarray:
@@ -214,6 +230,8 @@ def make_table(sc, design, layout, results, executor) -> SweepTable:
     data.update({c: results.outputs[:, j] for j, c in enumerate(cols)})
     frame = pd.DataFrame(data, index=pd.RangeIndex(len(results.outputs), name="run"))
     frame["error"] = pd.Series(results.errors, index=frame.index, dtype=object)
+    if getattr(layout, "balance", False):
+        frame[BALANCE_COLUMN] = results.outputs[:, len(cols)]
     add_alias_columns(frame)
     kinds = dict(zip(design.keys, design.kinds))
     limits = {lim.node: {"min": lim.min, "max": lim.max} for lim in sc.network.limits.values()}

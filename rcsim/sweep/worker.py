@@ -28,7 +28,8 @@ from ..errors import InputError
 from ..scenario import Scenario, build
 
 __all__ = ["OUTPUT_PREFIXES", "OUTPUT_ALIASES", "TIME_OUTPUTS", "canonical_output", "OutputLayout",
-           "output_layout", "outputs_of", "Job", "make_job", "run_batch"]
+           "output_layout", "outputs_of", "Job", "make_job", "run_batch", "OPEN_BALANCE",
+           "open_balance_text"]
 
 #: Output column prefixes, in table order per node.
 OUTPUT_PREFIXES = ("min", "max", "hold_time", "time_outside_band")
@@ -51,14 +52,34 @@ def canonical_output(name: str) -> str:
     return f"{OUTPUT_ALIASES[prefix]}{dot}{rest}" if prefix in OUTPUT_ALIASES else name
 
 
+#: The text a run whose energy balance does not close warns with inside a sweep or a sizing (one
+#: text for every such run, so the runs are counted: "... (in 3 of 40 runs)").
+OPEN_BALANCE = ("the energy balance of a run does not close (error above {limit:g}): its "
+                "outputs are not to be trusted (tighten rtol/atol or try another solver)")
+
+
+def open_balance_text() -> str:
+    """:data:`OPEN_BALANCE` with the limit (``rcsim.transient.registry.BALANCE_LIMIT``)."""
+    from ..transient.registry import BALANCE_LIMIT
+
+    return OPEN_BALANCE.format(limit=BALANCE_LIMIT)
+
+
 @dataclass(frozen=True)
 class OutputLayout:
     """What each run reports: ``record`` (nodes whose history is kept), ``columns`` (output
-    column names, in table order) and ``limit_nodes`` (nodes with a limit)."""
+    column names, in table order) and ``limit_nodes`` (nodes with a limit). With ``balance``
+    each row carries one more value after the outputs: the run's energy balance error."""
 
     record: list
     columns: list
     limit_nodes: list
+    balance: bool = False
+
+    @property
+    def width(self) -> int:
+        """Values per run: the outputs, and the energy balance error with ``balance``."""
+        return len(self.columns) + int(self.balance)
 
 
 def output_layout(sc: Scenario, nodes=None) -> OutputLayout:
@@ -166,7 +187,8 @@ def run_batch(job: Job, batch):
     indices, values = batch
     base = _base_of(job)
     layout = job.layout
-    out = np.full((len(indices), len(layout.columns)), np.nan)
+    n_out = len(layout.columns)
+    out = np.full((len(indices), layout.width), np.nan)
     errors = [""] * len(indices)
     seen: dict[str, int] = {}
     for r, row in enumerate(values):
@@ -175,12 +197,23 @@ def run_batch(job: Job, batch):
             try:
                 sc = base.with_values({k: float(v) for k, v in zip(job.keys, row)})
                 res = sc.run(record=layout.record)
-                out[r] = outputs_of(res, layout.record, layout.limit_nodes)
+                out[r, :n_out] = outputs_of(res, layout.record, layout.limit_nodes)
+                if layout.balance:
+                    out[r, n_out] = res.energy_balance_error
             except KeyboardInterrupt:  # Ctrl-C (rcsim's Interrupted too): the end of the sweep
                 raise
             except Exception as exc:  # noqa: BLE001 - a failed run is a row, not the end
                 errors[r] = f"{type(exc).__name__}: {exc}".replace("\n", " ")
-        for w in caught:
-            text = str(w.message)
+        for text in dict.fromkeys(_counted_text(w) for w in caught):
             seen[text] = seen.get(text, 0) + 1
     return list(indices), out, errors, seen
+
+
+def _counted_text(w) -> str:
+    """The text under which a run's warning is counted: an open energy balance under one text
+    (:data:`OPEN_BALANCE`: its error differs from run to run), the others as they are."""
+    from ..errors import EnergyBalanceWarning
+
+    if issubclass(w.category, EnergyBalanceWarning):
+        return open_balance_text()
+    return str(w.message)

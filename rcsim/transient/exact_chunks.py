@@ -114,8 +114,13 @@ class ModalRunner:
         self.A_e, self.D_e = A_e, D_e
         self.q = q_store
         self.profiles = prop.profiles
+        n = prop.lam.size
+        #: [A D]: temperatures are one product with the stacked [Z; w^T] of a chunk
+        self.AD_out = np.ascontiguousarray(np.hstack([self.A_out, self.D_out]))
         self._factors: dict = {}
         self._h = None
+        self._irregular = None
+        self._n = n
 
     def _set_step(self, h: float) -> None:
         """Per-mode factors of one interval length: forcing and projected state-integral maps."""
@@ -135,36 +140,76 @@ class ModalRunner:
         self.M_g = np.ascontiguousarray(np.hstack(cols_g))               # (n, K)
         self.M_he = self.A_e @ np.hstack(cols_h)                         # (segments, K)
         self.A_he = self.A_e * (h * e1)[None, :]                         # decay of start state
+        self.he1 = h * e1
         self.a = e0
         self._h = h
         self._factors = {}
+        # block factors of the scan (see :meth:`_scan`): a^(j-i) below the diagonal and the
+        # decay a^(j+1) of the block's start state as one more row; a^(L-1-i) folded into the
+        # forcing map gives the block ends straight from the input rows
+        L = _BLOCK
+        powers, tri = _block_matrix(e0, L)
+        self._tri_aug = np.ascontiguousarray(np.concatenate([tri, powers[:, None, 1:]], axis=1))
+        K = self.M_g.shape[1]
+        self._M_end = np.ascontiguousarray(
+            (self.M_g[:, :, None] * powers[:, None, L - 1::-1]).reshape(self._n, K * L))
+        self._a_block = np.ascontiguousarray(powers[:, L])
+        # what the energy balance reads from the states: A_he z (start of each interval) and q z
+        self._proj = np.ascontiguousarray(np.vstack([self.A_he, self.q[None, :]]))
 
-    def _rows(self, tt: np.ndarray):
-        """The rows X (K, c) of the forcing, input values at tt[1:] and integrals U (c, I)."""
+    def _rows(self, tt: np.ndarray, width: int | None = None):
+        """The rows X (K, width) of the forcing (zero beyond the c intervals of ``tt``), input
+        values at tt[1:] and integrals U (c, I)."""
         profiles = self.profiles
         c = tt.size - 1
         I = len(profiles)
         right = linear_parts(profiles, tt, "right")                      # (c+1, I)
         left = linear_parts(profiles, tt[1:], "left")                    # (c, I)
         K = 2 * I + 2 * len(self.prop.sines)
-        X = np.empty((K, c))
-        X[:I] = right[:-1].T
-        X[I:2 * I] = (left - right[:-1]).T
+        if width is None or width == c:
+            X = np.empty((K, c))
+        else:
+            X = np.zeros((K, width))
+        X[:I, :c] = right[:-1].T
+        X[I:2 * I, :c] = (left - right[:-1]).T
         w = right[1:].copy()
         U = 0.5 * (tt[1:] - tt[:-1])[:, None] * (right[:-1] + left)
         row = 2 * I
         for i, (amp, om, ph) in self.prop.sines:
             arg = om * tt + ph
             sn, cs = np.sin(arg), np.cos(arg)
-            X[row], X[row + 1] = sn[:-1], cs[:-1]
+            X[row, :c], X[row + 1, :c] = sn[:-1], cs[:-1]
             w[:, i] += amp * sn[1:]
             U[:, i] += amp / om * (cs[:-1] - cs[1:])
             row += 2
         return X, w, U
 
+    def plan(self, t_out: np.ndarray) -> None:
+        """Mark, once for the whole run, the output intervals that are not of the common length
+        or have an input knot strictly inside (chunks then look the answer up)."""
+        h = np.diff(t_out)
+        if h.size == 0:
+            return
+        h0 = float(h[0])
+        bad = np.abs(h - h0) > 1e-12 * h0
+        for p in self.profiles:
+            kn = p.knots(float(t_out[0]), float(t_out[-1]))
+            if kn.size:
+                at = np.minimum(np.searchsorted(t_out, kn), t_out.size - 1)
+                off = np.abs(t_out[at] - kn) > 1e-12 * h0
+                bad[np.maximum(at[off] - 1, 0)] = True      # the interval the knot falls in
+        self._irregular = (t_out, h0, np.concatenate([[0], np.cumsum(bad)]))
+
     def _uniform(self, tt: np.ndarray) -> float | None:
         """The common interval length when the chunk is regular and no input knot falls
         strictly inside an interval, else None (the general closed form then runs)."""
+        planned = self._irregular
+        if planned is not None:
+            t_out, h0, bad_before = planned
+            k0 = int(np.searchsorted(t_out, tt[0]))
+            k1 = k0 + tt.size - 1
+            if k1 < t_out.size and t_out[k0] == tt[0] and t_out[k1] == tt[-1]:
+                return None if bad_before[k1] > bad_before[k0] else h0
         h = np.diff(tt)
         h0 = float(h[0])
         if np.any(np.abs(h - h0) > 1e-12 * h0):
@@ -185,6 +230,30 @@ class ModalRunner:
         T_t += self.D_out @ w.T
         return T_t.T
 
+    def _scan(self, X: np.ndarray, z0: np.ndarray, out: np.ndarray) -> None:
+        """The states ``z[k+1] = a z[k] + (M_g X)[:, k]`` from ``z0``, into ``out`` (n, nb L).
+
+        In blocks of L = 16 samples: the block ends from zero start are one product of the
+        input rows with ``M_end`` (n x K L), chained across blocks by the same recurrence one
+        level up (:func:`modes_major_recurrence`, on nb numbers per mode); the forcing is
+        computed with one spare column per block that takes the block's start state, so each
+        block is one product with ``[tri; a^(j+1)]`` (per mode, (L+1) x L), written straight
+        into ``out``: no pass to add the start states afterwards.
+        """
+        n, L = self._n, _BLOCK
+        K, width = X.shape
+        nb = width // L
+        X3 = X.reshape(K, nb, L)
+        ends = self._M_end @ X3.transpose(0, 2, 1).reshape(K * L, nb)  # (n, nb) from zero
+        X_aug = np.empty((K, nb, L + 1))
+        X_aug[:, :, :L] = X3
+        X_aug[:, :, L] = 0.0
+        G = (self.M_g @ X_aug.reshape(K, nb * (L + 1))).reshape(n, nb, L + 1)
+        G[:, 0, L] = z0
+        if nb > 1:
+            G[:, 1:, L] = modes_major_recurrence(self._a_block, ends[:, :-1], z0, self._factors)
+        np.matmul(G, self._tri_aug, out=out.reshape(n, nb, L))
+
     def chunk(self, tt: np.ndarray, z0: np.ndarray, k0: int, out=None) -> ModalChunk:
         """Advance from ``z0`` at tt[0] over the intervals of ``tt``; the temperatures go into
         ``out`` ((c, out nodes), column-major) when given."""
@@ -192,16 +261,25 @@ class ModalRunner:
         if h0 is None:
             return self._general(tt, z0, k0, out)
         self._set_step(h0)
-        X, w, U = self._rows(tt)
-        G = self.M_g @ X                                                 # (n, c)
-        Z = modes_major_recurrence(self.a, G, z0, self._factors)
-        T = self._outputs(Z, w, out)                                     # column-major
-        # integral of the boundary segments' node temperatures over each interval
-        int_e = self.M_he @ X + self.D_e @ U.T
+        n, c = self._n, tt.size - 1
+        width = -(-c // _BLOCK) * _BLOCK
+        X, w, U = self._rows(tt, width)                                  # X (K, width)
+        I = w.shape[1]
+        # the states and the input values stacked, [Z; w^T]: temperatures are one product
+        stacked = np.empty((n + I, width))
+        self._scan(X, z0, stacked[:n])
+        stacked[n:, :c] = w.T
+        Z = stacked[:n, :c]
+        T_t = np.empty((self.A_out.shape[0], c)) if out is None else out.T
+        np.matmul(self.AD_out, stacked[:, :c], out=T_t)
+        # integral of the boundary segments' node temperatures over each interval, and the
+        # stored energy: one product of the states with [A_he; q]
+        proj = self._proj @ Z
+        segs = proj.shape[0] - 1
+        int_e = self.M_he @ X[:, :c] + self.D_e @ U.T
         int_e[:, 0] += self.A_he @ z0
-        if Z.shape[1] > 1:
-            int_e[:, 1:] += self.A_he @ Z[:, :-1]
-        return ModalChunk(k0, k0 + tt.size - 1, T, w, int_e.T, U, self.q @ Z, Z)
+        int_e[:, 1:] += proj[:segs, :-1]
+        return ModalChunk(k0, k0 + c, T_t.T, w, int_e.T, U, proj[segs], Z)
 
     def _general(self, tt, z0, k0, out=None) -> ModalChunk:
         """Any grid, knots anywhere: the row-major closed form of the propagator."""

@@ -97,6 +97,7 @@ class ExactPath(TransientPath):
         stored0 = float(z0 @ q_store)
         S = prop.n_inputs - M
         runner = ModalRunner(prop, A_out, D_out, A_e, D_e, q_store)
+        runner.plan(t_out)
 
         w0 = prop.inputs_at(t_out[:1])
         recorder.add(Chunk(t_out[:1], z0[None, :] @ A_out.T + w0 @ D_out.T, w0[:, :M],

@@ -60,11 +60,14 @@ class StructureCache:
         The modal decomposition of the reduced system, once computed.
     boundary_segments : BoundarySegments or None
         The segments that touch a boundary, once listed.
+    floating_groups : list or None
+        The groups of nodes with no path to a boundary, once found.
     """
 
     state_space: object | None = None
     modes: object | None = None
     boundary_segments: object | None = None
+    floating_groups: list | None = None
 
 
 @dataclass
@@ -198,6 +201,12 @@ class Assembled:
 
     def floating_groups(self) -> list[list[int]]:
         """Groups of nodes with no path to any boundary (their steady state is undefined)."""
+        cached = self.cache.structure.floating_groups
+        if cached is None:
+            cached = self.cache.structure.floating_groups = self._find_floating_groups()
+        return [list(g) for g in cached]
+
+    def _find_floating_groups(self) -> list[list[int]]:
         n = self.n_nodes
         mask = (self.seg_a < n) & (self.seg_b < n)
         adj = sp.coo_matrix((np.ones(mask.sum()), (self.seg_a[mask], self.seg_b[mask])),

@@ -30,6 +30,10 @@ __all__ = ["Chunk", "MemorySink", "H5Sink", "Recorder", "RecordingPlan", "Energy
            "NAMES_ATTRIBUTE_BYTES"]
 
 
+#: The limits table of a run without limits, made once (:meth:`Recorder.limits_table`).
+_EMPTY_LIMITS: list = []
+
+
 class Chunk:
     """A block of consecutive samples handed from a solver to the :class:`Recorder`.
 
@@ -86,9 +90,11 @@ class _Growing:
         c = array.shape[0]
         need = self.rows + c
         self._room(c)
-        if self.data.ndim == 2 and c and array.ndim == 2 and \
-                array.__array_interface__["data"][0] == self.data[:, self.rows:].ctypes.data \
-                and array.strides == self.data[:, self.rows:need].T.strides:
+        data = self.data
+        if data.ndim == 2 and c and array.ndim == 2 and array.base is data and \
+                array.__array_interface__["data"][0] == \
+                data.__array_interface__["data"][0] + self.rows * data.strides[1] \
+                and array.strides == (data.strides[1], data.strides[0]):
             self.rows = need                  # filled in place through slot()
             return
         if self.data.ndim == 1:
@@ -270,15 +276,13 @@ class Recorder:
     samples : int, optional
         How many samples the run will deliver: histories are allocated once at that size.
 
-    Heat flows of the recorded links are one sparse product per chunk (each link's conductance
-    times the difference of its end temperatures, ends taken from the chunk's node columns and
-    the boundary values), with the histories stored column-major, so a chunk of temperatures
+    Heat flows of the recorded links are each link's conductance times the difference of its
+    end temperatures (ends gathered from the chunk's node columns and the boundary values into
+    work arrays reused from chunk to chunk), with the histories stored column-major, so a chunk of temperatures
     computed node by node goes to the sink without a transposing copy.
     """
 
     def __init__(self, asm, plan: RecordingPlan, sink, samples: int | None = None):
-        import scipy.sparse as sp
-
         self.asm = asm
         self.plan = plan
         out_nodes = plan.out_nodes
@@ -300,15 +304,15 @@ class Recorder:
                                  dtype=np.int64)
         self._b_col = np.asarray([pos[int(p)] if p < n else m + int(p - n) for p in self._flow_b],
                                  dtype=np.int64)
-        # flows^T = incidence_T @ T^T + incidence_u @ u^T (links x samples)
-        L = self.links.size
-        rows = np.concatenate([np.arange(L), np.arange(L)])
-        cols = np.concatenate([self._a_col, self._b_col])
-        vals = np.concatenate([self._flow_g, -self._flow_g])
-        width = m + asm.n_boundaries
-        incidence = sp.csr_matrix((vals, (rows, cols)), shape=(L, width))
-        self._inc_T = incidence[:, :m].tocsr()
-        self._inc_u = incidence[:, m:].toarray()
+        # flows^T = g * (T[a] - T[b]) (links x samples): the end temperatures gathered into two
+        # work arrays kept from chunk to chunk (a fresh array per chunk costs more in page
+        # faults than the arithmetic); ends at a boundary read the boundary values instead
+        self._a_take = np.minimum(self._a_col, max(m - 1, 0))
+        self._b_take = np.minimum(self._b_col, max(m - 1, 0))
+        self._a_bnd = np.flatnonzero(self._a_col >= m)
+        self._b_bnd = np.flatnonzero(self._b_col >= m)
+        self._g_col = np.ascontiguousarray(self._flow_g[:, None])
+        self._work = np.empty(0)
         # links whose first segment is nonlinear: their flows come from the segment laws
         self._nl_links = np.empty(0, dtype=np.int64)
         if asm.nl is not None and self.links.size:
@@ -335,6 +339,7 @@ class Recorder:
             self._var_cols = np.asarray([k for _, k in which], dtype=np.int64)
         self.tracker = plan.tracker(asm)
         self.limit_cols = np.asarray([pos[int(i)] for i in plan.limit_nodes], dtype=np.int64)
+        self._tracked = self.limit_cols              # the tracker's own columns
         self._derived = [(d, np.asarray([pos[int(i)] for i in d.nodes], dtype=np.int64))
                          for d in plan.derived]
         self._watchers = [(w, np.asarray([pos[int(i)] for i in w.nodes], dtype=np.int64))
@@ -395,13 +400,27 @@ class Recorder:
               nonlinear: NonlinearFlows | None = None) -> np.ndarray:
         """Heat flows [W] of the recorded links for temperatures ``T`` (c, out nodes) and
         boundary values ``u`` (c, boundaries) at times ``t`` [s] (needed when a link's
-        conductance varies in time): (c, links), column-major. ``nonlinear``: the nonlinear
-        segments' flows at the same samples when already computed (:meth:`nonlinear_flows`)."""
+        conductance varies in time): (c, links), column-major, in a work array that the next
+        call overwrites (copy what is kept). ``nonlinear``: the nonlinear segments' flows at
+        the same samples when already computed (:meth:`nonlinear_flows`)."""
+        L, c = self.links.size, T.shape[0]
+        if self._work.size < 2 * L * c:
+            self._work = np.empty(2 * L * c)
+        first = self._work[:L * c].reshape(L, c)
+        second = self._work[L * c:2 * L * c].reshape(L, c)
+        T_t, u_t = T.T, np.asarray(u).T
+        m = T_t.shape[0]
+        if m:
+            np.take(T_t, self._a_take, axis=0, out=first, mode="clip")
+            np.take(T_t, self._b_take, axis=0, out=second, mode="clip")
+        if self._a_bnd.size:
+            first[self._a_bnd] = u_t[self._a_col[self._a_bnd] - m]
+        if self._b_bnd.size:
+            second[self._b_bnd] = u_t[self._b_col[self._b_bnd] - m]
         with np.errstate(invalid="ignore"):
-            flows_t = self._inc_T @ T.T
-            if self._inc_u.shape[1]:
-                flows_t += self._inc_u @ np.asarray(u).T
-        flows = np.asarray(flows_t).T
+            np.subtract(first, second, out=first)
+            first *= self._g_col
+        flows = first.T
         if self._nl_links.size:
             if nonlinear is None:
                 nonlinear = self.nonlinear_flows(T, u)
@@ -459,7 +478,7 @@ class Recorder:
                 def evaluate(times, which):
                     return chunk_eval(times, limit_cols[which])
 
-            self.tracker.update(c.t, T[:, self.limit_cols], evaluate)
+            self.tracker.update(c.t, T[:, self._tracked], evaluate)
         self.last_energy = EnergyTotals(float(c.e_stored[-1]), np.array(c.e_links[-1]),
                                         np.array(c.e_sources[-1]))
         self.last_time = float(c.t[-1])
@@ -503,7 +522,10 @@ class Recorder:
 
     def limits_table(self) -> pd.DataFrame:
         if self.tracker is None or not self.tracker.nodes:
-            return ExcursionTracker([], [], []).table()[LIMIT_COLUMNS]
+            # the empty table built once (pandas takes ~2 ms for it)
+            if not _EMPTY_LIMITS:
+                _EMPTY_LIMITS.append(ExcursionTracker([], [], []).table()[LIMIT_COLUMNS])
+            return _EMPTY_LIMITS[0].copy()
         return self.tracker.table()
 
 

@@ -176,6 +176,23 @@ def test_a_freezing_point_passed_between_output_samples_is_found(solver):
     assert quiet.warnings == []
 
 
+def test_a_limit_on_another_node_does_not_disturb_the_freezing_check():
+    # the payload of the sine case above with a second node carrying a limit: the limit's
+    # hold time and the freezing crossing are each what they are alone. The second node (1 K/W
+    # to the same dock, 36 kJ/K: tau 10 h) starts at 3 degC in the periodic regime too.
+    w, tau = 2 * math.pi / 86400.0, 3600.0
+    amp, phi = 4.0 / math.sqrt(1.0 + (w * tau) ** 2), math.atan(w * tau)
+    first = (math.pi + math.asin((3.0 + 0.8) / amp) + phi) / w
+    net = _sine_payload("-0.8 degC")
+    net.add_node("crate", capacity=36000.0, initial=3.0)
+    net.add_link("crate", "dock", resistance=1.0)
+    net.add_limit("crate", min=2.5)
+    res = net.simulate("24 h", "6 h", initial="periodic")
+    assert len(res.warnings) == 1
+    assert f"at t = {first / 3600:.4g} h" in res.warnings[0]
+    assert len(res.limits) == 1 and res.limits["node"].iloc[0] == "crate"
+
+
 def test_without_the_solution_between_samples_the_warning_names_the_step():
     # a watcher fed samples alone (a path giving no solution between them): the crossing is
     # linear between the samples and the warning says the check was at the samples, every 6 h

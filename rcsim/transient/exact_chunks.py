@@ -121,6 +121,7 @@ class ModalRunner:
         self._h = None
         self._irregular = None
         self._n = n
+        self._space: dict = {}
 
     def _set_step(self, h: float) -> None:
         """Per-mode factors of one interval length: forcing and projected state-integral maps."""
@@ -230,6 +231,16 @@ class ModalRunner:
         T_t += self.D_out @ w.T
         return T_t.T
 
+    def _buffer(self, key: str, shape: tuple) -> np.ndarray:
+        """A work array of ``shape`` kept from chunk to chunk (contiguous; its contents are
+        whatever the last chunk left). Fresh arrays of a few MB per chunk cost more in page
+        faults than the products computed in them."""
+        size = int(np.prod(shape))
+        flat = self._space.get(key)
+        if flat is None or flat.size < size:
+            flat = self._space[key] = np.empty(size)
+        return flat[:size].reshape(shape)
+
     def _scan(self, X: np.ndarray, z0: np.ndarray, out: np.ndarray) -> None:
         """The states ``z[k+1] = a z[k] + (M_g X)[:, k]`` from ``z0``, into ``out`` (n, nb L).
 
@@ -248,7 +259,9 @@ class ModalRunner:
         X_aug = np.empty((K, nb, L + 1))
         X_aug[:, :, :L] = X3
         X_aug[:, :, L] = 0.0
-        G = (self.M_g @ X_aug.reshape(K, nb * (L + 1))).reshape(n, nb, L + 1)
+        G = self._buffer("forcing", (n, nb * (L + 1)))
+        np.matmul(self.M_g, X_aug.reshape(K, nb * (L + 1)), out=G)
+        G = G.reshape(n, nb, L + 1)
         G[:, 0, L] = z0
         if nb > 1:
             G[:, 1:, L] = modes_major_recurrence(self._a_block, ends[:, :-1], z0, self._factors)
@@ -256,7 +269,8 @@ class ModalRunner:
 
     def chunk(self, tt: np.ndarray, z0: np.ndarray, k0: int, out=None) -> ModalChunk:
         """Advance from ``z0`` at tt[0] over the intervals of ``tt``; the temperatures go into
-        ``out`` ((c, out nodes), column-major) when given."""
+        ``out`` ((c, out nodes), column-major) when given. The chunk's states (and its
+        temperatures when ``out`` is None) live in work arrays that the next chunk overwrites."""
         h0 = self._uniform(tt)
         if h0 is None:
             return self._general(tt, z0, k0, out)
@@ -266,11 +280,11 @@ class ModalRunner:
         X, w, U = self._rows(tt, width)                                  # X (K, width)
         I = w.shape[1]
         # the states and the input values stacked, [Z; w^T]: temperatures are one product
-        stacked = np.empty((n + I, width))
+        stacked = self._buffer("states", (n + I, width))
         self._scan(X, z0, stacked[:n])
         stacked[n:, :c] = w.T
         Z = stacked[:n, :c]
-        T_t = np.empty((self.A_out.shape[0], c)) if out is None else out.T
+        T_t = self._buffer("temperatures", (self.A_out.shape[0], c)) if out is None else out.T
         np.matmul(self.AD_out, stacked[:, :c], out=T_t)
         # integral of the boundary segments' node temperatures over each interval, and the
         # stored energy: one product of the states with [A_he; q]

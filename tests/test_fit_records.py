@@ -149,8 +149,8 @@ def test_records_written_out(tmp_path):
     # interval holds the one that made the log (6.0 and 14.0 degC above)
     from rcsim.report.fit import build_fit_report
 
-    report = build_fit_report(res, log_path=[tmp_path / "day1.csv", tmp_path / "day2.csv"],
-                              figures=False)
+    logs_paths = [tmp_path / "day1.csv", tmp_path / "day2.csv"]
+    report = build_fit_report(res, log_path=logs_paths, figures=False)
     sections = {sec.id: sec for sec in report.sections}
     for i, (name, truth) in enumerate((("day1.csv", 6.0), ("day2.csv", 14.0)), 1):
         sec = sections[f"log-{i}"]
@@ -163,6 +163,10 @@ def test_records_written_out(tmp_path):
         assert float(low.value) <= truth <= float(high.value)
     provenance = dict(report.provenance)
     assert "SHA-256 of day1.csv" in provenance and "SHA-256 of day2.csv" in provenance
+    # the same report from the fit itself, as a page
+    page = res.report(tmp_path / "fit.html", log_path=logs_paths, figures=False)
+    text = open(page, encoding="utf-8").read()
+    assert "Log 1: day1.csv" in text and "Log 2: day2.csv" in text
 
 
 def test_records_with_process_noise():

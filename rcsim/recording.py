@@ -355,11 +355,12 @@ class Recorder:
             return self.sink.slot("temperature", rows)
         return None
 
-    def flows(self, T: np.ndarray, u: np.ndarray, t: np.ndarray | None = None) -> np.ndarray:
+    def flows(self, T: np.ndarray, u: np.ndarray, t: np.ndarray | None = None,
+              out: np.ndarray | None = None) -> np.ndarray:
         """Heat flows [W] of the recorded links for temperatures ``T`` (c, out nodes) and
         boundary values ``u`` (c, boundaries) at times ``t`` [s] (needed when a link's
-        conductance varies in time): (c, links), column-major, in a work array that the next
-        call overwrites (copy what is kept)."""
+        conductance varies in time): (c, links), column-major, written into ``out`` when given
+        (a (c, links) view), else into a work array that the next call overwrites."""
         L, c = self.links.size, T.shape[0]
         if self._work.size < 2 * L * c:
             self._work = np.empty(2 * L * c)
@@ -376,8 +377,9 @@ class Recorder:
             second[self._b_bnd] = u_t[self._b_col[self._b_bnd] - m]
         with np.errstate(invalid="ignore"):
             np.subtract(first, second, out=first)
-            first *= self._g_col
-        flows = first.T
+            flows_t = first if out is None else out.T
+            np.multiply(first, self._g_col, out=flows_t)
+        flows = flows_t.T
         if self._nl_links.size:
             points = np.hstack([T, u])
             q = self.asm.nl.flows(points[:, self._nl_a], points[:, self._nl_b])
@@ -403,7 +405,8 @@ class Recorder:
         self.sink.append("time", c.t)
         self.sink.append("temperature", T if self._rec_all else T[:, self.rec_cols])
         if self.links.size:
-            self.sink.append("heat_flow", self.flows(T, c.u, c.t))
+            slot = self.sink.slot("heat_flow", c.t.size) if hasattr(self.sink, "slot") else None
+            self.sink.append("heat_flow", self.flows(T, c.u, c.t, slot))
         else:
             self.sink.append("heat_flow", np.zeros((c.t.size, 0)))
         self.sink.append("boundary_temperature", c.u)

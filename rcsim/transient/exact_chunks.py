@@ -6,15 +6,19 @@ input knots fall on output times), with the n modes as rows and time along each 
 
 * the inputs' piecewise-linear parts and sines at the output times form a few rows ``X``
   (K = 2 inputs + 2 sines rows), and the modal forcing is one product ``G = M_g X`` (n x c);
-* the recurrence ``z[k+1] = exp(-lam h) z[k] + G[k]`` runs along the rows in blocks of 16: a
-  batched product with a triangular matrix of powers per mode, block ends chained one level up
-  (:func:`modes_major_recurrence`); no Python loop over samples or modes;
-* temperatures of the output nodes are one product ``A Z + D w`` (nodes x c): column-major
-  samples, handed to the recorder without a transposing copy;
+* the recurrence ``z[k+1] = exp(-lam h) z[k] + G[k]`` runs along the rows in blocks of 16
+  (:meth:`ModalRunner._scan`): the block ends from zero start come straight from the input rows
+  (one small product), are chained one level up (:func:`modes_major_recurrence`), and each
+  block's start state rides in a spare column of the forcing, so the states are one batched
+  product with ``[triangular powers; a^(j+1)]`` per mode; no Python loop over samples or modes;
+* temperatures of the output nodes are one product ``[A D] [Z; w^T]`` (nodes x c) written
+  straight into the recorder's column-major history (no transposing copy, no second pass);
 * the energy through the boundary links needs the time integral of the temperatures at the
   boundary segments only: it is projected first (``A_e`` times the state-integral kernels), so
-  the full state integral (n x c) is never formed;
-* the stored energy is one product ``q Z``.
+  the full state integral (n x c) is never formed; with the stored energy ``q Z`` it is one
+  product of the states with ``[A_he; q]``;
+* the forcing and the states live in work arrays kept from chunk to chunk (fresh arrays of a
+  few MB per chunk cost more in page faults than the arithmetic done in them).
 
 Chunks with an input knot inside an output interval (a step between two samples) or with
 intervals of several lengths take the general closed form of

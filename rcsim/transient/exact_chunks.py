@@ -35,6 +35,7 @@ from typing import NamedTuple
 
 import numpy as np
 
+from ..recording import work_array
 from .exact import phi_functions
 from .inputs import input_values, linear_parts
 
@@ -125,7 +126,6 @@ class ModalRunner:
         self._h = None
         self._irregular = None
         self._n = n
-        self._space: dict = {}
 
     def _set_step(self, h: float) -> None:
         """Per-mode factors of one interval length: forcing and projected state-integral maps."""
@@ -235,15 +235,12 @@ class ModalRunner:
         T_t += self.D_out @ w.T
         return T_t.T
 
-    def _buffer(self, key: str, shape: tuple) -> np.ndarray:
-        """A work array of ``shape`` kept from chunk to chunk (contiguous; its contents are
-        whatever the last chunk left). Fresh arrays of a few MB per chunk cost more in page
-        faults than the products computed in them."""
-        size = int(np.prod(shape))
-        flat = self._space.get(key)
-        if flat is None or flat.size < size:
-            flat = self._space[key] = np.empty(size)
-        return flat[:size].reshape(shape)
+    @staticmethod
+    def _buffer(key: str, shape: tuple) -> np.ndarray:
+        """A scratch array of ``shape`` kept from chunk to chunk and run to run
+        (:func:`rcsim.recording.work_array`): fresh arrays of a few MB per chunk cost more in
+        page faults than the products computed in them."""
+        return work_array("exact." + key, shape)
 
     def _scan(self, X: np.ndarray, z0: np.ndarray, out: np.ndarray) -> None:
         """The states ``z[k+1] = a z[k] + (M_g X)[:, k]`` from ``z0``, into ``out`` (n, nb L).

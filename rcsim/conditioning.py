@@ -17,6 +17,17 @@ refuses a group whose ratio ``sum of K's diagonal over the group / conductance l
 exceeds :data:`STIFF_RATIO` (1e10: rates then known to about 1e-6 or better). Boundaries take
 part: a node tied to a boundary by such a link sits at its temperature, and the heat through
 that link is lost in rounding alike.
+
+A node (or a stiff group of nodes) linked to boundaries *only* has nothing leaving it to
+compare with: what its link carries is the heat its own capacity takes up, C dT/dt, while the
+link computes it as g (T_b - T), a temperature difference of about (C/g) dT_b/dt. When its time
+constant C/g is below :data:`PINNED_TIME` (1e-6 s) that difference sinks into the rounding of the
+temperatures (at 1e-11 s the exact path's balance was 1.5 % open, the large-linear path gave
+3e20 W through the link and the stiff path gave up) and the network is refused, naming the link.
+Such a node is its boundary: no other temperature depends on it, so removing it changes
+nothing else; handling it exactly (the node replaced by the boundary, its link carrying
+C dT_b/dt) would belong to the assembly and every solver, and a link that stiff is far more
+often a unit slip ("1e-12 K/W") than a model meant.
 """
 
 from __future__ import annotations
@@ -27,11 +38,15 @@ from scipy.sparse.csgraph import connected_components
 
 from .errors import NetworkError
 
-__all__ = ["STIFF_RATIO", "stiff_groups", "check_stiff_groups"]
+__all__ = ["STIFF_RATIO", "PINNED_TIME", "stiff_groups", "check_stiff_groups"]
 
 #: Largest ratio of a group's summed diagonal conductance to the conductance leaving it. The
 #: group's exchange with the rest is then resolved to about 2.2e-16 x 1e10 = 2e-6 (relative).
 STIFF_RATIO = 1e10
+
+#: Shortest time constant [s] (capacity over the conductance that holds it) of a node or stiff
+#: group of nodes linked to boundaries only (see the module).
+PINNED_TIME = 1e-6
 
 #: Thresholds of the single-linkage scan: half a decade apart.
 _LEVELS_PER_DECADE = 2
@@ -46,7 +61,10 @@ def stiff_groups(asm, limit: float = STIFF_RATIO) -> list[dict]:
     links sits at the boundary's temperature, and the heat through that link, g (T_b - T), is
     the difference of two equal numbers times a huge one. Each entry: ``points`` (indices, nodes
     ``0..N-1`` then boundaries), ``ratio``, ``leaving`` [W/K], ``segment`` (the stiffest segment
-    inside the group). Groups with nothing leaving them are not listed. Worst group first.
+    inside the group). Groups with nothing leaving them are listed only when they hold a
+    boundary and their time constant, capacity over the weakest conductance holding them
+    together, is below :data:`PINNED_TIME` (``pinned``: that time constant [s]; ``ratio``
+    infinite). Worst group first.
     """
     n = asm.n_nodes
     n_pts = n + asm.n_boundaries
@@ -58,9 +76,14 @@ def stiff_groups(asm, limit: float = STIFF_RATIO) -> list[dict]:
     diag = (np.bincount(a[a < n], weights=g[a < n], minlength=n_pts)
             + np.bincount(b[b < n], weights=g[b < n], minlength=n_pts))   # boundaries: 0
     g_max, g_min = float(g.max()), float(g.min())
+    capacity = np.zeros(n_pts)
+    capacity[:n] = np.asarray(asm.capacity, dtype=float)[:n]
+    massive = capacity[capacity > 0]
     # a group's diagonal sum is at most twice its inner conductances plus what leaves it: below
-    # this bound no group can be too stiff
-    if 2.0 * float(g.sum()) <= (limit - 1.0) * g_min:
+    # this bound no group can be too stiff; no group can be pinned when the smallest capacity
+    # over the largest conductance is not
+    if 2.0 * float(g.sum()) <= (limit - 1.0) * g_min and \
+            not (massive.size and float(massive.min()) / g_max < PINNED_TIME):
         return []
     n_levels = int(np.ceil(np.log10(g_max / g_min) * _LEVELS_PER_DECADE)) + 1
     found: dict[tuple, dict] = {}
@@ -73,7 +96,7 @@ def stiff_groups(asm, limit: float = STIFF_RATIO) -> list[dict]:
         size = np.bincount(labels, minlength=ncomp)
         if not (size > 1).any():
             continue
-        for group in _too_stiff(labels, size, a, b, g, diag, n, limit):
+        for group in _too_stiff(labels, size, a, b, g, diag, n, limit, capacity, threshold):
             key = tuple(np.flatnonzero(labels == group[0]).tolist())
             if key in found:
                 continue
@@ -81,13 +104,16 @@ def stiff_groups(asm, limit: float = STIFF_RATIO) -> list[dict]:
             inside = np.isin(a, members) & np.isin(b, members)
             worst = int(np.argmax(np.where(inside, g, -np.inf)))
             found[key] = {"points": members, "nodes": members, "ratio": group[1],
-                          "leaving": group[2], "segment": int(seg[worst])}
+                          "leaving": group[2], "segment": int(seg[worst]),
+                          "pinned": group[3]}
     return sorted(found.values(), key=lambda d: -d["ratio"])
 
 
-def _too_stiff(labels, size, a, b, g, diag, n, limit):
-    """(label, ratio, leaving conductance) of the groups of ``labels`` above ``limit``; what
-    leaves a group is counted from its nodes only (not from a boundary in it)."""
+def _too_stiff(labels, size, a, b, g, diag, n, limit, capacity=None, threshold=None):
+    """(label, ratio, leaving conductance, pinned time constant or None) of the groups of
+    ``labels`` above ``limit``, and of the groups holding a boundary with nothing leaving them
+    whose capacity over ``threshold`` is below :data:`PINNED_TIME`; what leaves a group is
+    counted from its nodes only (not from a boundary in it)."""
     ncomp = size.size
     la, lb = labels[a], labels[b]
     cross = la != lb                     # the segment leaves a group
@@ -98,7 +124,15 @@ def _too_stiff(labels, size, a, b, g, diag, n, limit):
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = total / leaving
     bad = np.flatnonzero((size > 1) & (leaving > 0) & (ratio > limit))
-    return [(int(c), float(ratio[c]), float(leaving[c])) for c in bad]
+    out = [(int(c), float(ratio[c]), float(leaving[c]), None) for c in bad]
+    if capacity is not None:
+        held = np.bincount(labels[n:], minlength=ncomp) > 0          # holds a boundary
+        cap = np.bincount(labels, weights=capacity, minlength=ncomp)
+        tau = cap / threshold
+        pinned = np.flatnonzero((size > 1) & (leaving == 0) & held & (cap > 0)
+                                & (tau < PINNED_TIME))
+        out += [(int(c), np.inf, 0.0, float(tau[c])) for c in pinned]
+    return out
 
 
 def check_stiff_groups(asm, limit: float = STIFF_RATIO) -> None:
@@ -113,6 +147,20 @@ def check_stiff_groups(asm, limit: float = STIFF_RATIO) -> None:
     points = asm.node_names + asm.boundary_names
     names = [points[i] for i in grp["points"][:4]]
     more = f" and {grp['points'].size - 4} more" if grp["points"].size > 4 else ""
+    if grp.get("pinned") is not None:
+        nodes = [points[i] for i in grp["points"] if i < asm.n_nodes]
+        bounds = [points[i] for i in grp["points"] if i >= asm.n_nodes]
+        cap = float(np.sum(np.asarray(asm.capacity, dtype=float)[
+            [i for i in grp["points"] if i < asm.n_nodes]]))
+        what = f"node {nodes[0]!r}" if len(nodes) == 1 else \
+            "nodes " + ", ".join(map(repr, nodes[:4])) + (" ..." if len(nodes) > 4 else "")
+        raise NetworkError(
+            f"link {link!r} ({1.0 / asm.seg_g[s]:.3g} K/W) ties {what}, linked to nothing but "
+            f"{', '.join(map(repr, bounds))}, so stiffly that its time constant "
+            f"{grp['pinned']:.2g} s is below {PINNED_TIME:g} s: it sits at the boundary's "
+            "temperature and the heat through the link is lost in rounding", f"links.{link}",
+            f"remove {what} (no other temperature depends on it) or give the link at least "
+            f"about {PINNED_TIME / cap * 1.01:.2g} K/W")
     # a link between two nodes: ratio ~ 2 G / leaving; the resistance that brings it to the limit
     r_min = 2.1 / (limit * grp["leaving"])
     bounds = [points[i] for i in grp["points"] if i >= asm.n_nodes]

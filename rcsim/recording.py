@@ -26,6 +26,7 @@ from .errors import InputError, NetworkError, SolverError
 from .limits import LIMIT_COLUMNS, ExcursionTracker
 
 __all__ = ["Chunk", "MemorySink", "H5Sink", "Recorder", "RecordingPlan", "EnergyTotals",
+           "NonlinearFlows",
            "write_frame", "read_frame", "write_names", "read_names", "names_dataset",
            "NAMES_ATTRIBUTE_BYTES"]
 
@@ -204,7 +205,11 @@ class RecordingPlan:
     #: ``names``, ``nodes`` (node indices) and ``values(t, T of those nodes, u, s)``
     derived: list = field(default_factory=list)
     #: observers of each chunk that keep no history (rcsim.run_warnings): objects with ``nodes``
-    #: (node indices) and ``observe(t, T of those nodes, u)``
+    #: (node indices) and ``observe(t, T of those nodes, u, **extra)``; ``extra`` holds what a
+    #: watcher declares it wants (``wants``): ``nonlinear``, the flows of the nonlinear segments
+    #: the recorder computes anyway (:class:`NonlinearFlows`), and ``evaluate``, the chunk's
+    #: temperatures between samples of the watcher's nodes (``evaluate(times, columns)``,
+    #: columns positions in the watcher's ``nodes``; None where the path gives none)
     watchers: list = field(default_factory=list)
 
     def tracker(self, asm):
@@ -266,6 +271,15 @@ def plan_recording(asm, record=None, limits=(), thermostat_names=(),
     for d in plan.derived:
         plan.extra_names[d.key] = list(d.names)
     return plan
+
+
+class NonlinearFlows(NamedTuple):
+    """The nonlinear segments of a chunk (``asm.nl``, in its order), computed once by the
+    :class:`Recorder` and shared by the heat-flow histories and the watchers."""
+
+    q: np.ndarray               # (c, segments) flow [W] from end a to end b
+    ta: np.ndarray              # (c, segments) temperature of end a [degC]
+    tb: np.ndarray              # (c, segments) temperature of end b [degC]
 
 
 class EnergyTotals(NamedTuple):
@@ -333,10 +347,15 @@ class Recorder:
             if which:
                 self._nl_links = np.asarray([j for j, _ in which], dtype=np.int64)
                 self._nl_cols = np.asarray([k for _, k in which], dtype=np.int64)
-                self._nl_a = np.asarray([pos[int(p)] if p < n else m + int(p - n)
-                                         for p in asm.seg_a[asm.nl.seg]], dtype=np.int64)
-                self._nl_b = np.asarray([pos[int(p)] if p < n else m + int(p - n)
-                                         for p in asm.seg_b[asm.nl.seg]], dtype=np.int64)
+        # the nonlinear segments' flows, once per chunk, for the histories and the watchers
+        self._nl_wanted = asm.nl is not None and (
+            bool(self._nl_links.size)
+            or any("nonlinear" in getattr(w, "wants", ()) for w in plan.watchers))
+        if self._nl_wanted:
+            self._nl_a = np.asarray([pos[int(p)] if p < n else m + int(p - n)
+                                     for p in asm.seg_a[asm.nl.seg]], dtype=np.int64)
+            self._nl_b = np.asarray([pos[int(p)] if p < n else m + int(p - n)
+                                     for p in asm.seg_b[asm.nl.seg]], dtype=np.int64)
         # links whose first segment's conductance varies in time: G_eff(t) at each sample
         self._var_links = self._var_cols = np.empty(0, dtype=np.int64)
         if asm.varying is not None and self.links.size:
@@ -346,10 +365,23 @@ class Recorder:
             self._var_cols = np.asarray([k for _, k in which], dtype=np.int64)
         self.tracker = plan.tracker(asm)
         self.limit_cols = np.asarray([pos[int(i)] for i in plan.limit_nodes], dtype=np.int64)
+        self._tracked = self.limit_cols              # the tracker's own columns
         self._derived = [(d, np.asarray([pos[int(i)] for i in d.nodes], dtype=np.int64))
                          for d in plan.derived]
         self._watchers = [(w, np.asarray([pos[int(i)] for i in w.nodes], dtype=np.int64))
                           for w in plan.watchers]
+        # the columns whose temperatures between samples a path gives with each chunk
+        # (Chunk.evaluate): the limits' first, then the nodes of watchers that want them. The
+        # paths prepare them for ``limit_cols`` when there is a tracker: a watcher that wants
+        # them gets an empty tracker if the run has no limits.
+        dense = [int(c) for w, cols in self._watchers if "evaluate" in getattr(w, "wants", ())
+                 for c in cols.tolist()]
+        extra = [c for c in dict.fromkeys(dense) if c not in set(self.limit_cols.tolist())]
+        if extra:
+            self.limit_cols = np.concatenate([self.limit_cols,
+                                              np.asarray(extra, dtype=np.int64)])
+            if self.tracker is None:
+                self.tracker = ExcursionTracker([], [], [])
         self.sink = sink
         if samples is not None and hasattr(sink, "reserve"):
             sink.reserve(samples)
@@ -381,12 +413,24 @@ class Recorder:
             return self.sink.slot("temperature", rows)
         return None
 
+    def nonlinear_flows(self, T: np.ndarray, u: np.ndarray) -> NonlinearFlows | None:
+        """The flows of every nonlinear segment for temperatures ``T`` (c, out nodes) and
+        boundary values ``u`` (None when neither the histories nor a watcher need them)."""
+        if not self._nl_wanted:
+            return None
+        points = np.hstack([T, np.asarray(u, dtype=float).reshape(T.shape[0], -1)])
+        ta, tb = points[:, self._nl_a], points[:, self._nl_b]
+        return NonlinearFlows(self.asm.nl.flows(ta, tb), ta, tb)
+
     def flows(self, T: np.ndarray, u: np.ndarray, t: np.ndarray | None = None,
+              nonlinear: NonlinearFlows | None = None,
               out: np.ndarray | None = None) -> np.ndarray:
         """Heat flows [W] of the recorded links for temperatures ``T`` (c, out nodes) and
         boundary values ``u`` (c, boundaries) at times ``t`` [s] (needed when a link's
         conductance varies in time): (c, links), column-major, written into ``out`` when given
-        (a (c, links) view), else into a work array that the next call overwrites."""
+        (a (c, links) view), else into a work array that the next call overwrites (copy what
+        is kept). ``nonlinear``: the nonlinear segments' flows at the same samples when
+        already computed (:meth:`nonlinear_flows`)."""
         L, c = self.links.size, T.shape[0]
         first = work_array("flows.first", (L, c))
         second = work_array("flows.second", (L, c))
@@ -405,9 +449,9 @@ class Recorder:
             np.multiply(first, self._g_col, out=flows_t)
         flows = flows_t.T
         if self._nl_links.size:
-            points = np.hstack([T, u])
-            q = self.asm.nl.flows(points[:, self._nl_a], points[:, self._nl_b])
-            flows[:, self._nl_links] = q[:, self._nl_cols]
+            if nonlinear is None:
+                nonlinear = self.nonlinear_flows(T, u)
+            flows[:, self._nl_links] = nonlinear.q[:, self._nl_cols]
         if self._var_links.size:
             if t is None:
                 raise ValueError("flows of links whose conductance varies need the times")
@@ -428,9 +472,10 @@ class Recorder:
             self._check_physical(c.t, T)
         self.sink.append("time", c.t)
         self.sink.append("temperature", T if self._rec_all else T[:, self.rec_cols])
+        nonlinear = self.nonlinear_flows(T, c.u)
         if self.links.size:
             slot = self.sink.slot("heat_flow", c.t.size) if hasattr(self.sink, "slot") else None
-            self.sink.append("heat_flow", self.flows(T, c.u, c.t, slot))
+            self.sink.append("heat_flow", self.flows(T, c.u, c.t, nonlinear, slot))
         else:
             self.sink.append("heat_flow", np.zeros((c.t.size, 0)))
         self.sink.append("boundary_temperature", c.u)
@@ -443,7 +488,13 @@ class Recorder:
         for key in self.extra_names:
             self.sink.append(key, c.extras[key])
         for w, cols in self._watchers:
-            w.observe(c.t, T[:, cols], c.u)
+            extra = {}
+            wants = getattr(w, "wants", ())
+            if "nonlinear" in wants:
+                extra["nonlinear"] = nonlinear
+            if "evaluate" in wants:
+                extra["evaluate"] = None if c.evaluate is None else _columns_of(c.evaluate, cols)
+            w.observe(c.t, T[:, cols], c.u, **extra)
         self.tmin = np.minimum(self.tmin, cmin)
         self.tmax = np.maximum(self.tmax, cmax)
         self.tlast = np.array(T[-1])
@@ -455,7 +506,7 @@ class Recorder:
                 def evaluate(times, which):
                     return chunk_eval(times, limit_cols[which])
 
-            self.tracker.update(c.t, T[:, self.limit_cols], evaluate)
+            self.tracker.update(c.t, T[:, self._tracked], evaluate)
         self.last_energy = EnergyTotals(float(c.e_stored[-1]), np.array(c.e_links[-1]),
                                         np.array(c.e_sources[-1]))
         self.last_time = float(c.t[-1])
@@ -498,8 +549,19 @@ class Recorder:
                              "final [degC]": self.tlast})
 
     def limits_table(self) -> pd.DataFrame:
-        if self.tracker is None:     # the empty table built once (pandas takes ~2 ms for it)
+        if self.tracker is None or not self.tracker.nodes:
+            # the empty table built once (pandas takes ~2 ms for it)
             if not _EMPTY_LIMITS:
                 _EMPTY_LIMITS.append(ExcursionTracker([], [], []).table()[LIMIT_COLUMNS])
             return _EMPTY_LIMITS[0].copy()
         return self.tracker.table()
+
+
+def _columns_of(evaluate, cols: np.ndarray):
+    """``evaluate(times, columns)`` of a chunk (columns: positions in the output nodes) read
+    with columns given as positions in ``cols`` (a watcher's nodes)."""
+
+    def of_watcher(times, which):
+        return evaluate(times, cols[np.asarray(which, dtype=np.int64)])
+
+    return of_watcher

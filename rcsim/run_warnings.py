@@ -12,9 +12,15 @@
 * :func:`collecting_warnings`: the warnings raised while a run was made, kept for
   ``Result.warnings`` and raised again for the caller.
 
-Both watchers judge the output samples: a freezing point crossed and left again between two
-samples is not seen (a shorter output step sees it); the time of a crossing is interpolated
-linearly between the samples on either side.
+The freezing watch is exact where the path gives its solution between samples (every path does
+for the nodes watched: ``Chunk.evaluate``): a crossing between samples is located on it, and
+wherever the samples come within a margin of the freezing point (the largest change between
+neighbouring samples) the extreme between them is found on the solution too, so a freezing
+point passed and left again between two samples is seen, with its time and its lowest (highest)
+value. Without that solution the check is at the output samples, and the warning says so and
+names the step. The correlation watch judges the output samples (a share of the film's heat,
+which samples weigh well), using the flows of the nonlinear links that the recorder computes
+for the heat-flow histories (no second solve).
 
 Messages start with the scenario file's name when the network was read from one
 (``network.source_name``).
@@ -89,6 +95,8 @@ class FreezingWatch:
     a body that neither freezes nor thaws)."""
 
     category = FreezingWarning
+    #: what the recorder hands :meth:`observe` besides the samples
+    wants = ("evaluate",)
 
     def __init__(self, network, nodes: list[int], names: list[str], points: list[float]):
         self.prefix = _prefix(network)
@@ -98,31 +106,91 @@ class FreezingWatch:
         self.start_below = None                 # side of the freezing point at the first sample
         self.crossed_at = np.full(len(nodes), np.nan)
         self.extreme = np.full(len(nodes), np.nan)
+        self.on_samples = False                 # a chunk came without the solution between
+        self.step = np.nan                      # the longest output step seen [s]
+        self.last_t = self.last_T = None
 
-    def observe(self, t: np.ndarray, T: np.ndarray, u: np.ndarray) -> None:
+    def observe(self, t: np.ndarray, T: np.ndarray, u: np.ndarray, evaluate=None) -> None:
         if self.start_below is None:
             self.start_below = T[0] < self.points
-            self.last_t, self.last_T = t[0], T[0]
-        below = T < self.points
-        other = below != self.start_below          # (samples, nodes) on the far side
-        new = other.any(axis=0) & np.isnan(self.crossed_at)
-        if new.any():       # the crossing, linear between the samples on either side
-            k = np.argmax(other, axis=0)[new]
-            cols = np.flatnonzero(new)
-            t_prev = np.where(k > 0, t[np.maximum(k - 1, 0)], self.last_t)
-            T_prev = np.where(k > 0, T[np.maximum(k - 1, 0), cols], self.last_T[cols])
-            T_next = T[k, cols]
-            f = np.clip((self.points[cols] - T_prev) / np.where(T_next != T_prev,
-                                                                 T_next - T_prev, 1.0), 0, 1)
-            self.crossed_at[cols] = t_prev + f * (t[k] - t_prev)
-        far = np.where(self.start_below, T.max(axis=0), T.min(axis=0))
+            self.sign = np.where(self.start_below, -1.0, 1.0)
+        if self.last_t is None:
+            tt, TT = t, T
+        else:
+            tt, TT = np.concatenate([[self.last_t], t]), np.vstack([self.last_T[None, :], T])
+        if tt.size > 1:
+            self.step = np.fmax(self.step, float(np.max(np.diff(tt))))
+            if evaluate is None:
+                self.on_samples = True
+        # d: how far on the starting side of the freezing point (< 0: beyond it)
+        d = (TT - self.points[None, :]) * self.sign[None, :]
+        self._note_extreme(d.min(axis=0))
+        for j in np.flatnonzero(np.isnan(self.crossed_at)):
+            self._find_crossing(j, tt, d[:, j], evaluate)
+        self.last_t, self.last_T = t[-1], np.array(T[-1])
+
+    def _note_extreme(self, d_min) -> None:
+        far = self.points + self.sign * d_min
         self.extreme = np.where(np.isnan(self.extreme), far,
                                 np.where(self.start_below, np.fmax(self.extreme, far),
                                          np.fmin(self.extreme, far)))
-        self.last_t, self.last_T = t[-1], T[-1]
+
+    def _find_crossing(self, j: int, tt, d, evaluate) -> None:
+        """The first crossing of node ``j`` in the samples ``tt`` (its distances ``d``): in the
+        first interval whose samples straddle the point, or earlier between samples that come
+        within the margin of it (found on ``evaluate``); linear between samples without it."""
+        beyond = np.flatnonzero(d < 0)
+        k = int(beyond[0]) if beyond.size else tt.size     # first sample beyond
+        if evaluate is not None and k > 1:
+            step = np.abs(np.diff(d[:k]))                   # the intervals before it
+            margin = step.copy()
+            margin[1:] = np.maximum(margin[1:], step[:-1])
+            margin[:-1] = np.maximum(margin[:-1], step[1:])
+            # an extreme inside interval i: d falls into it and rises out of it
+            falls_in = np.ones(k - 1, dtype=bool)
+            falls_in[1:] = d[1:k - 1] <= d[:k - 2]
+            rises_out = np.ones(k - 1, dtype=bool)
+            rises_out[:-1] = d[2:k] >= d[1:k - 1]
+            near = np.flatnonzero((np.minimum(d[:k - 1], d[1:k]) <= margin) & falls_in
+                                  & rises_out)
+            for i in near.tolist():
+                if self._dip(j, tt[i], tt[i + 1], evaluate):
+                    return
+        if k >= tt.size or k == 0:
+            return
+        a, b = float(tt[k - 1]), float(tt[k])
+        if evaluate is not None:
+            self.crossed_at[j] = _root(lambda x: self._distance(j, x, evaluate), a, b)
+        else:       # linear between the samples on either side
+            f = d[k - 1] / (d[k - 1] - d[k])
+            self.crossed_at[j] = a + f * (b - a)
+
+    def _distance(self, j: int, x: float, evaluate) -> float:
+        T = float(evaluate(np.array([x]), np.array([j]))[0])
+        return (T - self.points[j]) * self.sign[j]
+
+    def _dip(self, j: int, a: float, b: float, evaluate) -> bool:
+        """Whether node ``j`` passes its point between samples at ``a`` and ``b`` (both on the
+        starting side): the extreme between them found on the solution."""
+        from scipy.optimize import minimize_scalar
+
+        found = minimize_scalar(lambda x: self._distance(j, x, evaluate), bounds=(a, b),
+                                method="bounded", options={"xatol": 1e-9 * (b - a)})
+        d_min = float(found.fun)
+        extreme = np.full(self.points.size, np.inf)
+        extreme[j] = d_min
+        self._note_extreme(extreme)
+        if d_min >= 0:
+            return False
+        self.crossed_at[j] = _root(lambda x: self._distance(j, x, evaluate), a, float(found.x))
+        return True
 
     def warnings(self) -> list[str]:
         texts = []
+        sampled = ""
+        if self.on_samples:
+            sampled = (f"; checked at the output samples only, every {_duration(self.step)}: "
+                       "a shorter step may find it earlier")
         for k in np.flatnonzero(~np.isnan(self.crossed_at)):
             name, point = self.names[k], self.points[k]
             if self.start_below[k]:
@@ -133,8 +201,26 @@ class FreezingWatch:
                          f"{point:g} degC at t = {self.crossed_at[k] / 3600:.4g} h ({far} "
                          f"{self.extreme[k]:.3g} degC) with no latent heat, so its temperatures "
                          f"{wrong} it are wrong (give it a phase_change, or treat freezing as a "
-                         "failure)")
+                         f"failure){sampled}")
         return texts
+
+
+def _root(f, a: float, b: float) -> float:
+    """The point in [a, b] where ``f`` (>= 0 at a, < 0 at b) changes sign (Brent's method)."""
+    from scipy.optimize import brentq
+
+    fa = f(a)
+    if fa < 0:
+        return a
+    return float(brentq(f, a, b, xtol=1e-9 * max(b - a, 1e-300), rtol=1e-15))
+
+
+def _duration(seconds: float) -> str:
+    """An output step for a message: '10 min', '2 h', '90 s'."""
+    for unit, size in (("h", 3600.0), ("min", 60.0)):
+        if seconds >= size:
+            return f"{seconds / size:.4g} {unit}"
+    return f"{seconds:.4g} s"
 
 
 class CorrelationWatch:
@@ -147,6 +233,9 @@ class CorrelationWatch:
 
     category = CorrelationRangeWarning
     min_share = 0.01
+    #: what the recorder hands :meth:`observe` besides the samples: the flows of the nonlinear
+    #: segments, computed once for the heat-flow histories and the watchers
+    wants = ("nonlinear",)
 
     def __init__(self, network, asm):
         nl = asm.nl
@@ -154,12 +243,15 @@ class CorrelationWatch:
         films = [k for k, law in enumerate(nl.laws) if isinstance(law, FilmLaw)]
         self.laws = [nl.laws[k] for k in films]
         self.films = list(range(len(films)))
+        self.film_pos = np.asarray(films, dtype=np.int64)     # their places in asm.nl
         # the film segments alone, with the linear parts in series with each
         self.nl = SegmentLaws([(nl.seg[k], nl.laws[k], nl.R1[k], nl.R2[k]) for k in films])
         n = asm.n_nodes
         seg = self.nl.seg
         ends = np.concatenate([asm.seg_a[seg], asm.seg_b[seg]])
-        self.nodes = sorted({int(p) for p in ends if p < n})
+        # the recorder solves every nonlinear segment for the watchers: all their ends recorded
+        every = np.concatenate([asm.seg_a[nl.seg], asm.seg_b[nl.seg]])
+        self.nodes = sorted({int(p) for p in every if p < n})
         col = {p: j for j, p in enumerate(self.nodes)}
         m = len(self.nodes)
         # segment ends as columns of [T of self.nodes | u]
@@ -172,10 +264,17 @@ class CorrelationWatch:
         # per film: {range: [count, heat, lowest value, highest value]} of samples outside
         self.found = [dict() for _ in self.films]
 
-    def observe(self, t: np.ndarray, T: np.ndarray, u: np.ndarray) -> None:
-        points = np.hstack([T, np.asarray(u, dtype=float).reshape(T.shape[0], -1)])
-        ta, tb = points[:, self.a_col], points[:, self.b_col]
-        q, _, _ = self.nl.solve(ta, tb)
+    def observe(self, t: np.ndarray, T: np.ndarray, u: np.ndarray, nonlinear=None) -> None:
+        """Judge the samples ``t``, ``T`` (of :attr:`nodes`), ``u``; ``nonlinear``: the flows
+        of every nonlinear segment there (:class:`rcsim.recording.NonlinearFlows`), solved here
+        when not given."""
+        if nonlinear is not None:
+            pos = self.film_pos
+            q, ta, tb = nonlinear.q[:, pos], nonlinear.ta[:, pos], nonlinear.tb[:, pos]
+        else:
+            points = np.hstack([T, np.asarray(u, dtype=float).reshape(T.shape[0], -1)])
+            ta, tb = points[:, self.a_col], points[:, self.b_col]
+            q = self.nl.flows(ta, tb)
         t1, t2 = ta - q * self.nl.R1, tb + q * self.nl.R2      # the film's own faces
         self.samples += T.shape[0]
         for j, k in enumerate(self.films):

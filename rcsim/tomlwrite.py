@@ -23,18 +23,34 @@ initial = 5.0
 ...              {"nodes": {"payload": {"capacity": "8.43 kJ/K"}}}), end="")
 [nodes.payload]  # the load
 capacity = "8.43 kJ/K"  # a guess
+
+A scenario rcsim writes (a fitted or sized one, :func:`write_scenario`) is read back by the
+same rule as a hand-written one: the files it names (``{ csv = { file = ... } }`` profiles, the
+``[weather]`` record) must lie in its folder or below (:mod:`rcsim.inputfiles`). So the paths it
+refers to are written relative to where it is written, and a file that would lie outside that
+folder is copied beside it (under its own name, or ``<name>-2.csv``, ... when another file has
+taken the name; an identical file already there is used as it is) and the scenario refers to the
+copy. The written file then reads back with no option, and it keeps reading the data it was
+fitted or sized with, even when the original file is later edited. What was copied is listed
+in :attr:`Written.copied` for the command to say.
 """
 
 from __future__ import annotations
 
+import contextlib
 import datetime as _dt
+import filecmp
 import math
+import os
+import shutil
 import tomllib
+from dataclasses import dataclass
 
 import tomlkit
 from tomlkit.items import String, StringType
 
-__all__ = ["dumps", "update", "same"]
+__all__ = ["dumps", "update", "same", "write_scenario", "place_files", "Written", "Copied",
+           "copy_lines"]
 
 _SCALARS = (bool, int, float, str, _dt.date, _dt.time)
 _LONG_LINE = 80  # an inline array longer than this (characters of its items) gets one per line
@@ -219,3 +235,182 @@ def same(a, b) -> bool:
     if isinstance(a, (_dt.datetime, _dt.time)) and type(a) is type(b):  # same offset, too
         return a == b and a.utcoffset() == b.utcoffset() and (a.tzinfo is None) == (b.tzinfo is None)
     return type(a) is type(b) and a == b
+
+
+# -- a scenario written elsewhere -------------------------------------------------------------
+@dataclass(frozen=True)
+class Copied:
+    """A file a written scenario refers to, copied beside it (or found there already)."""
+
+    source: str   #: the file the scenario read (its real path)
+    target: str   #: the copy beside the written scenario
+    reused: bool = False   #: an identical file of that name was there already (nothing copied)
+
+
+class Written(str):
+    """The path of a written scenario (a ``str``, as before) with :attr:`copied`: the files
+    copied beside it (a tuple of :class:`Copied`)."""
+
+    copied: tuple = ()
+
+    def __new__(cls, path, copied=()):
+        out = super().__new__(cls, os.fspath(path))
+        out.copied = tuple(copied)
+        return out
+
+
+def _file_references(data: dict):
+    """(table, key, key path) of every file a scenario's data names: the ``file`` of each
+    ``{ csv = {...} }`` profile, wherever it sits, and ``weather.file``."""
+    found = []
+
+    def walk(node, where):
+        if isinstance(node, dict):
+            for k, v in node.items():
+                here = f"{where}.{k}" if where else str(k)
+                if k == "csv" and isinstance(v, dict) and isinstance(v.get("file"), str):
+                    found.append((v, "file", f"{here}.file"))
+                else:
+                    walk(v, here)
+        elif isinstance(node, list):
+            for i, v in enumerate(node):
+                walk(v, f"{where}[{i}]")
+
+    walk(data, "")
+    weather = data.get("weather")
+    if isinstance(weather, dict) and isinstance(weather.get("file"), str):
+        found.append((weather, "file", "weather.file"))
+    return found
+
+
+def _inside(path: str, folder: str, where: str):
+    """The real path ``path`` (relative to ``folder``) names when read by the rule for
+    scenario files, or None where that rule refuses it."""
+    from .errors import InputError
+    from .inputfiles import resolve_input
+
+    try:
+        return resolve_input(path, folder, False, where)
+    except InputError:
+        return None
+
+
+def place_files(data: dict, source_dir, folder) -> tuple[dict, list]:
+    """``data`` (a scenario read from ``source_dir``) made to be written into ``folder``.
+
+    Returns a copy of ``data`` whose file paths are relative to ``folder`` and lead to the same
+    files inside it, and the copies needed: ``(source real path, name in folder, reused)`` for
+    each file that lies outside ``folder`` (one copy per file, however often it is named).
+    Nothing is written here.
+    """
+    import copy as _copy
+
+    data = _copy.deepcopy(data)
+    source_dir = os.path.abspath(os.fspath(source_dir))
+    folder = os.path.abspath(os.fspath(folder))
+    same_folder = os.path.realpath(source_dir) == os.path.realpath(folder)
+    plans: dict[str, tuple[str, bool]] = {}   # source real path -> (name in folder, reused)
+    taken: set[str] = set()
+    for table, key, where in _file_references(data):
+        written = table[key]
+        real = os.path.realpath(os.path.join(source_dir, written))
+        if same_folder and not os.path.isabs(written):
+            moved = written
+        else:
+            lexical = os.path.normpath(os.path.join(source_dir, written))
+            moved = os.path.relpath(lexical, folder).replace(os.sep, "/")
+        if _inside(moved, folder, where) == real:
+            table[key] = moved
+            continue
+        if real not in plans:
+            plans[real] = _copy_name(real, os.path.basename(written) or "data.csv", folder,
+                                     taken, where)
+            taken.add(plans[real][0])
+        table[key] = plans[real][0]
+    return data, [(real, name, reused) for real, (name, reused) in plans.items()]
+
+
+def _copy_name(real: str, name: str, folder: str, taken: set, where: str) -> tuple[str, bool]:
+    """A name in ``folder`` for a copy of ``real``: its own name, or ``<stem>-<i><suffix>``
+    when a different file has that name; (name, True) when an identical file is there."""
+    stem, suffix = os.path.splitext(name)
+    for i in range(1, 1000):
+        candidate = name if i == 1 else f"{stem}-{i}{suffix}"
+        if candidate in taken:
+            continue
+        target = os.path.join(folder, candidate)
+        if not os.path.lexists(target):
+            return candidate, False
+        if (_inside(candidate, folder, where) is not None and os.path.isfile(target)
+                and os.path.isfile(real) and filecmp.cmp(real, target, shallow=False)):
+            return candidate, True
+    from .errors import OutputError
+
+    raise OutputError(f"no free name for a copy of {name!r} in {folder!r}", where)
+
+
+def write_scenario(path, data: dict, source_dir, text_of, check=None) -> Written:
+    """Write a scenario rcsim made from one read in ``source_dir`` (a fitted or sized one).
+
+    ``data`` is the scenario's data; ``text_of(data)`` gives its TOML text (the user's own text
+    edited, with a header). The files it names are placed for ``path``'s folder
+    (:func:`place_files`; files outside it are copied beside it), the text is read back by the
+    rule every scenario is read by (no file outside its folder) and compared with the data,
+    ``check(scenario)`` may check more (raise to refuse), and the text is written under a
+    temporary name renamed when complete. Copies made are removed again when anything fails.
+
+    Returns
+    -------
+    Written
+        The path, with the files copied beside it in ``.copied``.
+    """
+    from .atomic import atomic_path
+    from .errors import OutputError, SolverError
+    from .inputfiles import check_regular_file
+    from .scenario import loads
+
+    path = os.fspath(path)
+    folder = os.path.dirname(os.path.abspath(path))
+    placed, plans = place_files(data, source_dir, folder)
+    made, copied = [], []
+    try:
+        for real, name, reused in plans:
+            target = os.path.join(folder, name)
+            if not reused:
+                check_regular_file(real, real)      # still there, and a regular file
+                with atomic_path(target) as tmp:    # a failed copy is one OutputError
+                    shutil.copyfile(real, tmp)
+                made.append(target)
+            copied.append(Copied(real, target, reused))
+        text = text_of(placed)
+        back = loads(text, name=os.path.basename(path), base_dir=folder)
+        if not same(back.data, placed):  # pragma: no cover - a bug if reached
+            raise SolverError("the written scenario does not read back as the data")
+        if check is not None:
+            check(back)
+        try:
+            with atomic_path(path) as tmp, open(tmp, "w", encoding="utf-8",
+                                                newline="\n") as fh:
+                fh.write(text)
+        except OSError as exc:  # pragma: no cover - atomic_path turns these into OutputError
+            raise OutputError(f"cannot write ({exc.strerror})", path) from None
+    except BaseException:
+        for target in made:
+            with contextlib.suppress(OSError):
+                os.remove(target)
+        raise
+    return Written(path, copied)
+
+
+def copy_lines(written) -> list[str]:
+    """What a command says about the files copied beside a written scenario (none: [])."""
+    lines = []
+    for c in getattr(written, "copied", ()):
+        shown = os.path.relpath(c.target) if not os.path.isabs(os.fspath(written)) else c.target
+        if c.reused:
+            lines.append(f"note: {os.fspath(written)} reads {shown}, an identical copy of "
+                         f"{c.source} already there")
+        else:
+            lines.append(f"copied {c.source} to {shown}: it lies outside the folder of "
+                         f"{os.fspath(written)}, which reads the copy")
+    return lines

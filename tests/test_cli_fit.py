@@ -2,6 +2,7 @@
 
 import os
 
+import numpy as np
 import pandas as pd
 import pytest
 
@@ -188,9 +189,10 @@ def test_several_logs_with_values_per_record(cli, tmp_path):
     a = _one_node_log(tmp_path / "a.csv", 22.0, seed=1)
     b = _one_node_log(tmp_path / "b.csv", 9.0, seed=2)
     est = tmp_path / "est.csv"
+    html = tmp_path / "fit.html"
     r = cli("fit", sc, "--log", a, "--log", b, "--free", "nodes.M.capacity", "--free",
             "links.out.resistance", "--per-record", "nodes.M.initial", "--starts", "1",
-            "-o", est, "--plot", tmp_path / "fig.png")
+            "-o", est, "--plot", tmp_path / "fig.png", "--report", html)
     assert r.exit_code == 0, r.output
     api = _quiet(rcsim.fit, rcsim.load(sc), [a, b], ["nodes.M.capacity", "links.out.resistance"],
                  per_record=["nodes.M.initial"], starts=1)
@@ -204,6 +206,12 @@ def test_several_logs_with_values_per_record(cli, tmp_path):
     assert "one.toml fitted to 2 logs at once" in r.output
     assert "a.csv: 240 values" in r.output and "b.csv: 240 values" in r.output
     assert (tmp_path / "fig-a.csv.png").exists() and (tmp_path / "fig-b.csv.png").exists()
+    # the report: a section per log, each with its own starting temperature
+    page = html.read_text(encoding="utf-8")
+    assert "Log 1: a.csv" in page and "Log 2: b.csv" in page
+    for name in ("a.csv", "b.csv"):
+        value = repr(float(table.loc[f"nodes.M.initial@{name}", "value"]))
+        assert f'data-value="{value}"' in page
 
 
 @pytest.mark.slow
@@ -237,8 +245,7 @@ def test_new_fit_options_refuse_bad_input(cli, tmp_path):
         (["fit", BLOCK, *FREE], "no log to fit"),
         (["fit", BLOCK, LOG, *FREE, "--comparison", tmp_path / "c.csv"],
          "there is no comparison without candidates"),
-        (["fit", BLOCK, LOG, "--log", a, *FREE, "--report", tmp_path / "r.html"],
-         "a report covers the fit of one log"),
+        (["fit", BLOCK, LOG, "--log", a, *FREE, "--report", tmp_path / "r.txt"], ".html"),
         (["fit", BLOCK, LOG, *FREE, "--holdout", "5 kg"], "holdout"),
         (["fit", BLOCK, LOG, *FREE, "--candidate", tmp_path / "none.toml"], "file not found"),
     ]
@@ -263,3 +270,72 @@ def test_an_undetermined_noise_gives_an_open_interval_without_a_numpy_warning(cl
     assert "overflow" not in r.output
     res = _quiet(rcsim.fit, case, log, noise="process", holdout=0.2)
     assert res.noise_estimates.loc["measurement.inside", "ci_high"] == float("inf")
+
+
+def test_a_fitted_scenario_written_elsewhere_runs_with_no_option(cli, tmp_path):
+    """The block's heater read from a CSV beside its scenario; the fitted scenario written into
+    another folder gets a copy of the CSV (said on stdout) and `rcsim run` reads it with no
+    option. The run is checked against the closed form of one node behind one resistance, with
+    the fitted values: T = T_a + (T_0 - T_a) e^(-t/RC), plus P R (1 - e^(-t/RC)) while heated
+    (standard heat-transfer texts, lumped capacitance)."""
+    src, out = tmp_path / "src", tmp_path / "out"
+    src.mkdir()
+    out.mkdir()
+    text = open(BLOCK, encoding="utf-8").read()
+    steps = 'power = { steps = { at = ["0 h", "3 h", "7 h"], values = ["0 W", "8 W", "0 W"] } }'
+    assert steps in text
+    (src / "block.toml").write_text(text.replace(
+        steps, 'power = { csv = { file = "heater.csv", column = "P [W]" } }'), encoding="utf-8")
+    # the resistor's 8 W from 3 h to 7 h (ramps of 3.6 ms at the switching times)
+    (src / "heater.csv").write_text("time [h],P [W]\n0,0\n2.999999,0\n3,8\n6.999999,8\n7,0\n"
+                                    "12,0\n",
+                                    encoding="utf-8")
+    est, fitted = tmp_path / "est.csv", out / "fitted.toml"
+    r = cli("fit", src / "block.toml", LOG, *FREE, "--starts", "1", "--max-gap", "1 h",
+            "-o", est, "--write-scenario", fitted)
+    assert r.exit_code == 0, r.output
+    assert f"wrote {fitted}" in r.output
+    assert f"copied {os.path.realpath(src / 'heater.csv')} to {out / 'heater.csv'}" in r.output
+    assert (out / "heater.csv").read_bytes() == (src / "heater.csv").read_bytes()
+    h5 = out / "run.h5"
+    run = cli("run", fitted, "-o", h5)
+    assert run.exit_code == 0, run.output
+    T = rcsim.Result.load(str(h5)).temperatures["block"]
+    table = pd.read_csv(est, index_col="key")["value"]
+    C, R, T0 = (table[k] for k in ("nodes.block.capacity", "links.skin.resistance",
+                                   "nodes.block.initial"))
+    tau, room = R * C, 20.0           # the scenario's room: 20 degC (the log drove the fit)
+    t3, t7 = 3 * 3600.0, 7 * 3600.0
+    at3 = room + (T0 - room) * np.exp(-t3 / tau)
+    decay = np.exp(-(t7 - t3) / tau)
+    at7 = room + (at3 - room) * decay + 8.0 * R * (1 - decay)
+    # the ramps add or take at most 8 W x 3.6 ms / C, below 2e-5 K
+    assert T.loc[t3] == pytest.approx(at3, abs=1e-4)
+    assert T.loc[t7] == pytest.approx(at7, abs=1e-4)
+
+
+def test_command_line_options_override_a_fit_section(cli, tmp_path):
+    """A [fit] section freeing the capacity only, with a 5 K sigma: --free and --sigma on the
+    command line win, and one note names what they overrode. The estimates cover the values
+    that made the log (scenarios/make-fit-block-log.py: 1794 J/K, 1.5 K/W, 6.0 degC)."""
+    text = open(BLOCK, encoding="utf-8").read()
+    sc = tmp_path / "block.toml"
+    sc.write_text(text + '\n[fit]\nfree = ["nodes.block.capacity"]\nsigma = "5 K"\n',
+                  encoding="utf-8")
+    est = tmp_path / "est.csv"
+    r = cli("fit", sc, LOG, *FREE, "--sigma", "0.05 K", "--starts", "1", "--max-gap", "1 h",
+            "-o", est)
+    assert r.exit_code == 0, r.output
+    notes = [ln for ln in r.output.splitlines() if ln.startswith("note:")]
+    assert notes == ["note: block.toml: the command line overrides its [fit] section's free "
+                     "(--free), sigma (--sigma)"]
+    assert "warning:" not in r.output
+    table = pd.read_csv(est, index_col="key")
+    assert list(table.index) == FREE[1::2]
+    for key, truth in (("nodes.block.capacity", 1794.0), ("links.skin.resistance", 1.5),
+                       ("nodes.block.initial", 6.0)):
+        assert table.loc[key, "ci_low"] <= truth <= table.loc[key, "ci_high"], key
+    # the section alone: its one free value; an option it does not give is no override
+    r = cli("fit", sc, LOG, "--starts", "1", "--max-gap", "1 h", "-o", est)
+    assert r.exit_code == 0 and "note:" not in r.output, r.output
+    assert list(pd.read_csv(est, index_col="key").index) == ["nodes.block.capacity"]

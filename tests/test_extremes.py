@@ -479,3 +479,69 @@ def test_size_answers_and_exits_3_on_an_open_balance(cli, tmp_path, monkeypatch)
     assert out.exists() and "answer: links.wall.resistance = " in r.output
     assert "warning: the energy balance of a run does not close (error above 0.001)" in r.output
     assert "error: the energy balance of " in r.output and "runs of the sizing" in r.output
+
+
+# ---- a node linked to nothing but a boundary, by a huge link ---------------------------------
+def _lone_pin(g_pin, capacity=1000.0):
+    """Node 'x' (``capacity``) tied to 'out' (5 sin(2 pi t / 1 d) degC) by ``g_pin`` alone, and
+    an ordinary node 'y' behind 1 K/W from 'room' at 10 degC."""
+    net = rcsim.Network()
+    net.add_node("x", capacity=capacity, initial=0.0)
+    net.add_node("y", capacity=1000.0, initial=20.0)
+    net.add_boundary("out", temperature=rcsim.Sine(mean=0.0, amplitude=5.0, period=86400.0))
+    net.add_boundary("room", temperature=10.0)
+    net.add_link("x", "out", conductance=g_pin, name="pin")
+    net.add_link("y", "room", resistance=1.0, name="wall")
+    return net
+
+
+@pytest.mark.parametrize("g_pin", [1e10, 1e14, 1e20])
+def test_a_node_tied_only_to_a_boundary_by_a_huge_link_is_refused(g_pin):
+    # before: at 1e14 W/K the exact path's balance was 1.5 % open, at 1e20 W/K the large-linear
+    # path put 3e20 W through 'pin' and the stiff path gave up; the conductance ratio had
+    # nothing to compare with (nothing leaves x but into 'out')
+    with pytest.raises(NetworkError) as err:
+        _lone_pin(g_pin).simulate(duration=86400, step=600)
+    text = str(err.value)
+    assert text.startswith("links.pin: link 'pin'") and "node 'x'" in text
+    assert "linked to nothing but 'out'" in text and "below 1e-06 s" in text
+    assert "remove node 'x'" in text and "at least about 1e-09 K/W" in text
+
+
+def test_a_stiff_group_tied_only_to_a_boundary_is_refused_too():
+    net = rcsim.Network()
+    net.add_node("a", capacity=1000.0, initial=0.0)
+    net.add_node("b", capacity=1000.0, initial=0.0)
+    net.add_boundary("out", temperature=0.0)
+    net.add_link("a", "b", resistance=1e-13, name="joint")
+    net.add_link("b", "out", resistance=1e-12, name="pin")
+    with pytest.raises(NetworkError, match="nodes 'a', 'b', linked to nothing but 'out'"):
+        net.steady()
+
+
+def test_a_fast_node_tied_only_to_a_boundary_is_solved_right():
+    # C = 1 J/K behind 1e5 W/K: tau = 1e-5 s, above the limit. First-order closed form under
+    # T_out = A sin(w t): T = A sin(w t - phi) / sqrt(1 + (w tau)^2) with phi = atan(w tau), and
+    # the heat through 'pin' (x to out) is -C dT/dt = -C A w cos(w t - phi) / sqrt(1 + (w tau)^2)
+    # (x starts at 0 = T_out(0): the start differs from this regime by A w tau, gone in us)
+    net = _lone_pin(1e5, capacity=1.0)
+    res = net.simulate(duration=86400, step=600)
+    t = res.time
+    w, tau, amp = 2 * math.pi / 86400.0, 1e-5, 5.0
+    phi = math.atan(w * tau)
+    q = -amp * w * np.cos(w * t - phi) / math.sqrt(1.0 + (w * tau) ** 2)
+    got = res.heat_flows["pin"].to_numpy()
+    # resolved to about g eps |T| = 1e5 x 1.1e-16 x 5 K ~ 1e-10 W (rounding of the
+    # temperatures; the measured error is 4e-10 W): within 1e-5 of the 3.6e-4 W peak
+    assert np.max(np.abs(got[1:] - q[1:])) < 1e-5 * np.max(np.abs(q))
+    assert res.energy_balance_error < 1e-9
+
+
+def test_cli_refuses_a_node_tied_only_to_a_boundary(cli, tmp_path):
+    path = tmp_path / "pin.toml"
+    path.write_text(SCENARIO.format(r="1").replace('between = ["a", "b"]\nresistance = "1 K/W"',
+                                                   'between = ["a", "out"]\nresistance = "1e-14 K/W"'))
+    r = cli("run", path)
+    assert r.exit_code == 2, r.output
+    assert "pin.toml" in r.output and "links.tiny: link 'tiny'" in r.output
+    assert "linked to nothing but 'out'" in r.output and "Traceback" not in r.output

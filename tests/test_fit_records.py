@@ -120,6 +120,53 @@ def test_records_written_out(tmp_path):
     back = rcsim.load(res.write_scenario(tmp_path / "day2.toml", record="day2.csv"))
     assert back.si_value("nodes.block.initial") == pytest.approx(
         res.estimates.loc["nodes.block.initial@day2.csv", "value"], rel=1e-9)
+    # the comparison figure draws every log: a pair of panels each, named after it
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    from rcsim.fitting.figures import plot_candidates
+
+    drawn = plot_candidates({"block": res}, selected="block")
+    try:
+        assert len(drawn.axes) == 4 and drawn.time_unit == "h"
+        assert [drawn.axes[0].get_title(), drawn.axes[2].get_title()] == ["day1.csv",
+                                                                         "day2.csv"]
+        for name, log in zip(["day1.csv", "day2.csv"], logs):
+            # the dots are the log's own values (made by lsim above), at its times in hours
+            dots = drawn.lines[f"measured:block@{name}"]
+            np.testing.assert_array_equal(dots.get_ydata(), log["block"].to_numpy())
+            np.testing.assert_allclose(dots.get_xdata(), log["time"].to_numpy() / 3600.0)
+            np.testing.assert_allclose(drawn.lines[f"fit:block@{name}"].get_ydata(),
+                                       res.records[name].curve["block"].to_numpy())
+            # measured - fitted: the 0.05 K noise the logs were made with
+            r = drawn.lines[f"residual:block@{name}"].get_ydata()
+            assert np.sqrt(np.mean(r ** 2)) == pytest.approx(0.05, rel=0.2)
+    finally:
+        plt.close(drawn.figure)
+    # the report covers every log: a section each, with its own starting temperature, whose
+    # interval holds the one that made the log (6.0 and 14.0 degC above)
+    from rcsim.report.fit import build_fit_report
+
+    logs_paths = [tmp_path / "day1.csv", tmp_path / "day2.csv"]
+    report = build_fit_report(res, log_path=logs_paths, figures=False)
+    sections = {sec.id: sec for sec in report.sections}
+    for i, (name, truth) in enumerate((("day1.csv", 6.0), ("day2.csv", 14.0)), 1):
+        sec = sections[f"log-{i}"]
+        assert sec.title == f"Log {i}: {name}"
+        own = next(b for b in sec.blocks if getattr(b, "id", "") == f"fit-own-{i}")
+        [row] = own.rows
+        key, value, _, low, high, unit = row
+        assert key.text == f"nodes.block.initial@{name}" and unit.text == "degC"
+        assert float(value.value) == res.estimates.loc[key.text, "value"]
+        assert float(low.value) <= truth <= float(high.value)
+    provenance = dict(report.provenance)
+    assert "SHA-256 of day1.csv" in provenance and "SHA-256 of day2.csv" in provenance
+    # the same report from the fit itself, as a page
+    page = res.report(tmp_path / "fit.html", log_path=logs_paths, figures=False)
+    text = open(page, encoding="utf-8").read()
+    assert "Log 1: day1.csv" in text and "Log 2: day2.csv" in text
 
 
 def test_records_with_process_noise():

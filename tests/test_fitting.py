@@ -460,15 +460,19 @@ power = { csv = { file = "power.csv", column = "p" } }
     out = tmp_path / "elsewhere"
     out.mkdir()
     p = res.write_scenario(out / "fitted.toml")
-    # the CSV now lies outside the written scenario's folder: read only when allowed (issue 16
-    # item 5: files a scenario names stay in its folder unless allowed)
-    with pytest.raises(rcsim.InputError, match="leads outside the scenario's folder"):
-        rcsim.load(p)
-    back = rcsim.load(p, allow_absolute_paths=True)
-    assert back.value("sources.heater.power.csv.file") == "../src/power.csv"
+    # the CSV lies outside the written scenario's folder, where a scenario may not read (issue
+    # 16 item 5): it is copied beside it, and the written file reads back with no option
+    assert [(c.source, c.target, c.reused) for c in p.copied] == [
+        (os.path.realpath(src / "power.csv"), str(out / "power.csv"), False)]
+    assert (out / "power.csv").read_bytes() == (src / "power.csv").read_bytes()
+    back = rcsim.load(p)
+    assert back.value("sources.heater.power.csv.file") == "power.csv"
+    # the log: 25 degC approached from 20 degC, so the fitted room is 25 degC (the log's source)
     assert back.si_value("boundaries.room.temperature") == pytest.approx(25.0, abs=1e-6)
-
-
+    # written into the folder above: the file lies inside it, reached by a relative path
+    again = res.write_scenario(tmp_path / "fitted.toml")
+    assert again.copied == ()
+    assert rcsim.load(again).value("sources.heater.power.csv.file") == "src/power.csv"
 # the heated block written as a person might: comments everywhere, dotted keys, a table out of
 # order, odd spacing, an indented sub-table whose array spans lines with a comment inside
 COMMENTED_BLOCK = """\

@@ -29,6 +29,7 @@ FACADES = {
     "rcsim.results.Result.plot",
     "rcsim.results.Result.report",
     "rcsim.fitting.result.FitResult.report",
+    "rcsim.fitting.joint.JointFit.report",
     "rcsim.sizing.result.SizingResult.report_html",
     "rcsim.profiles.base.Profile.repeat",
 }

@@ -201,6 +201,70 @@ def test_a_heater_started_on_above_its_cut_out_switches_off(solver):
     assert res.temperatures["room"].max() <= T0 + 1e-9
 
 
+def _switching_room_by_hand(C, R, P, mean, amp, period, peak, T0, low, high, t_end):
+    """Switching times and temperature function of a room heated on/off under a sine outdoor
+    temperature, in closed form: tau T' + T = mean + R P_on + amp cos(w (t - peak)) has the
+    periodic solution Tp = mean + R P_on + amp cos(w (t - peak) - atan(w tau)) / sqrt(1 +
+    (w tau)^2), and T = Tp + (T(t0) - Tp(t0)) exp(-(t - t0)/tau) after each switch (a
+    first-order linear equation); each switch is where T meets the band's edge (brentq, after a
+    1 s scan for the first sign change)."""
+    tau, w = R * C, 2 * math.pi / period
+    gain, lag = 1 / math.sqrt(1 + (w * tau) ** 2), math.atan(w * tau)
+
+    def temperature(t, t0, T_0, on):
+        def tp(x):
+            return mean + R * P * on + amp * gain * np.cos(w * (x - peak) - lag)
+        return tp(t) + (T_0 - tp(t0)) * np.exp(-(t - t0) / tau)
+
+    pieces, t0, T_0, on = [], 0.0, T0, 0
+    while t0 < t_end:
+        level = high if on else low
+        grid = np.arange(t0, t_end + 1.0, 1.0)
+        f = temperature(grid, t0, T_0, on) - level
+        cross = np.flatnonzero((f[1:] > 0) != (f[0] > 0) if f[0] != 0 else f[1:] != 0)
+        if not cross.size:
+            pieces.append((t0, t_end, T_0, on))
+            break
+        k = int(cross[0])
+        t1 = brentq(lambda x: temperature(x, t0, T_0, on) - level, grid[k], grid[k + 1],
+                    xtol=1e-9)
+        pieces.append((t0, t1, T_0, on))
+        t0, T_0, on = t1, level, 1 - on
+    return pieces, temperature
+
+
+def test_thermostat_switching_under_a_sine_is_located_to_the_closed_form():
+    # event location where the regime's solution holds an exponential and a sine: a room heated
+    # on/off through a day of sine weather switches 48 times in 6 h; its switching times come
+    # from the closed form of the first-order equation between switches (see the helper above).
+    # The path places each switch within 1e-6 of a grid interval (60 s here) past the crossing:
+    # the on-time is the sum of 24 on-periods, each within 1.2e-4 s (bound 1e-2 s). A switch up
+    # to 6e-5 s late shifts the room by up to 900 W x 6e-5 s / 2e5 J/K = 2.7e-7 K, and 48 of
+    # them (decaying with tau = 1e4 s) by at most 1.3e-5 K: bound 2e-5 K
+    C, R, P = 2e5, 0.05, 900.0
+    mean, amp, period, peak = 5.0, 6.0, 86400.0, 15 * 3600.0
+    net = rcsim.Network()
+    net.add_node("room", capacity=C, initial=20.0)
+    net.add_boundary("out", temperature=rcsim.Sine(mean=mean, amplitude=amp, period=period,
+                                                   peak=peak))
+    net.add_link("room", "out", resistance=R)
+    net.add_thermostat("heater", "room", setpoint="20 degC", band="1 K", power=P,
+                       initially="off")
+    res = net.simulate("6 h", "1 min", solver="piecewise")
+    pieces, temperature = _switching_room_by_hand(C, R, P, mean, amp, period, peak, 20.0, 19.5,
+                                                  20.5, 6 * 3600.0)
+    on_time = sum(t1 - t0 for t0, t1, _, on in pieces if on)
+    row = res.thermostats.iloc[0]
+    assert row["switches"] == len(pieces) - 1 == 48
+    assert abs(row["on_time [s]"] - on_time) < 1e-2
+    t = res.time
+    expected = np.empty_like(t)
+    for t0, t1, T_0, on in pieces:
+        inside = (t >= t0) & (t <= t1)
+        expected[inside] = temperature(t[inside], t0, T_0, on)
+    assert np.abs(res.temperatures["room"].to_numpy() - expected).max() < 2e-5
+
+
 @pytest.mark.slow
 @settings(max_examples=40, deadline=None,
           suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])

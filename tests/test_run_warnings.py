@@ -142,6 +142,73 @@ def test_a_payload_passing_its_freezing_point_warns_once_with_the_time():
     assert f"(lowest {lowest:.3g} degC) with no latent heat" in text
 
 
+def _sine_payload(freezes_at):
+    """A node of tau = RC = 1 h (1 K/W, 3.6 kJ/K) under 3 + 4 sin(w t) degC, w = 2 pi / 24 h,
+    started in its periodic regime."""
+    net = rcsim.Network()
+    net.add_node("payload", capacity=3600.0, initial=3.0, freezes_at=freezes_at)
+    net.add_boundary("dock", temperature=rcsim.Sine(mean=3.0, amplitude=4.0, period=86400.0))
+    net.add_link("payload", "dock", resistance=1.0)
+    return net
+
+
+@pytest.mark.parametrize("solver", ["exact", "stiff"])
+def test_a_freezing_point_passed_between_output_samples_is_found(solver):
+    # first-order response to a sine (closed form): in the periodic regime
+    # T = 3 + A' sin(w t - phi), A' = 4 / sqrt(1 + (w tau)^2), phi = atan(w tau); its lowest,
+    # 3 - A' = -0.870 degC, falls at 18.98 h, between the 6-hourly samples (at 18 h it is
+    # 3 - A' cos(phi) = -0.744 degC). A freezing point at -0.8 degC is passed and left again
+    # between two samples: the samples alone never see it.
+    w, tau = 2 * math.pi / 86400.0, 3600.0
+    amp, phi = 4.0 / math.sqrt(1.0 + (w * tau) ** 2), math.atan(w * tau)
+    lowest = 3.0 - amp
+    first = (math.pi + math.asin((3.0 + 0.8) / amp) + phi) / w     # first t with T = -0.8
+    res = _sine_payload("-0.8 degC").simulate("24 h", "6 h", initial="periodic", solver=solver,
+                                              rtol=1e-9, atol=1e-9)
+    assert res.temperatures["payload"].min() > -0.8                # every sample above
+    assert len(res.warnings) == 1, res.warnings
+    text = res.warnings[0]
+    assert f"falls below its freezing point -0.8 degC at t = {first / 3600:.4g} h" in text
+    assert f"(lowest {lowest:.3g} degC)" in text and "output samples" not in text
+    # a point the solution never reaches between the samples: nothing
+    quiet = _sine_payload("-0.9 degC").simulate("24 h", "6 h", initial="periodic",
+                                                solver=solver)
+    assert quiet.warnings == []
+
+
+def test_a_limit_on_another_node_does_not_disturb_the_freezing_check():
+    # the payload of the sine case above with a second node carrying a limit: the limit's
+    # hold time and the freezing crossing are each what they are alone. The second node (1 K/W
+    # to the same dock, 36 kJ/K: tau 10 h) starts at 3 degC in the periodic regime too.
+    w, tau = 2 * math.pi / 86400.0, 3600.0
+    amp, phi = 4.0 / math.sqrt(1.0 + (w * tau) ** 2), math.atan(w * tau)
+    first = (math.pi + math.asin((3.0 + 0.8) / amp) + phi) / w
+    net = _sine_payload("-0.8 degC")
+    net.add_node("crate", capacity=36000.0, initial=3.0)
+    net.add_link("crate", "dock", resistance=1.0)
+    net.add_limit("crate", min=2.5)
+    res = net.simulate("24 h", "6 h", initial="periodic")
+    assert len(res.warnings) == 1
+    assert f"at t = {first / 3600:.4g} h" in res.warnings[0]
+    assert len(res.limits) == 1 and res.limits["node"].iloc[0] == "crate"
+
+
+def test_without_the_solution_between_samples_the_warning_names_the_step():
+    # a watcher fed samples alone (a path giving no solution between them): the crossing is
+    # linear between the samples and the warning says the check was at the samples, every 6 h
+    from rcsim.run_warnings import FreezingWatch
+
+    watch = FreezingWatch(rcsim.Network(), [0], ["payload"], [0.0])
+    t = np.arange(5) * 6 * 3600.0
+    watch.observe(t[:1], np.array([[5.0]]), np.zeros((1, 0)))
+    watch.observe(t[1:], np.array([[2.0], [-1.0], [1.0], [3.0]]), np.zeros((4, 0)))
+    (text,) = watch.warnings()
+    # linear between 2 degC at 6 h and -1 degC at 12 h: 0 degC at 10 h
+    assert "falls below its freezing point 0 degC at t = 10 h (lowest -1 degC)" in text
+    assert text.endswith("checked at the output samples only, every 6 h: a shorter step may "
+                         "find it earlier")
+
+
 def test_thawing_warns_too_and_nothing_warns_when_the_point_is_not_passed():
     net = _payload(-18.0, 25.0, freezes_at=-0.5)         # a frozen payload in a warm room
     with pytest.warns(rcsim.run_warnings.FreezingWarning, match="rises above its freezing "

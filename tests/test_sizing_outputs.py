@@ -219,3 +219,44 @@ def test_the_size_command_answers_and_refuses_through_the_command_line(tmp_path)
                                "--require", "hold_time.box >= 20 h"])
     assert bad.exit_code == 2
     assert len(bad.output.strip().splitlines()) == 1 and "Traceback" not in bad.output
+
+
+def test_a_sized_scenario_written_elsewhere_runs_with_no_option(tmp_path):
+    """The box's room read from a CSV beside its scenario; the sized scenario written into
+    another folder gets a copy of the CSV (said on stdout) and `rcsim run` reads it with no
+    option; its hold time holds, against the closed form R C ln(20/17) (standard heat-transfer
+    texts, lumped capacitance)."""
+    from click.testing import CliRunner
+
+    from rcsim.cli import main
+    from rcsim.results import Result
+
+    src, out = tmp_path / "src", tmp_path / "out"
+    src.mkdir()
+    out.mkdir()
+    (src / "box.toml").write_text(BOX.replace(
+        'temperature = "25 degC"', 'temperature = { csv = { file = "room.csv", column = "T" } }'),
+        encoding="utf-8")
+    (src / "room.csv").write_text("time [h],T [degC]\n0,25\n40,25\n", encoding="utf-8")
+    sized = out / "sized.toml"
+    runner = CliRunner()
+    ok = runner.invoke(main, ["size", str(src / "box.toml"), "--vary",
+                              "nodes.box.capacity=1000kJ/K..8000kJ/K", "--require",
+                              "hold_time.box >= 20 h", "--write-scenario", str(sized)])
+    assert ok.exit_code == 0, ok.output
+    assert f"copied {os.path.realpath(src / 'room.csv')} to {out / 'room.csv'}" in ok.output
+    assert (out / "room.csv").read_bytes() == (src / "room.csv").read_bytes()
+    h5 = out / "run.h5"
+    run = runner.invoke(main, ["run", str(sized), "-o", str(h5)])
+    assert run.exit_code == 0, run.output
+    capacity = load(str(sized)).si_value("nodes.box.capacity")
+    assert capacity >= 72000.0 / (0.1 * LOG_RATIO) * (1 - 1e-9)
+    assert capacity <= 72000.0 / (0.1 * LOG_RATIO) + 0.002 * 7e6   # default tolerance 0.1 %
+    hold = Result.load(str(h5)).limits["hold_time [s]"].iloc[0]
+    assert hold >= 72000.0
+    # sized again into the same folder: the copy there is the same file, reused, not copied
+    again = runner.invoke(main, ["size", str(src / "box.toml"), "--vary",
+                                 "nodes.box.capacity=1000kJ/K..8000kJ/K", "--require",
+                                 "hold_time.box >= 20 h", "--write-scenario", str(sized)])
+    assert again.exit_code == 0 and "an identical copy" in again.output
+    assert sorted(os.listdir(out)) == ["room.csv", "run.h5", "sized.toml"]

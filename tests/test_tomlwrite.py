@@ -222,3 +222,59 @@ def test_same_tells_toml_types_apart():
     assert not same(1, 1.0) and not same(True, 1) and not same(0.0, -0.0)
     assert same(math.nan, math.nan) and same({"a": [1, "x"]}, {"a": [1, "x"]})
     assert not same(dt.date(2024, 1, 1), dt.datetime(2024, 1, 1))
+
+
+# -- a scenario written elsewhere: the files it names -----------------------------------------
+def test_files_a_written_scenario_names_stay_in_its_folder(tmp_path):
+    from rcsim.tomlwrite import place_files
+
+    src, out = tmp_path / "src", tmp_path / "out"
+    (src / "data").mkdir(parents=True)
+    out.mkdir()
+    (src / "a.csv").write_text("time,x\n0,1\n")
+    (src / "data" / "a.csv").write_text("time,x\n0,2\n")      # another file of the same name
+    (src / "w.csv").write_text("time,T\n0,20\n")
+    (out / "w.csv").write_text("time,T\n0,20\n")               # an identical file already there
+    data = {"boundaries": {"x": {"temperature": {"csv": {"file": "a.csv", "column": "x"}}}},
+            "links": {"l": {"parts": [{"csv": {"file": "data/a.csv"}},
+                                      {"csv": {"file": "./a.csv"}}]}},
+            "weather": {"file": "w.csv"}}
+    placed, plans = place_files(data, src, out)
+    assert placed["boundaries"]["x"]["temperature"]["csv"]["file"] == "a.csv"
+    assert placed["links"]["l"]["parts"][0]["csv"]["file"] == "a-2.csv"
+    assert placed["links"]["l"]["parts"][1]["csv"]["file"] == "a.csv"   # the same file: one copy
+    assert placed["weather"]["file"] == "w.csv"
+    real = os.path.realpath
+    assert sorted(plans) == sorted([(real(src / "a.csv"), "a.csv", False),
+                                    (real(src / "data" / "a.csv"), "a-2.csv", False),
+                                    (real(src / "w.csv"), "w.csv", True)])
+    assert data["weather"]["file"] == "w.csv" and data["links"]["l"]["parts"][1]["csv"][
+        "file"] == "./a.csv"                                   # the caller's data untouched
+    # into the source's own folder nothing moves; into the folder above, paths lead down
+    assert place_files(data, src, src) == (data, [])
+    above, plans = place_files(data, src, tmp_path)
+    assert plans == [] and above["links"]["l"]["parts"][0]["csv"]["file"] == "src/data/a.csv"
+    assert above["weather"]["file"] == "src/w.csv"
+
+
+def test_a_written_scenario_that_fails_its_check_leaves_no_copy(tmp_path):
+    from rcsim.tomlwrite import write_scenario
+
+    src, out = tmp_path / "src", tmp_path / "out"
+    src.mkdir()
+    out.mkdir()
+    (src / "in.csv").write_text("time,T\n0,20\n3600,21\n")
+    data = {"nodes": {"n": {"capacity": "1 kJ/K", "initial": "20 degC"}},
+            "boundaries": {"b": {"temperature": {"csv": {"file": "in.csv", "column": "T"}}}},
+            "links": {"l": {"between": ["n", "b"], "resistance": "1 K/W"}}}
+
+    def refuse(scenario):
+        assert scenario.value("boundaries.b.temperature.csv.file") == "in.csv"
+        raise RuntimeError("refused")
+
+    with pytest.raises(RuntimeError, match="refused"):
+        write_scenario(out / "s.toml", data, src, dumps, refuse)
+    assert os.listdir(out) == []
+    written = write_scenario(out / "s.toml", data, src, dumps)
+    assert sorted(os.listdir(out)) == ["in.csv", "s.toml"] and len(written.copied) == 1
+    assert loads(open(written).read(), base_dir=str(out)).network.boundaries  # no option needed

@@ -28,8 +28,9 @@ NOISE_KINDS = ("measurement", "process")
               help="A further log (repeatable): the logs are fitted at once, values shared "
                    "across them except those given by --per-record.")
 @click.option("--free", "free", multiple=True, metavar="KEY", help="Key path of a value to fit, "
-              "e.g. nodes.block.capacity (repeatable). A scenario's [fit] section gives its "
-              "own free values, bounds, ...; these options apply where it does not.")
+              "e.g. nodes.block.capacity (repeatable). A scenario's [fit] section may give "
+              "its free values, bounds, ...; options given here override it (a note names "
+              "what they override).")
 @click.option("--per-record", "per_record", multiple=True, metavar="KEY",
               help="With several logs: a value fitted once per log, e.g. nodes.block.initial "
                    "(repeatable).")
@@ -69,14 +70,16 @@ NOISE_KINDS = ("measurement", "process")
 @click.option("--comparison", "comparison_path", type=click.Path(), metavar="FILE.csv",
               help="With candidates: write the comparison table to this CSV file.")
 @click.option("--write-scenario", type=click.Path(), help="Write the fitted scenario (of the "
-              "selected candidate; of the first log) to this TOML file.")
+              "selected candidate; of the first log) to this TOML file; a CSV it reads that "
+              "would lie outside its folder is copied beside it.")
 @click.option("--plot", "plot_path", type=click.Path(), help="Write the measured vs fitted "
-              "figure (with residuals; with candidates every fit overlaid, on the first log; "
-              "with several logs and one scenario one file per log, named after it) to this "
-              "PNG, SVG or PDF file.")
+              "figure (with residuals; with candidates every fit overlaid, a pair of panels per "
+              "log; with several logs and one scenario one file per log, named after it) to "
+              "this PNG, SVG or PDF file.")
 @click.option("--report", "report_path", type=click.Path(), metavar="REPORT.html",
               help="Write the fit's report (of the selected candidate; estimates, quality, "
-              "figure, fitted scenario, warnings, provenance) to this .html file.")
+              "figure, fitted scenario, warnings, provenance; with several logs a section per "
+              "log) to this .html file.")
 @allow_absolute_paths_option
 @guard
 def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout, noise, lags,
@@ -87,8 +90,9 @@ def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout,
 
     LOG has a time column (seconds or ISO-8601) and temperature columns named after nodes
     (fitted) or boundaries (measured ambient that drives the model); --map matches others.
-    Without --free the scenario's [fit] section says what is free. With --candidate the
-    candidates are compared and one is selected; with --log several logs are fitted at once.
+    Without --free the scenario's [fit] section says what is free; options given here
+    override what the section says. With --candidate the candidates are compared and one is
+    selected; with --log several logs are fitted at once.
     """
     from ..fitting import fit as run_fit, parse_bound
     from ..fitting.candidates import Candidate, FitSpec, read_candidate
@@ -97,8 +101,7 @@ def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout,
     if not logs:
         raise InputError("no log to fit", "LOG", "give LOG.csv after the scenario (or --log "
                          "FILE, repeatable)")
-    _check_outputs(output, comparison_path, write_scenario, plot_path, report_path,
-                   candidates, logs)
+    _check_outputs(output, comparison_path, write_scenario, plot_path, report_path, candidates)
     bounds = {}
     for item in bound_items:
         key, low, high = parse_bound(item)
@@ -113,10 +116,12 @@ def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout,
 
     with kept_warnings() as caught:          # for the report; printed as usual all the same
         pool = []
-        for path in (scenario, *candidates):  # a [fit] section wins, as in rcsim.fit
+        for path in (scenario, *candidates):  # the command line wins over a [fit] section
             cand = read_candidate(path, allow_absolute_paths=allow_absolute_paths)
-            _say_overridden(cand, given)
-            pool.append(Candidate(cand.scenario, cand.spec.over(given)))
+            note = overridden_note(cand, given)
+            if note:
+                click.echo(note)
+            pool.append(Candidate(cand.scenario, given.over(cand.spec)))
             if not pool[-1].spec.free and not pool[-1].spec.per_record:
                 raise InputError("nothing to fit", os.path.basename(path),
                                  "free at least one value, e.g. --free nodes.block.capacity, "
@@ -137,19 +142,25 @@ def fit(scenario, log, more_logs, free, per_record, candidates, select, holdout,
     if plot_path:
         written += _save_plots(res, plot_path)
     if report_path:
-        written.append(chosen.report(report_path, scenario=sc, log_path=logs[0],
-                                     warnings=list(caught)))
+        from ..report.dispatch import report_page
+
+        written.append(report_page(chosen, report_path, sc, warnings=list(caught),
+                                   log_path=logs if len(logs) > 1 else logs[0]))
     if candidates:
         click.echo(format_comparison(res))
         click.echo("")
     click.echo(format_joint_summary(sc, chosen) if hasattr(chosen, "records")
                else format_fit_summary(sc, chosen))
+    from ..tomlwrite import copy_lines
+
     for p in written:
         click.echo(f"wrote {p}")
+        for line in copy_lines(p):   # files copied beside the written scenario
+            click.echo(line)
 
 
-def _check_outputs(output, comparison_path, write_scenario, plot_path, report_path, candidates,
-                   logs) -> None:
+def _check_outputs(output, comparison_path, write_scenario, plot_path, report_path,
+                   candidates) -> None:
     """Refuse bad output paths, and outputs that do not apply, before any work."""
     check_output(output, (".csv",), "--output")
     check_output(comparison_path, (".csv",), "--comparison")
@@ -159,9 +170,6 @@ def _check_outputs(output, comparison_path, write_scenario, plot_path, report_pa
         raise InputError("there is no comparison without candidates", "--comparison",
                          "add --candidate FILE (repeatable), or leave --comparison out")
     if report_path is not None:
-        if len(logs) > 1:
-            raise InputError("a report covers the fit of one log", "--report",
-                             "fit one log for the report, or leave --report out")
         from ..report.render import check_report_path
 
         check_report_path(report_path, "--report")
@@ -172,20 +180,16 @@ _OPTIONS = {"free": "--free", "bounds": "--bound", "per_record": "--per-record",
             "columns": "--map", "ignore": "--ignore", "sigma": "--sigma", "noise": "--noise"}
 
 
-def _say_overridden(cand, given) -> None:
-    """Warn where a candidate's [fit] section gives what an option also gives (the section's
-    is used), so that no option is dropped unsaid."""
-    import warnings
-
-    from ..fitting import FitWarning
-
-    for field, option in _OPTIONS.items():
-        mine, theirs = getattr(cand.spec, field), getattr(given, field)
-        if mine is not None and theirs is not None and mine != theirs:
-            warnings.warn(f"{cand.scenario.name}: its [fit] section gives {field}, used instead "
-                          f"of {option} (which applies to candidates whose section does not)",
-                          FitWarning, stacklevel=2)
-
+def overridden_note(cand, given) -> str:
+    """One line naming what the command line overrides in a candidate's [fit] section (empty
+    when it overrides nothing)."""
+    said = [f"{field} ({option})" for field, option in _OPTIONS.items()
+            if getattr(cand.spec, field) is not None and getattr(given, field) is not None
+            and getattr(cand.spec, field) != getattr(given, field)]
+    if not said:
+        return ""
+    return (f"note: {cand.scenario.name}: the command line overrides its [fit] section's "
+            + ", ".join(said))
 
 
 def _save_plots(res, path) -> list:

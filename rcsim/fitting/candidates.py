@@ -15,7 +15,9 @@ structure is one file.
     label = "water and mug"                # its name in a comparison (default: the file name)
 
 Values given to :func:`rcsim.fit` or :func:`rcsim.fitting.compare` apply to the candidates
-whose section does not give them; a candidate's own values win.
+whose section does not give them; a candidate's own values win. On the command line it is the
+other way round: options given to ``rcsim fit`` override the section (``given.over(spec)``), and
+the command names what they override.
 
 The scenario reader accepts a ``[fit]`` table and checks its keys (:data:`rcsim.scenario.FIT_KEYS`,
 an unknown one refused with the nearest valid key); its values are checked here. A candidate

@@ -121,6 +121,19 @@ class JointFit:
             return self._record(record).plot(**kwargs)
         return {k: r.plot(**kwargs) for k, r in self.records.items()}
 
+    def report(self, path=None, *, scenario=None, **options):
+        """A self-contained HTML report of the fit of every log (see :mod:`rcsim.report`): the
+        shared and per-log estimates, then a section per log. Written to ``path`` (.html; the
+        path is returned), or its text when ``path`` is None.
+
+        ``scenario``: the scenario before the fit (default: the fitted one); ``options`` go to
+        :func:`rcsim.report.build_fit_report` (``log_path``: the log files, ``warnings``,
+        ``figures``, ``title``).
+        """
+        from ..report.dispatch import report_page  # the report sits beside fitting; hand-off
+
+        return report_page(self, path, scenario, **options)
+
 
 def joint_result(records, params, x, cov, se, results, loglik, k, n, notes: Notes, noise,
                  noise_estimates=None, t_quantile=1.96) -> JointFit:

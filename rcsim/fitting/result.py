@@ -9,7 +9,6 @@ complete).
 
 from __future__ import annotations
 
-import copy
 import math
 import os
 import warnings
@@ -19,7 +18,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import DataError, SolverError
-from ..scenario import Scenario, loads
+from ..scenario import Scenario
 from ..units import si_unit, to_si
 from .notes import FitWarning
 
@@ -207,27 +206,26 @@ class FitResult:
     def write_scenario(self, path) -> str:
         """Write the fitted scenario to ``path`` (TOML), checked by reading it back.
 
-        Relative CSV file paths in the scenario are rewritten relative to the new folder.
+        The files it names are written relative to the new folder; one that would lie outside
+        it is copied beside it (:func:`rcsim.tomlwrite.write_scenario`), so the written file
+        reads back with no option. Returns the path (a :class:`rcsim.tomlwrite.Written`, whose
+        ``copied`` lists the copies).
         """
-        path = os.fspath(path)
-        folder = os.path.dirname(os.path.abspath(path))
-        sc = self.fitted_scenario
-        data = _relocate_csv_paths(sc.data, sc.base_dir, folder)
-        text = _with_header(self._header(), scenario_text(sc, data))
-        # its CSV paths were checked when the scenario was read; from another folder they may
-        # lead out of it (reading the written file then needs --allow-absolute-paths)
-        check = loads(text, name=os.path.basename(path), base_dir=folder,
-                      allow_absolute_paths=True)
-        from ..tomlwrite import same
+        from ..tomlwrite import write_scenario
 
-        if not same(check.data, data):  # pragma: no cover - a bug if reached
-            raise SolverError("the written scenario does not read back as the fitted one")
-        for k, row in self.estimates.iterrows():
-            got = to_si(check.value(k), self.units[k], k)
-            if not math.isclose(got, row["value"], rel_tol=1e-9, abs_tol=1e-9):
-                raise SolverError(f"the written scenario reads back {k} = {got!r}, not "
-                                  f"{row['value']!r}")  # pragma: no cover - a bug if reached
-        return _write_text_atomic(path, text)
+        sc = self.fitted_scenario
+
+        def text_of(data):
+            return _with_header(self._header(), scenario_text(sc, data))
+
+        def check(back):
+            for k, row in self.estimates.iterrows():
+                got = to_si(back.value(k), self.units[k], k)
+                if not math.isclose(got, row["value"], rel_tol=1e-9, abs_tol=1e-9):
+                    raise SolverError(f"the written scenario reads back {k} = {got!r}, not "
+                                      f"{row['value']!r}")  # pragma: no cover - a bug if reached
+
+        return write_scenario(path, sc.data, sc.base_dir, text_of, check)
 
     def plot(self, **kwargs):
         """Measured vs fitted with residuals below (see :func:`rcsim.plotting.plot_fit`)."""
@@ -291,29 +289,6 @@ def display_unit(kind: str) -> str:
 
 
 _display_unit = display_unit
-
-
-def _relocate_csv_paths(data, old_dir, new_dir):
-    """A copy of ``data`` whose relative ``csv.file`` paths point to the same files from
-    ``new_dir``."""
-    data = copy.deepcopy(data)
-
-    def walk(node):
-        if isinstance(node, dict):
-            for k, v in node.items():
-                if k == "csv" and isinstance(v, dict) and isinstance(v.get("file"), str) \
-                        and not os.path.isabs(v["file"]):
-                    full = os.path.normpath(os.path.join(old_dir, v["file"]))
-                    v["file"] = os.path.relpath(full, new_dir).replace(os.sep, "/")
-                else:
-                    walk(v)
-        elif isinstance(node, list):
-            for v in node:
-                walk(v)
-
-    if os.path.abspath(old_dir) != os.path.abspath(new_dir):
-        walk(data)
-    return data
 
 
 def write_text_atomic(path, text: str) -> str:

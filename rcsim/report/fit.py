@@ -1,8 +1,10 @@
-"""The report of a fit: estimates with their intervals, how well the model follows the log."""
+"""The report of a fit: estimates with their intervals, how well the model follows the log; of a
+fit of several logs at once, the shared and per-log estimates, then one section per log."""
 
 from __future__ import annotations
 
 import hashlib
+import os
 
 import numpy as np
 import pandas as pd
@@ -18,20 +20,22 @@ FIT_CAUTION = ("A fitted model explains the record it was fitted to: check it ag
                "was not fitted to before predicting with it.")
 
 
-def _estimates(fit):
+def _estimates(fit, caption="Estimates with their standard errors and 95 % intervals",
+               id="fit-estimates", note=""):
     table = fit.table()
-    frame = pd.DataFrame({"key": table.index, "estimate": table["value"].to_numpy(),
-                          "std error": table["std_error"].to_numpy(),
-                          "95 % low": table["ci_low"].to_numpy(),
-                          "95 % high": table["ci_high"].to_numpy(),
-                          "unit (SI)": table["unit"].to_numpy(),
-                          "start": table["start"].to_numpy()})
-    return table_from_frame(frame, "Estimates with their standard errors and 95 % intervals",
-                            id="fit-estimates", note="Values in SI units (degC for temperatures; "
-                            "a temperature's standard error in K).")
+    columns = {"key": table.index, "estimate": table["value"].to_numpy(),
+               "std error": table["std_error"].to_numpy(),
+               "95 % low": table["ci_low"].to_numpy(),
+               "95 % high": table["ci_high"].to_numpy(),
+               "unit (SI)": table["unit"].to_numpy()}
+    if "start" in table:
+        columns["start"] = table["start"].to_numpy()
+    return table_from_frame(pd.DataFrame(columns), caption, id=id,
+                            note=note + "Values in SI units (degC for temperatures; a "
+                            "temperature's standard error in K).")
 
 
-def _quality(fit):
+def _quality(fit, id="fit-quality"):
     rmse = pd.Series(fit.rmse_by_column, dtype=float)
     auto = pd.Series(fit.autocorrelation, dtype=float).reindex(rmse.index)
     frame = pd.DataFrame({"log column": rmse.index, "RMSE [K]": rmse.to_numpy(),
@@ -39,19 +43,24 @@ def _quality(fit):
                           "measured values": [int(fit.measured[c].notna().sum())
                                               if c in fit.measured else 0 for c in rmse.index]})
     return table_from_frame(frame, "How well the fitted model follows each measured column",
-                            id="fit-quality", note="A lag-1 autocorrelation above 0.5 says the "
+                            id=id, note="A lag-1 autocorrelation above 0.5 says the "
                             "model is too simple for the data.")
 
 
 def build_fit_report(fit, scenario=None, *, log_path=None, warnings=None,
                      title: str | None = None, figures: bool = True) -> Report:
-    """The report of ``fit`` (a :class:`rcsim.FitResult`).
+    """The report of ``fit`` (a :class:`rcsim.FitResult`, or a fit of several logs at once,
+    :class:`rcsim.fitting.JointFit`: its shared and per-log estimates, then one section per log
+    with its quality, figure and gaps).
 
     ``scenario``: the scenario as it was before the fit (default: the fitted scenario's source
-    text and network with the estimates written in); ``log_path``: the log file, whose SHA-256
-    then goes into the provenance; ``warnings``: further warnings of the command (the fit's own
-    are always listed).
+    text and network with the estimates written in); ``log_path``: the log file (a list of them
+    for several logs), whose SHA-256 then goes into the provenance; ``warnings``: further
+    warnings of the command (the fit's own are always listed).
     """
+    if hasattr(fit, "records"):
+        return _build_joint_report(fit, scenario, log_path=log_path, warnings=warnings,
+                                   title=title, figures=figures)
     fitted = fit.fitted_scenario
     base = scenario if scenario is not None else fitted
     name = getattr(base, "name", "") or "scenario"
@@ -105,3 +114,91 @@ def build_fit_report(fit, scenario=None, *, log_path=None, warnings=None,
     report.extra_caution = FIT_CAUTION
     return report
 
+
+
+def _log_facts(res) -> str:
+    """One record's numbers in words: values, RMSE, held-out error, Ljung-Box test."""
+    text = f"{res.n_points} measured values fitted; RMSE {number_text(res.rmse, 4)} K"
+    if res.holdout is not None and np.isfinite(res.holdout_rmse):
+        text += (f"; held out: {res.holdout.describe()}, RMSE "
+                 f"{number_text(res.holdout_rmse, 4)} K")
+    p = res.whiteness_p
+    if np.isfinite(p):
+        text += (f"; Ljung-Box test of the residuals p = {number_text(p, 3)} ("
+                 + ("white" if p >= 0.05 else "not white: the model misses a dynamic of the "
+                    "data") + ")")
+    return text + "."
+
+
+def _log_section(i, name, res, joint, figures) -> Section:
+    """The section of one log of a fit of several: its own values, quality, figure, gaps."""
+    own = joint.table()
+    own = own[[k.endswith(f"@{name}") for k in own.index]]
+    blocks = [Paragraph(_log_facts(res))]
+    if len(own):
+        frame = pd.DataFrame({"key": own.index, "estimate": own["value"].to_numpy(),
+                              "std error": own["std_error"].to_numpy(),
+                              "95 % low": own["ci_low"].to_numpy(),
+                              "95 % high": own["ci_high"].to_numpy(),
+                              "unit (SI)": own["unit"].to_numpy()})
+        blocks.append(table_from_frame(frame, f"The values of {name} alone", id=f"fit-own-{i}"))
+    blocks.append(_quality(res, id=f"fit-quality-{i}"))
+    if figures:
+        from .figures import figure_of
+
+        drawn = res.plot()
+        blocks.append(figure_of(drawn.figure, f"fig-fit-{i}", f"{name}: measured (dots) and "
+                                "fitted (lines) temperatures, measured \u2212 fitted below."))
+    if res.gaps is not None and len(res.gaps):
+        blocks.append(table_from_frame(res.gaps, f"Spans of {name} without data",
+                                       id=f"fit-gaps-{i}"))
+    return Section(f"log-{i}", f"Log {i}: {name}", blocks)
+
+
+def _build_joint_report(joint, scenario, *, log_path, warnings, title, figures) -> Report:
+    """The report of one scenario fitted to several logs at once (a JointFit)."""
+    records = dict(joint.records)
+    first = next(iter(records.values()))
+    fitted = joint.fitted_scenario
+    base = scenario if scenario is not None else fitted
+    name = getattr(base, "name", "") or "scenario"
+    heading = title or getattr(base, "title", "") or name
+    logs = ", ".join(records)
+    glance = [("scenario", name), ("logs", f"{len(records)}: {logs}"),
+              ("measured values", str(joint.n_points)),
+              ("free values", f"{len(joint.estimates)} (shared, and KEY@log for one log's own)"),
+              ("RMSE", f"{number_text(joint.rmse, 4)} K"),
+              ("log-likelihood", f"{number_text(joint.log_likelihood, 6)} (AIC "
+                                 f"{number_text(joint.aic, 6)}, BIC {number_text(joint.bic, 6)})"),
+              ("wall time", f"{number_text(joint.wall_time, 3)} s")]
+    blocks = [_estimates(joint, note="Shared across the logs, then each log's own values "
+                                     "(KEY@log). ")]
+    if len(joint.estimates) > 1:
+        blocks.append(table_from_frame(
+            joint.correlation, "Correlation of the estimates", id="fit-correlation", index="key",
+            note="Beyond \u00b10.95 the data fix a combination of the two values, not each."))
+    sections = [Section("estimates", "Estimates", blocks)]
+    sections += [_log_section(i, rec, res, joint, figures)
+                 for i, (rec, res) in enumerate(records.items(), 1)]
+    sections += [network_section(fitted), inputs_section(
+        fitted, intro="The fitted scenario: the scenario's inputs with the shared estimates and "
+                      "the first log's own values written in.")]
+    sections.append(Section("fitted-scenario", "The fitted scenario", [
+        Paragraph(f"The scenario with the shared estimates and the own values of {first.log_name} "
+                  "written in, as `rcsim fit --write-scenario` writes it."),
+        Preformatted(first.to_toml(), "", "fitted-toml")]))
+    text = getattr(base, "text", "") or ""
+    paths = [] if log_path is None else (list(log_path) if isinstance(log_path, (list, tuple))
+                                         else [log_path])
+    extra = [("log files", logs)]
+    for path in paths:
+        with open(path, "rb") as fh:
+            extra.append((f"SHA-256 of {os.path.basename(os.fspath(path))}",
+                          hashlib.sha256(fh.read()).hexdigest()))
+    extra.append(("fitted scenario SHA-256", sha256_of(first.to_toml())))
+    report = Report("fit", heading, f"Fit report \u00b7 {name} to {len(records)} logs at once",
+                    purpose_of(base), glance, sections,
+                    warning_texts(list(joint.warnings) + list(warnings or [])),
+                    provenance_items(text, name, extra), text)
+    report.extra_caution = FIT_CAUTION
+    return report

@@ -102,5 +102,10 @@ def size_command(scenario, vary_items, require_items, *, vary_uncertain_items=()
         written += sizing_figures(res, plots_dir, stem=os.path.splitext(sc.name)[0])
     if report is not None:
         written.append(res.report_html(report, warnings=list(caught)))
+    from ..tomlwrite import copy_lines
+
     lines = [] if quiet else [res.report()]
-    return "\n".join(lines + [f"wrote {p}" for p in written])
+    for p in written:
+        lines.append(f"wrote {p}")
+        lines += copy_lines(p)       # files copied beside a written scenario
+    return "\n".join(lines)

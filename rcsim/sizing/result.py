@@ -12,13 +12,12 @@ from __future__ import annotations
 
 import copy
 import math
-import os
 from dataclasses import dataclass, field
 
 import pandas as pd
 
-from ..errors import DataError, SolverError
-from ..scenario import Scenario, loads
+from ..errors import SolverError
+from ..scenario import Scenario
 from ..units import to_si
 from .report import CAUTION, format_report
 from .requirement import format_output
@@ -184,14 +183,12 @@ class SizingResult:
         changed in place and a comment header (a header of an earlier sizing is replaced)."""
         return self._text(self._data())
 
-    def _data(self, folder=None) -> dict:
+    def _data(self) -> dict:
         data = copy.deepcopy(self.scenario.data)
         from ..scenario import set_value
 
         for k, v in self.written.items():
             set_value(data, k, v, self.scenario.name)
-        if folder is not None:
-            data = relocate_csv_paths(data, self.scenario.base_dir, folder)
         return data
 
     def _text(self, data) -> str:
@@ -212,26 +209,22 @@ class SizingResult:
     def write_scenario(self, path) -> str:
         """Write the sized scenario to ``path`` (TOML), checked by reading it back.
 
-        Relative CSV file paths in the scenario are rewritten relative to the new folder.
+        The files it names are written relative to the new folder; one that would lie outside
+        it is copied beside it (:func:`rcsim.tomlwrite.write_scenario`), so the written file
+        reads back with no option. Returns the path (a :class:`rcsim.tomlwrite.Written`, whose
+        ``copied`` lists the copies).
         """
-        path = os.fspath(path)
-        folder = os.path.dirname(os.path.abspath(path))
-        data = self._data(folder)
-        text = self._text(data)
-        # its CSV paths were checked when the scenario was read; from another folder they may
-        # lead out of it (reading the written file then needs --allow-absolute-paths)
-        check = loads(text, name=os.path.basename(path), base_dir=folder,
-                      allow_absolute_paths=True)
-        from ..tomlwrite import same
+        from ..tomlwrite import write_scenario
 
-        if not same(check.data, data):  # pragma: no cover - a bug if reached
-            raise SolverError("the written scenario does not read back as the sized one")
-        for k, kind in zip(self.sized.keys, self.sized.kinds):
-            got = to_si(check.value(k), kind, k)
-            want = to_si(self.written[k], kind, k)
-            if not math.isclose(got, want, rel_tol=1e-9, abs_tol=1e-12):  # pragma: no cover
-                raise SolverError(f"the written scenario reads back {k} = {got!r}, not {want!r}")
-        return _write_text_atomic(path, text)
+        def check(back):
+            for k, kind in zip(self.sized.keys, self.sized.kinds):
+                got = to_si(back.value(k), kind, k)
+                want = to_si(self.written[k], kind, k)
+                if not math.isclose(got, want, rel_tol=1e-9, abs_tol=1e-12):  # pragma: no cover
+                    raise SolverError(f"the written scenario reads back {k} = {got!r}, not "
+                                      f"{want!r}")
+
+        return write_scenario(path, self._data(), self.scenario.base_dir, self._text, check)
 
 
 def without_header(text: str) -> str:
@@ -248,37 +241,3 @@ def without_header(text: str) -> str:
                 rest = rest[1:]
             return "".join(rest)
     return text
-
-
-def relocate_csv_paths(data, old_dir, new_dir):
-    """A copy of ``data`` whose relative ``csv.file`` paths point to the same files from
-    ``new_dir``."""
-    data = copy.deepcopy(data)
-
-    def walk(node):
-        if isinstance(node, dict):
-            for k, v in node.items():
-                if k == "csv" and isinstance(v, dict) and isinstance(v.get("file"), str) \
-                        and not os.path.isabs(v["file"]):
-                    full = os.path.normpath(os.path.join(old_dir, v["file"]))
-                    v["file"] = os.path.relpath(full, new_dir).replace(os.sep, "/")
-                else:
-                    walk(v)
-        elif isinstance(node, list):
-            for v in node:
-                walk(v)
-
-    if os.path.abspath(old_dir) != os.path.abspath(new_dir):
-        walk(data)
-    return data
-
-
-def _write_text_atomic(path, text: str) -> str:
-    from ..atomic import atomic_path
-
-    try:
-        with atomic_path(path) as tmp, open(tmp, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
-    except OSError as exc:
-        raise DataError(f"cannot write ({exc.strerror})", os.fspath(path)) from None
-    return os.fspath(path)

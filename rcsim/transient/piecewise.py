@@ -316,10 +316,7 @@ class PiecewiseSolver:
         starts, (e0, e1, e2, e3) = self._phi_rows(reg, j, j_end, h)
         zp = dzp = None
         if reg.cz:
-            if reg.dev.size:
-                zp, dzp = reg.particular(s, with_rate=True)
-            else:
-                zp = reg.particular(s)
+            zp, dzp = self._particular(reg, j, j_end, t_c)
         G = h[:, None] * (e1 * FR + e2 * (FL - FR))
         if zp is not None:
             G += zp[1:] - e0 * zp[:-1]
@@ -370,6 +367,21 @@ class PiecewiseSolver:
                 switches[pos - npcm].append(t_hit)
             count += 1
         return count
+
+    def _particular(self, reg, j, j_end, t_c):
+        """The particular response to the sines (and its rate) at a run's local times: at
+        ``t_c``, then grid points j+1..j_end. Kept per regime and grid, as the E functions are:
+        each sweep's runs read the same grid points again."""
+        cached = reg.phi_cache.get("particular")
+        if cached is None or cached[0] is not self.grid:
+            cached = reg.phi_cache["particular"] = (self.grid,
+                                                    *reg.particular(self.grid, with_rate=True))
+        _, zp_grid, dzp_grid = cached
+        if t_c == self.grid[j]:
+            return zp_grid[j:j_end + 1], dzp_grid[j:j_end + 1]
+        zp0, dzp0 = reg.particular(np.array([t_c]), with_rate=True)
+        return (np.concatenate([zp0, zp_grid[j + 1:j_end + 1]]),
+                np.concatenate([dzp0, dzp_grid[j + 1:j_end + 1]]))
 
     def _phi_rows(self, reg, j, j_end, h):
         """Starts of the stretches of equal interval length in a run over grid intervals
@@ -465,8 +477,7 @@ class PiecewiseSolver:
         seg = self.seg
         ta_r, tb_r = seg.ends(Tg[:-1], self._WR)
         ta_l, tb_l = seg.ends(Tg[1:], self._WL)
-        qR = seg.flows(ta_r, tb_r, self.grid[:-1], "right")
-        qL = seg.flows(ta_l, tb_l, self.grid[1:], "left")
+        qR, qL = seg.flows_on_grid(ta_r, tb_r, ta_l, tb_l, self.grid)
         return qR - self.g * (ta_r - tb_r), qL - self.g * (ta_l - tb_l)
 
     def _tangent_reference(self, Tg: np.ndarray) -> np.ndarray:

@@ -78,6 +78,35 @@ class RemainderLinks:
             q[..., k:] = self.varying.varying.extra(t, side) * (ta[..., k:] - tb[..., k:])
         return q
 
+    def flows_on_grid(self, ta_r, tb_r, ta_l, tb_l, grid):
+        """Flows at the start (just right of each grid point: ``ta_r``, ``tb_r``) and at the
+        end (just left of the next: ``ta_l``, ``tb_l``) of every interval of ``grid``, as
+        :meth:`flows` gives them.
+
+        At a point where an interval's end and the next one's start see the same end
+        temperatures (every input continuous there), the nonlinear columns are evaluated once:
+        about half the evaluations of the correlations and radiation laws.
+        """
+        J = ta_r.shape[0]
+        qR = np.empty(ta_r.shape)
+        qL = np.empty(ta_l.shape)
+        k = self.n_nl
+        if k:
+            same = ((ta_l[:-1, :k] == ta_r[1:, :k]) & (tb_l[:-1, :k] == tb_r[1:, :k])).all(axis=1)
+            differ = np.flatnonzero(~same)
+            q = self.nonlinear.nl.flows(
+                np.concatenate([ta_r[:, :k], ta_l[-1:, :k], ta_l[differ, :k]]),
+                np.concatenate([tb_r[:, :k], tb_l[-1:, :k], tb_l[differ, :k]]))
+            qR[:, :k] = q[:J]
+            qL[:, :k] = q[1:J + 1]
+            qL[differ, :k] = q[J + 1:]
+        if self.varying is not None:
+            qR[:, k:] = self.varying.varying.extra(grid[:-1], "right") \
+                * (ta_r[:, k:] - tb_r[:, k:])
+            qL[:, k:] = self.varying.varying.extra(grid[1:], "left") \
+                * (ta_l[:, k:] - tb_l[:, k:])
+        return qR, qL
+
     def reference(self, ta, tb, t) -> np.ndarray:
         """Reference conductance of every column for end temperatures and times along a
         trajectory (rows): the mid-range of its tangent. A nonlinear column's stays positive; a

@@ -17,13 +17,28 @@ waveform relaxation for radiation and films) and, for reference, its stiff path.
 against the hand-written model integrated by Radau at rtol 1e-10. A second case slices the foam
 into 10 layers (24 states), where the hand-written form no longer exists.
 
-Run:  python tests/benchmarks/bench_nonlinear.py
+A third part times a sweep of the shipper as a user runs one (``rcsim.sweep``, the serial
+executor: one worker) against the same sweep with the former hot spots put back (kept in this
+file, below, as the baseline: event location by a per-function 32-point bracket and Illinois
+regula falsi on ``Regime.state_at``; the film correlation through the ``air_properties`` dict
+with h and its four shifted values in five calls; the links' flows evaluated separately at the
+start and end of every interval; the steady Newton iteration of the time constants on sparse
+matrices), interleaved, best of several, and prints the ratio, the largest difference between
+the two sweeps' tables, and the shares of the run that cProfile gives each part, before and
+after.
+
+Run:  python tests/benchmarks/bench_nonlinear.py [--quick] [--sweep-only]
 """
 
 from __future__ import annotations
 
+import argparse
+import contextlib
+import cProfile
 import os
+import pstats
 import sys
+import time
 
 import numpy as np
 from scipy.integrate import solve_ivp
@@ -68,7 +83,17 @@ def hold(t, T):
     return excursion_stats(t, T, 8.0, "max")["hold_time [s]"]
 
 
-def main():
+def main(argv=None):
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--quick", action="store_true", help="a shorter sweep, fewer repeats")
+    ap.add_argument("--sweep-only", action="store_true", help="only the sweep before/after")
+    args = ap.parse_args(argv)
+    if not args.sweep_only:
+        against_solve_ivp()
+    sweep_before_after(runs=20 if args.quick else 40, repeats=2 if args.quick else 4)
+
+
+def against_solve_ivp():
     sc = rcsim.load(SCENARIO)
     t_pw, res = best_of(5, sc.run)
     t_st, res_st = best_of(3, lambda: sc.run(solver="stiff"))
@@ -138,6 +163,228 @@ def main():
           f"{hold(t, T_own2) / 3600:.4f} h   max |dT| payload {np.abs(T2 - T_own2).max():.1e} K "
           f"[{status2}]")
     print(f"  -> ratio {t_own2 / t_pw2:.1f}x (target >= 5x)")
+
+
+# -- the sweep, before and after ------------------------------------------------------------
+VARY = {"links.foam.parts[0].conduction.thickness": "normal(50 mm, 5 mm)",   # as bench_sweep
+        "nodes.payload.mass": "normal(6 kg, 0.5 kg)",
+        "boundaries.bay.temperature.sine.mean": "normal(25 degC, 2 K)"}
+
+#: parts of a run whose cProfile share is printed: label -> function names (inclusive time)
+PARTS = {
+    "piecewise path (all its sweeps)": ("solve",),
+    "event location": ("locate_event", "former_locate_event"),
+    "hump test between grid points": ("find_dips",),
+    "closed-form stretches (modes over the grid)": ("_stretch",),
+    "film correlation (h, air properties)": ("natural_convection_coefficient",
+                                             "former_natural_convection_coefficient"),
+    "time constants (steady Newton + modes)": ("time_constants_at",),
+}
+
+
+def profile_shares(func):
+    """{part: share of the run's time} under cProfile (inclusive times of PARTS' functions)."""
+    prof = cProfile.Profile()
+    prof.enable()
+    func()
+    prof.disable()
+    stats = pstats.Stats(prof).stats
+    total = max(v[3] for v in stats.values())
+    out = {}
+    for label, names in PARTS.items():
+        found = [v[3] for k, v in stats.items() if k[2] in names
+                 and (k[2] != "solve" or k[0].endswith("piecewise.py"))]
+        out[label] = sum(found) / total
+    return out
+
+
+def sweep_before_after(runs=40, repeats=4):
+    sc = rcsim.load(SCENARIO)
+
+    def go():
+        return rcsim.sweep(sc, VARY, samples=runs, seed=1, executor="serial")
+
+    now = go()                                    # warm-up, and the table
+    with former_hot_spots():
+        before = go()
+    wall = {"before": [], "now": []}
+    cpu = {"before": [], "now": []}
+    for _ in range(repeats):                      # interleaved: load elsewhere hits both alike
+        for label in ("before", "now"):
+            ctx = former_hot_spots() if label == "before" else contextlib.nullcontext()
+            with ctx:
+                w0, c0 = time.perf_counter(), time.process_time()
+                go()
+                wall[label].append(time.perf_counter() - w0)
+                cpu[label].append(time.process_time() - c0)
+    with former_hot_spots():
+        shares_before = profile_shares(go)
+    shares_now = profile_shares(go)
+    num = now.select_dtypes("number")
+    diff = (num - before.select_dtypes("number")).abs()
+    temps = [c for c in num.columns if c.startswith(("min.", "max."))]
+    hold = [c for c in num.columns if c.startswith(("hold_time.", "time_out"))]
+    res_now = sc.run()
+    with former_hot_spots():
+        res_before = sc.run()
+    dT = np.abs(res_now.temperatures.to_numpy() - res_before.temperatures.to_numpy()).max()
+    wb, wn, cb, cn = min(wall["before"]), min(wall["now"]), min(cpu["before"]), min(cpu["now"])
+    print(f"\nsweep of the shipper, {runs} runs, serial executor (one worker), best of {repeats} "
+          f"interleaved; load average {os.getloadavg()[0]:.1f}")
+    print(f"  former hot spots put back   {wb / runs * 1e3:7.1f} ms/run wall, "
+          f"{cb / runs * 1e3:7.1f} ms/run processor")
+    print(f"  now                         {wn / runs * 1e3:7.1f} ms/run wall, "
+          f"{cn / runs * 1e3:7.1f} ms/run processor")
+    print(f"  -> {wb / wn:.2f}x wall, {cb / cn:.2f}x processor time")
+    print(f"  largest differences between the two sweeps: min/max temperatures "
+          f"{diff[temps].to_numpy().max():.1e} K, hold times {diff[hold].to_numpy().max():.1e} s;"
+          f" one run's histories, every node: max |dT| {dT:.1e} K (tolerance 1e-6)")
+    print(f"  {'share of the sweep under cProfile':44s} {'before':>7s} {'now':>7s}")
+    for label in PARTS:
+        print(f"    {label:42s} {100 * shares_before[label]:6.1f}% {100 * shares_now[label]:6.1f}%")
+
+
+@contextlib.contextmanager
+def former_hot_spots():
+    """The former event location, film correlation, flows and steady Newton, put back for the
+    duration (the baseline of the before/after ratio)."""
+    from rcsim import correlations, laws, nonlinear
+    from rcsim.transient import piecewise
+
+    saved = (piecewise.locate_event, correlations.natural_convection_coefficient,
+             laws.FilmLaw.derivatives, piecewise.PiecewiseSolver._flows, nonlinear.DENSE_NEWTON)
+    piecewise.locate_event = former_locate_event
+    correlations.natural_convection_coefficient = former_natural_convection_coefficient
+    laws.FilmLaw.derivatives = former_film_derivatives
+    piecewise.PiecewiseSolver._flows = former_flows
+    nonlinear.DENSE_NEWTON = -1                   # sparse matrices at every size
+    try:
+        yield
+    finally:
+        (piecewise.locate_event, correlations.natural_convection_coefficient,
+         laws.FilmLaw.derivatives, piecewise.PiecewiseSolver._flows,
+         nonlinear.DENSE_NEWTON) = saved
+
+
+def former_locate_event(reg, t0, h, z0, FR, dF, vals_end, dips=None):
+    """The former event location: per event function, a 32-point bracket on
+    ``Regime.state_at``, then Illinois regula falsi, then a check past the root."""
+    xtol = 1e-6 * max(1.0, h)
+    fired = np.flatnonzero(vals_end > 0.0)
+    probe = np.full(fired.size, np.nan)
+    if dips:
+        fired = np.concatenate([fired, list(dips)]).astype(np.int64)
+        probe = np.concatenate([probe, list(dips.values())])
+    rows = reg.CevV[fired]
+    f0 = rows @ z0 + reg.dev[fired]
+    if (f0 > 0.0).any():
+        return t0 + min(h, xtol), int(fired[int(np.argmax(f0))])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        guess = np.where(np.isnan(probe), f0 / (f0 - vals_end[fired]), probe / h)
+    best_t, best_e = None, None
+    for k in np.argsort(guess):
+        row, d = rows[k], reg.dev[fired[k]]
+
+        def f(tau, row=row, d=d):
+            return float(row @ reg.state_at(t0, tau, h, z0, FR, dF) + d)
+
+        lo, hi = 0.0, h
+        if best_t is not None:
+            hi = best_t - t0 - xtol
+            if hi <= 0.0 or f(hi) <= 0.0:
+                continue
+        taus = hi * np.arange(1, 33) / 32.0
+        if not np.isnan(probe[k]) and probe[k] < hi:
+            taus = np.union1d(taus, [probe[k]])
+        vals = reg.state_at(t0, taus, h, z0, FR, dF) @ row + d
+        i = int(np.argmax(vals > 0.0))
+        if vals[i] <= 0.0:
+            continue
+        lo, hi = (taus[i - 1] if i else 0.0), taus[i]
+        root = _former_root_in_bracket(f, lo, hi, float(vals[i - 1]) if i else float(f0[k]),
+                                       float(vals[i]), 0.25 * xtol)
+        t_hi = min(hi, root + 0.5 * xtol)
+        if f(t_hi) <= 0.0:
+            t_hi = hi
+        best_t, best_e = t0 + t_hi, int(fired[k])
+    return best_t, best_e
+
+
+def _former_root_in_bracket(f, lo, hi, f_lo, f_hi, xtol, max_iter=60):
+    side = 0
+    root = hi
+    for _ in range(max_iter):
+        width = hi - lo
+        if width <= xtol:
+            return hi
+        t = lo - f_lo * width / (f_hi - f_lo)
+        if not (lo < t < hi):
+            t = 0.5 * (lo + hi)
+        ft = f(t)
+        slope = (f_hi - f_lo) / width
+        root = t - ft / slope
+        if abs(ft) <= slope * xtol:
+            return min(max(root, lo), hi)
+        if ft > 0.0:
+            hi, f_hi = t, ft
+            if side == 1:
+                f_lo *= 0.5
+            side = 1
+        else:
+            lo, f_lo = t, ft
+            if side == -1:
+                f_hi *= 0.5
+            side = -1
+    return root
+
+
+def former_natural_convection_coefficient(geometry, surface_temperature, fluid_temperature,
+                                          length, surface_faces="up"):
+    """The former film coefficient: the full ``air_properties`` dict, then Ra, Pr and the
+    correlation with fractional powers."""
+    from rcsim.correlations import GRAVITY, air_properties, nusselt_horizontal_plate
+
+    ts = np.asarray(surface_temperature, dtype=float)
+    tf = np.asarray(fluid_temperature, dtype=float)
+    props = air_properties(0.5 * (ts + tf))
+    dT = np.abs(ts - tf)
+    ra = GRAVITY * props["beta"] * dT * length ** 3 / (props["nu"] * props["alpha"])
+    pr = props["Pr"]
+    if geometry == "vertical-plate":
+        c0, c1 = 0.825, 0.492
+    elif geometry == "horizontal-cylinder":
+        c0, c1 = 0.60, 0.559
+    if geometry == "horizontal-plate":
+        hot = ts > tf
+        nu = nusselt_horizontal_plate(ra, hot if surface_faces == "up" else ~hot)
+        nu0 = 0.0
+    else:
+        nu = (c0 + 0.387 * ra ** (1 / 6) / (1 + (c1 / pr) ** (9 / 16)) ** (8 / 27)) ** 2
+        nu0 = c0 ** 2
+    h = nu * props["k"] / length
+    limit = nu0 * props["k"] / length
+    return np.where(dT > 0, h, limit) if np.ndim(h) else (float(h) if dT > 0 else float(limit))
+
+
+def former_film_derivatives(self, params, t1, t2):
+    """The former film derivatives: h and four shifted values in five calls."""
+    d = 1e-4
+    h = self._h(params, t1, t2)
+    dh1 = (self._h(params, t1 + d, t2) - self._h(params, t1 - d, t2)) / (2 * d)
+    dh2 = (self._h(params, t1, t2 + d) - self._h(params, t1, t2 - d)) / (2 * d)
+    a = params["area"]
+    return a * (h + (t1 - t2) * dh1), a * (-h + (t1 - t2) * dh2)
+
+
+def former_flows(self, Tg):
+    """The former remainders: the links' flows at the start and at the end of every interval,
+    evaluated separately."""
+    seg = self.seg
+    ta_r, tb_r = seg.ends(Tg[:-1], self._WR)
+    ta_l, tb_l = seg.ends(Tg[1:], self._WL)
+    qR = seg.flows(ta_r, tb_r, self.grid[:-1], "right")
+    qL = seg.flows(ta_l, tb_l, self.grid[1:], "left")
+    return qR - self.g * (ta_r - tb_r), qL - self.g * (ta_l - tb_l)
 
 
 if __name__ == "__main__":

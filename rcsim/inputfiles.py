@@ -7,6 +7,9 @@ much of their text an error may show.
   (``--allow-absolute-paths``).
 * Only regular files are read: a FIFO would block forever, a device such as ``/dev/zero`` would
   fill the memory; each file is checked with ``os.stat`` before it is opened.
+* A file's size on disk is not trusted to bound what reading it gives: files of ``/proc`` and
+  ``/sys`` report a size of 0 yet hold any amount. :func:`read_bytes` reads at most one byte more
+  than a limit and refuses the file when that byte arrives.
 * An error about a file's content quotes at most one short cell of it (:func:`quote_cell`),
   never whole lines of a file that may not be the user's.
 """
@@ -18,7 +21,7 @@ import stat
 
 from .errors import DataError, ScenarioError
 
-__all__ = ["resolve_input", "check_regular_file", "cut", "quote_cell", "quote_names", "CELL_CHARS"]
+__all__ = ["resolve_input", "check_regular_file", "read_bytes", "cut", "quote_cell", "quote_names", "CELL_CHARS"]
 
 #: at most this many characters of a file's cell are quoted in an error
 CELL_CHARS = 40
@@ -81,6 +84,52 @@ def check_regular_file(path, label: str) -> os.stat_result:
         kind = next((name for test, name in _KINDS if test(st.st_mode)), "not a regular file")
         raise DataError(f"is {kind}, not a regular file; only regular files are read", label)
     return st
+
+
+#: bytes read at a time by :func:`read_bytes`
+_CHUNK = 1 << 20
+
+
+def read_bytes(path, label: str, limit: int | None, too_large: str = "",
+               hint: str | None = None) -> bytes:
+    """The content of the regular file ``path``, or DataError once more than ``limit`` bytes
+    have come (``None``: no limit). At most ``limit + 1`` bytes are read, whatever size the file
+    reports. ``too_large`` ends the message ("the most ... allowed"); ``label`` names the file.
+
+    >>> import os, tempfile
+    >>> path = os.path.join(tempfile.mkdtemp(), "a.csv")
+    >>> with open(path, "w") as fh:
+    ...     _ = fh.write("t,x\\n0,1\\n")
+    >>> read_bytes(path, "a.csv", 8)
+    b't,x\\n0,1\\n'
+    >>> read_bytes(path, "a.csv", 7)
+    Traceback (most recent call last):
+    ...
+    rcsim.errors.DataError: a.csv: is more than 7 bytes
+    """
+    check_regular_file(path, label)
+    chunks, got = [], 0
+    try:
+        with open(path, "rb") as fh:
+            while limit is None or got <= limit:
+                want = _CHUNK if limit is None else min(_CHUNK, limit + 1 - got)
+                chunk = fh.read(want)
+                if not chunk:
+                    break
+                chunks.append(chunk)
+                got += len(chunk)
+    except OSError as exc:
+        raise DataError(f"cannot be read ({exc.strerror})", label) from None
+    if limit is not None and got > limit:
+        raise DataError(f"is more than {_size(limit)}{too_large}", label, hint)
+    return b"".join(chunks)
+
+
+def _size(n: int) -> str:
+    """A byte count for people: ``'7 bytes'``, ``'12.0 MB'``, ``'1.25 GB'``."""
+    if n < 1e6:
+        return f"{n} bytes"
+    return f"{n / 1e6:.1f} MB" if n < 1e9 else f"{n / 1e9:.2f} GB"
 
 
 def cut(text, limit: int = CELL_CHARS) -> str:

@@ -1,8 +1,9 @@
 """Quantity parsing at the edge: strings with units (or plain numbers) to SI floats.
 
 rcsim holds one pint registry, here, built once on first use (pint is imported then, not when
-this module is): :func:`registry`, or the module attribute ``ureg``. Plain numbers and strings
-without a unit never need it. Everything else in the package works in SI floats with
+this module is): :func:`registry`, or the module attribute ``ureg``. Plain numbers, strings
+without a unit and strings in the units written most (:data:`COMMON_UNITS`, such as "50 mm" or
+"8.4 kJ/K") never need it. Everything else in the package works in SI floats with
 temperatures in degC (absolute) or K (differences); solvers never see a unit object.
 
 A *kind* names what a value must be (``"length"``, ``"temperature"``, ``"power"``...). A plain number
@@ -22,7 +23,7 @@ from numbers import Real
 
 from .errors import UnitError
 
-__all__ = ["ureg", "registry", "KINDS", "EXAMPLE_UNITS", "expected", "ABSOLUTE_ZERO", "to_si", "to_si_array", "si_unit", "format_quantity",
+__all__ = ["ureg", "registry", "COMMON_UNITS", "KINDS", "EXAMPLE_UNITS", "expected", "ABSOLUTE_ZERO", "to_si", "to_si_array", "si_unit", "format_quantity",
            "format_duration", "significant", "format_clock_time"]
 
 # kind -> (SI unit string, description used in messages "expected a length")
@@ -82,47 +83,64 @@ _registry_lock = threading.Lock()
 
 
 def registry():
-    """The pint unit registry rcsim parses units with (built on the first call, ~0.2 s; the
-    same object afterwards, from any thread). Also reachable as ``rcsim.units.ureg``."""
+    """The pint unit registry rcsim parses units with: pint is imported, and its definitions
+    parsed, on the first call (~0.2-0.4 s); the same object afterwards, from any thread. Also
+    reachable as ``rcsim.units.ureg``. The units people write most (:data:`COMMON_UNITS`) are
+    converted without it."""
     global _registry
     if _registry is None:
         with _registry_lock:
             if _registry is None:
-                _registry = _build_registry()
+                import pint
+
+                built = pint.UnitRegistry()
+                built.formatter.default_format = "~P"
+                _registry = built
     return _registry
 
 
-def _build_registry():
-    """A new registry: pint's own definitions, kept parsed in pint's disk cache (the user's
-    cache folder) so that later processes build it in ~0.03 s instead of ~0.2 s; without the
-    cache when it cannot be used (read-only home, a damaged file)."""
-    pint = _import_pint()
-    try:
-        built = pint.UnitRegistry(cache_folder=":auto:")
-    except Exception:  # noqa: BLE001 - any failure of the cache: parse the definitions instead
-        built = pint.UnitRegistry()
-    built.formatter.default_format = "~P"
-    return built
+#: The units written most in scenario files, logs and options, converted without the unit
+#: registry: (unit as written, kind) -> (factor, offset), SI value = factor * number + offset.
+#: Factors are exact by definition (SI brochure, 9th ed.: the prefixes, and minute, hour, day,
+#: litre and tonne of its Table 8; the bar is 100 kPa; inch, foot and pound by the
+#: international yard and pound agreement of 1959), and tests/test_startup.py checks each
+#: against pint's own conversion. A unit not listed here, or written another way, or of another
+#: kind, goes through the registry (and its errors).
+COMMON_UNITS: dict[tuple[str, str], tuple[float, float]] = {}
 
 
-def _import_pint():
-    """Import pint without letting it import dask.
+def _common(kind: str, units: dict) -> None:
+    for text, factor in units.items():
+        COMMON_UNITS[(text, kind)] = factor if isinstance(factor, tuple) else (factor, 0.0)
 
-    pint looks for dask when it is imported, to handle dask arrays, which rcsim never hands it;
-    where dask is installed (``rcsim[dask]``) that import alone costs ~0.1 s in every process.
-    While pint is imported, dask is marked absent unless something has imported it already.
-    """
-    if "pint" in sys.modules or "dask" in sys.modules:
-        import pint
 
-        return pint
-    sys.modules["dask"] = None  # find_spec("dask") is None: pint leaves dask alone
-    try:
-        import pint
-    finally:
-        if "dask" in sys.modules and sys.modules["dask"] is None:
-            del sys.modules["dask"]
-    return pint
+_common("length", {"m": 1.0, "mm": 1e-3, "cm": 1e-2, "km": 1e3, "um": 1e-6, "in": 0.0254,
+                   "ft": 0.3048})
+_common("area", {"m^2": 1.0, "m**2": 1.0, "mm^2": 1e-6, "cm^2": 1e-4, "dm^2": 1e-2,
+                 "ft^2": 0.09290304})
+_common("volume", {"m^3": 1.0, "m**3": 1.0, "dm^3": 1e-3, "cm^3": 1e-6, "L": 1e-3, "l": 1e-3,
+                   "mL": 1e-6})
+_common("mass", {"kg": 1.0, "g": 1e-3, "t": 1e3, "lb": 0.45359237})
+_common("time", {"s": 1.0, "ms": 1e-3, "min": 60.0, "h": 3600.0, "hr": 3600.0, "hour": 3600.0,
+                 "hours": 3600.0, "d": 86400.0, "day": 86400.0, "days": 86400.0})
+_common("temperature", {"degC": 1.0, "\u00b0C": 1.0, "K": (1.0, ABSOLUTE_ZERO),
+                        "degF": (5 / 9, -32 * 5 / 9), "\u00b0F": (5 / 9, -32 * 5 / 9)})
+_common("temperature_difference", {"K": 1.0, "delta_degC": 1.0, "delta_degF": 5 / 9})
+_common("power", {"W": 1.0, "kW": 1e3, "mW": 1e-3})
+_common("energy", {"J": 1.0, "kJ": 1e3, "MJ": 1e6, "Wh": 3600.0, "kWh": 3.6e6})
+_common("capacity", {"J/K": 1.0, "kJ/K": 1e3, "MJ/K": 1e6})
+_common("resistance", {"K/W": 1.0})
+_common("conductance", {"W/K": 1.0})
+_common("area_resistance", {"m^2*K/W": 1.0})
+_common("heat_transfer_coefficient", {"W/(m^2*K)": 1.0})
+_common("conductivity", {"W/(m*K)": 1.0})
+_common("density", {"kg/m^3": 1.0})
+_common("specific_heat", {"J/(kg*K)": 1.0, "kJ/(kg*K)": 1e3})
+_common("specific_energy", {"J/kg": 1.0, "kJ/kg": 1e3})
+_common("velocity", {"m/s": 1.0, "km/h": 1 / 3.6})
+_common("pressure", {"Pa": 1.0, "hPa": 1e2, "kPa": 1e3, "bar": 1e5})
+_common("heat_flux", {"W/m^2": 1.0})
+_common("rate", {"K/s": 1.0, "K/min": 1 / 60, "K/h": 1 / 3600})
 
 
 def __getattr__(name: str):
@@ -169,21 +187,28 @@ def _describe_dims(dims, quantity=None) -> str:
 def _string_to_si(text: str, kind: str) -> float:
     """A string such as '50 mm' in the SI unit of ``kind`` (no key in errors: the caller adds
     it). Scenario rebuilds in sweeps and fits meet the same strings again and again."""
-    number, units = _parse_cached(text)
-    return number if units is None else _convert(number, units, kind, text, None)
+    number, unit_text = _split(text)
+    if not unit_text:
+        return number
+    common = COMMON_UNITS.get((unit_text, kind))
+    if common is not None:
+        return common[0] * number + common[1]
+    return _convert(number, _parse_units(unit_text, text), kind, text, None)
+
+
+def _split(text: str) -> tuple[float, str]:
+    """'50 mm' -> (50.0, 'mm'); a plain number has the unit ''."""
+    match = _NUMBER.match(text)
+    if not match:
+        raise UnitError(f"cannot read {text!r} as a number with a unit", None,
+                        "write e.g. '50 mm' or '3 kJ/K'")
+    return float(match.group(1)), match.group(2)
 
 
 @lru_cache(maxsize=4096)
-def _parse_cached(text: str):
+def _parse_units(unit_text: str, text: str):
+    """The registry's units for ``unit_text`` (of ``text``, for messages)."""
     where = None
-    match = _NUMBER.match(text)
-    if not match:
-        raise UnitError(f"cannot read {text!r} as a number with a unit", where,
-                        "write e.g. '50 mm' or '3 kJ/K'")
-    number_text, unit_text = match.group(1), match.group(2)
-    number = float(number_text)
-    if not unit_text:
-        return number, None
     if len(unit_text) > 200:
         raise UnitError(f"unit text too long ({len(unit_text)} characters)", where)
     try:
@@ -191,7 +216,7 @@ def _parse_cached(text: str):
     except Exception:  # noqa: BLE001 - pint's parser fails in many ways (even AssertionError)
         raise UnitError(f"unknown unit {unit_text!r} in {text!r}", where,
                         "units follow pint's names, e.g. mm, m^2, kJ/K, W/(m^2*K), degC") from None
-    return number, units
+    return units
 
 
 #: SI magnitudes above MAX_MAGNITUDE, and nonzero sizes (lengths, capacities, resistances...)

@@ -32,6 +32,7 @@ quantities keep their stamps.
 
 from __future__ import annotations
 
+import io
 import os
 import re
 from dataclasses import dataclass, field
@@ -43,8 +44,8 @@ from .arguments import check_name
 from .base import suggest
 from .clock import line_of, parse_time_zone, parse_timestamps, to_instant
 from .errors import DataError, InputError, UnitError
-from .inputfiles import check_regular_file, cut, quote_cell
-from .profiles.timeseries import check_separator, header_line
+from .inputfiles import cut, quote_cell
+from .profiles.timeseries import check_separator, first_line, read_capped
 from .units import KINDS, to_si
 
 __all__ = ["QUANTITIES", "FRACTION_UNITS", "WeatherRecord", "read_weather"]
@@ -229,10 +230,10 @@ def _read_text(path, label):
     path = os.fspath(path)
     if os.path.isdir(path):
         raise DataError("is a directory, not a CSV file", label)
-    check_regular_file(path, label)      # not missing, no FIFO or device (rcsim.inputfiles)
-    check_separator(header_line(path).split(","), label)
+    raw = read_capped(path, label)       # no FIFO or device, at most what fits in memory
+    check_separator(first_line(raw).split(","), label)
     try:
-        frame = pd.read_csv(path, dtype=str, keep_default_na=False, skipinitialspace=True,
+        frame = pd.read_csv(io.BytesIO(raw), dtype=str, keep_default_na=False, skipinitialspace=True,
                             encoding="utf-8")
     except UnicodeDecodeError:
         raise DataError("is not UTF-8 text", label) from None
@@ -241,17 +242,18 @@ def _read_text(path, label):
     except pd.errors.ParserError as exc:
         raise DataError(f"cannot be read as CSV: {str(exc).strip().splitlines()[-1]}",
                         label) from None
-    frame.columns = _header_of(path, label)
+    frame.columns = _header_of(io.BytesIO(raw), label)
     if frame.shape[0] == 0:
         raise DataError("has a header but no data rows", label)
     return frame.apply(lambda col: col.str.strip())
 
 
-def _header_of(path, label) -> list[str]:
-    """The header row as written (pandas renames duplicated names; they are refused here)."""
+def _header_of(raw, label) -> list[str]:
+    """The header row as written (pandas renames duplicated names; they are refused here);
+    ``raw``: the file's bytes as a binary file object."""
     import csv
 
-    with open(path, encoding="utf-8", newline="") as fh:
+    with io.TextIOWrapper(raw, encoding="utf-8", newline="") as fh:
         names = [name.strip() for name in next(csv.reader(fh, skipinitialspace=True))]
     for i, name in enumerate(names):
         if name in names[:i]:

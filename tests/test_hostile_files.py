@@ -419,6 +419,29 @@ def test_a_device_is_refused_and_memory_stays_bounded(nest, tmp_path):
     one_line(r, "character device")
 
 
+PROC_FILE = "/proc/self/pagemap"   # 8 bytes per page of address space, yet a size of 0
+
+
+@pytest.mark.skipif(not os.path.exists(PROC_FILE) or os.stat(PROC_FILE).st_size != 0,
+                    reason="no /proc file that hides its size here")
+def test_a_file_that_reports_size_0_is_read_with_a_byte_cap(cli, nest, tmp_path, monkeypatch):
+    # files of /proc report st_size 0 (proc(5)) and still give any amount when read; the size
+    # guard must count what it reads. With 150 kB of memory "available" the cap is
+    # 0.8 * 150e3 / 15 = 8000 bytes (rcsim.profiles.timeseries.read_capped)
+    import rcsim.profiles.timeseries as timeseries
+
+    # (read whole, the file would be gigabytes: the refusal shows the reading stopped)
+    monkeypatch.setattr(timeseries, "memory_available", lambda: 150_000)
+    one_line(cli("check", nest(PROC_FILE), "--allow-absolute-paths"), "pagemap",
+             "more than 8000 bytes", "memory is available")
+    # a fit log is read by the same reader
+    with pytest.raises(InputError, match="more than 8000 bytes"):
+        rcsim.fit(rcsim.loads(BLOCK), PROC_FILE, ["nodes.block.capacity"])
+    # a smaller cap of the caller's own is kept, whatever the file says about its size
+    with pytest.raises(InputError, match="more than 100 bytes, the most allowed here"):
+        timeseries.read_time_series(PROC_FILE, max_bytes=100)
+
+
 @pytest.mark.parametrize("text,column", [
     ("time," + "h" * 300 + "\n0,1\n60,2\n", "t_out"),                  # a long header cell
     ("time,t_out\n0,1\n60," + "v" * 300 + "\n", "t_out"),              # a long value cell

@@ -195,7 +195,7 @@ def test_a_stopped_sweep_stops_at_once(tmp_path, executor, name, status):
     proc = _start_sweep(tmp_path, executor)
     kids = _wait_for_workers(proc, 2) if executor != "serial" else (time.sleep(8) or [])
     if executor == "dask":
-        time.sleep(6)   # past the cluster's start (Ctrl-C while it starts: see the README)
+        time.sleep(6)   # past the cluster's start (Ctrl-C while it starts: the test below)
     proc.send_signal(getattr(signal, name))
     _stdout, stderr = proc.communicate(timeout=30)
     assert proc.returncode == status, stderr
@@ -207,6 +207,42 @@ def test_a_stopped_sweep_stops_at_once(tmp_path, executor, name, status):
     while any(_running(k) for k in kids) and time.time() < deadline:
         time.sleep(0.1)
     assert not any(_running(k) for k in kids)
+
+
+def _session(sid) -> list[int]:
+    """The live processes of session ``sid`` (``ps -s``)."""
+    out = subprocess.run(["ps", "-s", str(sid), "-o", "pid="], capture_output=True,
+                         text=True).stdout
+    return [int(p) for p in out.split() if _running(int(p))]
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="POSIX signals, /proc")
+@pytest.mark.parametrize("after", [0.3, 1.5])
+@pytest.mark.slow
+def test_ctrl_c_while_a_local_dask_cluster_starts_is_one_line(tmp_path, after):
+    # Ctrl-C at a terminal is SIGINT to the whole foreground process group (POSIX job
+    # control): the sweep, the fork server and Dask's worker processes, still importing.
+    # Before, each worker printed its KeyboardInterrupt traceback and Dask its own at exit.
+    pytest.importorskip("dask.distributed")
+    proc = _start_sweep(tmp_path, "dask", session=True)
+    t0 = time.time()
+    while not _children(proc.pid) and time.time() - t0 < 60:   # the first process it starts
+        if proc.poll() is not None:
+            pytest.fail(f"the sweep ended early: {proc.communicate()}")
+        time.sleep(0.02)
+    time.sleep(after)                  # inside the cluster's start (it takes seconds here)
+    started = len(_session(proc.pid))
+    os.killpg(proc.pid, signal.SIGINT)
+    _stdout, stderr = proc.communicate(timeout=120)
+    assert proc.returncode == 130, stderr
+    assert [x for x in stderr.splitlines() if x.strip()] == [
+        "interrupted after 0 of 4 runs; no table written"], stderr   # one line, nothing else
+    assert started >= 1
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["long.toml"]
+    deadline = time.time() + 10
+    while _session(proc.pid) and time.time() < deadline:   # no worker outlives the sweep
+        time.sleep(0.1)
+    assert not _session(proc.pid)
 
 
 @pytest.mark.skipif(not sys.platform.startswith("linux"), reason="POSIX signals, /proc")

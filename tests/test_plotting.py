@@ -475,3 +475,90 @@ def test_no_response_figure_for_a_node_that_swings_about_its_final_value():
     # the switch-on of the enclosure is a warm-up of every node
     res = rcsim.load(os.path.join(SCENARIOS, "enclosure-warmup.toml")).run()
     assert set(plotting.warmup_nodes(res)) == {"module", "plate", "inner_air", "shell"}
+
+
+# -- fonts: names in any script are drawn, or one warning says which font to install ----------
+CJK_NAME = "冷藏箱"     # invented demo name: "cold box"
+
+
+def _fonts_with(char):
+    """Families fontconfig (fc-list, independent of matplotlib) knows with a glyph for
+    ``char``; None when fc-list is not installed."""
+    if shutil.which("fc-list") is None:
+        return None
+    import subprocess
+
+    out = subprocess.run(["fc-list", f":charset={ord(char):x}", "family"], capture_output=True,
+                         text=True, timeout=60).stdout
+    return [line for line in out.splitlines() if line.strip()]
+
+
+def _font_warnings(caught):
+    return [str(w.message) for w in caught if "font" in str(w.message)]
+
+
+def test_the_font_list_starts_with_the_default_and_adds_only_fonts_with_the_missing_glyphs():
+    from matplotlib import font_manager
+    from matplotlib.ft2font import FT2Font
+
+    from rcsim.plotting import style
+
+    families = style.font_families()
+    assert families[0] == style.DEFAULT_FONT == matplotlib.rcParamsDefault["font.sans-serif"][0]
+    assert plotting.STYLE["font.family"] == list(families)
+    for family in families:            # each one a font matplotlib finds, not a wish
+        path = font_manager.findfont(font_manager.FontProperties(family=family),
+                                     fallback_to_default=False)
+        if family != families[0]:      # and each added one has a glyph the default lacks
+            charmap = FT2Font(path).get_charmap()
+            assert any(ord(c) in charmap for c in style.CJK_PROBES), family
+    default = FT2Font(font_manager.findfont(style.DEFAULT_FONT)).get_charmap()
+    assert not any(ord(c) in default for c in style.CJK_PROBES)
+    if _fonts_with(CJK_NAME[0]):       # fontconfig knows a font with the ideograph: it is used
+        assert len(families) > 1
+        assert style.missing_glyphs(CJK_NAME) == []
+    assert style.missing_glyphs("T_out −5 °C ≤ τ₁") == []     # the default font has these
+
+
+def test_a_name_in_cjk_script_is_drawn_with_a_font_that_has_it(tmp_path):
+    if not _fonts_with(CJK_NAME[0]):
+        pytest.skip("no font with CJK glyphs installed (Debian: fonts-noto-cjk)")
+    import warnings
+
+    net = rcsim.Network()
+    net.add_node(CJK_NAME, capacity=8000.0, initial=5.0)
+    net.add_boundary("外気", temperature=25.0)
+    net.add_link(CJK_NAME, "外気", resistance=2.0)
+    res = net.simulate(duration=3600.0, step=600.0)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        for drawn in (plotting.plot_history(res), plotting.plot_result(res, "flows")):
+            plotting.save_figure(drawn.figure, tmp_path / f"{drawn.kind}.png")
+    # matplotlib warns for every glyph none of a text's fonts has (its own check): none here
+    assert _font_warnings(caught) == []
+
+
+def test_without_a_font_for_the_script_one_warning_names_the_package(tmp_path, monkeypatch):
+    # as on a machine without such a font: the figure is written, matplotlib's warning for every
+    # glyph is replaced by one line, given once per process, naming the package to install
+    import warnings
+
+    from rcsim.errors import RcsimWarning
+    from rcsim.plotting import style
+
+    monkeypatch.setattr(style, "font_families", lambda: (style.DEFAULT_FONT,))
+    monkeypatch.setattr(style, "_WARNED", [False])
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        for i in range(2):
+            fig, ax = plt.subplots()
+            ax.plot([0, 1], [5, 6], label=f"{CJK_NAME} {i}")
+            ax.set_title("외벽")
+            ax.legend()
+            plotting.save_figure(fig, tmp_path / f"f{i}.png")
+    said = _font_warnings(caught)
+    assert len(said) == 1, said
+    assert caught[[str(w.message) for w in caught].index(said[0])].category is RcsimWarning
+    assert "'冷' (U+51B7)" in said[0] and "fonts-noto-cjk" in said[0]
+    assert (tmp_path / "f0.png").stat().st_size > 0 and (tmp_path / "f1.png").exists()
+    assert style.missing_glyphs("plain ASCII, 5 °C") == []

@@ -165,11 +165,13 @@ import rcsim.profiles as profiles
 p = profiles.Repeat(profiles.Table([0, 10], [0.0, 5.0]), 10)
 assert p.value(14.0) == 2.0
 print(sorted({n.split(".")[0] for n in sys.modules} & {"pandas", "pint"}))
-profiles.Constant("5 degC").bind("temperature", "x")      # a unit parsed: now pint is there
+profiles.Constant("5 degC").bind("temperature", "x")      # a common unit: still no pint
+print("pint" in sys.modules)
+profiles.Constant("500 degR").bind("temperature", "x")    # any other unit: now pint is there
 print("pint" in sys.modules)
 """
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
-    assert out.stdout.split("\n")[:2] == ["[]", "True"], out.stdout + out.stderr
+    assert out.stdout.split("\n")[:3] == ["[]", "False", "True"], out.stdout + out.stderr
 
 
 # -- huge periods and peaks (computed stably, checked against closed forms) --------------------

@@ -15,6 +15,7 @@ import sys
 import pytest
 
 import rcsim
+import rcsim.units
 from conftest import SCENARIOS
 
 #: what a start must not import; numpy too: nothing a command's help says needs arrays
@@ -165,11 +166,36 @@ def test_the_registry_is_built_once_for_every_caller_and_thread():
     assert temperature == pytest.approx(20.0, abs=1e-12)   # (68 - 32) * 5/9
 
 
-def test_pint_is_imported_without_dask_and_dask_still_imports_afterwards():
-    pytest.importorskip("dask")
-    out = _fresh("import sys\nimport rcsim.units as u\nu.registry()\n"
-                 "print('dask' in sys.modules)\nimport dask\nprint(dask.__name__)")
-    assert out.split() == ["False", "dask"]
+def test_the_common_units_need_no_unit_registry():
+    # the bundled shipper is written in the units people write most (rcsim.units.COMMON_UNITS):
+    # building it and running it imports neither pint nor what pint imports (dask, where
+    # installed); a unit outside that list still brings the registry in
+    code = (_cli(["run", COLD_BOX, "--quiet"])
+            + "\nprint(sorted({'pint', 'dask'} & {m.split('.')[0] for m in sys.modules}))"
+            "\nimport rcsim.units as u"
+            "\nassert abs(u.to_si('2 yd', 'length') - 1.8288) < 1e-12"
+            "\nprint('pint' in sys.modules)")
+    before, after = _fresh("import sys\n" + code).strip().splitlines()[-2:]
+    assert before == "[]"
+    assert after == "True"          # 1 yd = 0.9144 m (international yard, 1959)
+
+
+@pytest.mark.parametrize("unit,kind", sorted(rcsim.units.COMMON_UNITS))
+def test_each_common_unit_agrees_with_the_registry(unit, kind):
+    # the table converts without pint; pint (an independent library) converts the same value:
+    # for absolute temperatures at two values, so that both factor and offset are checked
+    factor, offset = rcsim.units.COMMON_UNITS[(unit, kind)]
+    ureg = rcsim.units.registry()
+    si = ureg.parse_units(rcsim.units.KINDS[kind][0]) if kind != "temperature_difference" \
+        else ureg.kelvin
+    spelled = unit.replace("\u00b0C", "degC").replace("\u00b0F", "degF")
+    for number in (2.5, 300.0):
+        if kind == "temperature_difference" and spelled == "K":
+            expected = number     # pint: kelvin to kelvin
+        else:
+            expected = ureg.Quantity(number, spelled).to(si).magnitude
+        assert factor * number + offset == pytest.approx(expected, rel=1e-13, abs=1e-12)
+        assert rcsim.units.to_si(f"{number} {unit}", kind) == factor * number + offset
 
 
 def test_a_quantity_object_is_still_converted():

@@ -8,7 +8,7 @@ from ..base import suggest
 from ..errors import InputError
 from .common import Drawn, check_names
 from .style import (BOUNDARY_COLOURS, BOUNDARY_STYLES, BOUNDARY_WIDTH, LINE_STYLES, PALETTE,
-                    SIZE_TWO, STYLE)
+                    SIZE_TWO, figure_style)
 from .timeaxis import UNIT_SECONDS, time_unit_for
 
 __all__ = ["plot_fit"]
@@ -87,7 +87,7 @@ def plot_fit(result, *, ax=None, columns=None, time_unit=None, show_inputs=True)
     unit, scale = _time_unit(t, time_unit)
     cols = check_names(columns, list(result.measured.columns), "measured column", "columns") \
         or list(result.measured.columns)
-    with mpl.rc_context(STYLE):
+    with mpl.rc_context(figure_style()):
         if ax is None:
             import matplotlib.pyplot as plt
 

@@ -10,7 +10,7 @@ import pandas as pd
 
 from ..errors import InputError
 from .common import Drawn, begin, check_names, end_time_axis, legend, new_figure, note, result_title
-from .style import LINE_STYLES, MAX_SERIES, PALETTE, SIZE_TWO, STYLE, series_style
+from .style import LINE_STYLES, MAX_SERIES, PALETTE, SIZE_TWO, figure_style, series_style
 
 __all__ = ["plot_flows", "plot_energy", "plot_flows_and_energy", "energy_in_out"]
 
@@ -61,7 +61,7 @@ def plot_flows(res, links=None, *, ax=None, title=None, dates=True) -> Drawn:
 
     import matplotlib as mpl
 
-    with mpl.rc_context(STYLE):
+    with mpl.rc_context(figure_style()):
         drawn, ax, ta, x, own = begin(res, ax, "flows", dates)
         ax.axhline(0.0, color="#999999", lw=0.8, zorder=1)
         for i, name in enumerate(names):
@@ -111,7 +111,7 @@ def plot_energy(res, *, ax=None, title=None, dates=True) -> Drawn:
 
     import matplotlib as mpl
 
-    with mpl.rc_context(STYLE):
+    with mpl.rc_context(figure_style()):
         drawn, ax, ta, x, own = begin(res, ax, "energy", dates)
         ax.axhline(0.0, color="#999999", lw=0.8, zorder=1)
         drawn.lines["in"] = ax.plot(x, e_in / scale, lw=1.6, color=PALETTE[1],
@@ -158,7 +158,7 @@ def plot_flows_and_energy(res, links=None, ax=None, title=None, dates=True) -> D
     if own:
         import matplotlib as mpl
 
-        with mpl.rc_context(STYLE):
+        with mpl.rc_context(figure_style()):
             fig, axes = new_figure((SIZE_TWO[0] + 3.0, SIZE_TWO[1]), rows=2)
     else:
         axes = list(ax)
@@ -171,7 +171,7 @@ def plot_flows_and_energy(res, links=None, ax=None, title=None, dates=True) -> D
     if own:
         _legends_beside(axes)
     if title is None:
-        fig.suptitle(result_title(res), x=0.01, ha="left", fontsize=STYLE["axes.titlesize"] + 0.5,
+        fig.suptitle(result_title(res), x=0.01, ha="left", fontsize=figure_style()["axes.titlesize"] + 0.5,
                      fontweight="bold")
     drawn = Drawn(fig, axes, "flows", lines=dict(top.lines), time_unit=top.time_unit,
                   time_scale=top.time_scale, notes=top.notes)

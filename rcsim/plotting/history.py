@@ -10,7 +10,7 @@ import pandas as pd
 
 from .common import (Drawn, begin, check_names, default_nodes, end_time_axis, fmt_clock, legend,
                      note, result_title)
-from .style import (BOUNDARY_COLOURS, BOUNDARY_STYLES, BOUNDARY_WIDTH, NODE_WIDTH, STYLE,
+from .style import (BOUNDARY_COLOURS, BOUNDARY_STYLES, BOUNDARY_WIDTH, NODE_WIDTH, figure_style,
                     series_style)
 
 #: Line style and width of a sol-air curve: thin and solid, under its node's own (thicker,
@@ -171,7 +171,7 @@ def plot_history(res, nodes=None, *, boundaries=True, limits=True, ax=None, titl
 
     import matplotlib as mpl
 
-    with mpl.rc_context(STYLE):
+    with mpl.rc_context(figure_style()):
         drawn, ax, ta, x, own = begin(res, ax, "history", dates)
         colour = _draw_lines(ax, drawn, x, temps, bnd, node_list, bnd_list)
         values = [temps[n].to_numpy() for n in node_list] + [bnd[n].to_numpy() for n in bnd_list]

@@ -12,7 +12,7 @@ from ..errors import InputError
 from ..units import format_duration
 from .common import Drawn, begin, end_time_axis, fmt_temp, legend, note, result_title
 from .decay import crossing, response_setup, slope_tau
-from .style import NODE_WIDTH, STYLE, series_style
+from .style import NODE_WIDTH, figure_style, series_style
 
 __all__ = ["plot_response", "warmup_nodes", "auto_final"]
 
@@ -149,7 +149,7 @@ def plot_response(res, nodes=None, *, final=None, ax=None, title=None) -> Drawn:
 
     rising = [finals[n] > initials[n] for n in setup.shown]
     what = "warm-up" if all(rising) else "cool-down" if not any(rising) else "warm-up and cool-down"
-    with mpl.rc_context(STYLE):
+    with mpl.rc_context(figure_style()):
         drawn, ax, ta, x, own = begin(res, ax, "response", False)
         ax.set_yscale("log")
         if _draw_curves(ax, drawn, ta, x, t, tt, setup, theta):

@@ -7,9 +7,10 @@ them."""
 from __future__ import annotations
 
 import os
+import warnings
 
 from ..errors import InputError
-from .style import DPI, STYLE
+from .style import DPI, figure_style, fallback_fonts, warn_missing_glyphs
 
 __all__ = ["FORMATS", "save_figure", "add_caution"]
 
@@ -28,15 +29,20 @@ def save_figure(fig, path) -> str:
     from ..atomic import atomic_path
 
     meta = {"png": {"Software": None}, "svg": {"Date": None}, "pdf": {"CreationDate": None}}[fmt]
-    undo = add_caution(fig)
-    try:
-        with atomic_path(path, f".{fmt}.tmp") as tmp, mpl.rc_context(STYLE):
-            fig.savefig(tmp, format=fmt, dpi=DPI, metadata=meta,
-                        **({} if undo.reserved else {"bbox_inches": "tight", "pad_inches": 0.06}))
-            if fmt == "png":
-                _palette_png(tmp)
-    finally:
-        undo()   # the caller's figure is left as it was
+    missing = warn_missing_glyphs(fig)       # once, in one line, naming a font to install
+    with fallback_fonts(fig), warnings.catch_warnings():
+        if missing:                           # not matplotlib's own warning for every glyph
+            warnings.filterwarnings("ignore", r"Glyph \d+ .*missing from font", UserWarning)
+        undo = add_caution(fig)
+        try:
+            with atomic_path(path, f".{fmt}.tmp") as tmp, mpl.rc_context(figure_style()):
+                fig.savefig(tmp, format=fmt, dpi=DPI, metadata=meta,
+                            **({} if undo.reserved else {"bbox_inches": "tight",
+                                                         "pad_inches": 0.06}))
+                if fmt == "png":
+                    _palette_png(tmp)
+        finally:
+            undo()   # the caller's figure is left as it was
     return path
 
 

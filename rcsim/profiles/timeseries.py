@@ -13,7 +13,7 @@ import numpy as np
 
 from ..base import suggest
 from ..errors import DataError
-from ..inputfiles import check_regular_file, cut, quote_cell, quote_names
+from ..inputfiles import cut, quote_cell, quote_names, read_bytes
 from .base import to_si
 
 
@@ -122,11 +122,7 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
     path = os.fspath(path)
     if os.path.isdir(path):
         raise DataError("is a directory, not a CSV file", label)
-    size = check_regular_file(path, label).st_size   # no FIFO or device (rcsim.inputfiles)
-    if max_bytes is not None and size > max_bytes:
-        raise DataError(f"file is {size / 1e9:.2f} GB, more than the "
-                        f"{max_bytes / 1e9:.2f} GB allowed", label)
-    df = read_csv_text(path, label)
+    df = read_csv_text(path, label, max_bytes)
     if len(set(df.columns)) != len(df.columns):
         raise DataError("has duplicate column names", label)
     tcol = time if time is not None else df.columns[0]
@@ -175,20 +171,21 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
     return frame
 
 
-def read_csv_text(path, label: str):
+def read_csv_text(path, label: str, max_bytes: int | None = None):
     """Read a CSV file with a header as a DataFrame of stripped strings, or raise DataError.
 
-    Checks that it fits in memory, is UTF-8, parses as CSV and has data rows.
+    Checks that it fits in memory (and in ``max_bytes``, when given), is UTF-8, parses as CSV
+    and has data rows. The file is read with a byte cap, not trusted to be as large as it says
+    (a ``/proc`` file says 0 bytes): :func:`rcsim.inputfiles.read_bytes`.
     """
+    import io
+
     import pandas as pd
 
-    # pandas holds a CSV read as text at about 11-15 times its size on disk (measured for
-    # 1,000,000 rows, tests/benchmarks/bench_transient.py --large)
-    size = check_regular_file(path, label).st_size   # no FIFO or device (rcsim.inputfiles)
-    check_fits_in_memory(size * 15, label, "reading it")
-    check_separator(header_line(path).split(","), label)
+    raw = read_capped(path, label, max_bytes)
+    check_separator(first_line(raw).split(","), label)
     try:
-        df = pd.read_csv(path, skipinitialspace=True, dtype=str, keep_default_na=False,
+        df = pd.read_csv(io.BytesIO(raw), skipinitialspace=True, dtype=str, keep_default_na=False,
                          encoding="utf-8")
     except UnicodeDecodeError:
         raise DataError("is not UTF-8 text", label) from None
@@ -205,6 +202,29 @@ def read_csv_text(path, label: str):
 
 #: separators other programs write instead of a comma, and their names in messages
 OTHER_SEPARATORS = {";": "semicolons", "\t": "tabs", "|": "vertical bars"}
+
+
+def read_capped(path, label: str, max_bytes: int | None = None) -> bytes:
+    """The bytes of a CSV file, read with a cap: what fits in memory once parsed (pandas holds
+    a CSV read as text at about 11-15 times its size on disk, measured for 1,000,000 rows,
+    tests/benchmarks/bench_transient.py --large), and ``max_bytes`` when given."""
+    avail = memory_available()
+    limit = None if avail is None else int(0.8 * avail / 15)
+    if max_bytes is not None and (limit is None or max_bytes < limit):
+        return read_bytes(path, label, max_bytes, ", the most allowed here")
+    return read_bytes(path, label, limit,
+                      f", the most that fits in memory once read ({avail / 1e9:.1f} GB of "
+                      "memory is available)" if avail is not None else "",
+                      "split the file, or use a machine with more memory")
+
+
+def first_line(raw: bytes, limit: int = 65536) -> str:
+    """The first line of a file's bytes, as text (at most ``limit`` bytes of it).
+
+    >>> first_line(b"time;T\\r\\n0;1\\n")
+    'time;T'
+    """
+    return raw[:limit].split(b"\n", 1)[0].decode("utf-8", errors="replace").rstrip("\r")
 
 
 def header_line(path, limit: int = 65536) -> str:

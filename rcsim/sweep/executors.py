@@ -190,13 +190,85 @@ def _dask_client(scheduler, n_workers):
         except (OSError, TimeoutError) as exc:
             raise InputError(f"cannot reach the Dask scheduler at {scheduler!r} ({exc})",
                              "scheduler", "check the address, e.g. tcp://10.0.0.5:8786") from None
-    import logging
+    client, cluster = _start_local_cluster(n_workers)
+    return client, True, cluster
 
-    # the workers' own chatter (cancelled tasks, a lost scheduler when a sweep is interrupted)
-    # is not the user's business: a failed run is a row with its error, a lost worker an error
-    cluster = LocalCluster(n_workers=n_workers, threads_per_worker=1, processes=True,
-                           dashboard_address=None, silence_logs=logging.CRITICAL)
-    return Client(cluster), True, cluster
+
+def _start_local_cluster(n_workers):
+    """(client, cluster): a local Dask cluster of ``n_workers`` processes, started so that
+    Ctrl-C during its start is one ``KeyboardInterrupt`` here and nothing from Dask.
+
+    Ctrl-C in a terminal reaches every process of the group. Dask's worker processes, still
+    importing, would each print a traceback, and a cluster left half-started prints more at
+    exit. So the workers are forked from a fork server that ignores SIGINT
+    (:func:`_quiet_start_method`; only this process hears Ctrl-C, and stops the workers through
+    the cluster), and the cluster starts in a thread of its own while this thread waits,
+    interruptible: on Ctrl-C it lets the start finish, closes the cluster quietly and raises
+    ``KeyboardInterrupt``.
+    """
+    import logging
+    import threading
+
+    import dask
+    from dask.distributed import Client, LocalCluster
+
+    method = _quiet_start_method()
+    made: dict = {}
+
+    def start():
+        try:
+            with dask.config.set({"distributed.worker.multiprocessing-method": method}) \
+                    if method else contextlib.nullcontext():
+                # the workers' own chatter (cancelled tasks, a lost scheduler when a sweep is
+                # interrupted) is not the user's business: a failed run is a row with its
+                # error, a lost worker an error
+                made["cluster"] = LocalCluster(n_workers=n_workers, threads_per_worker=1,
+                                               processes=True, dashboard_address=None,
+                                               silence_logs=logging.CRITICAL)
+                made["client"] = Client(made["cluster"])
+        except BaseException as exc:  # noqa: BLE001 - handed to the waiting thread below
+            made["error"] = exc
+
+    thread = threading.Thread(target=start, name="rcsim-dask-start", daemon=True)
+    thread.start()
+    try:
+        while thread.is_alive():
+            thread.join(0.1)
+    except KeyboardInterrupt:
+        with _quiet_dask(True):
+            thread.join()
+            for name in ("client", "cluster"):
+                if name in made:
+                    with contextlib.suppress(Exception):
+                        made[name].close()
+        raise
+    if "error" in made:
+        raise made["error"]
+    return made["client"], made["cluster"]
+
+
+def _quiet_start_method() -> str | None:
+    """``"forkserver"``, with multiprocessing's fork server started (if it was not already)
+    while SIGINT is ignored: a process started with a signal ignored keeps it ignored (POSIX
+    exec), the fork server hands its own handlers to every process it forks, so Dask workers
+    forked from it ignore Ctrl-C. None where there is no fork server (not POSIX), or when not
+    called from the main thread (signal handlers can only be set there): Dask's default then.
+    """
+    import multiprocessing
+    import signal
+    import threading
+
+    if ("forkserver" not in multiprocessing.get_all_start_methods()
+            or threading.current_thread() is not threading.main_thread()):
+        return None
+    from multiprocessing import forkserver
+
+    previous = signal.signal(signal.SIGINT, signal.SIG_IGN)
+    try:
+        forkserver.ensure_running()
+    finally:
+        signal.signal(signal.SIGINT, previous)
+    return "forkserver"
 
 
 def _dask(job, todo, scheduler, n_workers):

@@ -10,6 +10,10 @@ machine against a bare interpreter and a bare ``import numpy``:
 5. the share of that run spent importing, from ``python -X importtime`` (the sum of every
    module's self time over the wall time of the same process; importtime itself adds a little
    to both), and the packages that cost most.
+6. one unit converted in a fresh process: a unit written most ("50 mm", from
+   ``rcsim.units.COMMON_UNITS``, no pint) against one that needs pint's registry ("2 yd":
+   pint imported, its definitions parsed, no disk cache), the cost a scenario pays for a
+   unit outside the common list.
 
 Run:  python tests/benchmarks/bench_startup.py [--repeats N]
 Ratios are measured in one run on the same machine; absolute times are only indicative.
@@ -87,6 +91,9 @@ def main() -> None:
     run_help = wall(RCSIM + ["run", "--help"], n)
     run = wall(RCSIM + ["run", COLD_BOX], max(2, n // 2))
     importing, traced, top = import_share(RCSIM + ["run", COLD_BOX])
+    unit = "import rcsim.units as u; u.to_si({!r}, 'length')"
+    common = wall(python + ["-c", unit.format("50 mm")], n)
+    registry = wall(python + ["-c", unit.format("2 yd")], n)
     print(f"start-up, best of {n} fresh processes ({'console script' if SCRIPT else 'python -c'})")
     print(f"  python -c pass              {bare * 1e3:8.0f} ms")
     print(f"  python -c 'import numpy'    {numpy * 1e3:8.0f} ms")
@@ -97,6 +104,8 @@ def main() -> None:
     print(f"  rcsim run cold-box.toml     {run * 1e3:8.0f} ms   {run / numpy:5.2f} x numpy import")
     print(f"  of which importing (-X importtime): {importing * 1e3:.0f} ms of {traced * 1e3:.0f} ms"
           f" = {100 * importing / traced:.0f} % of the run")
+    print(f"  one unit, fresh process: '50 mm' {common * 1e3:.0f} ms, '2 yd' (pint's registry) "
+          f"{registry * 1e3:.0f} ms")
     print("  heaviest packages imported by the run (self time of their modules):")
     for seconds, name in top[:10]:
         print(f"    {seconds * 1e3:7.0f} ms  {name}")

@@ -6,15 +6,19 @@ input knots fall on output times), with the n modes as rows and time along each 
 
 * the inputs' piecewise-linear parts and sines at the output times form a few rows ``X``
   (K = 2 inputs + 2 sines rows), and the modal forcing is one product ``G = M_g X`` (n x c);
-* the recurrence ``z[k+1] = exp(-lam h) z[k] + G[k]`` runs along the rows in blocks of 16: a
-  batched product with a triangular matrix of powers per mode, block ends chained one level up
-  (:func:`modes_major_recurrence`); no Python loop over samples or modes;
-* temperatures of the output nodes are one product ``A Z + D w`` (nodes x c): column-major
-  samples, handed to the recorder without a transposing copy;
+* the recurrence ``z[k+1] = exp(-lam h) z[k] + G[k]`` runs along the rows in blocks of 16
+  (:meth:`ModalRunner._scan`): the block ends from zero start come straight from the input rows
+  (one small product), are chained one level up (:func:`modes_major_recurrence`), and each
+  block's start state rides in a spare column of the forcing, so the states are one batched
+  product with ``[triangular powers; a^(j+1)]`` per mode; no Python loop over samples or modes;
+* temperatures of the output nodes are one product ``[A D] [Z; w^T]`` (nodes x c) written
+  straight into the recorder's column-major history (no transposing copy, no second pass);
 * the energy through the boundary links needs the time integral of the temperatures at the
   boundary segments only: it is projected first (``A_e`` times the state-integral kernels), so
-  the full state integral (n x c) is never formed;
-* the stored energy is one product ``q Z``.
+  the full state integral (n x c) is never formed; with the stored energy ``q Z`` it is one
+  product of the states with ``[A_he; q]``;
+* the forcing and the states live in work arrays kept from chunk to chunk (fresh arrays of a
+  few MB per chunk cost more in page faults than the arithmetic done in them).
 
 Chunks with an input knot inside an output interval (a step between two samples) or with
 intervals of several lengths take the general closed form of
@@ -31,6 +35,7 @@ from typing import NamedTuple
 
 import numpy as np
 
+from ..recording import work_array
 from .exact import phi_functions
 from .inputs import input_values, linear_parts
 
@@ -121,7 +126,6 @@ class ModalRunner:
         self._h = None
         self._irregular = None
         self._n = n
-        self._space: dict = {}
 
     def _set_step(self, h: float) -> None:
         """Per-mode factors of one interval length: forcing and projected state-integral maps."""
@@ -231,15 +235,12 @@ class ModalRunner:
         T_t += self.D_out @ w.T
         return T_t.T
 
-    def _buffer(self, key: str, shape: tuple) -> np.ndarray:
-        """A work array of ``shape`` kept from chunk to chunk (contiguous; its contents are
-        whatever the last chunk left). Fresh arrays of a few MB per chunk cost more in page
-        faults than the products computed in them."""
-        size = int(np.prod(shape))
-        flat = self._space.get(key)
-        if flat is None or flat.size < size:
-            flat = self._space[key] = np.empty(size)
-        return flat[:size].reshape(shape)
+    @staticmethod
+    def _buffer(key: str, shape: tuple) -> np.ndarray:
+        """A scratch array of ``shape`` kept from chunk to chunk and run to run
+        (:func:`rcsim.recording.work_array`): fresh arrays of a few MB per chunk cost more in
+        page faults than the products computed in them."""
+        return work_array("exact." + key, shape)
 
     def _scan(self, X: np.ndarray, z0: np.ndarray, out: np.ndarray) -> None:
         """The states ``z[k+1] = a z[k] + (M_g X)[:, k]`` from ``z0``, into ``out`` (n, nb L).

@@ -12,8 +12,6 @@ from __future__ import annotations
 
 import numpy as np
 
-from .exact import phi_functions
-
 __all__ = ["EventCurve", "find_dips", "locate_event", "crossings_past"]
 
 
@@ -37,13 +35,14 @@ def find_dips(reg, s, h, z0, Z, FR, FL, zp, dzp, vals, upto):
     near = np.flatnonzero((np.maximum(v0, v1) > -reach).any(axis=1))
     if near.size == 0:
         return None
-    zs = np.vstack([z0[None, :], Z[:upto + 1]])              # states at s[0..upto+1]
-    d_start = -lam * zs[near] + FR[near]
-    d_end = -lam * zs[near + 1] + FL[near]
-    if zp is not None:
-        fp = dzp + lam * zp                                   # modal sine forcing
-        d_start += fp[near]
-        d_end += fp[near + 1]
+    z_start = Z[np.maximum(near - 1, 0)]                     # states at s[near] (only there)
+    z_start[near == 0] = z0
+    z_end = Z[near]
+    d_start = -lam * z_start + FR[near]
+    d_end = -lam * z_end + FL[near]
+    if zp is not None:                                        # modal sine forcing
+        d_start += dzp[near] + lam * zp[near]
+        d_end += dzp[near + 1] + lam * zp[near + 1]
     v0, v1 = v0[near], v1[near]
     g0 = d_start @ CV.T
     g1 = d_end @ CV.T
@@ -59,12 +58,13 @@ def find_dips(reg, s, h, z0, Z, FR, FL, zp, dzp, vals, upto):
         found = {}
         for e in np.flatnonzero(cand[r]):
             taus = np.union1d(h[i] * np.arange(1, 33) / 32.0, [tx[r, e]])
-            st = reg.state_at(s[i], taus, h[i], zs[i], FR[i], FL[i] - FR[i])
+            st = reg.state_at(s[i], taus, h[i], z_start[r], FR[i], FL[i] - FR[i])
             if np.any(st @ CV[e] + dev[e] > 0.0):
                 found[int(e)] = float(tx[r, e])
         if found:
             return i, found
     return None
+
 
 class EventCurve:
     """Event functions ``g_k(tau) = rows_k . z(tau) + d_k`` inside one interval, in closed form.
@@ -81,16 +81,17 @@ class EventCurve:
 
     def __init__(self, reg, t0, h, z0, FR, dF, rows, d):
         self.lam, self.t0 = reg.lam, float(t0)
-        zp0 = reg.particular(np.array([t0]))[0] if reg.cz else 0.0
-        A = rows * (z0 - zp0)[None, :]
-        B = rows * FR[None, :]
-        D = rows * (dF / h)[None, :]
-        self.coef = np.stack([A, B, D], axis=1)            # (k, 3, n): of E0, tau E1, tau^2 E2
-        self.rate_coef = np.stack([B - self.lam * A, D], axis=1)      # (k, 2, n): E0, tau E1
+        per_mode = np.empty((3, self.lam.size))             # of E0, tau E1, tau^2 E2
+        per_mode[0] = z0 - reg.particular(np.array([t0]))[0] if reg.cz else z0
+        per_mode[1] = FR
+        per_mode[2] = dF / h
+        rate_per_mode = np.stack([FR - self.lam * per_mode[0], per_mode[2]])   # of E0, tau E1
+        self.coef = rows[:, None, :] * per_mode[None]                          # (k, 3, n)
+        self.rate_coef = rows[:, None, :] * rate_per_mode[None]                # (k, 2, n)
         self.d = d
         # the sines: Im(sum_s P[s, k] exp(i om_s t)), P = cz_s projected on the rows
-        self.om = np.array([om for _, om in reg.cz])
-        self.P = np.array([rows @ cz for cz, _ in reg.cz]).reshape(self.om.size, rows.shape[0])
+        self.om = reg.cz_omega
+        self.P = reg.cz_matrix @ rows.T                                        # (sines, k)
 
     def subset(self, ks: np.ndarray) -> "EventCurve":
         """The same interval for rows ``ks`` only."""
@@ -102,7 +103,8 @@ class EventCurve:
 
     def values(self, taus: np.ndarray) -> np.ndarray:
         """g of every row at times ``taus`` into the interval: (len(taus), rows)."""
-        out = np.tensordot(_phi_terms(taus, self.lam), self.coef, axes=([1, 2], [1, 2]))
+        k = self.d.size
+        out = _phi_terms(taus, self.lam).reshape(taus.size, -1) @ self.coef.reshape(k, -1).T
         out += self.d
         if self.om.size:
             out += (np.exp(1j * np.outer(self.t0 + taus, self.om)) @ self.P).imag
@@ -111,8 +113,8 @@ class EventCurve:
     def value_and_rate(self, taus: np.ndarray):
         """g and dg/dtau of every row k at its own time ``taus[k]`` into the interval."""
         phi = _phi_terms(taus, self.lam)
-        g = np.einsum("kjn,kjn->k", phi, self.coef) + self.d
-        rate = np.einsum("kjn,kjn->k", phi[:, :2], self.rate_coef)
+        g = (phi * self.coef).sum(axis=(1, 2)) + self.d
+        rate = (phi[:, :2] * self.rate_coef).sum(axis=(1, 2))
         if self.om.size:
             ph = np.exp(1j * np.outer(self.t0 + taus, self.om)) * self.P.T      # (k, sines)
             g += ph.imag.sum(axis=1)

@@ -34,14 +34,15 @@ class Regime:
     a, b : T = a + b H per state.
     cm, Ein, Nm : modal constant forcing, input map and remainder map.
     cz : [(complex amplitude per mode, omega)] of the periodic response to the sine inputs.
+    cz_matrix, cz_omega : the same as a (sines x modes) array and an array of omegas.
     Cev, CevV, dev : event functions Cev H + dev (CevV = Cev V), one row per event.
     ev_owner : per event, (position in the key, the state it switches to).
     p_const, p_lin : thermostat powers p_const + p_lin H [W].
     phi_cache : dict of E0..E3 on the current grid.
     """
 
-    __slots__ = ("key", "lam", "V", "Vi", "a", "b", "cm", "Ein", "Nm", "cz", "Cev", "CevV", "dev",
-                 "ev_owner", "p_const", "p_lin", "phi_cache")
+    __slots__ = ("key", "lam", "V", "Vi", "a", "b", "cm", "Ein", "Nm", "cz", "cz_matrix",
+                 "cz_omega", "Cev", "CevV", "dev", "ev_owner", "p_const", "p_lin", "phi_cache")
 
     # -- closed forms ------------------------------------------------------------------------
     def particular(self, t: np.ndarray, with_rate: bool = False):
@@ -179,6 +180,8 @@ class Regimes:
         reg.Nm = Vi @ self.N
         reg.cz = [(amp * np.exp(1j * ph) * reg.Ein[:, i] / (lam + 1j * om), om)
                   for i, amp, om, ph in self.sines]
+        reg.cz_matrix = np.array([cz for cz, _ in reg.cz], dtype=complex).reshape(-1, n)
+        reg.cz_omega = np.array([om for _, om in reg.cz], dtype=float)
         reg.Cev = np.asarray(events.rows).reshape(-1, n)
         reg.CevV = reg.Cev @ V
         reg.dev = np.asarray(events.offsets, dtype=float)

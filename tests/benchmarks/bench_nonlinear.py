@@ -22,8 +22,8 @@ executor: one worker) against the same sweep with the former hot spots put back 
 file, below, as the baseline: event location by a per-function 32-point bracket and Illinois
 regula falsi on ``Regime.state_at``; the film correlation through the ``air_properties`` dict
 with h and its four shifted values in five calls; the links' flows evaluated separately at the
-start and end of every interval; the steady Newton iteration of the time constants on sparse
-matrices), interleaved, best of several, and prints the ratio, the largest difference between
+start and end of every interval; the sines' particular response computed afresh for every run;
+the steady Newton iteration of the time constants on sparse matrices), interleaved, best of several, and prints the ratio, the largest difference between
 the two sweeps' tables, and the shares of the run that cProfile gives each part, before and
 after.
 
@@ -228,6 +228,14 @@ def sweep_before_after(runs=40, repeats=4):
     with former_hot_spots():
         res_before = sc.run()
     dT = np.abs(res_now.temperatures.to_numpy() - res_before.temperatures.to_numpy()).max()
+    one = {"before": [], "now": []}                # one run of the shipper (its network kept)
+    for _ in range(3 * repeats):
+        for label in ("before", "now"):
+            ctx = former_hot_spots() if label == "before" else contextlib.nullcontext()
+            with ctx:
+                c0 = time.process_time()
+                sc.run()
+                one[label].append(time.process_time() - c0)
     wb, wn, cb, cn = min(wall["before"]), min(wall["now"]), min(cpu["before"]), min(cpu["now"])
     print(f"\nsweep of the shipper, {runs} runs, serial executor (one worker), best of {repeats} "
           f"interleaved; load average {os.getloadavg()[0]:.1f}")
@@ -236,33 +244,102 @@ def sweep_before_after(runs=40, repeats=4):
     print(f"  now                         {wn / runs * 1e3:7.1f} ms/run wall, "
           f"{cn / runs * 1e3:7.1f} ms/run processor")
     print(f"  -> {wb / wn:.2f}x wall, {cb / cn:.2f}x processor time")
+    ob, on = min(one["before"]), min(one["now"])
+    print(f"  one run of the shipper (its network kept, as repeated runs do): {ob * 1e3:.1f} ms "
+          f"before, {on * 1e3:.1f} ms now, processor time: {ob / on:.2f}x")
     print(f"  largest differences between the two sweeps: min/max temperatures "
           f"{diff[temps].to_numpy().max():.1e} K, hold times {diff[hold].to_numpy().max():.1e} s;"
           f" one run's histories, every node: max |dT| {dT:.1e} K (tolerance 1e-6)")
     print(f"  {'share of the sweep under cProfile':44s} {'before':>7s} {'now':>7s}")
     for label in PARTS:
         print(f"    {label:42s} {100 * shares_before[label]:6.1f}% {100 * shares_now[label]:6.1f}%")
+    per_call(sc)
+
+
+def per_call(sc):
+    """The two hot spots alone, before and now, on what one run of the shipper gives them:
+    every event location of the run, and the outside film over the run's grid (h with its
+    derivatives, as the reference conductances need, and h alone, as the flows do)."""
+    from rcsim import correlations
+    from rcsim.transient import piecewise
+
+    calls = []
+    locate = piecewise.locate_event
+
+    def keep(*a):
+        calls.append(a)
+        return locate(*a)
+
+    piecewise.locate_event = keep
+    try:
+        res = sc.run()
+    finally:
+        piecewise.locate_event = locate
+
+    def each(func, repeats=30):
+        best = float("inf")
+        for _ in range(5):
+            c0 = time.process_time()
+            for _ in range(repeats):
+                for a in calls:
+                    func(*a)
+            best = min(best, (time.process_time() - c0) / repeats / len(calls))
+        return best
+
+    t_old, t_new = each(former_locate_event), each(locate)
+    worst = max(abs(former_locate_event(*a)[0] - locate(*a)[0]) / max(1.0, a[2]) for a in calls)
+    print(f"  event location, the {len(calls)} calls of one run: {t_old * 1e6:.0f} us before, "
+          f"{t_new * 1e6:.0f} us now per call ({t_old / t_new:.1f}x processor time); event "
+          f"times agree to {worst:.1e} of their interval")
+    shell = res.temperatures["shell"].to_numpy()
+    bay = res.boundary_temperatures["bay"].to_numpy()
+    law, params = next((lw, p) for _, lw, p in sc.network.assemble().nl.groups
+                       if lw.key[0] == "film")
+    t1, t2 = shell[:, None], bay[:, None]
+
+    def timed(func, repeats=200):
+        best = float("inf")
+        for _ in range(5):
+            c0 = time.process_time()
+            for _ in range(repeats):
+                func()
+            best = min(best, (time.process_time() - c0) / repeats)
+        return best
+
+    def film():
+        law.flow(params, t1, t2), law.derivatives(params, t1, t2)
+
+    d_new = np.asarray(law.derivatives(params, t1, t2))
+    f_new = timed(film)
+    with former_hot_spots():
+        d_old = np.asarray(law.derivatives(params, t1, t2))
+        f_old = timed(film)
+    print(f"  outside film over the grid ({shell.size} points), h and its derivatives: "
+          f"{f_old * 1e6:.0f} us before, {f_new * 1e6:.0f} us now ({f_old / f_new:.1f}x); "
+          f"largest relative difference {np.abs(d_new / d_old - 1).max():.1e}")
 
 
 @contextlib.contextmanager
 def former_hot_spots():
-    """The former event location, film correlation, flows and steady Newton, put back for the
-    duration (the baseline of the before/after ratio)."""
+    """The former event location, film correlation, flows, particular response and steady
+    Newton, put back for the duration (the baseline of the before/after ratio)."""
     from rcsim import correlations, laws, nonlinear
     from rcsim.transient import piecewise
 
+    solver = piecewise.PiecewiseSolver
     saved = (piecewise.locate_event, correlations.natural_convection_coefficient,
-             laws.FilmLaw.derivatives, piecewise.PiecewiseSolver._flows, nonlinear.DENSE_NEWTON)
+             laws.FilmLaw.derivatives, solver._flows, solver._particular, nonlinear.DENSE_NEWTON)
     piecewise.locate_event = former_locate_event
     correlations.natural_convection_coefficient = former_natural_convection_coefficient
     laws.FilmLaw.derivatives = former_film_derivatives
-    piecewise.PiecewiseSolver._flows = former_flows
+    solver._flows = former_flows
+    solver._particular = former_particular
     nonlinear.DENSE_NEWTON = -1                   # sparse matrices at every size
     try:
         yield
     finally:
         (piecewise.locate_event, correlations.natural_convection_coefficient,
-         laws.FilmLaw.derivatives, piecewise.PiecewiseSolver._flows,
+         laws.FilmLaw.derivatives, solver._flows, solver._particular,
          nonlinear.DENSE_NEWTON) = saved
 
 
@@ -385,6 +462,12 @@ def former_flows(self, Tg):
     qR = seg.flows(ta_r, tb_r, self.grid[:-1], "right")
     qL = seg.flows(ta_l, tb_l, self.grid[1:], "left")
     return qR - self.g * (ta_r - tb_r), qL - self.g * (ta_l - tb_l)
+
+
+def former_particular(self, reg, j, j_end, t_c):
+    """The former particular response: computed afresh at every run's local times."""
+    s = np.concatenate([[t_c], self.grid[j + 1:j_end + 1]])
+    return reg.particular(s, with_rate=True)
 
 
 if __name__ == "__main__":

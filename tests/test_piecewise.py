@@ -233,14 +233,18 @@ def _switching_room_by_hand(C, R, P, mean, amp, period, peak, T0, low, high, t_e
     return pieces, temperature
 
 
-def test_thermostat_switching_under_a_sine_is_located_to_the_closed_form():
+@pytest.mark.parametrize("kept", [True, False])
+def test_thermostat_switching_under_a_sine_is_located_to_the_closed_form(kept, monkeypatch):
     # event location where the regime's solution holds an exponential and a sine: a room heated
     # on/off through a day of sine weather switches 48 times in 6 h; its switching times come
     # from the closed form of the first-order equation between switches (see the helper above).
     # The path places each switch within 1e-6 of a grid interval (60 s here) past the crossing:
     # the on-time is the sum of 24 on-periods, each within 1.2e-4 s (bound 1e-2 s). A switch up
     # to 6e-5 s late shifts the room by up to 900 W x 6e-5 s / 2e5 J/K = 2.7e-7 K, and 48 of
-    # them (decaying with tau = 1e4 s) by at most 1.3e-5 K: bound 2e-5 K
+    # them (decaying with tau = 1e4 s) by at most 1.3e-5 K: bound 2e-5 K. Both with the sine's
+    # response kept per regime and grid and computed afresh (as for runs too large to keep it)
+    if not kept:
+        monkeypatch.setattr("rcsim.transient.piecewise.PARTICULAR_CACHE_ELEMENTS", 0)
     C, R, P = 2e5, 0.05, 900.0
     mean, amp, period, peak = 5.0, 6.0, 86400.0, 15 * 3600.0
     net = rcsim.Network()

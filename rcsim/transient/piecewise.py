@@ -60,6 +60,9 @@ MAX_REFINEMENTS = 12
 MAX_RUN = 8192
 #: Events per sweep before giving up (a chattering model belongs to the stiff path).
 MAX_EVENTS = 50_000
+#: Largest (grid points x states) whose particular response to the sines is kept per regime
+#: (two arrays of 8-byte values: 1.6 MB per regime at most).
+PARTICULAR_CACHE_ELEMENTS = 100_000
 
 
 @dataclass
@@ -372,6 +375,9 @@ class PiecewiseSolver:
         """The particular response to the sines (and its rate) at a run's local times: at
         ``t_c``, then grid points j+1..j_end. Kept per regime and grid, as the E functions are:
         each sweep's runs read the same grid points again."""
+        if self.grid.size * self.n > PARTICULAR_CACHE_ELEMENTS:     # memory: afresh each run
+            s = np.concatenate([[t_c], self.grid[j + 1:j_end + 1]])
+            return reg.particular(s, with_rate=True)
         cached = reg.phi_cache.get("particular")
         if cached is None or cached[0] is not self.grid:
             cached = reg.phi_cache["particular"] = (self.grid,

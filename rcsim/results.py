@@ -190,12 +190,20 @@ class Result:
         return self._arrays.get(key, np.empty((0, 0)))
 
     def _frame(self, key: str) -> pd.DataFrame:
-        data = self._array(key)
-        names = self._names.get(key, [])
-        t = self._array("time")
-        if data.size == 0 and not names:
-            return pd.DataFrame(index=pd.Index(t, name="time [s]"))
-        return pd.DataFrame(data, index=pd.Index(t, name="time [s]"), columns=names)
+        # the history wrapped once without copying it (a run's column-major arrays are pandas'
+        # own layout); each caller gets a shallow copy, which pandas copies on its first write,
+        # so the Result's history never changes
+        frames = self.__dict__.setdefault("_frames", {})
+        frame = frames.get(key)
+        if frame is None:
+            data = self._array(key)
+            names = self._names.get(key, [])
+            t = self._array("time")
+            if data.size == 0 and not names:
+                return pd.DataFrame(index=pd.Index(t, name="time [s]"))
+            frame = frames[key] = pd.DataFrame(data, index=pd.Index(t, name="time [s]"),
+                                               columns=names, copy=False)
+        return frame.copy(deep=False)
 
     @property
     def time(self) -> np.ndarray:

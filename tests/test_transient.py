@@ -328,3 +328,18 @@ def test_time_constants_travel_with_the_result(tmp_path):
     assert res.time_constants[0] == pytest.approx(21000.0)
     res.save(tmp_path / "r.h5")
     assert rcsim.Result.load(tmp_path / "r.h5").time_constants[0] == pytest.approx(21000.0)
+
+
+def test_changing_a_history_frame_leaves_the_result_as_it_was():
+    # res.temperatures hands out the run's history without copying it up front (pandas copies
+    # on the first write): a caller's change must not reach the Result or later frames
+    net = single_node(8400.0, 2.5)
+    res = net.simulate("1 h", "1 min")
+    first = res.temperatures
+    before = first.to_numpy().copy()
+    first.iloc[3, 0] = 1e6
+    first["x"] += 5.0
+    np.testing.assert_array_equal(res.temperatures.to_numpy(), before)
+    flows = res.heat_flows
+    flows.iloc[:, 0] = 0.0
+    assert np.abs(res.heat_flows.to_numpy()).max() > 0

@@ -200,6 +200,10 @@ def read_weather(path, columns: Mapping, *, time: str | None = None, time_unit: 
     frame = _read_text(path, label)
     headers = _split_headers(list(frame.columns), label)
     tcol = _find_time_column(time, headers, label)
+    if len(headers) == 1:
+        raise DataError(f"has no value columns besides its time column {quote_cell(tcol)}",
+                        label, f"add the weather columns{_wanted(columns)} beside the time "
+                        "column, or name the file that holds them")
     specs = _column_specs(columns, headers, tcol, label)
 
     seconds, stamps, origin = _read_times(frame[tcol], headers[tcol], time_unit, zone, start,
@@ -284,6 +288,17 @@ def _lookup(name: str, headers, label, what: str) -> str:
     valid = [bare for bare, _ in headers.values()]
     raise DataError(f"no column {quote_cell(name)} ({what})", label,
                     suggest(name, [cut(v) for v in valid][:12]))
+
+
+def _wanted(columns) -> str:
+    """`` 'T_air', 'wind'``: the column names a mapping asks for, quoted (at most three), or
+    nothing where it names none."""
+    if not isinstance(columns, Mapping):
+        return ""
+    names = [spec if isinstance(spec, str) else spec.get("column")
+             for spec in columns.values() if isinstance(spec, (str, Mapping))]
+    names = [quote_cell(str(n)) for n in names if n is not None][:3]
+    return (" " + ", ".join(names)) if names else ""
 
 
 def _find_time_column(time, headers, label) -> str:

@@ -453,6 +453,34 @@ def test_sweep_writes_its_table_names_the_open_runs_and_exits_3(cli, tmp_path, m
     assert (read_table(table)["energy_balance"] < 1e-6).all()
 
 
+def test_sweep_statistics_leave_the_open_runs_out(cli, tmp_path, monkeypatch):
+    # run 0 (1e-15 K/W, balance open) reaches 4.30 degC; runs 1 and 2 are a and b as one 2 kJ/K
+    # node cooling from 20 degC through 1 K/W: T = 20 exp(-t / 2000 s) (first-order closed
+    # form), 3.306 degC after 1 h, the 5 degC limit left at 2000 ln 4 = 2772.6 s (46.21 min).
+    # Every percentile is theirs; the target of 47 min is held by none of the two (run 0,
+    # untrusted, would have held it). The table keeps run 0.
+    from rcsim.sweep import read_table
+
+    _unchecked(monkeypatch)
+    path = tmp_path / "stiff.toml"
+    path.write_text(SCENARIO.format(r="1e-6") + '[limits.a]\nmin = "5 degC"\n')
+    table = tmp_path / "t.csv"
+    r = cli("sweep", path, "--vary", "links.tiny.resistance=1e-15,1e-6,1e-5", "--executor",
+            "serial", "-o", table, "--target-hold", "47 min")
+    assert r.exit_code == 3, r.output
+    cold = 20 * math.exp(-3600 / 2000)
+    assert f"{cold:.3f}" == "3.306"
+    row = next(ln for ln in r.output.splitlines() if ln.strip().startswith("min.a"))
+    assert row.split()[2:] == ["3.306"] * 3, row
+    row = next(ln for ln in r.output.splitlines() if ln.strip().startswith("hold_time.a"))
+    assert f"{2000 * math.log(4) / 60:.2f}" == "46.21" and row.count("46.21 min") == 3, row
+    assert "(1 run with an open energy balance left out of the percentiles, shares and " \
+        "indices)" in r.output
+    assert "a holds 47 min: 0.0 % of runs (0 of 2)" in r.output
+    back = read_table(table)
+    assert len(back) == 3 and back["min.a"].iloc[0] == pytest.approx(4.30, abs=0.01)
+
+
 def test_report_is_written_and_exits_3_on_an_open_balance(cli, tmp_path, monkeypatch):
     _unchecked(monkeypatch)
     path = tmp_path / "stiff.toml"

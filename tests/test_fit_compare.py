@@ -209,6 +209,53 @@ def test_a_candidate_file_carries_its_free_values(tmp_path):
     assert res.estimates.loc["nodes.M.capacity", "value"] == pytest.approx(C1, rel=0.02)
 
 
+def test_arguments_override_a_fit_section_as_the_command_line_does(tmp_path):
+    """rcsim.fit(..., free=...) wins over the candidate file's [fit] section (which frees the two
+    capacities only), as `rcsim fit --free` does, and one FitWarning names what it overrode. The
+    log is the two-node box by scipy.signal.lsim (C1 = 2000 J/K, R12 = 0.5 K/W), so the
+    estimates come back near the values that made it."""
+    path = tmp_path / "two.toml"
+    path.write_text('[fit]\nfree = ["nodes.M.capacity", "nodes.E.capacity"]\nsigma = "5 K"\n'
+                    + TWO, encoding="utf-8")
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        res = rcsim.fit(str(path), two_node_log(), free=FREE_TWO, sigma=0.05, starts=1)
+    notes = [str(w.message) for w in caught if str(w.message).startswith("note:")]
+    assert notes == ["note: two.toml: the arguments override its [fit] section's free (free=), "
+                     "sigma (sigma=)"]
+    assert all(issubclass(w.category, FitWarning) for w in caught
+               if str(w.message).startswith("note:"))
+    assert list(res.estimates.index) == FREE_TWO
+    # the values of the lsim log (C1, R12 at the top of this file), within 2 %
+    assert res.estimates.loc["nodes.M.capacity", "value"] == pytest.approx(C1, rel=0.02)
+    assert res.estimates.loc["links.in.resistance", "value"] == pytest.approx(R12, rel=0.02)
+    # the section alone: its two capacities; an argument it does not say is no override
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        res = rcsim.fit(str(path), two_node_log(), starts=1, noise="measurement")
+    assert not [w for w in caught if str(w.message).startswith("note:")]
+    assert list(res.estimates.index) == ["nodes.M.capacity", "nodes.E.capacity"]
+
+
+def test_arguments_override_every_candidate_in_a_comparison(tmp_path):
+    """In a comparison the arguments override each candidate's section too (the command line's
+    rule, for every candidate), each override named once with the candidate's file."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        cmp = rcsim.fit([(rcsim.loads(ONE), {"free": ["nodes.M.capacity"], "label": "one"}),
+                         candidate_file(tmp_path)], two_node_log(), free=FREE_ONE,
+                        bounds={"nodes.M.capacity": ("100 J/K", None)}, starts=1)
+    notes = sorted(str(w.message) for w in caught if str(w.message).startswith("note:"))
+    assert len(notes) == 2
+    # the file's bounds differ from the argument's; the pair says no bounds, so only free
+    assert notes[1] == ("note: two.toml: the arguments override its [fit] section's free "
+                        "(free=), bounds (bounds=)")
+    assert notes[0].endswith("the arguments override its [fit] section's free (free=)")
+    # both fitted FREE_ONE (the two-node file's own six keys overridden)
+    assert list(cmp.fits["one"].estimates.index) == FREE_ONE
+    assert list(cmp.fits["two nodes"].estimates.index) == FREE_ONE
+
+
 @pytest.mark.parametrize("section, expected", [
     ("[fit]\nfre = ['nodes.M.capacity']\n", "unknown key 'fre'.*free"),
     ("[fit]\nnoise = 'loud'\n", "noise must be one of"),
@@ -254,8 +301,8 @@ def test_selection_by_held_out_error_and_the_figure(tmp_path):
     import matplotlib.pyplot as plt
 
     cmp = quiet(rcsim.fitting.compare, [(rcsim.loads(ONE), {"label": "one", "free": FREE_ONE}),
-                                        (rcsim.loads(TWO), {"label": "two"})],
-                two_node_log(), FREE_TWO, holdout="10 h..", select="holdout", starts=1)
+                                        (rcsim.loads(TWO), {"label": "two", "free": FREE_TWO})],
+                two_node_log(), holdout="10 h..", select="holdout", starts=1)
     assert cmp.selected == "two" and cmp.reason.startswith("lowest held-out RMSE")
     drawn = cmp.plot()
     try:

@@ -312,6 +312,8 @@ BAD_RECORDS = [
                  "2026-03-29T00:00Z,2,0,1\n", "line 3"),
     ("wrong offset", "time,T_air [degC],GHI [W/m^2],wind [m/s]\n2026-03-29T00:00+01:00,1,0,1\n"
                      "2026-03-29T01:00+01:00,2,0,1\n2026-03-29T04:00+03:00,3,0,1\n", "line 4"),
+    ("times only", "time\n2026-03-29T00:00Z\n2026-03-29T01:00Z\n",
+     "has no value columns besides its time column 'time' (add the weather columns 'T_air'"),
 ]
 
 

@@ -110,3 +110,20 @@ def test_hold_times_never_reached_are_counted_not_drawn():
     drawn = plot_scatter(t, "hold_time.x")
     np.testing.assert_array_equal(drawn["points"]["k"].get_offsets(), [[1.0, 1.0], [2.0, 2.0]])
     assert "2 runs never left the band" in drawn["axes"][0].figure.get_suptitle()
+
+
+def test_runs_with_an_open_energy_balance_are_counted_not_drawn():
+    import pandas as pd
+
+    # run 2's energy balance is open (0.3 > 1e-3): not in the histogram or the scatter, counted
+    t = pd.DataFrame({"k": [1.0, 2.0, 3.0, 4.0], "max.x": [10.0, 11.0, 99.0, 12.0],
+                      "error": ["", "", "", ""], "energy_balance": [0.0, 1e-8, 0.3, 1e-6]})
+    t.attrs.update(inputs=["k"], outputs=["max.x"])
+    drawn = plot_distribution(t, "max.x")
+    assert sorted(drawn["values"]) == [10.0, 11.0, 12.0]
+    assert "1 with an open energy balance left out" in drawn["ax"].get_title()
+    drawn = plot_scatter(t, "max.x")
+    np.testing.assert_array_equal(drawn["points"]["k"].get_offsets(),
+                                  [[1.0, 10.0], [2.0, 11.0], [4.0, 12.0]])
+    assert "1 with an open energy balance" in drawn["axes"][0].figure.get_suptitle()
+    plt.close("all")

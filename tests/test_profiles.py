@@ -96,6 +96,7 @@ def test_csv_seconds_and_timestamps(write):
     ("time,t_out\n0,10\n3600,abc\n", "column 't_out' line 3 is not a finite number ('abc')"),
     ("time,t_out\n0,10\n3600,12\n1800,11\n", "time does not increase at line 4"),
     ("time,other\n0,10\n", "no column 't_out'"),
+    ("time\n0\n3600\n", "has no value columns besides its time column 'time'"),
     ("time,t_out\n", "no data rows"),
     ("", "is empty"),
     ("time,t_out\n0,10\nyesterday,3\n", "line 3"),
@@ -106,6 +107,34 @@ def test_csv_errors(write, text, fragment):
         read_time_series(path, ["t_out"])
     assert fragment in str(err.value)
     assert "bad.csv" in str(err.value)
+
+
+def test_a_csv_of_times_only_is_one_line_naming_what_to_add(write, cli, tmp_path):
+    """A boundary read from a CSV that holds only its time column: exit 2, one line naming the
+    file, that it has no value columns and the column to add (not an empty list of names)."""
+    write("only.csv", "time [h]\n0\n1\n2\n")
+    scenario = write("s.toml", """
+[simulation]
+duration = "2 h"
+step = "10 min"
+[nodes.a]
+capacity = "8 kJ/K"
+initial = "5 degC"
+[boundaries.out]
+temperature = { csv = { file = "only.csv", column = "t_out" } }
+[links.w]
+between = ["a", "out"]
+resistance = "2 K/W"
+""")
+    out = tmp_path / "never.h5"
+    r = cli("run", scenario, "-o", out)
+    assert r.exit_code == 2, r.output
+    lines = r.output.strip().splitlines()
+    assert len(lines) == 1 and "Traceback" not in r.output
+    assert "only.csv" in lines[0] and "has no value columns besides its time column 'time [h]'" \
+        in lines[0] and "add a column of values named 't_out'" in lines[0]
+    assert "valid: )" not in lines[0]
+    assert not out.exists()
 
 
 def test_csv_missing_interpolate(write):

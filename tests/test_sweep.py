@@ -397,6 +397,38 @@ def test_first_order_indices_of_the_ishigami_function():
     np.testing.assert_allclose(s.to_numpy(), expected, atol=0.03)
 
 
+def test_runs_with_an_open_energy_balance_count_in_no_statistic():
+    # five runs: run 1 failed, run 3's energy balance is open (0.2 > 1e-3): percentiles over
+    # runs 0, 2, 4 only (values 1, 3, 5: median 3, 25th percentile 2 by linear interpolation
+    # between order statistics, Hyndman & Fan 1996 definition 7); without the mark it would be
+    # over 1, 3, 100, 5 (median 4). The table keeps the run.
+    t = pd.DataFrame({"k": [0.1, 0.2, 0.3, 0.4, 0.5],
+                      "max.x": [1.0, np.nan, 3.0, 100.0, 5.0],
+                      "error": ["", "diverged", "", "", ""],
+                      "energy_balance": [1e-9, np.nan, 2e-6, 0.2, 1e-12]})
+    pct = percentiles(t, q=(25, 50))
+    assert pct.loc["max.x", "50 %"] == 3.0 and pct.loc["max.x", "25 %"] == 2.0
+    assert pct.loc["max.x", "runs"] == 3 and pct.loc["max.x", "open_balance"] == 1
+    assert pct.attrs["open_balance"] == 1
+    assert len(t) == 5 and t.loc[3, "max.x"] == 100.0
+    # exactly at the limit is closed (above 1e-3 is open, common practice of the run check)
+    t.loc[3, "energy_balance"] = 1e-3
+    assert percentiles(t, q=(50,)).loc["max.x", "50 %"] == 4.0    # median of 1, 3, 5, 100
+    # the indices leave it out too: y = 2 k exactly on the trusted runs gives S = 1 for k
+    # (a deterministic function of one input: Var(E[y|k]) = Var(y)); the open run, y far off
+    # the line, is not counted
+    rng = np.random.default_rng(3)
+    k = rng.uniform(size=400)
+    y = 2 * k
+    balance = np.full(400, 1e-9)
+    balance[::10] = 0.5
+    y[::10] = rng.uniform(-50, 50, size=40)
+    s = first_order_indices(pd.DataFrame({"k": k, "max.y": y, "energy_balance": balance}),
+                            inputs=["k"], outputs=["max.y"])
+    assert s.loc["k", "max.y"] == pytest.approx(1.0, abs=0.01)
+    assert s.attrs["open_balance"] == 40
+
+
 def test_one_at_a_time_matches_the_closed_form(body):
     oat = one_at_a_time(body, {"nodes.body.capacity": [6000.0, 10000.0],
                                "links.skin.resistance": Uniform(2.0, 3.0)}, executor="serial")

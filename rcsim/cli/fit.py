@@ -183,9 +183,9 @@ _OPTIONS = {"free": "--free", "bounds": "--bound", "per_record": "--per-record",
 def overridden_note(cand, given) -> str:
     """One line naming what the command line overrides in a candidate's [fit] section (empty
     when it overrides nothing)."""
-    said = [f"{field} ({option})" for field, option in _OPTIONS.items()
-            if getattr(cand.spec, field) is not None and getattr(given, field) is not None
-            and getattr(cand.spec, field) != getattr(given, field)]
+    from ..fitting.candidates import overridden
+
+    said = [f"{field} ({_OPTIONS[field]})" for field in overridden(cand.spec, given)]
     if not said:
         return ""
     return (f"note: {cand.scenario.name}: the command line overrides its [fit] section's "

@@ -227,6 +227,10 @@ def _percentile_table(pct, duration) -> list[str]:
         note = (f"   (never left the band in {int(row['never'])} runs)" if row.get("never")
                 else "")
         lines.append(f"  {out + ' ' + unit:<{ow}}{cells}{note}")
+    left_out = int(pct.attrs.get("open_balance", 0))
+    if left_out:
+        lines.append(f"  ({left_out} run{'s' if left_out > 1 else ''} with an open energy "
+                     "balance left out of the percentiles, shares and indices)")
     return lines
 
 
@@ -251,14 +255,18 @@ def _open_balance(table) -> list[str]:
     worst = float(table.loc[runs, BALANCE_COLUMN].max())
     return [f"  energy balance open (error above {BALANCE_LIMIT:g}, worst {worst:.2g}) in "
             f"{len(runs)} of {len(table)} runs: {shown} (column {BALANCE_COLUMN}; their "
-            "outputs are not to be trusted)"]
+            "outputs are not to be trusted and no statistic counts them)"]
 
 
 def _target_shares(table, target) -> list[str]:
+    """The share of runs holding ``target`` [s], over the runs that did not fail and whose
+    energy balance closes."""
+    from ..sweep.tables import trusted
+
     lines = []
+    ok = trusted(table)
     for out in [c for c in table.attrs.get("outputs", []) if c.startswith("hold_time.")]:
-        ok = table["error"].astype(str) == ""
-        hold = table.loc[ok, out].to_numpy(dtype=float)
+        hold = table[out].to_numpy(dtype=float)[ok]
         holds = int(((hold >= target) | (hold != hold)).sum())
         share = 100.0 * holds / hold.size if hold.size else float("nan")
         lines.append(f"  {out[len('hold_time.'):]} holds {format_time(target)}: {share:.1f} % "

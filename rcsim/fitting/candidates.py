@@ -14,10 +14,11 @@ structure is one file.
     noise = "process"                      # or "measurement" (the default)
     label = "water and mug"                # its name in a comparison (default: the file name)
 
-Values given to :func:`rcsim.fit` or :func:`rcsim.fitting.compare` apply to the candidates
-whose section does not give them; a candidate's own values win. On the command line it is the
-other way round: options given to ``rcsim fit`` override the section (``given.over(spec)``), and
-the command names what they override.
+Values given explicitly win over a section, in Python as on the command line: the keyword
+arguments of :func:`rcsim.fit` or :func:`rcsim.fitting.compare` (for every candidate) and the
+options of ``rcsim fit`` override what a section says (``given.over(spec)``); a section fills
+in only what they leave unsaid. What they override is named: a :class:`FitWarning` in Python
+(:func:`given_over`), a note printed by the command (both from :func:`overridden`).
 
 The scenario reader accepts a ``[fit]`` table and checks its keys (:data:`rcsim.scenario.FIT_KEYS`,
 an unknown one refused with the nearest valid key); its values are checked here. A candidate
@@ -33,11 +34,13 @@ import tomllib
 from dataclasses import dataclass, field, replace
 
 from ..errors import InputError, ScenarioError
+from .notes import FitWarning
 from ..parts import check_keys
 from ..scenario import FIT_KEYS, Scenario, loads, read_text
 from ..tomltext import explain as explain_toml_error
 
-__all__ = ["FitSpec", "Candidate", "read_candidate", "fit_spec", "split_fit_section", "FIT_KEYS"]
+__all__ = ["FitSpec", "Candidate", "read_candidate", "fit_spec", "split_fit_section", "FIT_KEYS",
+           "overridden", "given_over"]
 
 NOISE_KINDS = ("measurement", "process")
 
@@ -71,6 +74,30 @@ class Candidate:
     @property
     def label(self) -> str:
         return self.spec.label or self.scenario.name
+
+
+def overridden(section: FitSpec, given: FitSpec) -> list:
+    """The fields (in :class:`FitSpec` order) that ``given`` says differently from ``section``,
+    a candidate's ``[fit]`` section: both say them and they differ. A value given that the
+    section does not say, or says alike, overrides nothing."""
+    return [name for name in FitSpec.__dataclass_fields__ if name != "label"
+            and getattr(section, name) is not None and getattr(given, name) is not None
+            and getattr(section, name) != getattr(given, name)]
+
+
+def given_over(cand: "Candidate", given: FitSpec, stacklevel: int = 2) -> FitSpec:
+    """The spec a candidate is fitted with: the values ``given`` by the caller, the rest from
+    its ``[fit]`` section. What the caller overrides is named in one :class:`FitWarning`
+    (``note: <scenario>: the arguments override its [fit] section's free (free=), ...``), as
+    ``rcsim fit`` names the options that override it."""
+    said = overridden(cand.spec, given)
+    if said:
+        import warnings
+
+        warnings.warn(f"note: {cand.scenario.name}: the arguments override its [fit] section's "
+                      + ", ".join(f"{name} ({name}=)" for name in said),
+                      FitWarning, stacklevel=stacklevel + 1)
+    return given.over(cand.spec)
 
 
 def fit_spec(table, where: str) -> FitSpec:

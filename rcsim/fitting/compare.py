@@ -31,7 +31,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import InputError
-from .candidates import FitSpec, read_candidate
+from .candidates import FitSpec, given_over, read_candidate
 from .diagnostics import WHITE_P
 
 __all__ = ["compare", "Comparison", "SELECT"]
@@ -111,7 +111,9 @@ def compare(candidates, data, free=None, *, columns=None, ignore=None, bounds=No
     data : path or DataFrame, or a list of them
         The log (or logs, fitted at once by each candidate).
     free, columns, ignore, bounds, sigma, noise, per_record : optional
-        For the candidates whose ``[fit]`` section does not say (see :func:`rcsim.fit`).
+        For every candidate: they override what its ``[fit]`` section (or the table of a
+        ``(scenario, {fit table})`` pair) says, with a :class:`FitWarning` naming what was
+        overridden, as ``rcsim fit`` does with its options (see :func:`rcsim.fit`).
     select : 'bic', 'aic', 'holdout' or 'lr'
         The rule that selects a candidate ('holdout' needs ``holdout``; 'lr': forward selection
         by likelihood-ratio tests over candidates that contain one another).
@@ -146,7 +148,7 @@ def compare(candidates, data, free=None, *, columns=None, ignore=None, bounds=No
     labels, specs = [], []
     for cand in pool:
         labels.append(_unique_label(cand.label, labels))
-        specs.append(cand.spec.over(spec))
+        specs.append(given_over(cand, spec, stacklevel=2))
         if not specs[-1].free and not specs[-1].per_record:
             raise InputError(f"candidate {labels[-1]!r} frees no value", "free",
                              "give free= or a [fit] section with free = [...] in its file")

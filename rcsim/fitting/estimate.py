@@ -9,7 +9,7 @@ a Kalman filter (:mod:`rcsim.fitting.stochastic`).
 
 from __future__ import annotations
 
-from .candidates import FitSpec, read_candidate
+from .candidates import FitSpec, given_over, read_candidate
 from .compare import compare
 from .procedure import as_tuple, fit_scenario, issue_warnings
 from .records import fit_records
@@ -36,6 +36,11 @@ def fit(scenario, data, free=None, *, columns=None, ignore=None, bounds=None, si
     free : list of str, optional
         Key paths of the values to fit, e.g. ``["nodes.block.capacity",
         "links.skin.resistance", "nodes.block.initial"]`` (default: the ``[fit]`` section's).
+        This and every other argument of the ``[fit]`` keys (``columns``, ``ignore``,
+        ``bounds``, ``sigma``, ``noise``, ``per_record``) override what a scenario's ``[fit]``
+        section says, as the options of ``rcsim fit`` do; a :class:`FitWarning` names what was
+        overridden (``note: block.toml: the arguments override its [fit] section's free
+        (free=)``). The section gives what the arguments leave out.
     columns : dict, optional
         ``{"log column": "node, boundary or source"}`` for columns not named after one.
     ignore : sequence of str
@@ -93,7 +98,7 @@ def fit(scenario, data, free=None, *, columns=None, ignore=None, bounds=None, si
         return compare(pool + list(candidates or []), data, spec=caller, select=select,
                        **settings)
     cand = read_candidate(scenario)
-    spec = cand.spec.over(caller)
+    spec = given_over(cand, caller, stacklevel=2)
     if isinstance(data, (list, tuple)):
         result = fit_records(cand.scenario, list(data), spec, **settings)
     else:

@@ -15,7 +15,7 @@ import numpy as np
 import pandas as pd
 
 from ..atomic import make_folder
-from ..sweep.tables import SweepTable, succeeded
+from ..sweep.tables import SweepTable, open_balance_mask, succeeded, trusted
 from .save import save_figure
 from .style import PALETTE
 
@@ -78,9 +78,15 @@ def _within(table) -> str:
     return f" within {dur / 3600:g} h" if dur else ""
 
 
+def _left_out(table) -> int:
+    """Runs that did not fail but are left out of the figures for an open energy balance."""
+    return int((succeeded(table) & open_balance_mask(table)).sum())
+
+
 def plot_distribution(table: pd.DataFrame, output: str, ax=None, bins="auto",
                       target_hold=None) -> dict:
-    """Histogram of one output over the runs that did not fail, with its limit marked.
+    """Histogram of one output over the runs that did not fail and whose energy balance closes
+    (the others are counted in the title), with its limit marked.
 
     ``min.<node>`` / ``max.<node>`` get a line at the node's lower / upper limit; hold times get a
     line at ``target_hold`` [s] when given, and the runs that never left the band are counted in
@@ -92,7 +98,7 @@ def plot_distribution(table: pd.DataFrame, output: str, ax=None, bins="auto",
     table = _frame(table)
     ax = _sweep_axes(ax)
     scale, unit = output_scale(output)
-    y = table[output].to_numpy(dtype=float)[succeeded(table)]
+    y = table[output].to_numpy(dtype=float)[trusted(table)]
     never = int(np.isnan(y).sum()) if output.startswith("hold_time.") else 0
     values = y[np.isfinite(y)] * scale
     counts, edges, _ = ax.hist(values, bins=bins, color=PALETTE[0], alpha=0.8,
@@ -114,6 +120,8 @@ def plot_distribution(table: pd.DataFrame, output: str, ax=None, bins="auto",
     title = f"{len(values)} runs"
     if never:
         title += f"; {never} more never left the band{_within(table)}"
+    if _left_out(table):
+        title += f"; {_left_out(table)} with an open energy balance left out"
     ax.set_title(title, fontsize="medium")
     return {"ax": ax, "values": values, "counts": np.asarray(counts), "edges": np.asarray(edges),
             "limit": line, "never": never}
@@ -200,7 +208,8 @@ def _panels(n):
 
 
 def plot_scatter(table: pd.DataFrame, output: str, inputs=None, axes=None) -> dict:
-    """Output against each input (one panel per input), runs that did not fail.
+    """Output against each input (one panel per input), runs that did not fail and whose energy
+    balance closes (the others are counted in the figure's title).
 
     ``min.<node>`` / ``max.<node>`` panels get a horizontal line at the node's limit. Returns
     ``{"axes", "points" ({input: PathCollection}), "limits" (list of Line2D)}``.
@@ -208,7 +217,7 @@ def plot_scatter(table: pd.DataFrame, output: str, inputs=None, axes=None) -> di
     table = _frame(table)
     inputs = list(_scatter_inputs(table) if inputs is None else inputs)
     axes = list(np.ravel(_panels(len(inputs)) if axes is None else axes))
-    ok = succeeded(table)
+    ok = trusted(table)
     scale, _ = output_scale(output)
     y = table[output].to_numpy(dtype=float)[ok] * scale
     limit_value = _limit_of(table, output)
@@ -226,14 +235,16 @@ def plot_scatter(table: pd.DataFrame, output: str, inputs=None, axes=None) -> di
     if limits:
         axes[0].legend(loc="best", fontsize="small")
     never = int(np.isnan(y).sum()) if output.startswith("hold_time.") else 0
-    if never and axes:
-        axes[0].figure.suptitle(f"{never} runs never left the band{_within(table)} (not shown)",
-                                fontsize="medium")
+    said = [f"{never} runs never left the band{_within(table)}"] if never else []
+    if _left_out(table):
+        said.append(f"{_left_out(table)} with an open energy balance")
+    if said and axes:
+        axes[0].figure.suptitle("; ".join(said) + " (not shown)", fontsize="medium")
     return {"axes": axes[:len(inputs)], "points": points, "limits": limits}
 
 
 def _varies(table, output) -> bool:
-    y = table[output].to_numpy(dtype=float)[succeeded(table)]
+    y = table[output].to_numpy(dtype=float)[trusted(table)]
     y = y[np.isfinite(y)]
     return y.size > 1 and float(y.max() - y.min()) > 1e-9 * max(1.0, float(np.abs(y).max()))
 

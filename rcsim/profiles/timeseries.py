@@ -113,7 +113,8 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
     Raises
     ------
     DataError
-        Missing file or column, unreadable or non-increasing times, non-numeric values (unless
+        Missing file or column, a file with no column besides its time column, unreadable or
+        non-increasing times, non-numeric values (unless
         ``missing='interpolate'``, which turns them into NaN for the caller to skip).
     """
     import pandas as pd
@@ -131,6 +132,11 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
     if tcol not in df.columns:
         raise DataError(f"no time column {quote_cell(tcol)}", label,
                         "columns are: " + quote_names(df.columns))
+    if len(df.columns) == 1:
+        wanted = f" named {quote_cell(columns[0])}" if columns else ""
+        raise DataError(f"has no value columns besides its time column {quote_cell(tcol)}",
+                        label, f"add a column of values{wanted} beside the time column, or name "
+                        "the file that holds them")
     if columns is None:
         columns = [c for c in df.columns if c != tcol]
     headers = {}      # requested name -> the header as written ("T" -> "T [degF]")

@@ -7,6 +7,7 @@ import math
 import numpy as np
 import pandas as pd
 
+from ..sweep.tables import succeeded
 from .common import (inputs_section, network_section, provenance_items, purpose_of,
                      warning_texts)
 from .formatting import number_text, table_from_frame
@@ -20,9 +21,10 @@ _TIME_OUTPUTS = ("hold_time", "time_outside_band", "time_out")
 
 
 def _ok(table) -> np.ndarray:
-    if "error" not in table.columns:
-        return np.ones(len(table), dtype=bool)
-    return table["error"].fillna("").astype(str).to_numpy() == ""
+    """The runs statistics count: did not fail, energy balance closed."""
+    from ..sweep.tables import trusted
+
+    return trusted(table)
 
 
 def _unit(table, column) -> str:
@@ -44,9 +46,14 @@ def _percentile_table(table, duration):
         rows.append(row)
     frame = pd.DataFrame(rows)
     longer = "> the run" if not duration else f"> {number_text(duration / 3600.0, 4)} h"
-    return table_from_frame(frame, "Percentiles of each output over the runs that did not fail",
+    left_out = int(pct.attrs.get("open_balance", 0))
+    open_note = (f" {left_out} run(s) with an open energy balance (column energy_balance above "
+                 "1e-3) are left out here and from the shares and indices." if left_out else "")
+    return table_from_frame(frame, "Percentiles of each output over the runs that did not fail "
+                            "and whose energy balance closes",
                             id="sweep-percentiles", note=f"\u221e: more than the run's duration "
-                            f"({longer}); the node had not left its band at that percentile.")
+                            f"({longer}); the node had not left its band at that percentile."
+                            + open_note)
 
 
 def _shown_outputs(table) -> list[str]:
@@ -126,9 +133,13 @@ def build_sweep_report(table, scenario=None, *, oat=None, target_hold=None, warn
     heading = title or attrs.get("title", "") or getattr(scenario, "title", "") or name
     duration = attrs.get("duration")
     glance = [("scenario", name), ("runs", str(len(table))),
-              ("failed runs", str(int((~ok).sum()))),
+              ("failed runs", str(int((~succeeded(table)).sum()))),
               ("seed", "-" if attrs.get("seed") is None else str(attrs["seed"])),
               ("samples per grid point", str(attrs.get("samples", 0) or "-"))]
+    left_out = int((succeeded(table) & ~ok).sum())
+    if left_out:
+        glance.append(("open energy balance", f"{left_out} runs, left out of every statistic "
+                       "(column energy_balance above 1e-3)"))
     if duration:
         glance.append(("run duration", f"{number_text(float(duration) / 3600.0, 4)} h"))
     if attrs.get("interrupted"):

@@ -2,7 +2,9 @@
 
 Nothing here runs a model; both read a table (a DataFrame from ``rcsim.sweep`` or
 :func:`~rcsim.sweep.read_table`, or a :class:`~rcsim.sweep.SweepTable`). Failed runs are left
-out. A hold time of NaN means the node never left its band within the run: it ranks above every
+out, and so are runs whose energy balance is open (``energy_balance`` above 1e-3,
+:func:`~rcsim.sweep.tables.trusted`): their outputs are not to be trusted, so they stay in the
+table but count in no statistic; each result says how many were left out. A hold time of NaN means the node never left its band within the run: it ranks above every
 finite hold time (percentiles), or stands in as the run duration, a lower bound (indices).
 
 :func:`first_order_indices` estimates variance-based first-order (Sobol) indices
@@ -21,7 +23,8 @@ import pandas as pd
 
 from ..base import suggest
 from ..errors import InputError
-from .tables import SweepTable, input_columns, output_columns, succeeded
+from .tables import (SweepTable, input_columns, open_balance_mask, output_columns, succeeded,
+                     trusted)
 
 __all__ = ["percentiles", "first_order_indices"]
 
@@ -31,20 +34,29 @@ def _frame(table) -> pd.DataFrame:
 
 
 def percentiles(table: pd.DataFrame, q=(5, 50, 95)) -> pd.DataFrame:
-    """Percentiles of each output over the runs that did not fail.
+    """Percentiles of each output over the runs that did not fail and whose energy balance
+    closes.
 
     A hold time of NaN (never left the band within the run) counts as longer than any finite one,
-    so a percentile that falls among such runs is ``inf`` ("more than the duration").
+    so a percentile that falls among such runs is ``inf`` ("more than the duration"). A run whose
+    energy balance is open (``energy_balance`` above 1e-3) is left out: its outputs are not to be
+    trusted.
 
     Returns a DataFrame indexed by output with one column per percentile (``"5 %"``...) and
-    ``runs`` (successful runs used) and ``never`` (runs that never left the band).
+    ``runs`` (runs used), ``never`` (runs that never left the band) and ``open_balance`` (runs
+    that did not fail but were left out for an open energy balance; also
+    ``attrs["open_balance"]``).
 
     >>> t = pd.DataFrame({"hold_time.x": [1.0, 2.0, 3.0, np.nan]})
     >>> percentiles(t, q=(50, 90))[["50 %", "90 %", "never"]].to_dict("records")
     [{'50 %': 2.5, '90 %': inf, 'never': 1}]
+    >>> t["energy_balance"] = [0.0, 0.0, 0.0, 0.5]        # run 3 open: left out
+    >>> percentiles(t, q=(50,))[["50 %", "runs", "never", "open_balance"]].to_dict("records")
+    [{'50 %': 2.0, 'runs': 3, 'never': 0, 'open_balance': 1}]
     """
     table = _frame(table)
-    ok = succeeded(table)
+    ok = trusted(table)
+    left_out = int((succeeded(table) & open_balance_mask(table)).sum())
     rows = {}
     for c in output_columns(table):
         x = table[c].to_numpy(dtype=float)[ok]
@@ -64,8 +76,11 @@ def percentiles(table: pd.DataFrame, q=(5, 50, 95)) -> pd.DataFrame:
             row[f"{p:g} %"] = math.inf if math.isnan(v) else v
         row["runs"] = int(x.size)
         row["never"] = never
+        row["open_balance"] = left_out
         rows[c] = row
-    return pd.DataFrame.from_dict(rows, orient="index")
+    out = pd.DataFrame.from_dict(rows, orient="index")
+    out.attrs["open_balance"] = left_out
+    return out
 
 
 def _bins_of(x: np.ndarray, bins: int) -> np.ndarray:
@@ -106,7 +121,8 @@ def first_order_indices(table: pd.DataFrame, inputs=None, outputs=None, bins=Non
     S = (SS_between - (M - 1) SS_within / (N - M)) / SS_total, clipped at 0.
 
     The inputs must be independent (as drawn by :func:`rcsim.sweep`). Hold times never reached are
-    taken as the run duration (a lower bound) for this purpose. Failed runs are left out.
+    taken as the run duration (a lower bound) for this purpose. Failed runs are left out, and
+    so are runs whose energy balance is open (their number: ``attrs["open_balance"]``).
     ``bins`` defaults to round(sqrt(N)) between 2 and 50.
 
     Returns
@@ -122,7 +138,7 @@ def first_order_indices(table: pd.DataFrame, inputs=None, outputs=None, bins=Non
     (0.8, 0.2)
     """
     table = _frame(table)
-    ok = succeeded(table)
+    ok = trusted(table)
     inputs = list(inputs) if inputs is not None else input_columns(table)
     outputs = list(outputs) if outputs is not None else output_columns(table)
     for c in inputs + outputs:
@@ -147,4 +163,5 @@ def first_order_indices(table: pd.DataFrame, inputs=None, outputs=None, bins=Non
         for k in inputs:
             x = table[k].to_numpy(dtype=float)[ok][keep]
             result.at[k, c] = _correlation_ratio(x, y, m_bins, ss_total)
+    result.attrs["open_balance"] = int((succeeded(table) & open_balance_mask(table)).sum())
     return result

@@ -4,7 +4,7 @@ A table (``pandas.DataFrame``, index ``run``) holds the inputs by key path (SI v
 temperatures), then the outputs (``min.<node>``, ``max.<node>`` [degC], ``hold_time.<node>``,
 ``time_outside_band.<node>`` [s]), then ``error`` (empty, or the error text of a run that failed),
 then ``energy_balance`` (each run's relative energy balance error: above 1e-3 its outputs are
-not to be trusted; :func:`open_balance_runs`), then, under former names kept for scripts written
+not to be trusted, :func:`open_balance_runs`, and statistics leave it out, :func:`trusted`), then, under former names kept for scripts written
 before, ``time_out.<node>`` (the same values as ``time_outside_band.<node>``; not listed among the
 outputs). A table written before the rename is
 read with the current names added.
@@ -34,7 +34,8 @@ from .worker import OUTPUT_ALIASES, OUTPUT_PREFIXES, canonical_output
 
 __all__ = ["SweepTable", "TABLE_SUFFIXES", "unit_of", "make_table", "check_table_path",
            "write_table", "read_table", "output_columns", "input_columns", "succeeded",
-           "alias_columns", "add_alias_columns", "BALANCE_COLUMN", "open_balance_runs"]
+           "alias_columns", "add_alias_columns", "BALANCE_COLUMN", "open_balance_runs",
+           "trusted", "open_balance_mask"]
 
 TABLE_SUFFIXES = (".csv", ".h5", ".hdf5", ".parquet")
 
@@ -96,12 +97,26 @@ def _current_names(table: pd.DataFrame, meta: dict) -> None:
 def open_balance_runs(table: pd.DataFrame) -> list:
     """The runs (index values) whose energy balance error is above
     ``rcsim.transient.registry.BALANCE_LIMIT`` (none in a table without the column)."""
+    return list(table.index[open_balance_mask(table)])
+
+
+def open_balance_mask(table: pd.DataFrame) -> np.ndarray:
+    """Boolean mask of the runs whose energy balance error is above
+    ``rcsim.transient.registry.BALANCE_LIMIT`` (all False without the column)."""
     from ..transient.registry import BALANCE_LIMIT
 
     if BALANCE_COLUMN not in table.columns:
-        return []
+        return np.zeros(len(table), dtype=bool)
     error = pd.to_numeric(table[BALANCE_COLUMN], errors="coerce").to_numpy(dtype=float)
-    return list(table.index[error > BALANCE_LIMIT])
+    return error > BALANCE_LIMIT
+
+
+def trusted(table: pd.DataFrame) -> np.ndarray:
+    """Boolean mask of the runs whose outputs enter statistics: they did not fail and their
+    energy balance closes. A run with an open balance stays in the table (its
+    ``energy_balance`` column above the limit marks it) but no percentile, share, index or
+    distribution counts it."""
+    return succeeded(table) & ~open_balance_mask(table)
 
 
 def succeeded(table: pd.DataFrame) -> np.ndarray:

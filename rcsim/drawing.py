@@ -36,6 +36,8 @@ _INK, _PAPER, _SOFT = "#1f2a36", "#ffffff", "#5b6672"
 _NODE_FILL, _BOUNDARY_FILL, _BLOCK_FILL = "#dbe7f5", "#e8e1cf", "#efe9dc"
 _NONLINEAR = "#8e1f4f"
 _FONT = 7.5
+#: The picture's own settings on top of the figures' style (its SVG ids, the hatch of a boundary).
+_LOOK = {"svg.hashsalt": "rcsim-network", "hatch.linewidth": 0.5, "hatch.color": _SOFT}
 
 
 @dataclass
@@ -377,8 +379,6 @@ def draw_network(network, *, expand_layers: bool = False, orientation: str = "do
     between rows), so labels stay legible however many points there are; scale it on the page.
     ``orientation``: ``"down"`` (boundaries on top) or ``"right"`` (boundaries on the left).
     """
-    import matplotlib
-
     if orientation not in ("down", "right"):
         raise InputError(f"orientation must be 'down' or 'right', got {orientation!r}",
                          "orientation")
@@ -390,8 +390,9 @@ def draw_network(network, *, expand_layers: bool = False, orientation: str = "do
     x0, y0 = xy.min(axis=0) - np.array([1.45, 0.85])
     x1, y1 = xy.max(axis=0) + np.array([1.55, 0.75])
     head = 0.35 if title else 0.0
-    with matplotlib.rc_context({"svg.hashsalt": "rcsim-network", "hatch.linewidth": 0.5,
-                                "hatch.color": _SOFT}):
+    from .plotting.style import styled
+
+    with styled(_LOOK):
         fig = Figure(figsize=(x1 - x0, y1 - y0 + head))
         ax = fig.add_axes((0, 0, 1, (y1 - y0) / (y1 - y0 + head)))
         ax.set_xlim(x0, x1)
@@ -414,22 +415,18 @@ def network_svg(network, **kwargs) -> str:
     """The network picture as SVG text (see :func:`draw_network` for the keywords)."""
     import io
 
-    import matplotlib
+    from .plotting.save import write_figure
 
     picture = draw_network(network, **kwargs)
     buf = io.StringIO()
-    with matplotlib.rc_context({"svg.hashsalt": "rcsim-network", "hatch.linewidth": 0.5,
-                                "hatch.color": _SOFT}):
-        picture.figure.savefig(buf, format="svg", metadata={"Date": None}, bbox_inches="tight",
-                               pad_inches=0.08)
+    write_figure(picture.figure, buf, "svg", rc=_LOOK, bbox_inches="tight", pad_inches=0.08)
     return buf.getvalue()
 
 
 def save_network_picture(network, path, **kwargs) -> str:
     """Write the picture of ``network`` to ``path`` (.svg, .png or .pdf), atomically."""
-    import matplotlib
-
     from .atomic import atomic_path
+    from .plotting.save import write_figure
 
     path = os.fspath(path)
     fmt = os.path.splitext(path)[1].lower().lstrip(".")
@@ -437,9 +434,6 @@ def save_network_picture(network, path, **kwargs) -> str:
         raise InputError(f"cannot draw a network as {fmt or 'a file without suffix'!r}", path,
                          "use .svg, .png or .pdf")
     picture = draw_network(network, **kwargs)
-    meta = {"svg": {"Date": None}, "png": {"Software": None}, "pdf": {"CreationDate": None}}[fmt]
-    with atomic_path(path, f".{fmt}.tmp") as tmp, matplotlib.rc_context(
-            {"svg.hashsalt": "rcsim-network", "hatch.linewidth": 0.5, "hatch.color": _SOFT}):
-        picture.figure.savefig(tmp, format=fmt, dpi=150, metadata=meta, bbox_inches="tight",
-                               pad_inches=0.08)
+    with atomic_path(path, f".{fmt}.tmp") as tmp:
+        write_figure(picture.figure, tmp, fmt, rc=_LOOK, bbox_inches="tight", pad_inches=0.08)
     return path

@@ -562,3 +562,111 @@ def test_without_a_font_for_the_script_one_warning_names_the_package(tmp_path, m
     assert "'冷' (U+51B7)" in said[0] and "fonts-noto-cjk" in said[0]
     assert (tmp_path / "f0.png").stat().st_size > 0 and (tmp_path / "f1.png").exists()
     assert style.missing_glyphs("plain ASCII, 5 °C") == []
+
+
+# -- every figure rcsim draws is made and written in the style (its font list included) -------
+CJK_BOX = f"""title = "{CJK_NAME}"
+[simulation]
+duration = "6 h"
+step = "10 min"
+[nodes."{CJK_NAME}"]
+capacity = "8 kJ/K"
+initial = "5 degC"
+[boundaries."外気"]
+temperature = "25 degC"
+[links."壁"]
+between = ["{CJK_NAME}", "外気"]
+resistance = "2 K/W"
+[limits."{CJK_NAME}"]
+max = "8 degC"
+"""
+
+
+def _cjk_log(path):
+    """The box's log: 25 - 20 exp(-t / 16000 s) (its single RC, 8 kJ/K x 2 K/W), every 10 min,
+    with a small invented ripple so the fit has residuals."""
+    t = np.arange(0.0, 6 * 3600.0 + 1, 600.0)
+    values = 25.0 - 20.0 * np.exp(-t / 16000.0) + 0.02 * np.sin(t / 777.0)
+    pd.DataFrame({"time [s]": t, CJK_NAME: values}).to_csv(path, index=False)
+    return path
+
+
+def _cjk_texts(fig):
+    from matplotlib.text import Text
+
+    return [t for t in fig.findobj(Text) if any(c in t.get_text() for c in CJK_NAME + "外壁")]
+
+
+def _glyph_warnings(caught):
+    return [str(w.message) for w in caught if "missing from font" in str(w.message)]
+
+
+def test_every_figure_rcsim_draws_takes_the_font_list(tmp_path):
+    # with or without a CJK font: the texts of the network picture, the fit, sizing and sweep
+    # figures and the report's small figures are set in the style's font list (matplotlib's own
+    # default is ["sans-serif"], which falls back to nothing)
+    import warnings
+
+    from rcsim.drawing import draw_network
+    from rcsim.fitting.figures import plot_candidates
+    from rcsim.plotting import style
+    from rcsim.report.figures import profile_figures
+    from rcsim.sizing.figures import plot_sizing
+
+    want = list(style.font_families())
+    path = tmp_path / "box.toml"
+    path.write_text(CJK_BOX, encoding="utf-8")
+    sc = rcsim.load(path)
+    figures = {"network": draw_network(sc).figure}
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        fit = rcsim.fit(str(path), str(_cjk_log(tmp_path / "log.csv")),
+                        free=[f"nodes.{CJK_NAME}.capacity"], starts=1)
+        sized = rcsim.size(str(path), vary={f"nodes.{CJK_NAME}.capacity": ("4 kJ/K", "40 kJ/K")},
+                           require=f"hold_time.{CJK_NAME} >= 1 h")
+    # the fitted capacity: the log's 8 kJ/K (its single RC above), within the ripple's effect
+    assert fit.estimates["value"].iloc[0] == pytest.approx(8000.0, rel=0.01)
+    figures["fit"] = plot_candidates({"one": fit}).figure
+    figures["sizing"] = plot_sizing(sized)["figure"]
+    table = pd.DataFrame({"k": [1.0, 2.0, 3.0], f"max.{CJK_NAME}": [6.0, 7.0, 9.0]})
+    table.attrs.update(inputs=["k"], outputs=[f"max.{CJK_NAME}"])
+    figures["distribution"] = plotting.plot_distribution(table, f"max.{CJK_NAME}")["ax"].figure
+    figures["scatter"] = plotting.plot_scatter(table, f"max.{CJK_NAME}")["axes"][0].figure
+    for name, fig in figures.items():
+        texts = _cjk_texts(fig)
+        assert texts, name
+        for t in texts:
+            assert list(t.get_fontfamily()) == want, (name, t.get_text())
+    plt.close("all")
+    # the report's small figures are made in the style too: their titles name the boundary
+    drawn = profile_figures(sc, 6 * 3600.0)
+    assert len(drawn) == 1 and "外気" in drawn[0].caption
+
+
+def test_cjk_names_drawn_in_every_written_figure(cli, tmp_path):
+    # `rcsim draw` (PNG and SVG), `rcsim fit --plot`, `rcsim size --plots` and `rcsim report`
+    # with names in Chinese script: matplotlib (its own check) warns of no glyph missing from the
+    # fonts of a text; before, the network picture and the report drew them as empty boxes
+    if not _fonts_with(CJK_NAME[0]):
+        pytest.skip("no font with CJK glyphs installed (Debian: fonts-noto-cjk)")
+    import warnings
+
+    path = tmp_path / "box.toml"
+    path.write_text(CJK_BOX, encoding="utf-8")
+    log = _cjk_log(tmp_path / "log.csv")
+    runs = [("draw", path, "-o", tmp_path / "net.png"),
+            ("draw", path, "-o", tmp_path / "net.svg"),
+            ("fit", path, log, "--free", f"nodes.{CJK_NAME}.capacity", "--starts", "1",
+             "--plot", tmp_path / "fit.png"),
+            ("size", path, "--vary", f"nodes.{CJK_NAME}.capacity=4kJ/K..40kJ/K", "--require",
+             f"hold_time.{CJK_NAME}>=1h", "--plots", tmp_path / "plots"),
+            ("report", path, "-o", tmp_path / "r.html")]
+    for args in runs:
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            r = cli(*args)
+        assert r.exit_code == 0, (args[0], r.output)
+        assert _glyph_warnings(caught) == [] and "missing from font" not in r.output, args[0]
+    svg = (tmp_path / "net.svg").read_text(encoding="utf-8")
+    assert "NotoSansCJK" in svg or "NotoSerifCJK" in svg     # the glyphs' ids name their font
+    assert os.listdir(tmp_path / "plots")

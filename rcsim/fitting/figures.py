@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..errors import InputError
-from ..plotting.style import LINE_STYLES, PALETTE
+from ..plotting.style import LINE_STYLES, PALETTE, styled
 from ..plotting.timeaxis import UNIT_SECONDS, time_unit_for
 
 __all__ = ["plot_candidates", "CandidatesFigure"]
@@ -48,6 +48,7 @@ def _records(fit) -> dict:
     return dict(fit.records) if hasattr(fit, "records") else {None: fit}
 
 
+@styled()
 def plot_candidates(fits: dict, *, selected: str | None = None, column: str | None = None,
                     ax=None, time_unit: str | None = None) -> CandidatesFigure:
     """Measured (dots) with each candidate's fitted curve, residuals below; with several logs,

@@ -6,13 +6,14 @@ them."""
 
 from __future__ import annotations
 
+import contextlib
 import os
 import warnings
 
 from ..errors import InputError
-from .style import DPI, figure_style, fallback_fonts, warn_missing_glyphs
+from .style import DPI, fallback_fonts, styled, warn_missing_glyphs
 
-__all__ = ["FORMATS", "save_figure", "add_caution"]
+__all__ = ["FORMATS", "save_figure", "write_figure", "add_caution"]
 
 FORMATS = ("png", "svg", "pdf")
 
@@ -24,26 +25,51 @@ def save_figure(fig, path) -> str:
     if fmt not in FORMATS:
         raise InputError(f"cannot write a figure as {fmt or 'a file without suffix'!r}", path,
                          "use .png, .svg or .pdf")
-    import matplotlib as mpl
-
     from ..atomic import atomic_path
 
-    meta = {"png": {"Software": None}, "svg": {"Date": None}, "pdf": {"CreationDate": None}}[fmt]
-    missing = warn_missing_glyphs(fig)       # once, in one line, naming a font to install
-    with fallback_fonts(fig), warnings.catch_warnings():
-        if missing:                           # not matplotlib's own warning for every glyph
-            warnings.filterwarnings("ignore", r"Glyph \d+ .*missing from font", UserWarning)
+    with _fonts_for(fig):             # the caution's layout measures the texts too
         undo = add_caution(fig)
         try:
-            with atomic_path(path, f".{fmt}.tmp") as tmp, mpl.rc_context(figure_style()):
-                fig.savefig(tmp, format=fmt, dpi=DPI, metadata=meta,
-                            **({} if undo.reserved else {"bbox_inches": "tight",
-                                                         "pad_inches": 0.06}))
+            with atomic_path(path, f".{fmt}.tmp") as tmp:
+                write_figure(fig, tmp, fmt, **({} if undo.reserved else {"bbox_inches": "tight",
+                                                                         "pad_inches": 0.06}))
                 if fmt == "png":
                     _palette_png(tmp)
         finally:
             undo()   # the caller's figure is left as it was
     return path
+
+
+#: what each format's file leaves out: no date, no software name (the same figure, the same bytes)
+_NO_STAMP = {"png": {"Software": None}, "svg": {"Date": None}, "pdf": {"CreationDate": None}}
+
+
+def write_figure(fig, target, fmt: str, *, rc: dict | None = None, **savefig) -> None:
+    """Write ``fig`` to ``target`` (a path or a file object) as ``fmt`` in rcsim's look: the one
+    place every figure rcsim writes goes through (saved figures, the network picture, the
+    report's inline SVG).
+
+    The settings of :func:`~rcsim.plotting.style.styled` (with ``rc`` on top) are in force, every
+    text falls back to the fonts that have the glyphs its own font lacks (also text made outside
+    ``styled``), characters no installed font has are named once in one warning (instead of
+    matplotlib's warning per glyph), and the file carries no date or software name. ``savefig``
+    goes to ``Figure.savefig`` (``dpi`` defaults to :data:`~rcsim.plotting.style.DPI`).
+    """
+    savefig = {"dpi": DPI, "metadata": _NO_STAMP.get(fmt), **savefig}
+    with _fonts_for(fig), styled(rc):
+        fig.savefig(target, format=fmt, **savefig)
+
+
+@contextlib.contextmanager
+def _fonts_for(fig):
+    """While the block runs, every text of ``fig`` falls back along the font list, and
+    characters no font has are named in one warning (once per process) instead of matplotlib's
+    warning per glyph."""
+    missing = warn_missing_glyphs(fig)       # once, in one line, naming a font to install
+    with fallback_fonts(fig), warnings.catch_warnings():
+        if missing:
+            warnings.filterwarnings("ignore", r"Glyph \d+ .*missing from font", UserWarning)
+        yield
 
 
 class _Footer:

@@ -11,6 +11,11 @@ the ``font.family`` list of :data:`STYLE` (matplotlib falls back along the list 
 Where no installed font has a character of a figure's text, :func:`warn_missing_glyphs` says
 once which font package to install, instead of empty boxes drawn silently. Importing this module
 imports no matplotlib; the fonts are looked up when :data:`STYLE` is first read.
+
+Every figure rcsim draws (results, fits and candidates, sweeps, sizing, the network picture, the
+report's small figures) is made inside :func:`styled` and written by
+:func:`rcsim.plotting.save.write_figure`, which sets the same settings again and lets every text
+fall back to the fonts of the list: those two are the one place the look is applied.
 """
 
 from __future__ import annotations
@@ -23,8 +28,8 @@ import warnings
 
 __all__ = ["PALETTE", "LINE_STYLES", "MARKERS", "BOUNDARY_COLOURS", "BOUNDARY_STYLES", "STYLE",
            "NODE_WIDTH", "BOUNDARY_WIDTH", "SIZE_ONE", "SIZE_TWO", "DPI", "MAX_SERIES",
-           "series_style", "DEFAULT_FONT", "figure_style", "font_families", "fallback_fonts", "missing_glyphs",
-           "warn_missing_glyphs"]
+           "series_style", "DEFAULT_FONT", "figure_style", "styled", "font_families",
+           "fallback_fonts", "missing_glyphs", "warn_missing_glyphs"]
 
 #: Line colours, in the order series take them: ink blue, amber, wine, sea green, umber, sky.
 #: Dark and light alternate so that neighbours in the order also differ in grey-scale.
@@ -110,6 +115,18 @@ def figure_style() -> dict:
     """:data:`STYLE`: the settings, with ``font.family`` the list of :func:`font_families`
     (looked up on the first call, which imports matplotlib)."""
     return {**_STYLE, "font.family": list(font_families())}
+
+
+@contextlib.contextmanager
+def styled(extra: dict | None = None):
+    """Draw in rcsim's look: ``matplotlib.rc_context`` of :data:`STYLE` (the font list
+    included), with ``extra`` settings on top. Text made inside takes the font list, so names in
+    any script find a font that has them. Also a decorator (``@styled()``) of a function that
+    makes a figure."""
+    import matplotlib as mpl
+
+    with mpl.rc_context({**figure_style(), **(extra or {})}):
+        yield
 
 
 @functools.lru_cache(maxsize=1)

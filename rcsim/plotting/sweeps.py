@@ -17,7 +17,7 @@ import pandas as pd
 from ..atomic import make_folder
 from ..sweep.tables import SweepTable, open_balance_mask, succeeded, trusted
 from .save import save_figure
-from .style import PALETTE
+from .style import PALETTE, styled
 
 __all__ = ["output_scale", "output_label", "plot_distribution", "plot_tornado", "plot_scatter",
            "sweep_figures"]
@@ -83,6 +83,7 @@ def _left_out(table) -> int:
     return int((succeeded(table) & open_balance_mask(table)).sum())
 
 
+@styled()
 def plot_distribution(table: pd.DataFrame, output: str, ax=None, bins="auto",
                       target_hold=None) -> dict:
     """Histogram of one output over the runs that did not fail and whose energy balance closes
@@ -143,6 +144,7 @@ def _tornado_values(oat, rows, output):
     return lo, hi, base, never
 
 
+@styled()
 def plot_tornado(oat: pd.DataFrame, output: str, ax=None) -> dict:
     """Tornado of one output from :func:`rcsim.sweep.one_at_a_time`, largest swing on top.
 
@@ -207,6 +209,7 @@ def _panels(n):
     return axes
 
 
+@styled()
 def plot_scatter(table: pd.DataFrame, output: str, inputs=None, axes=None) -> dict:
     """Output against each input (one panel per input), runs that did not fail and whose energy
     balance closes (the others are counted in the figure's title).

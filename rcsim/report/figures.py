@@ -86,13 +86,14 @@ def inline_svg(svg_text: str, prefix: str, label: str, zoom: float = 1.0) -> str
 
 
 def svg_of_figure(fig) -> str:
-    """A matplotlib figure as SVG text (text drawn as paths: the page needs no font)."""
-    import matplotlib
+    """A matplotlib figure as SVG text (text drawn as paths: the page needs no font; names in
+    any script drawn with an installed font that has them, as
+    :func:`rcsim.plotting.save.write_figure` writes every figure)."""
+    from ..plotting.save import write_figure
 
     buf = io.StringIO()
-    with matplotlib.rc_context({"svg.fonttype": "path", "svg.hashsalt": "rcsim-report"}):
-        fig.savefig(buf, format="svg", metadata={"Date": None}, bbox_inches="tight",
-                    pad_inches=0.05)
+    write_figure(fig, buf, "svg", rc={"svg.fonttype": "path", "svg.hashsalt": "rcsim-report"},
+                 bbox_inches="tight", pad_inches=0.05)
     return buf.getvalue()
 
 
@@ -157,6 +158,7 @@ def profile_figures(scenario, duration: float | None) -> list[Figure]:
     from matplotlib.figure import Figure as MplFigure
 
     from ..plotting import PALETTE
+    from ..plotting.style import styled
     from .formatting import time_unit
 
     net = getattr(scenario, "network", scenario)
@@ -170,17 +172,16 @@ def profile_figures(scenario, duration: float | None) -> list[Figure]:
             t, v = _profile_samples(profile, duration)
         except Exception:   # noqa: BLE001 - a profile the figure cannot sample is left out
             continue
-        fig = MplFigure(figsize=(3.3, 1.55))
-        ax = fig.add_axes((0.19, 0.27, 0.77, 0.6))
-        ax.plot(t / size, v, color=PALETTE[i % len(PALETTE)] if kind == "source" else "#555555",
-                lw=1.4)
-        ax.set_title(f"{kind} {name}", fontsize=8, loc="left")
-        ax.set_xlabel(f"time [{unit}]", fontsize=7)
-        ax.set_ylabel(f"[{qty}]", fontsize=7)
-        ax.tick_params(labelsize=6.5)
-        ax.grid(True, color="#e2e2e2", lw=0.5)
-        for side in ("top", "right"):
-            ax.spines[side].set_visible(False)
+        with styled():
+            fig = MplFigure(figsize=(3.3, 1.55))
+            ax = fig.add_axes((0.19, 0.27, 0.77, 0.6))
+            ax.plot(t / size, v, lw=1.4,
+                    color=PALETTE[i % len(PALETTE)] if kind == "source" else "#555555")
+            ax.set_title(f"{kind} {name}", fontsize=8, loc="left")
+            ax.set_xlabel(f"time [{unit}]", fontsize=7)
+            ax.set_ylabel(f"[{qty}]", fontsize=7)
+            ax.tick_params(labelsize=6.5)
+            ax.grid(True, color="#e2e2e2", lw=0.5)
         out.append(figure_of(fig, f"profile-{i}", f"{kind} {name}: {profile.describe()}",
                              small=True, close=False))
     return out

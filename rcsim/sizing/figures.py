@@ -16,6 +16,7 @@ import os
 import numpy as np
 
 from ..atomic import make_folder
+from ..plotting.style import styled
 
 __all__ = ["plot_sizing", "sizing_figures"]
 
@@ -35,6 +36,7 @@ def _panels(n, axes):
     return fig, list(ax[:, 0])
 
 
+@styled()
 def plot_sizing(result, axes=None) -> dict:
     """Draw ``result`` (a :class:`~rcsim.sizing.result.SizingResult`).
 

@@ -4,8 +4,9 @@ Nothing here runs a model; both read a table (a DataFrame from ``rcsim.sweep`` o
 :func:`~rcsim.sweep.read_table`, or a :class:`~rcsim.sweep.SweepTable`). Failed runs are left
 out, and so are runs whose energy balance is open (``energy_balance`` above 1e-3,
 :func:`~rcsim.sweep.tables.trusted`): their outputs are not to be trusted, so they stay in the
-table but count in no statistic; each result says how many were left out. A hold time of NaN means the node never left its band within the run: it ranks above every
-finite hold time (percentiles), or stands in as the run duration, a lower bound (indices).
+table but count in no statistic; each result says how many were left out. A hold time of NaN
+means the node never left its band within the run: it ranks above every finite hold time
+(percentiles), or stands in as the run duration, a lower bound (indices).
 
 :func:`first_order_indices` estimates variance-based first-order (Sobol) indices
 S_i = Var(E[Y | X_i]) / Var(Y) by the correlation ratio over equal-count bins of each input

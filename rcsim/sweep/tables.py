@@ -4,10 +4,10 @@ A table (``pandas.DataFrame``, index ``run``) holds the inputs by key path (SI v
 temperatures), then the outputs (``min.<node>``, ``max.<node>`` [degC], ``hold_time.<node>``,
 ``time_outside_band.<node>`` [s]), then ``error`` (empty, or the error text of a run that failed),
 then ``energy_balance`` (each run's relative energy balance error: above 1e-3 its outputs are
-not to be trusted, :func:`open_balance_runs`, and statistics leave it out, :func:`trusted`), then, under former names kept for scripts written
-before, ``time_out.<node>`` (the same values as ``time_outside_band.<node>``; not listed among the
-outputs). A table written before the rename is
-read with the current names added.
+not to be trusted, :func:`open_balance_runs`, and statistics leave it out, :func:`trusted`),
+then, under former names kept for scripts written before, ``time_out.<node>`` (the same values
+as ``time_outside_band.<node>``; not listed among the outputs). A table written before the
+rename is read with the current names added.
 ``rcsim.sweep(...)`` returns the DataFrame with its metadata in ``.attrs``;
 :class:`SweepTable` is the same thing as a typed record (``SweepTable.from_frame(table)``).
 

@@ -203,5 +203,5 @@ def _build_joint_report(joint, scenario, *, log_path, warnings, title, figures) 
     extra += [(f"SHA-256 of {os.path.basename(os.fspath(path))}", _file_sha256(path))
               for path in paths]
     title = f"Fit report \u00b7 {name} to {len(records)} logs at once"
-    return _fit_report(base, name, heading, title, glance, sections, list(joint.warnings) + list(warnings or []), extra,
-                       first.to_toml())
+    return _fit_report(base, name, heading, title, glance, sections,
+                       list(joint.warnings) + list(warnings or []), extra, first.to_toml())

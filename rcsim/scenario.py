@@ -186,8 +186,13 @@ def get_value(data: dict, key: str, name: str = ""):
         except (KeyError, IndexError, TypeError):
             here = format_key_path(tokens[:i + 1])
             options = list(cur) if isinstance(cur, dict) else []
+            hint = suggest(t, options) if options else None
+            if isinstance(cur, list):  # a list is indexed in brackets, from 0
+                above = format_key_path(tokens[:i])
+                hint = (f"{above!r} is a list of {len(cur)} item(s): write {above}[0]"
+                        + (f" to {above}[{len(cur) - 1}]" if len(cur) > 1 else ""))
             raise ScenarioError(f"no value at {here!r}", f"{name}: {key}" if name else key,
-                                suggest(t, options) if options else None) from None
+                                hint) from None
     return cur
 
 

@@ -62,6 +62,10 @@ def test_sampled_sweep_with_tornado_and_plots(cli, tmp_path):
     (["--vary", "nodes.payload.mass=1kg", "--scheduler", "tcp://127.0.0.1:1",
       "--executor", "processes"], "need --executor dask"),
     (["--vary", "nodes.payload.mass=1kg", "-o", "x.xlsx"], "should end with .csv, .h5"),
+    # a list item written with a dot: the list's own length names the indices (tests/data file)
+    (["--vary", "links.walls.parts.1.conduction.thickness=30mm..90mm:4"],
+     "'links.walls.parts' is a list of 4 item(s): "
+     "write links.walls.parts[0] to links.walls.parts[3]"),
 ])
 def test_bad_input_is_one_line_and_exit_2(cli, tmp_path, args, message):
     out = tmp_path / "t.csv"

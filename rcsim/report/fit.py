@@ -101,16 +101,26 @@ def build_fit_report(fit, scenario=None, *, log_path=None, warnings=None,
     sections.append(Section("fitted-scenario", "The fitted scenario", [
         Paragraph("The scenario with the estimates written in, as `rcsim fit --write-scenario` "
                   "writes it."), Preformatted(fit.to_toml(), "", "fitted-toml")]))
-    text = getattr(base, "text", "") or ""
     extra = [("log file", fit.log_name or "")]
     if log_path is not None:
-        with open(log_path, "rb") as fh:
-            extra.append(("log SHA-256", hashlib.sha256(fh.read()).hexdigest()))
-    extra.append(("fitted scenario SHA-256", sha256_of(fit.to_toml())))
-    report = Report("fit", heading, f"Fit report \u00b7 {name} to {fit.log_name}",
-                    purpose_of(base), glance, sections,
-                    warning_texts(list(fit.warnings) + list(warnings or [])),
-                    provenance_items(text, name, extra), text)
+        extra.append(("log SHA-256", _file_sha256(log_path)))
+    return _fit_report(base, name, heading, f"Fit report \u00b7 {name} to {fit.log_name}",
+                       glance, sections, list(fit.warnings) + list(warnings or []), extra,
+                       fit.to_toml())
+
+
+def _file_sha256(path) -> str:
+    with open(path, "rb") as fh:
+        return hashlib.sha256(fh.read()).hexdigest()
+
+
+def _fit_report(base, name, heading, title, glance, sections, warnings, extra, fitted_toml):
+    """The report around its sections: warnings, provenance with the fitted scenario's hash, and
+    the fit caution (one place for a single log and several)."""
+    text = getattr(base, "text", "") or ""
+    extra = [*extra, ("fitted scenario SHA-256", sha256_of(fitted_toml))]
+    report = Report("fit", heading, title, purpose_of(base), glance, sections,
+                    warning_texts(warnings), provenance_items(text, name, extra), text)
     report.extra_caution = FIT_CAUTION
     return report
 
@@ -187,18 +197,11 @@ def _build_joint_report(joint, scenario, *, log_path, warnings, title, figures) 
         Paragraph(f"The scenario with the shared estimates and the own values of {first.log_name} "
                   "written in, as `rcsim fit --write-scenario` writes it."),
         Preformatted(first.to_toml(), "", "fitted-toml")]))
-    text = getattr(base, "text", "") or ""
     paths = [] if log_path is None else (list(log_path) if isinstance(log_path, (list, tuple))
                                          else [log_path])
     extra = [("log files", logs)]
-    for path in paths:
-        with open(path, "rb") as fh:
-            extra.append((f"SHA-256 of {os.path.basename(os.fspath(path))}",
-                          hashlib.sha256(fh.read()).hexdigest()))
-    extra.append(("fitted scenario SHA-256", sha256_of(first.to_toml())))
-    report = Report("fit", heading, f"Fit report \u00b7 {name} to {len(records)} logs at once",
-                    purpose_of(base), glance, sections,
-                    warning_texts(list(joint.warnings) + list(warnings or [])),
-                    provenance_items(text, name, extra), text)
-    report.extra_caution = FIT_CAUTION
-    return report
+    extra += [(f"SHA-256 of {os.path.basename(os.fspath(path))}", _file_sha256(path))
+              for path in paths]
+    title = f"Fit report \u00b7 {name} to {len(records)} logs at once"
+    return _fit_report(base, name, heading, title, glance, sections,
+                       list(joint.warnings) + list(warnings or []), extra, first.to_toml())

@@ -338,7 +338,7 @@ class ExactPropagator:
             U = np.zeros((N, I))
             np.add.at(U, k_of, trap)
         for i, (amp, om, ph) in self._sines:
-            U[:, i] += amp / om * (np.cos(om * t_out[:-1] + ph) - np.cos(om * t_out[1:] + ph))
+            U[:, i] += sine_integrals(amp, om, ph, t_out[:-1], t_out[1:])
         return G, H, U
 
     def _sine_factors(self, t_out, h0):
@@ -484,3 +484,11 @@ class ExactPropagator:
         if floating.any():
             z0[floating] = 0.0 if z_given is None else z_given[floating]
         return z0, G[0, floating]
+
+
+def sine_integrals(amp: float, om: float, ph: float, t0: np.ndarray, t1: np.ndarray) -> np.ndarray:
+    """Integrals of ``amp*sin(om*t + ph)`` over [t0, t1] (arrays), by the product
+    ``2 amp sin(om (t0 + t1)/2 + ph) sin(om (t1 - t0)/2) / om`` rather than the difference of
+    two cosines: no two nearly equal numbers are subtracted, so a period far longer than the
+    intervals keeps its digits (as :meth:`rcsim.profiles.Profile.integral`)."""
+    return (2.0 * amp / om) * np.sin(0.5 * om * (t0 + t1) + ph) * np.sin(0.5 * om * (t1 - t0))

@@ -36,7 +36,7 @@ from typing import NamedTuple
 import numpy as np
 
 from ..recording import work_array
-from .exact import phi_functions
+from .exact import phi_functions, sine_integrals
 from .inputs import input_values, linear_parts
 
 __all__ = ["ModalChunk", "ModalRunner", "ModalEvaluator", "modes_major_recurrence"]
@@ -185,7 +185,7 @@ class ModalRunner:
             sn, cs = np.sin(arg), np.cos(arg)
             X[row, :c], X[row + 1, :c] = sn[:-1], cs[:-1]
             w[:, i] += amp * sn[1:]
-            U[:, i] += amp / om * (cs[:-1] - cs[1:])
+            U[:, i] += sine_integrals(amp, om, ph, tt[:-1], tt[1:])
             row += 2
         return X, w, U
 

@@ -77,15 +77,23 @@ class Chunk:
         ``columns`` (positions in ``out_nodes``) at ``times`` (arrays of one length) anywhere
         between the previous sample and ``t[-1]``, from the solution itself (used to locate
         band crossings between samples; None: linear between samples).
+    T_flow : (c, out nodes) or None
+        Temperatures [degC] the heat flows are computed from, where a path gives ones more
+        accurate for that purpose than ``T`` (the stiff path: consistent with the stored-energy
+        rates, so a stiff link's flow does not carry its conductance times the state's error);
+        None: ``T``.
     """
 
-    __slots__ = ("t", "T", "u", "s", "e_links", "e_sources", "e_stored", "extras", "evaluate")
+    __slots__ = ("t", "T", "u", "s", "e_links", "e_sources", "e_stored", "extras", "evaluate",
+                 "T_flow")
 
-    def __init__(self, t, T, u, s, e_links, e_sources, e_stored, extras=None, evaluate=None):
+    def __init__(self, t, T, u, s, e_links, e_sources, e_stored, extras=None, evaluate=None,
+                 T_flow=None):
         self.t, self.T, self.u, self.s = t, T, u, s
         self.e_links, self.e_sources, self.e_stored = e_links, e_sources, e_stored
         self.extras = extras or {}
         self.evaluate = evaluate
+        self.T_flow = T_flow
 
 
 # -- sinks -----------------------------------------------------------------------------------
@@ -475,7 +483,11 @@ class Recorder:
         nonlinear = self.nonlinear_flows(T, c.u)
         if self.links.size:
             slot = self.sink.slot("heat_flow", c.t.size) if hasattr(self.sink, "slot") else None
-            self.sink.append("heat_flow", self.flows(T, c.u, c.t, nonlinear, slot))
+            if c.T_flow is None:
+                flows = self.flows(T, c.u, c.t, nonlinear, slot)
+            else:
+                flows = self.flows(c.T_flow, c.u, c.t, None, slot)
+            self.sink.append("heat_flow", flows)
         else:
             self.sink.append("heat_flow", np.zeros((c.t.size, 0)))
         self.sink.append("boundary_temperature", c.u)

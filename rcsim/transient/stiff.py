@@ -13,6 +13,9 @@ import math
 
 import numpy as np
 from numpy.polynomial import chebyshev as cheb
+import scipy.linalg
+import scipy.sparse as sp
+import scipy.sparse.linalg as spla
 from scipy.integrate import BDF
 from scipy.optimize import brentq
 
@@ -60,14 +63,18 @@ def _bounded(model, t_out: np.ndarray, stats: RunStats):
 
 def run_stiff(model: EnergyModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol: float,
               atol: float, progress=None, record_every: int | None = None, H0=None,
-              dense_steps: list | None = None, dense_rows=None) -> dict:
+              dense_steps: list | None = None, dense_rows=None, rates: bool = False) -> dict:
     """Integrate from ``Tm0`` (or the stored energies ``H0``, which also say how far a pack at
     its melting point has melted) over ``t_out`` and hand chunks of samples to ``emit``.
 
     ``emit(t, Y)`` receives consecutive samples (rows of full solver states). Returns the
     counts of steps, restarts, switching events and LU decompositions. With ``dense_steps``
     (a list), each step's polynomial of the states ``dense_rows`` is appended to it
-    (:func:`.dense_eval.chebyshev_piece`) before its samples are emitted.
+    (:func:`.dense_eval.chebyshev_piece`) before its samples are emitted. With ``rates``,
+    ``emit(t, Y, dH, h)`` also receives the stored-energy rates [W] of the massive nodes at
+    the samples, the derivative of the step's polynomial (:func:`_rates_on_step`; NaN rows at
+    the start and at input jumps, where the polynomial's left-hand rate does not belong to
+    the inputs' right-hand values) and the length [s] of the step each sample lies in.
     """
     T_end = float(t_out[-1])
     if record_every is None:  # keep the buffer of full states near 40 MB at most
@@ -77,6 +84,8 @@ def run_stiff(model: EnergyModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol
                                np.full(model.ny - model.n, atol * float(model.C.sum()))])
     stops = np.union1d(jump_times(model.profiles + model.varying_profiles, 0.0, T_end), [T_end])
     buf_t, buf_y = [float(t_out[0])], [y.copy()]
+    buf_r, buf_h = [np.full(model.n, np.nan)], [0.0]
+    jumps = stops[:-1]
     k_next = 1
     t = float(t_out[0])
     stats = RunStats(steps=0, restarts=0, events=0, nlu=0)
@@ -84,10 +93,13 @@ def run_stiff(model: EnergyModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol
     fun = _bounded(model, t_out, stats)
 
     def flush():
-        nonlocal buf_t, buf_y
+        nonlocal buf_t, buf_y, buf_r, buf_h
         if buf_t:
-            emit(np.asarray(buf_t), np.vstack(buf_y))
-        buf_t, buf_y = [], []
+            if rates:
+                emit(np.asarray(buf_t), np.vstack(buf_y), np.vstack(buf_r), np.asarray(buf_h))
+            else:
+                emit(np.asarray(buf_t), np.vstack(buf_y))
+        buf_t, buf_y, buf_r, buf_h = [], [], [], []
 
     for stop in stops:
         while t < stop:
@@ -123,6 +135,11 @@ def run_stiff(model: EnergyModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol
                     tt = t_out[k_next:kb]
                     buf_t.extend(tt.tolist())
                     buf_y.extend(list(dense(tt).T))
+                    if rates:
+                        r = _rates_on_step(dense, t_old, t_new, tt, model.n)
+                        r[np.isin(tt, jumps)] = np.nan
+                        buf_r.extend(list(r))
+                        buf_h.extend([t_new - t_old] * tt.size)
                     k_next = kb
                     if len(buf_t) >= record_every:
                         flush()
@@ -148,6 +165,72 @@ def run_stiff(model: EnergyModel, t_out: np.ndarray, Tm0: np.ndarray, emit, rtol
 _CHEB_POINTS = np.cos(np.pi * (np.arange(6) + 0.5) / 6)
 _TO_CHEB = np.linalg.inv(cheb.chebvander(_CHEB_POINTS, 5))
 _DERIVATIVE = cheb.chebder(np.eye(6))          # Chebyshev series -> series of its derivative
+
+
+def _rates_on_step(dense, t_old: float, t_new: float, tt: np.ndarray, n: int) -> np.ndarray:
+    """(len(tt), n): the time derivative of the first ``n`` rows of a step's dense output
+    (a polynomial of degree at most 5, taken exactly from six Chebyshev points) at ``tt``."""
+    mid, half = 0.5 * (t_new + t_old), 0.5 * (t_new - t_old)
+    coef = dense(mid + half * _CHEB_POINTS)[:n] @ _TO_CHEB.T          # (n, 6) series
+    slope = coef @ _DERIVATIVE.T                                       # (n, 5) series in s
+    return cheb.chebval((tt - mid) / half, slope.T).T / half
+
+
+class BalancedFlows:
+    """Temperatures for the heat flows of a chunk, consistent with the stored-energy rates.
+
+    A link of conductance G carries G*dT, and the solver's states carry an error of about
+    rtol*C*T in stored energy: across a stiff link (C/G far below the solver's steps) G times
+    that error dwarfs the flow's own variation (at C/G = 1 ms, 14 W on a flow swinging by
+    0.5 W). The rate of stored energy, the derivative of the step's polynomial, is accurate
+    there: the temperatures given to the flows are corrected by one Newton-like step towards
+    the balance f(T + d) = dH/dt, with the matrix K + C/h of the solver's own steps (h the
+    length of the step the sample lies in): fully where a link is stiff (C/G << h), by about
+    h*G/C where it is slow (C/G >> h, where the rate's own error, about C*rtol*T/h, would
+    dominate G times the state's). Every flow of the network is corrected through one solve,
+    so a node with several links, stiff chains and parallel paths need no special case.
+
+    Networks with nonlinear or time-varying links keep the flows of their states (the
+    correction would need those terms' flows over whole chunks).
+    """
+
+    def __init__(self, model: EnergyModel):
+        self.model = model
+        self.active = not model.terms
+        self._factors: dict = {}
+
+    def _solve(self, h: float, rhs: np.ndarray) -> np.ndarray:
+        """(K + C/h)^-1 rhs, the factorisation kept per power of two of h."""
+        key = int(round(math.log2(h)))
+        lu = self._factors.get(key)
+        model = self.model
+        if lu is None:
+            if len(self._factors) > 64:
+                self._factors.clear()
+            A = model.K_sparse + sp.diags(model.C / 2.0 ** key)
+            lu = self._factors[key] = (scipy.linalg.lu_factor(A.toarray()) if model.dense
+                                       else spla.splu(A.tocsc()))
+        return scipy.linalg.lu_solve(lu, rhs) if model.dense else lu.solve(rhs)
+
+    def temperatures(self, t, Tm, w, dH, h) -> np.ndarray | None:
+        """Corrected state temperatures (rows of samples), or None without a correction."""
+        if not self.active:
+            return None
+        model = self.model
+        ok = np.isfinite(dH).all(axis=1) & (h > 0)
+        if not ok.any():
+            return None
+        f = -(model.K_sparse @ Tm.T).T + w @ model.E.T if not model.dense else \
+            -Tm @ model.K.T + w @ model.E.T
+        for c in model.controllers:
+            f[:, c.node_idx] += c.power_history(t, Tm)
+        out = Tm.copy()
+        keys = np.full(t.size, np.iinfo(np.int64).min)
+        keys[ok] = np.round(np.log2(h[ok])).astype(np.int64)
+        for key in np.unique(keys[ok]):
+            rows = np.flatnonzero(keys == key)
+            out[rows] += self._solve(2.0 ** key, (f[rows] - dH[rows]).T).T
+        return out
 
 
 class Switching:
@@ -223,6 +306,19 @@ class Switching:
         return hit
 
 
+def _flow_temperatures(model, balanced, out_map, t, Y, dH, h):
+    """The output nodes' temperatures for the chunk's heat flows (:class:`BalancedFlows`), or
+    None where nothing is corrected."""
+    H = Y[:, :model.n]
+    Tm = H / model.C[None, :]
+    for i in model.phase_idx:
+        Tm[:, i] = model.phase[i].temperature_array(H[:, i])
+    w = (np.column_stack([p.value(t) for p in model.profiles]) if model.profiles
+         else np.zeros((t.size, 0)))
+    Tc = balanced.temperatures(t, Tm, w, dH, h)
+    return None if Tc is None else out_map.temperatures(Tc, w)
+
+
 def _worst_node(model, solver):
     try:
         f = model.rhs(solver.t, solver.y)[:model.n] / model.C
@@ -255,15 +351,20 @@ class StiffPath(TransientPath):
         watched = WatchedColumns(model.ss, recorder.out_nodes, recorder.limit_cols)
         pieces = [] if watched else None
 
-        def emit(t, Y):
+        balanced = BalancedFlows(model)
+
+        def emit(t, Y, dH=None, h=None):
             chunk = chunk_from_states(model, t, Y, H0_sum, out_map, extras_fn)
+            if dH is not None:
+                chunk.T_flow = _flow_temperatures(model, balanced, out_map, t, Y, dH, h)
             if pieces:             # band crossings located on the steps' polynomials
                 chunk.evaluate = StiffEvaluator(list(pieces), watched, model)
                 pieces[:] = pieces[-1:]
             recorder.add(chunk)
 
         stats = run_stiff(model, problem.times, Tm0, emit, problem.rtol, problem.atol, progress,
-                          H0=H0, dense_steps=pieces, dense_rows=watched.watch)
+                          H0=H0, dense_steps=pieces, dense_rows=watched.watch,
+                          rates=balanced.active)
         stats.nfev, stats.njev = model.nfev, model.njev   # the periodic start's included
         if model.controllers:
             recorder.tables["thermostats"] = thermostat_table(model.controllers, problem.times,

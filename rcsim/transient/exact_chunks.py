@@ -180,12 +180,16 @@ class ModalRunner:
         w = right[1:].copy()
         U = 0.5 * (tt[1:] - tt[:-1])[:, None] * (right[:-1] + left)
         row = 2 * I
+        if self.prop.sines and c:
+            steps = tt[1:] - tt[:-1]
+            # one interval length (the usual chunk): the sine integrals' factors are numbers
+            steps = float(steps[0]) if steps.max() == steps.min() else steps
         for i, (amp, om, ph) in self.prop.sines:
             arg = om * tt + ph
             sn, cs = np.sin(arg), np.cos(arg)
             X[row, :c], X[row + 1, :c] = sn[:-1], cs[:-1]
             w[:, i] += amp * sn[1:]
-            U[:, i] += sine_integrals(amp, om, ph, tt[:-1], tt[1:])
+            U[:, i] += sine_integrals(amp, om, sn[:-1], cs[:-1], steps)
             row += 2
         return X, w, U
 

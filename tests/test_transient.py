@@ -343,3 +343,31 @@ def test_changing_a_history_frame_leaves_the_result_as_it_was():
     flows = res.heat_flows
     flows.iloc[:, 0] = 0.0
     assert np.abs(res.heat_flows.to_numpy()).max() > 0
+
+
+@pytest.mark.parametrize("knot", [False, True])
+def test_exact_path_input_integrals_of_a_very_slow_sine(knot):
+    """A source sine of period 1e9 s whose peak lies a quarter period away (the run sits at its
+    zero crossing, where the two cosines of the antiderivative are both near +-1): each output
+    interval's source energy against the integral by adaptive quadrature (scipy.integrate.quad,
+    an independent library). The difference of cosines lost about 3e-6 of it; the product of
+    sines keeps the digits. With a step input whose knot splits an interval (``knot``) the
+    path takes its general formula on any grid; without, the uniform one."""
+    from scipy.integrate import quad
+
+    period, amplitude, peak = 1e9, 100.0, 2.5e8
+    net = rcsim.Network()
+    net.add_node("n", capacity=1e5, initial=20.0)
+    net.add_boundary("b", temperature=20.0)
+    net.add_link("n", "b", conductance=10.0)
+    net.add_source("n", power=rcsim.Sine(mean=0.0, amplitude=amplitude, period=period,
+                                         peak=peak), name="slow")
+    if knot:
+        net.add_source("n", power=rcsim.Steps([0.0, 1000.5], [0.0, 1.0]), name="step")
+    res = net.simulate(duration=2 * 86400, step=600, solver="exact")
+    w = 2 * np.pi / period
+    t = res.energy.index.values
+    got = np.diff(res.energy["source:slow"].values)
+    ref = np.array([quad(lambda s: amplitude * np.cos(w * (s - peak)), a, b, epsabs=0,
+                         epsrel=1e-13)[0] for a, b in zip(t[:-1], t[1:])])
+    assert np.max(np.abs(got - ref) / np.abs(ref)) < 1e-9

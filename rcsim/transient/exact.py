@@ -338,7 +338,8 @@ class ExactPropagator:
             U = np.zeros((N, I))
             np.add.at(U, k_of, trap)
         for i, (amp, om, ph) in self._sines:
-            U[:, i] += amp / om * (np.cos(om * t_out[:-1] + ph) - np.cos(om * t_out[1:] + ph))
+            arg = om * t_out[:-1] + ph
+            U[:, i] += sine_integrals(amp, om, np.sin(arg), np.cos(arg), hk)
         return G, H, U
 
     def _sine_factors(self, t_out, h0):
@@ -484,3 +485,15 @@ class ExactPropagator:
         if floating.any():
             z0[floating] = 0.0 if z_given is None else z_given[floating]
         return z0, G[0, floating]
+
+
+
+def sine_integrals(amp: float, om: float, sin0, cos0, h) -> np.ndarray:
+    """Integrals of ``amp*sin(om*t + ph)`` over [t0, t0 + h] from ``sin0``, ``cos0`` (the sine
+    and cosine of ``om*t0 + ph``) and ``h`` (arrays, or h one number):
+    ``amp/om (sin(om h) sin0 + 2 sin(om h/2)^2 cos0)``. The antiderivative's difference of two
+    cosines is written out as products: no two nearly equal numbers are subtracted, so a
+    period far longer than the intervals keeps its digits (as
+    :meth:`rcsim.profiles.Profile.integral`)."""
+    half = np.sin(0.5 * om * h)
+    return (amp / om) * (np.sin(om * h) * sin0 + (2.0 * half * half) * cos0)

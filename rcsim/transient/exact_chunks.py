@@ -36,7 +36,7 @@ from typing import NamedTuple
 import numpy as np
 
 from ..recording import work_array
-from .exact import phi_functions
+from .exact import phi_functions, sine_integrals
 from .inputs import input_values, linear_parts
 
 __all__ = ["ModalChunk", "ModalRunner", "ModalEvaluator", "modes_major_recurrence"]
@@ -180,12 +180,16 @@ class ModalRunner:
         w = right[1:].copy()
         U = 0.5 * (tt[1:] - tt[:-1])[:, None] * (right[:-1] + left)
         row = 2 * I
+        if self.prop.sines and c:
+            steps = tt[1:] - tt[:-1]
+            # one interval length (the usual chunk): the sine integrals' factors are numbers
+            steps = float(steps[0]) if steps.max() == steps.min() else steps
         for i, (amp, om, ph) in self.prop.sines:
             arg = om * tt + ph
             sn, cs = np.sin(arg), np.cos(arg)
             X[row, :c], X[row + 1, :c] = sn[:-1], cs[:-1]
             w[:, i] += amp * sn[1:]
-            U[:, i] += amp / om * (cs[:-1] - cs[1:])
+            U[:, i] += sine_integrals(amp, om, sn[:-1], cs[:-1], steps)
             row += 2
         return X, w, U
 

@@ -160,7 +160,9 @@ def check_stiff_groups(asm, limit: float = STIFF_RATIO) -> None:
             f"{grp['pinned']:.2g} s is below {PINNED_TIME:g} s: it sits at the boundary's "
             "temperature and the heat through the link is lost in rounding", f"links.{link}",
             f"remove {what} (no other temperature depends on it) or give the link at least "
-            f"about {PINNED_TIME / cap * 1.01:.2g} K/W")
+            f"about {PINNED_TIME / cap * 1.01:.2g} K/W; if the capacity is a slip of unit, it "
+            f"needs at least about {PINNED_TIME * cap / grp['pinned'] * 1.01:.2g} J/K with this "
+            "link")
     # a link between two nodes: ratio ~ 2 G / leaving; the resistance that brings it to the limit
     r_min = 2.1 / (limit * grp["leaving"])
     bounds = [points[i] for i in grp["points"] if i >= asm.n_nodes]

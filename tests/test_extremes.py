@@ -534,6 +534,9 @@ def test_a_node_tied_only_to_a_boundary_by_a_huge_link_is_refused(g_pin):
     assert text.startswith("links.pin: link 'pin'") and "node 'x'" in text
     assert "linked to nothing but 'out'" in text and "below 1e-06 s" in text
     assert "remove node 'x'" in text and "at least about 1e-09 K/W" in text
+    # the capacity that brings the time constant C/g to the 1e-6 s floor (tau = C/g, with the
+    # same 1 % margin as the resistance): 1e-6 s x g_pin
+    assert f"needs at least about {1e-6 * g_pin * 1.01:.2g} J/K with this link" in text
 
 
 def test_a_stiff_group_tied_only_to_a_boundary_is_refused_too():

@@ -17,8 +17,9 @@ otherwise runs the text pass, which finds and names the problem as before.
 * A cell the C float reader accepts gives the value ``pd.to_numeric`` gives for the stripped
   text (both are correctly rounded; compared on random and hand-picked cells), with two
   exceptions that send the file to the text pass: the words ``true`` and ``false`` in any case,
-  which the float reader takes as 1 and 0, and a negative zero, whose sign ``pd.to_numeric``
-  drops for integer text (``-0``).
+  which the float reader takes as 1 and 0 (in a column of such words), and a negative zero in a
+  column of whole numbers, whose sign ``pd.to_numeric`` drops when every cell is written as an
+  integer (``-0``; it keeps it beside ``1.5``, and so does the float reader).
 * An empty cell is NaN in both (the text pass: ``pd.to_numeric("")``); any other text the float
   reader refuses (``NA``, ``1,5`` quoted, a non-breaking space) ends the fast parse.
 """
@@ -164,6 +165,6 @@ class NumericCSV:
             if name in text_columns:
                 continue
             values = frame[name].to_numpy()
-            if np.signbit(values[values == 0]).any():   # '-0': the text pass drops the sign
-                return None
+            if np.signbit(values[values == 0]).any() and (values == np.round(values)).all():
+                return None     # '-0' in a column of integers: the text pass drops its sign
         return frame

@@ -181,7 +181,11 @@ def _numbers_first(fast, columns, time, start, time_unit, missing, label) -> Ser
             return None
     first = pd.to_numeric(pd.Series([fast.first_row[names.index(tcol)]]), errors="coerce")
     numeric_time = bool(np.isfinite(first.to_numpy(dtype=float)).all())
-    frame = fast.parse(() if numeric_time else (tcol,))
+    text_columns = () if numeric_time else (tcol,)
+    frame = fast.parse(text_columns)
+    others = [x for x in names if x != tcol and x not in headers.values()]
+    if frame is None and others:    # a column not asked for may hold text (notes, flags)
+        frame = fast.parse(text_columns + tuple(others))
     if frame is None:
         return None
     if numeric_time:

@@ -9,6 +9,13 @@ their neighbours in the layer above (one sweep down and one back up), which keep
 crossing where it can. A layer with ``slices`` (internal nodes ``<link>.<i>``) is one labelled block
 unless ``expand_layers=True`` asks for each slice.
 
+Labels are placed, not merely put: each name, detail and link label has a few candidate places
+(beside its point; along its link on either side, nearest its zig-zag first) and takes the
+cheapest, where overlapping another label or a symbol costs most and a line under the text costs
+by its length; the boxes are the renderer's own extents of the texts. A link whose straight line
+would pass through another point is bowed round it; a zig-zag avoids crossings and other
+zig-zags; a capacitor turns away from the links at its node.
+
 Symbols (our own drawing): a node is a circle beside a capacitor (two plates to a ground bar); a
 massless junction is a small dot; a phase-change node has a double ring; a boundary is a shaded
 square; a linear link carries a zig-zag resistor, a temperature-dependent one (radiation, a film
@@ -253,48 +260,101 @@ def _zigzag(points: np.ndarray, at: float = 0.5, length: float = 0.42, amp: floa
     return xy + tri[:, None] * nrm, points[mid_index], tangent[mid_index], normal[mid_index]
 
 
-def _capacitor(ax, x, y, r):
-    """A capacitor to a ground bar beside a node at (x, y) of radius r [in]."""
-    x0 = x + r
-    kw = dict(color=_INK, lw=0.9, solid_capstyle="butt", zorder=3)
-    ax.plot([x0, x0 + 0.16], [y, y], **kw)
-    for dx in (0.16, 0.22):
-        ax.plot([x0 + dx, x0 + dx], [y - 0.09, y + 0.09], color=_INK, lw=1.6, zorder=3)
-    ax.plot([x0 + 0.22, x0 + 0.34], [y, y], **kw)
+def _capacitor(ax, x, y, r, lines) -> tuple:
+    """A capacitor to a ground bar beside a node at (x, y) of radius r [in], pointing the way
+    of the fewest lines (right if free, else the nearest free direction); returns its box."""
+    pts = np.concatenate(lines) if lines else np.zeros((0, 2))
+    best, best_cost = (1.0, 0.0), math.inf
+    # eighths of a turn from the right: right, left, then the diagonals, then down and up
+    for k, turn in enumerate((0, 4, -1, 1, -3, 3, -2, 2)):
+        u = np.array([math.cos(turn * math.pi / 4), math.sin(turn * math.pi / 4)])
+        rel = pts - (x, y)
+        along, across = rel @ u, np.abs(rel @ np.array([-u[1], u[0]]))
+        hits = np.count_nonzero((along > r) & (along < r + 0.44) & (across < 0.1))
+        cost = hits + 0.1 * k
+        if cost < best_cost:
+            best, best_cost = u, cost
+    u = np.asarray(best)
+    v = np.array([-u[1], u[0]])
+    c = np.array([x, y]) + r * u
+
+    def seg(a, b, across_a, across_b, **kw):
+        p, q = c + a * u + across_a * v, c + b * u + across_b * v
+        ax.plot([p[0], q[0]], [p[1], q[1]], zorder=3, **kw)
+
+    kw = dict(color=_INK, lw=0.9, solid_capstyle="butt")
+    seg(0.0, 0.16, 0.0, 0.0, **kw)
+    for d in (0.16, 0.22):
+        seg(d, d, -0.09, 0.09, color=_INK, lw=1.6)
+    seg(0.22, 0.34, 0.0, 0.0, **kw)
     for i, w in enumerate((0.09, 0.06, 0.03)):
-        ax.plot([x0 + 0.34 + 0.035 * i] * 2, [y - w, y + w], color=_INK, lw=0.9, zorder=3)
+        seg(0.34 + 0.035 * i, 0.34 + 0.035 * i, -w, w, color=_INK, lw=0.9)
+    corners = np.array([c + a * u + s * v for a in (0.0, 0.42) for s in (-0.1, 0.1)])
+    return (*corners.min(axis=0), *corners.max(axis=0))
 
 
-def _draw_point(ax, p, data, xy):
+def _point_candidates(x, y, half, kind, below: bool):
+    """Places of a point's name (``below=False``) or detail beside its symbol of half-size
+    ``half`` [in]: the usual place first (name above, detail below; a boundary's detail above
+    its name), then the sides."""
+    if kind == "boundary":
+        if below:
+            return [(x, y + half + 0.22, "center", "bottom", 0.0),
+                    (x - half - 0.1, y, "right", "center", 0.6),
+                    (x + half + 0.1, y, "left", "center", 0.6)]
+        return [(x, y + half + 0.04, "center", "bottom", 0.0),
+                (x - half - 0.08, y + half, "right", "bottom", 0.5),
+                (x + half + 0.08, y + half, "left", "bottom", 0.5)]
+    if below:
+        return [(x, y - half - 0.08, "center", "top", 0.0),
+                (x - 0.06, y - half - 0.06, "right", "top", 0.3),
+                (x + 0.06, y - half - 0.06, "left", "top", 0.3),
+                (x - half - 0.08, y - 0.04, "right", "top", 0.5),
+                (x + 0.1, y - half - 0.24, "left", "top", 0.8),
+                (x - 0.1, y - half - 0.24, "right", "top", 0.8)]
+    return [(x - 0.02, y + half + 0.09, "center", "bottom", 0.0),
+            (x - 0.08, y + half + 0.04, "right", "bottom", 0.3),
+            (x + 0.08, y + half + 0.04, "left", "bottom", 0.3),
+            (x - half - 0.08, y + 0.04, "right", "bottom", 0.5),
+            (x + 0.1, y + half + 0.2, "left", "bottom", 0.8),
+            (x - 0.1, y + half + 0.2, "right", "bottom", 0.8)]
+
+
+def _draw_point(ax, p, data, xy, labels, boxes, lines):
+    """Draw a point's symbol (its box goes to ``boxes``) and ask for its two labels."""
     from matplotlib.patches import Circle, FancyBboxPatch
 
     x, y = xy
     kind = data["kind"]
-    detail_y, detail_va = y - 0.26, "top"
-    if kind == "boundary":   # boundaries sit in the top row: their profile goes above them
-        detail_y, detail_va = y + 0.42, "bottom"
+    if kind == "boundary":
+        half = 0.2
         ax.add_patch(FancyBboxPatch((x - 0.2, y - 0.2), 0.4, 0.4, boxstyle="square,pad=0",
                                     fc=_BOUNDARY_FILL, ec=_INK, lw=1.1, hatch="////", zorder=4))
+        boxes.append((x - 0.2, y - 0.2, x + 0.2, y + 0.2))
     elif kind == "layer":
+        half = 0.16
         ax.add_patch(FancyBboxPatch((x - 0.42, y - 0.16), 0.84, 0.32,
                                     boxstyle="round,pad=0,rounding_size=0.04", fc=_BLOCK_FILL,
                                     ec=_INK, lw=1.0, hatch="..", zorder=4))
-        detail_y = y - 0.22
+        boxes.append((x - 0.42, y - 0.16, x + 0.42, y + 0.16))
     elif data.get("capacity", 0.0) > 0:
-        r = 0.15 if kind == "node" else 0.09
-        ax.add_patch(Circle((x, y), r, fc=_NODE_FILL, ec=_INK, lw=1.1, zorder=4))
+        half = 0.15 if kind == "node" else 0.09
+        ax.add_patch(Circle((x, y), half, fc=_NODE_FILL, ec=_INK, lw=1.1, zorder=4))
         if data.get("phase_change"):
-            ax.add_patch(Circle((x, y), r * 0.68, fc="none", ec=_INK, lw=0.8, zorder=5))
-        _capacitor(ax, x, y, r)
-        detail_y = y - r - 0.08
+            ax.add_patch(Circle((x, y), half * 0.68, fc="none", ec=_INK, lw=0.8, zorder=5))
+        boxes.append((x - half, y - half, x + half, y + half))
+        boxes.append(_capacitor(ax, x, y, half, lines))
     else:
+        half = 0.05
         ax.add_patch(Circle((x, y), 0.05, fc=_INK, ec=_INK, lw=0.8, zorder=4))
-        detail_y = y - 0.12
-    ax.text(x - 0.02 if kind != "layer" else x, y + (0.24 if kind != "layer" else 0.2),
-            data["label"], ha="center", va="bottom", fontsize=_FONT + 0.5, fontweight="bold",
-            color=_INK, zorder=6)
-    ax.text(x, detail_y, data.get("detail", ""), ha="center", va=detail_va, fontsize=_FONT - 0.5,
-            color=_SOFT, zorder=6, linespacing=1.15)
+        boxes.append((x - half, y - half, x + half, y + half))
+    name = ax.text(x, y, data["label"], fontsize=_FONT + 0.5, fontweight="bold", color=_INK,
+                   zorder=6)
+    labels.append(_Label(name, _point_candidates(x, y, half, kind, below=False)))
+    if data.get("detail"):
+        detail = ax.text(x, y, data["detail"], fontsize=_FONT - 0.5, color=_SOFT, zorder=6,
+                         linespacing=1.15, ha="center", multialignment="center")
+        labels.append(_Label(detail, _point_candidates(x, y, half, kind, below=True)))
 
 
 def _edge_label(d) -> str:
@@ -305,53 +365,115 @@ def _edge_label(d) -> str:
     return f"{d['link']}\n{value}\n{_short(d['kinds'], 24)}"
 
 
-def _free_place(pts, placed) -> float:
-    """Where along a link its symbol goes: the middle, unless another symbol sits near it."""
-    best, best_gap = 0.5, -1.0
-    for at in (0.5, 0.34, 0.66, 0.25, 0.75):
+def _free_place(pts, lines, marks) -> float:
+    """Where along a link its symbol goes: the middle unless another link crosses it there or
+    another symbol sits near; then the nearest free fraction of its length."""
+    others = np.concatenate(lines) if lines else np.zeros((0, 2))
+    best, best_cost = 0.5, math.inf
+    for at in (0.5, 0.42, 0.58, 0.34, 0.66, 0.27, 0.73):
         xy = pts[int(at * (len(pts) - 1))]
-        gap = min((math.dist(xy, q) for q in placed), default=math.inf)
-        if gap > 0.7:
-            return at
-        if gap > best_gap:
-            best, best_gap = at, gap
+        near = np.count_nonzero(np.hypot(*(others - xy).T) < 0.3) if len(others) else 0
+        gap = min((math.dist(xy, q) for q in marks), default=math.inf)
+        cost = abs(at - 0.5) + 0.2 * near + (2.0 if gap < 0.7 else 0.0)
+        if cost < best_cost:
+            best, best_cost = at, cost
     return best
 
 
-def _draw_edges(ax, g, pos, labels):
-    placed: list = []
+def _edge_candidates(pts, at, side_first):
+    """Places of a link's label: beside its symbol on either side, then further along."""
+    seg = np.hypot(*np.diff(pts, axis=0).T)
+    total = float(seg.sum()) or 1.0
+    tangent = np.gradient(pts, axis=0)
+    tangent /= np.maximum(np.hypot(*tangent.T), 1e-12)[:, None]
+    out = []
+    for shift in (0.0, -0.1, 0.1, -0.2, 0.2, -0.3, 0.3, -0.4, 0.4):
+        t = at + shift * min(1.0, 1.75 / total)
+        if not 0.1 <= t <= 0.9:
+            continue
+        i = int(round(t * (len(pts) - 1)))
+        normal = np.array([-tangent[i, 1], tangent[i, 0]])
+        for k, side in enumerate((side_first, -side_first)):
+            n = side * normal
+            ha, va = _aligned(n)
+            for off in (0.16, 0.28, 0.42):
+                x, y = pts[i] + n * off
+                out.append((float(x), float(y), ha, va,
+                            2.0 * abs(shift) + 0.25 * k + 1.5 * (off - 0.16)))
+    return out
+
+
+def _detour(pos, a, b, m, drawn) -> float:
+    """How far [in] the links between a and b bow so they pass no other point and run along no
+    link already drawn: 0 (straight, the usual) when they can."""
+    others = np.array([q for p, q in pos.items() if p not in (a, b)] or np.zeros((0, 2)))
+    earlier = np.concatenate(drawn) if drawn else np.zeros((0, 2))
+    best, best_cost = 0.0, math.inf
+    for base in (0.0, 0.4, -0.4, 0.7, -0.7, 1.0, -1.0, 1.4, -1.4):
+        cost = 0.5 * abs(base)
+        for i in range(m):
+            pts = _curve(pos[a], pos[b], base + (i - (m - 1) / 2) * 0.8, n=60)
+            if len(others):
+                gap = np.min(np.hypot(*(pts[:, None, :] - others[None, :, :]).T), axis=0)
+                cost += 10.0 * np.count_nonzero(gap < 0.35)
+            if len(earlier):
+                near = np.min(np.hypot(*(pts[:, None, :] - earlier[None, ::4, :]).T), axis=0)
+                cost += 0.5 * np.count_nonzero(near[6:-6] < 0.08)
+        if cost < best_cost:
+            best, best_cost = base, cost
+    return best
+
+
+def _draw_edges(ax, g, pos, labels, lines, texts):
     groups: dict = {}
     for a, b, k, d in g.edges(keys=True, data=True):
         groups.setdefault(frozenset((a, b)), []).append((a, b, d))
-    for edges in groups.values():
+    curves = []
+    # links that pass no other point straight are drawn first, so the detours avoid them too
+    clear = {key: _detour(pos, *edges[0][:2], len(edges), []) == 0.0
+             for key, edges in groups.items()}
+    drawn = [_sampled(_curve(pos[e[0][0]], pos[e[0][1]], 0.0)) for key, e in groups.items()
+             if clear[key] and len(e) == 1]
+    for key, edges in groups.items():
         m = len(edges)
+        a, b = edges[0][0], edges[0][1]
+        base = 0.0 if clear[key] else _detour(pos, a, b, m, drawn)
         for i, (a, b, d) in enumerate(edges):
-            bend = (i - (m - 1) / 2) * 0.8
+            bend = base + (i - (m - 1) / 2) * 0.8
             pts = _curve(pos[a], pos[b], bend)
-            if d["role"] == "connector":
-                ax.plot(pts[:, 0], pts[:, 1], color=_INK, lw=1.0, zorder=2)
-                continue
-            path, mid, tangent, normal = _zigzag(pts, _free_place(pts, placed))
-            placed.append(tuple(mid))
-            colour = _NONLINEAR if d["nonlinear"] else _INK
-            ax.plot(path[:, 0], path[:, 1], color=colour, lw=1.1, zorder=2,
-                    solid_joinstyle="miter")
-            if d["nonlinear"]:
-                diag = 0.22 * (tangent + 1.3 * normal) / np.hypot(*(tangent + 1.3 * normal))
-                ax.annotate("", xy=mid + diag, xytext=mid - diag, zorder=3,
-                            arrowprops=dict(arrowstyle="-|>", color=colour, lw=0.9,
-                                            mutation_scale=7, shrinkA=0, shrinkB=0))
-            # the label on the outer side of a bowed link, else to the right
-            side = np.sign(bend) * normal if bend else (normal if normal[0] >= 0 else -normal)
-            text = _edge_label(d)
-            labels[("link", d["link"], i)] = text
-            ha = "left" if side[0] > 0.2 else ("right" if side[0] < -0.2 else "center")
-            ax.text(*(mid + side * 0.2), text, ha=ha,
-                    va="center", fontsize=_FONT - 0.5, color=colour, zorder=6, linespacing=1.1,
-                    bbox=dict(boxstyle="round,pad=0.1", fc=_PAPER, ec="none", alpha=0.75))
+            curves.append((i, bend, d, pts))
+            drawn.append(_sampled(pts))
+    sampled = [_sampled(pts) for _, _, _, pts in curves]
+    marks: list = []
+    for j, (i, bend, d, pts) in enumerate(curves):
+        if d["role"] == "connector":
+            ax.plot(pts[:, 0], pts[:, 1], color=_INK, lw=1.0, zorder=2)
+            lines.append(sampled[j])
+            continue
+        at = _free_place(pts, sampled[:j] + sampled[j + 1:], marks)
+        path, mid, tangent, normal = _zigzag(pts, at)
+        marks.append(tuple(mid))
+        lines.append(_sampled(path))
+        colour = _NONLINEAR if d["nonlinear"] else _INK
+        ax.plot(path[:, 0], path[:, 1], color=colour, lw=1.1, zorder=2,
+                solid_joinstyle="miter")
+        if d["nonlinear"]:
+            diag = 0.22 * (tangent + 1.3 * normal) / np.hypot(*(tangent + 1.3 * normal))
+            ax.annotate("", xy=mid + diag, xytext=mid - diag, zorder=3,
+                        arrowprops=dict(arrowstyle="-|>", color=colour, lw=0.9,
+                                        mutation_scale=7, shrinkA=0, shrinkB=0))
+            lines.append(_sampled([mid - diag, mid + diag]))
+        # the label first tried on the outer side of a bowed link, else on the right
+        side = np.sign(bend) if bend else (1.0 if normal[0] >= 0 else -1.0)
+        text = _edge_label(d)
+        texts[("link", d["link"], i)] = text
+        artist = ax.text(*mid, text, fontsize=_FONT - 0.5, color=colour, zorder=6,
+                         linespacing=1.1,
+                         bbox=dict(boxstyle="round,pad=0.1", fc=_PAPER, ec="none", alpha=0.75))
+        labels.append(_Label(artist, _edge_candidates(pts, at, side)))
 
 
-def _draw_sources(ax, g, pos, labels):
+def _draw_sources(ax, g, pos, texts, lines, labels):
     count: dict = {}
     kinds = [("source", s) for s in g.graph.get("sources", [])] + \
             [("thermostat", (n, node, "thermostat")) for n, node in g.graph.get("thermostats", [])]
@@ -366,9 +488,16 @@ def _draw_sources(ax, g, pos, labels):
         ax.annotate("", xy=(x - 0.13, y + 0.09), xytext=start, zorder=3,
                     arrowprops=dict(arrowstyle="-|>", color=_INK, lw=1.1, mutation_scale=9,
                                     shrinkA=0, shrinkB=0))
-        ax.text(start[0] - 0.04, start[1], f"{name}\n{text}", ha="right", va="center",
-                fontsize=_FONT - 0.5, color=_INK, zorder=6, linespacing=1.1)
-        labels[(what, name)] = f"{name}: {text}"
+        lines.append(_sampled([start, (x - 0.13, y + 0.09)]))
+        artist = ax.text(*start, f"{name}\n{text}", fontsize=_FONT - 0.5, color=_INK,
+                         zorder=6, linespacing=1.1)
+        sx, sy = start      # at the arrow's tail: left of it, above, below, then to its right
+        labels.append(_Label(artist, [(sx - 0.04, sy, "right", "center", 0.0),
+                                      (sx, sy + 0.05, "center", "bottom", 0.4),
+                                      (sx, sy - 0.05, "right", "top", 0.5),
+                                      (sx - 0.04, sy + 0.05, "right", "bottom", 0.5),
+                                      (sx + 0.04, sy + 0.05, "left", "bottom", 0.6)]))
+        texts[(what, name)] = f"{name}: {text}"
 
 
 def draw_network(network, *, expand_layers: bool = False, orientation: str = "down",
@@ -377,7 +506,9 @@ def draw_network(network, *, expand_layers: bool = False, orientation: str = "do
 
     The figure's size follows the network (about 2.7 in between points in a row and 1.75 in
     between rows), so labels stay legible however many points there are; scale it on the page.
-    ``orientation``: ``"down"`` (boundaries on top) or ``"right"`` (boundaries on the left).
+    Every label takes the free place nearest its point or its link's symbol (see
+    ``_place_labels``). ``orientation``: ``"down"`` (boundaries on top) or ``"right"``
+    (boundaries on the left).
     """
     if orientation not in ("down", "right"):
         raise InputError(f"orientation must be 'down' or 'right', got {orientation!r}",
@@ -399,16 +530,132 @@ def draw_network(network, *, expand_layers: bool = False, orientation: str = "do
         ax.set_ylim(y0, y1)
         ax.set_aspect("equal")
         ax.axis("off")
-        labels: dict = {}
-        _draw_edges(ax, g, pos, labels)
-        for p, d in g.nodes(data=True):
-            _draw_point(ax, p, d, pos[p])
-            labels[p] = f"{d['label']}: {d.get('detail', '')}"
-        _draw_sources(ax, g, pos, labels)
+        texts: dict = {}
+        labels: list = []
+        lines: list = []
+        boxes: list = []
+        _draw_edges(ax, g, pos, labels, lines, texts)
+        source_labels: list = []
+        _draw_sources(ax, g, pos, texts, lines, source_labels)
+        point_labels: list = []
+        for p, d in g.nodes(data=True):     # after the lines: a capacitor turns away from them
+            _draw_point(ax, p, d, pos[p], point_labels, boxes, lines)
+            texts[p] = f"{d['label']}: {d.get('detail', '')}"
+        # the points' names and details first (each has its usual place), the sources', the links'
+        _place_labels(ax, point_labels + source_labels + labels, boxes, lines, ((x0, x1), (y0, y1)))
         if title:
             fig.text(0.02, 1 - 0.2 / (y1 - y0 + head), title, ha="left", va="center",
                      fontsize=_FONT + 2, fontweight="bold", color=_INK)
-    return Picture(fig, g, pos, labels, orientation)
+    return Picture(fig, g, pos, texts, orientation)
+
+
+# -- label placement --------------------------------------------------------------------------------
+# Every label has a few candidate places (beside its point, or along its link on either side);
+# they are taken greedily, each at the cheapest place: overlapping a label already placed or a
+# symbol costs most, a line running under it costs by the length covered, a place away from
+# the preferred one costs a little. The boxes are the renderer's own extents of the texts.
+# (Force-directed repelling moves a label off its link and adds leader lines; a library that
+# places texts around points knows nothing of our symbols; hence this small search.)
+_STEP = 0.02            # [in] spacing of the points a line is sampled at for the placement
+_PAD = 0.03             # [in] clearance kept around a label
+
+
+@dataclass
+class _Label:
+    """A text to place: its artist (made once, moved to the place chosen) and its candidates
+    ``(x, y, ha, va, cost)`` in inches."""
+
+    artist: object
+    candidates: list
+
+
+def _sampled(points) -> np.ndarray:
+    """A polyline resampled every :data:`_STEP` inches (a count of points in a box is then a
+    length)."""
+    points = np.asarray(points, float)
+    seg = np.hypot(*np.diff(points, axis=0).T)
+    s = np.concatenate([[0.0], np.cumsum(seg)])
+    if s[-1] == 0:
+        return points[:1]
+    at = np.linspace(0.0, s[-1], max(int(s[-1] / _STEP), 1) + 1)
+    return np.column_stack([np.interp(at, s, points[:, 0]), np.interp(at, s, points[:, 1])])
+
+
+def _box(x, y, ha, va, w, h) -> tuple:
+    """The box (x0, y0, x1, y1) of a text of size w x h anchored at (x, y) with ha/va."""
+    x0 = x - w if ha == "right" else (x - 0.5 * w if ha == "center" else x)
+    y0 = y - h if va == "top" else (y - 0.5 * h if va == "center" else y)
+    return (x0 - _PAD, y0 - _PAD, x0 + w + _PAD, y0 + h + _PAD)
+
+
+def _overlap(a, b) -> float:
+    return max(0.0, min(a[2], b[2]) - max(a[0], b[0])) * max(0.0, min(a[3], b[3]) - max(a[1], b[1]))
+
+
+def _aligned(direction) -> tuple:
+    """Alignment of a text set off from its anchor towards ``direction`` (a unit vector)."""
+    dx, dy = direction
+    if abs(dx) >= 0.38:
+        return ("left" if dx > 0 else "right"), "center"
+    return "center", ("bottom" if dy > 0 else "top")
+
+
+def _place_labels(ax, labels, boxes, lines, limits, rounds: int = 3) -> None:
+    """Move each label's artist to its cheapest candidate (see the comment above): taken
+    greedily in order, then each label placed again among all the others while that lowers the
+    total (at most ``rounds`` times over)."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    from .plotting.style import fallback_fonts
+
+    fig = ax.figure
+    renderer = FigureCanvasAgg(fig).get_renderer()
+    with fallback_fonts(fig):
+        extents = [lab.artist.get_window_extent(renderer) for lab in labels]
+    pts = np.concatenate(lines) if lines else np.zeros((0, 2))
+    (lx0, lx1), (ly0, ly1) = limits
+    options = []          # per label: (fixed cost, box) of each candidate
+    for lab, ext in zip(labels, extents):
+        w, h = ext.width / fig.dpi, ext.height / fig.dpi
+        mine = []
+        for x, y, ha, va, cost in lab.candidates:
+            b = _box(x, y, ha, va, w, h)
+            cost += _clash(b, boxes)
+            inside = ((pts[:, 0] > b[0]) & (pts[:, 0] < b[2]) & (pts[:, 1] > b[1])
+                      & (pts[:, 1] < b[3]))
+            cost += 8.0 * _STEP * np.count_nonzero(inside)      # [in] of line under the text
+            cost += 2.0 * (max(0.0, lx0 - b[0]) + max(0.0, b[2] - lx1)
+                           + max(0.0, ly0 - b[1]) + max(0.0, b[3] - ly1))
+            mine.append((cost, b))
+        options.append(mine)
+    chosen: list = [None] * len(labels)
+    for sweep in range(rounds + 1):
+        moved = False
+        for i, mine in enumerate(options):
+            others = [options[j][c][1] for j, c in enumerate(chosen) if c is not None and j != i]
+            costs = [cost + _clash(b, others) for cost, b in mine]
+            best = int(np.argmin(costs))
+            if chosen[i] is None or costs[best] < costs[chosen[i]] - 1e-9:
+                moved = moved or chosen[i] is not None
+                chosen[i] = best
+        if sweep and not moved:
+            break
+    for lab, c in zip(labels, chosen):
+        x, y, ha, va, _ = lab.candidates[c]
+        lab.artist.set_position((x, y))
+        lab.artist.set_ha(ha)
+        lab.artist.set_va(va)
+
+
+def _clash(box, placed) -> float:
+    """What overlapping the boxes ``placed`` costs: a fixed price per box touched, and more by
+    the area [in^2] covered."""
+    total = 0.0
+    for q in placed:
+        area = _overlap(box, q)
+        if area > 0:
+            total += 60.0 + 400.0 * area
+    return total
 
 
 def network_svg(network, **kwargs) -> str:

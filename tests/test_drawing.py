@@ -118,3 +118,74 @@ def test_files_in_each_format_and_bad_names(tmp_path):
     assert sorted(os.listdir(tmp_path)) == ["net.pdf", "net.png", "net.svg"]
     with pytest.raises(InputError, match="orientation"):
         drawing.draw_network(sc, orientation="up")
+
+
+def _drawn_boxes(picture):
+    """The texts of a picture with their boxes as matplotlib's Agg renderer measures them (an
+    independent measure: not the sizes the placement itself computed), and the drawn lines."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    renderer = FigureCanvasAgg(picture.figure).get_renderer()
+    ax = picture.figure.axes[0]
+    texts = [t for t in ax.texts if t.get_text()]
+    boxes = [t.get_window_extent(renderer) for t in texts]
+    paths = [ln.get_transform().transform_path(ln.get_path()) for ln in ax.lines]
+    return texts, boxes, paths
+
+
+def _overlapping(texts, boxes):
+    return [(texts[i].get_text().split("\n")[0], texts[j].get_text().split("\n")[0])
+            for i, j in itertools.combinations(range(len(texts)), 2)
+            if boxes[i].overlaps(boxes[j])]
+
+
+@pytest.mark.parametrize("orientation", ["down", "right"])
+def test_the_shipper_labels_keep_apart_and_off_the_lines(orientation):
+    # the bundled shipper: two radiation links and crossing links between the packs, payload and
+    # box air, where labels used to sit on each other and on the crossing lines
+    sc = rcsim.load(os.path.join(SCENARIOS, "cold-box.toml"))
+    picture = drawing.draw_network(sc, orientation=orientation)
+    texts, boxes, paths = _drawn_boxes(picture)
+    # every point's name and detail and every link's label is there: 7 points x 2 + 10 links
+    assert len(texts) == 24
+    assert _overlapping(texts, boxes) == []
+    if orientation == "down":
+        # and no drawn line (link, zig-zag, capacitor) runs under any text (matplotlib's own
+        # path-box intersection on the rendered geometry)
+        crossed = [t.get_text().split("\n")[0] for t, b in zip(texts, boxes)
+                   if any(p.intersects_bbox(b, filled=False) for p in paths)]
+        assert crossed == []
+
+
+@pytest.mark.parametrize("name", sorted(n for n in os.listdir(SCENARIOS) if n.endswith(".toml")))
+def test_no_two_labels_overlap_on_any_bundled_scenario(name):
+    sc = rcsim.load(os.path.join(SCENARIOS, name))
+    texts, boxes, _ = _drawn_boxes(drawing.draw_network(sc))
+    assert texts and _overlapping(texts, boxes) == []
+
+
+def test_a_link_through_another_point_is_bowed_round_it():
+    # a - b - c in a row, and a link from a straight to c: drawn straight it would pass through b
+    net = rcsim.Network()
+    net.add_boundary("out", temperature=20.0)
+    for name in "abc":
+        net.add_node(name, capacity=1000.0, initial=20.0)
+    net.add_link("out", "a", resistance=1.0)
+    net.add_link("out", "b", resistance=1.0)
+    net.add_link("out", "c", resistance=1.0)
+    net.add_link("a", "b", resistance=1.0)
+    net.add_link("b", "c", resistance=1.0)
+    net.add_link("a", "c", resistance=1.0, name="long")
+    picture = drawing.draw_network(net)
+    b = np.array(picture.positions[("node", "b")])
+    ax = picture.figure.axes[0]
+    # the points of every drawn line in inches (data units); the long link is the only one from
+    # a to c, so the line starting at a and ending at c
+    a, c = (np.array(picture.positions[("node", n)]) for n in "ac")
+    long = [ln.get_xydata() for ln in ax.lines
+            if len(ln.get_xydata()) > 10
+            and {tuple(np.round(ln.get_xydata()[0], 6)), tuple(np.round(ln.get_xydata()[-1], 6))}
+            == {tuple(np.round(a, 6)), tuple(np.round(c, 6))}]
+    assert len(long) == 1
+    # it keeps clear of b's circle (radius 0.15 in) by more than its radius
+    assert np.min(np.hypot(*(long[0] - b).T)) > 0.3

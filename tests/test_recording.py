@@ -106,6 +106,8 @@ def _blas_threads():
 
 def test_rcsim_kernels_run_on_the_threads_it_is_told(monkeypatch):
     monkeypatch.delenv(threads.ENVIRONMENT_VARIABLE, raising=False)
+    # one thread by default: the documented policy, chosen by measurement (rcsim.threads;
+    # bench_transient.py --threads); what a user observes is in tests/test_threads.py
     assert threads.current() == threads.DEFAULT_THREADS == 1
     outside = _blas_threads()
     with threads.kernels():

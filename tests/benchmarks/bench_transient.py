@@ -19,8 +19,16 @@
    memory (VmHWM). The cost exponent in N from 10,000 to 100,000 is printed. Targets: exponent
    <= 1.15; 100,000 nodes recording 3 nodes under 30 s and 1 GB, all nodes streamed under 2 GB.
    Also a one-million-row CSV column read as a profile (time and peak memory).
+4. **The threads policy** (``--threads``): each workload in its own child process under
+   ``RCSIM_THREADS=1`` (the default) and ``RCSIM_THREADS=<all cores>``, the two settings
+   alternated round after round (so a burst of load elsewhere hits both), best and median of
+   each printed with the load average: the wall at 10/50/200/1,000 nodes (as above), a serial
+   sweep of 50 runs of ``scenarios/cold-box.toml`` (many small nonlinear runs in one process),
+   a 10,000-node chain over a day recording 3 nodes (the large-linear path) and the fit of
+   ``bench_fit.py`` (heated block, three days of one-minute rows). This is the measurement
+   behind the default of :mod:`rcsim.threads`.
 
-Run:  python tests/benchmarks/bench_transient.py [--quick] [--large] [--repeats 5]
+Run:  python tests/benchmarks/bench_transient.py [--quick] [--large] [--threads] [--repeats 5]
 Ratios are measured in one run on the same machine; absolute times are only indicative (the
 load average is printed: other processes share the cores).
 """
@@ -248,12 +256,104 @@ def bench_million_rows():
 
 
 
+THREADS_CHILD = r"""
+import json, os, sys, time, warnings
+sys.path.insert(0, sys.argv[3])
+warnings.simplefilter("ignore")
+import numpy as np
+import rcsim
+work, repeats = sys.argv[1], int(sys.argv[2])
+if work.startswith("wall"):
+    from bench_transient import wall_network
+    nc, ni, days = {"wall10": (4, 4, 365), "wall50": (30, 18, 365), "wall200": (120, 78, 30),
+                    "wall1000": (600, 398, 7)}[work]
+    def job():
+        net = wall_network(nc, ni, days)
+        return net.simulate(f"{days} d", "10 min").temperatures
+elif work == "sweep":
+    from bench_sweep import COLD_BOX, VARY
+    sc = rcsim.load(COLD_BOX)
+    def job():
+        return rcsim.sweep(sc, VARY, samples=50, seed=1, executor="serial")
+elif work == "large":
+    n = 10_000
+    rng = np.random.default_rng(0)
+    net = rcsim.Network()
+    net.add_boundary("amb", temperature=rcsim.Sine(mean=20, amplitude=5, period=86400))
+    for i in range(n):
+        net.add_node(f"n{i}", capacity=float(rng.uniform(1e3, 1e4)), initial=20.0)
+    for i in range(n - 1):
+        net.add_link(f"n{i}", f"n{i+1}", resistance=float(rng.uniform(0.01, 0.1)))
+    for i in range(0, n, 100):
+        net.add_link(f"n{i}", "amb", resistance=1.0, name=f"skin{i}")
+    net.add_source(f"n{n // 2}", power=rcsim.Steps([0, 3600], [0.0, 200.0]))
+    net.assemble()
+    def job():
+        return net.simulate("1 d", "1 min", record=["n0", f"n{n // 2}", f"n{n - 1}"])
+elif work == "fit":
+    from bench_fit import FREE, heated_block_log
+    sc, log = heated_block_log(3.0)
+    def job():
+        return rcsim.fit(sc, log, FREE, starts=1)
+job()
+times = []
+for _ in range(repeats):
+    t0 = time.perf_counter()
+    job()
+    times.append(time.perf_counter() - t0)
+print(json.dumps({"times": times, "threads": rcsim.threads.current()}))
+"""
+
+THREAD_WORKLOADS = {"wall10": ("10-node wall, 365 d", 5), "wall50": ("50-node wall, 365 d", 5),
+                    "wall200": ("200-node wall, 30 d", 5), "wall1000": ("1000-node wall, 7 d", 3),
+                    "sweep": ("serial sweep, 50 runs", 2), "large": ("10,000 nodes, 1 d", 3),
+                    "fit": ("fit, 3 d of 1-min rows", 3)}
+
+
+def bench_threads(rounds: int):
+    """The default threads against all cores, per workload, alternated in child processes."""
+    here = os.path.dirname(os.path.abspath(__file__))
+    cores = os.cpu_count() or 1
+    settings = ("1", str(cores))
+    times = {(w, s): [] for w in THREAD_WORKLOADS for s in settings}
+    loads = []
+    for _ in range(rounds):
+        for work, (_, repeats) in THREAD_WORKLOADS.items():
+            for setting in settings:
+                env = dict(os.environ, RCSIM_THREADS=setting)
+                p = subprocess.run([sys.executable, "-c", THREADS_CHILD, work, str(repeats), here],
+                                   capture_output=True, text=True, env=env)
+                if p.returncode:
+                    raise SystemExit(f"{work} with RCSIM_THREADS={setting} failed: "
+                                     f"{p.stderr.strip().splitlines()[-1]}")
+                times[(work, setting)] += json.loads(p.stdout.strip().splitlines()[-1])["times"]
+                loads.append(os.getloadavg()[0])
+    print(f"threads of rcsim's kernels: RCSIM_THREADS=1 (default) against {cores} (all cores), "
+          f"{rounds} alternated rounds in child processes; load average {min(loads):.2f}-"
+          f"{max(loads):.2f} (times in ms)")
+    print(f"  {'workload':<24} {'best 1':>8} {'best ' + settings[1]:>8} {'x':>5} "
+          f"{'median 1':>9} {'median ' + settings[1]:>9} {'x':>5} {'worst 1':>8} "
+          f"{'worst ' + settings[1]:>8}")
+    for work, (label, _) in THREAD_WORKLOADS.items():
+        a, b = (np.array(times[(work, s)]) * 1e3 for s in settings)
+        print(f"  {label:<24} {a.min():8.1f} {b.min():8.1f} {a.min() / b.min():5.2f} "
+              f"{np.median(a):9.1f} {np.median(b):9.1f} {np.median(a) / np.median(b):5.2f} "
+              f"{a.max():8.1f} {b.max():8.1f}")
+    print("  x: time with one thread / time with all cores (above 1: all cores faster)")
+
+
 def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="a month instead of a year")
     ap.add_argument("--large", action="store_true", help="also 1,000 to 100,000 nodes")
     ap.add_argument("--repeats", type=int, default=5)
+    ap.add_argument("--threads", action="store_true",
+                    help="only the threads measurement (one thread against all cores)")
+    ap.add_argument("--rounds", type=int, default=3, help="rounds of --threads")
     args = ap.parse_args(argv)
+    if args.threads:
+        bench_threads(args.rounds)
+        return 0
     from threadpoolctl import threadpool_info
 
     import rcsim

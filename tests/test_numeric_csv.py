@@ -233,3 +233,50 @@ def test_fit_logs_read_the_same_both_ways(tmp_path, monkeypatch, text):
     pd.testing.assert_frame_equal(a.values, b.values, check_exact=True)
     assert np.array_equal(a.time, b.time) and a.start_time == b.start_time
     assert a.first_time == b.first_time and np.array_equal(a.lines, b.lines)
+
+
+PERIODIC = """title = "periodic start under a logged day"
+[simulation]
+duration = "1 d"
+step = "1 h"
+initial = "periodic"
+[nodes.payload]
+capacity = "50 kJ/K"
+initial = "10 degC"
+[boundaries.out]
+temperature = {{ csv = {{ file = "day.csv", column = "t_out"{repeat} }} }}
+[links.wall]
+between = ["payload", "out"]
+resistance = "2 K/W"
+"""
+
+
+@pytest.mark.parametrize("repeat", ["", ', repeat = "24 h"'])
+def test_periodic_start_under_a_csv_that_does_not_repeat(tmp_path, monkeypatch, cli, repeat):
+    # the refusal is the one of before (the check needs the profile, not its rows: the file is
+    # still read when the scenario is loaded, as `rcsim check` and `rcsim steady` use it too,
+    # but by the numbers-first parse, never as text)
+    day = "\n".join(f"{3600 * h},{18 + 6 * np.sin(2 * np.pi * (h - 9) / 24):.3f}"
+                    for h in range(25))
+    write(tmp_path, "time [s],t_out\n" + day + "\n", "day.csv")
+    write(tmp_path, PERIODIC.format(repeat=repeat), "per.toml")
+
+    def refuse(*args, **kw):
+        raise AssertionError("the text pass ran")
+
+    monkeypatch.setattr(timeseries, "read_csv_text", refuse)
+    result = cli("run", tmp_path / "per.toml")
+    if not repeat:
+        assert result.exit_code == 2
+        assert result.output.strip() == (
+            "error: per.toml: boundaries.out.temperature: a periodic start needs periodic inputs, "
+            "but this profile does not repeat (add repeat = '<period>' or start from given "
+            "temperatures)")
+    else:
+        # repeated daily, the run starts in its periodic regime: the same temperature a day
+        # later (the definition of the periodic regime)
+        assert result.exit_code == 0, result.output
+        import rcsim
+        res = rcsim.load(str(tmp_path / "per.toml")).run()
+        T = res.temperatures["payload"]
+        assert T.loc[86400.0] == pytest.approx(T.loc[0.0], abs=1e-9)

@@ -549,7 +549,7 @@ def draw_network(network, *, expand_layers: bool = False, orientation: str = "do
     return Picture(fig, g, pos, texts, orientation)
 
 
-# -- label placement --------------------------------------------------------------------------------
+# -- label placement ------------------------------------------------------------------------
 # Every label has a few candidate places (beside its point, or along its link on either side);
 # they are taken greedily, each at the cheapest place: overlapping a label already placed or a
 # symbol costs most, a line running under it costs by the length covered, a place away from

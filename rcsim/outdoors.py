@@ -309,15 +309,15 @@ def csv_profile(path: str, column: str, time=None, start=None, unit=None, time_u
     :mod:`rcsim.clock` (offsets exact, local readings in the site's zone), counted from the
     start instant (``outdoors.start``; ``start`` as written is not used)."""
     from .clock import parse_timestamps
-    from .profiles import read_csv_text, read_time_series
+    from .profiles.timeseries import read_series
 
-    frame = read_time_series(path, [column], time=time, start=None, time_unit=time_unit,
-                             missing=missing, where=where)
+    read = read_series(path, [column], time=time, start=None, time_unit=time_unit,
+                       missing=missing, where=where)
+    frame = read.frame
     times = frame.index.to_numpy(dtype=float)
-    if frame.attrs.get("is_datetime"):
-        text = read_csv_text(path, where)
-        tcol = time if time is not None else text.columns[0]
-        stamps = parse_timestamps(text[tcol].str.strip(), outdoors.zone, where, tcol)
+    if frame.attrs.get("is_datetime"):   # the time column's text, as read: placed on the site's clock
+        tcol = time if time is not None else read.time_column
+        stamps = parse_timestamps(read.time_text.str.strip(), outdoors.zone, where, tcol)
         origin = outdoors.start if outdoors.start is not None else stamps[0]
         times = (stamps - origin).total_seconds().to_numpy(dtype=float)
     return Table.from_columns(path, column, times, frame[column].to_numpy(dtype=float),

@@ -62,8 +62,13 @@ def format_fit_summary(sc, res) -> str:
 def format_joint_summary(sc, joint) -> str:
     """The text printed by ``rcsim fit`` for several logs fitted at once."""
     records = list(joint.records.values())
-    lines = [f"{sc.name} fitted to {len(records)} logs at once: {joint.n_points} measured "
-             f"values; values shared across the logs, and per log (KEY@log)",
+    counts = [rec.value_counts() for rec in records]
+    held = sum(int(c["held out"].sum()) for c in counts)
+    values = (f"{joint.n_points} measured values" if not held else
+              f"{sum(int(c['measured'].sum()) for c in counts)} measured values ({joint.n_points}"
+              f" fitted, {held} held out)")
+    lines = [f"{sc.name} fitted to {len(records)} logs at once: {values}; values shared across "
+             "the logs, and per log (KEY@log)",
              f"  {len(joint.estimates)} free value(s), {joint.wall_time:.3g} s", ""]
     lines += estimate_lines(sc, joint)
     lines.append("")
@@ -71,7 +76,7 @@ def format_joint_summary(sc, joint) -> str:
                  f"AIC {joint.aic:.6g}, BIC {joint.bic:.6g} ({joint.n_parameters} values "
                  "estimated)")
     for name, rec in joint.records.items():
-        text = f"  {name}: {rec.n_points} values, RMSE {rec.rmse:.3g} K"
+        text = f"  {name}: {rec.values_text()}, RMSE {rec.rmse:.3g} K"
         if math.isfinite(rec.holdout_rmse):
             text += f", held-out RMSE {rec.holdout_rmse:.4g} K"
         if math.isfinite(rec.whiteness_p):
@@ -142,8 +147,8 @@ def _fit_header(sc, res) -> list[str]:
                                           and c not in res.measured.columns]
     cols, inputs = described(res.measured.columns), described(driving)
     noise = "; with process noise (Kalman filter)" if res.noise == "process" else ""
-    return [f"{sc.name} fitted to {res.log_name}: {res.n_points} measured values "
-            f"({cols}){'; measured inputs: ' + inputs if inputs else ''}{noise}",
+    return [f"{sc.name} fitted to {res.log_name}: {res.values_text(cols)}"
+            f"{'; measured inputs: ' + inputs if inputs else ''}{noise}",
             f"  {len(res.estimates)} free value(s), {len(res.starts)} start(s), "
             f"{res.n_evaluations} model runs ({res.solver} path, {res.n_decompositions} "
             f"decompositions)" + (f", {res.wall_time:.3g} s" if res.wall_time > 0 else ""),

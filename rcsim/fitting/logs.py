@@ -17,9 +17,11 @@ import pandas as pd
 
 from ..base import suggest
 from ..errors import DataError, InputError
-from ..profiles import read_csv_text, read_time_series
+from ..profiles import read_csv_text
+from ..profiles.numeric_csv import NumericCSV
 from ..profiles.table import convert_array
-from ..profiles.timeseries import check_separator, first_row_clock, split_header, time_unit_of
+from ..profiles.timeseries import (check_separator, csv_byte_limit, read_series, split_header,
+                                   time_unit_of)
 from ..units import ABSOLUTE_ZERO, to_si
 
 __all__ = ["Log", "read_log", "gap_notes", "log_header"]
@@ -277,33 +279,38 @@ def _from_csv(path, time, time_unit, label, columns, names, start) -> RawLog:
         raise DataError("is a directory, not a CSV file", label)
     if not os.path.exists(path):
         raise DataError("file not found", label, f"looked for {os.path.abspath(path)}")
-    raw = read_csv_text(path, label)
-    header_all = list(raw.columns)
-    tcol = _find_time_column(header_all, time, set(columns), names, label)
-    header = [c for c in header_all if c != tcol]
-    if not header:
-        raise DataError("has only a time column", label, "add temperature columns")
+    peek = NumericCSV.open(path, csv_byte_limit()[0])   # the header, without reading the rows
+    header_all = list(read_csv_text(path, label).columns) if peek is None else peek.names
+    try:
+        tcol = _find_time_column(header_all, time, set(columns), names, label)
+        header = [c for c in header_all if c != tcol]
+        if not header:
+            raise DataError("has only a time column", label, "add temperature columns")
+    except DataError:
+        if peek is not None:    # a file the text pass refuses is refused for that first
+            read_csv_text(path, label)
+        raise
     # times, increasing, and values: the shared reader (NaN where a cell is not a number)
-    frame = read_time_series(path, header, time=tcol, start=start, time_unit=time_unit,
-                             missing="interpolate", where=label)
-    # text that is not a missing-value marker is an error, not a silent gap
-    for c in header:
-        bad = ~np.isfinite(frame[c].to_numpy())
-        if bad.any():
-            text = raw[c].str.strip()
-            wrong = bad & ~text.str.lower().isin(NA_TOKENS).to_numpy()
-            if wrong.any():
-                i = int(np.argmax(wrong))
-                raise DataError(f"column {c!r} line {i + 2} is not a number ({text.iloc[i]!r})",
-                                label, "fix the cell, or leave it empty to mark a missing value")
+    read = read_series(path, header, time=tcol, start=start, time_unit=time_unit,
+                       missing="interpolate", where=label)
+    frame = read.frame
+    if not read.missing_empty:
+        # text that is not a missing-value marker is an error, not a silent gap
+        raw = read_csv_text(path, label)
+        for c in header:
+            bad = ~np.isfinite(frame[c].to_numpy())
+            if bad.any():
+                text = raw[c].str.strip()
+                wrong = bad & ~text.str.lower().isin(NA_TOKENS).to_numpy()
+                if wrong.any():
+                    i = int(np.argmax(wrong))
+                    raise DataError(f"column {c!r} line {i + 2} is not a number "
+                                    f"({text.iloc[i]!r})", label,
+                                    "fix the cell, or leave it empty to mark a missing value")
     t = frame.index.to_numpy(dtype=float)
     is_dt = bool(frame.attrs.get("is_datetime", False))
-    origin = None
-    if is_dt:  # the first row as an instant, on the clock the reader used (mixed offsets allowed)
-        from ..clock import parse_timestamps
-
-        text = raw[tcol].str.strip()
-        origin = first_row_clock(parse_timestamps(text, None, label, tcol), text)[0]
+    # the first row as an instant, on the clock the reader used (mixed offsets allowed)
+    origin = read.first_instant if is_dt else None
     frame = frame.reset_index(drop=True)
     return RawLog(t, frame, header, is_dt, origin, np.arange(t.size) + 2)
 

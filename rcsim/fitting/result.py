@@ -164,6 +164,36 @@ class FitResult:
         """Times of the log's rows [s] from the first row."""
         return self.measured.index.to_numpy(dtype=float)
 
+    def value_counts(self) -> pd.DataFrame:
+        """How many values of each measured column the log gave, the fit used and it held out.
+
+        One row per measured column: ``measured`` (values in the log), ``fitted`` (in the
+        residuals the fit minimised; ``n_points`` is their sum) and ``held out`` (in the
+        held-out span, on which the prediction is scored; 0 without one). Every count rcsim
+        prints or writes about a fit's values comes from here, so the headline and the
+        per-column table agree.
+        """
+        columns = list(self.measured.columns)
+        fitted = self.residuals.reindex(columns=columns).notna().sum()
+        held = (self.holdout_residuals.reindex(columns=columns).notna().sum()
+                if self.holdout_residuals is not None else pd.Series(0, index=columns))
+        return pd.DataFrame({"measured": self.measured.notna().sum().astype(int),
+                             "fitted": fitted.astype(int), "held out": held.astype(int)},
+                            index=pd.Index(columns, name="column"))
+
+    def values_text(self, columns: str = "") -> str:
+        """The fit's values in words, with ``columns`` (e.g. the measured columns' names) in
+        parentheses after the count: ``"678 measured values, all fitted"``, or with a held-out
+        span ``"678 measured values: 498 fitted, 180 held out in the last 25 % (9 h to 12 h
+        after the first row)"``."""
+        counts = self.value_counts()
+        total, fitted = int(counts["measured"].sum()), int(counts["fitted"].sum())
+        head = f"{total} measured values" + (f" ({columns})" if columns else "")
+        if self.holdout is None:
+            return head + (", all fitted" if fitted == total else f", {fitted} fitted")
+        return (f"{head}: {fitted} fitted, {int(counts['held out'].sum())} held out in "
+                f"{self.holdout.describe()}")
+
     def table(self) -> pd.DataFrame:
         """The estimates with their display unit and the starting values (for printing/CSV)."""
         out = self.estimates.copy()
@@ -180,8 +210,12 @@ class FitResult:
     def _header(self) -> str:
         """The comment lines that open a fitted scenario: the log, the estimates with their
         standard errors and intervals, the warnings."""
-        lines = [f"{HEADER_FIRST}{self.log_name} by rcsim fit: {self.n_points} measured values, "
-                 f"RMSE {self.rmse:.4g} K.", "# estimate +- standard error (95 % interval):"]
+        lines = [f"{HEADER_FIRST}{self.log_name} by rcsim fit: {self.values_text()}, "
+                 f"RMSE {self.rmse:.4g} K (over the fitted values).",
+                 "# estimate +- standard error (95 % interval):"]
+        if self.holdout is not None and math.isfinite(self.holdout_rmse):
+            lines.insert(1, f"# held-out RMSE {self.holdout_rmse:.4g} K (the prediction over "
+                            "the held-out values)")
         if self.noise == "process":
             lines.insert(1, "# with process noise (Kalman filter); the RMSE is that of the "
                             "one-step-ahead predictions")

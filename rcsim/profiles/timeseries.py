@@ -15,6 +15,7 @@ from ..base import suggest
 from ..errors import DataError
 from ..inputfiles import cut, quote_cell, quote_names, read_bytes
 from .base import to_si
+from .numeric_csv import NumericCSV
 
 
 @dataclass
@@ -23,6 +24,8 @@ class TimeParse:
 
     seconds: np.ndarray
     is_datetime: bool
+    #: the first row's instant (timestamps only, on the clock of the first row's offset)
+    first: object = None
 
 
 _HEADER_UNIT = re.compile(r"^(.*?)\s*[\[(]\s*([^\])]+?)\s*[\])]\s*$")
@@ -110,6 +113,10 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
     ISO-8601 timestamps, counted from ``start`` (default the first one), mixed UTC offsets placed
     on one clock (:func:`parse_times`).
 
+    The numbers are parsed at once (:mod:`rcsim.profiles.numeric_csv`); a file with anything
+    that parse cannot vouch for (a bad cell, a gap where none is allowed, times that do not
+    increase) is read again cell by cell as text, which names the line and column.
+
     Raises
     ------
     DataError
@@ -117,12 +124,105 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
         non-increasing times, non-numeric values (unless
         ``missing='interpolate'``, which turns them into NaN for the caller to skip).
     """
-    import pandas as pd
+    return read_series(path, columns, time, start, time_unit, missing, where, max_bytes).frame
 
+
+@dataclass
+class SeriesRead:
+    """What :func:`read_series` read: the frame of :func:`read_time_series`, and what callers
+    that place timestamps on another clock or check gaps need besides."""
+
+    frame: object
+    #: the time column's header as written
+    time_column: str
+    #: the time column's cells as read (strings), when it holds timestamps; else None
+    time_text: object = None
+    #: the first row's instant when the time column holds timestamps (:attr:`TimeParse.first`)
+    first_instant: object = None
+    #: True when every missing value (NaN) in ``frame`` was an empty cell
+    missing_empty: bool = False
+
+
+def read_series(path, columns=None, time=None, start=None, time_unit=None, missing="error",
+                where=None, max_bytes=None) -> SeriesRead:
+    """:func:`read_time_series` with what it read besides the frame (:class:`SeriesRead`)."""
     label = os.path.basename(str(path)) if where is None else where
     path = os.fspath(path)
     if os.path.isdir(path):
         raise DataError("is a directory, not a CSV file", label)
+    fast = NumericCSV.open(path, csv_byte_limit(max_bytes)[0])
+    if fast is not None:
+        done = _numbers_first(fast, columns, time, start, time_unit, missing, label)
+        if done is not None:
+            return done
+    return _text_first(path, columns, time, start, time_unit, missing, label, max_bytes)
+
+
+def _numbers_first(fast, columns, time, start, time_unit, missing, label) -> SeriesRead | None:
+    """The series from the numbers parsed at once, or None where the text pass must run (it
+    then finds the same problem and names it). Every check here is the text pass's, in its
+    order; one that fails gives None instead of the error."""
+    import pandas as pd
+
+    names = fast.names
+    if len(set(names)) != len(names) or len(names) == 1:
+        return None
+    tcol = time if time is not None else names[0]
+    if tcol not in names:
+        tcol = next((c for c in names if split_header(c)[0] == tcol), tcol)
+        if tcol not in names:
+            return None
+    columns = [c for c in names if c != tcol] if columns is None else list(columns)
+    headers = {}
+    for c in columns:
+        headers[c] = c if c in names else next(
+            (x for x in names if x != tcol and value_header(x)[0] == c), None)
+        if headers[c] is None:
+            return None
+    first = pd.to_numeric(pd.Series([fast.first_row[names.index(tcol)]]), errors="coerce")
+    numeric_time = bool(np.isfinite(first.to_numpy(dtype=float)).all())
+    text_columns = () if numeric_time else (tcol,)
+    frame = fast.parse(text_columns)
+    others = [x for x in names if x != tcol and x not in headers.values()]
+    if frame is None and others:    # a column not asked for may hold text (notes, flags)
+        frame = fast.parse(text_columns + tuple(others))
+    if frame is None:
+        return None
+    if numeric_time:
+        numbers = frame[tcol].to_numpy(dtype=float)
+        if not np.isfinite(numbers).all():
+            return None
+        unit = time_unit_of(tcol, time_unit, label)    # raises as the text pass would here
+        factor = to_si(f"1 {unit}", "time", "time_unit")
+        with np.errstate(over="ignore"):
+            t = numbers * factor
+        if not np.isfinite(t).all():
+            return None
+        parsed, text = TimeParse(t, False), None
+    else:
+        text = frame[tcol]
+        parsed = parse_times(text, tcol, label, start, time_unit)  # raises as the text pass
+        t = parsed.seconds
+    if (t[1:] <= t[:-1]).any():
+        return None
+    out = {}
+    for c in columns:
+        values = frame[headers[c]].to_numpy(dtype=float, copy=True)
+        bad = np.isnan(values)    # empty cells; an infinite value is left to the text pass
+        if (bad.any() and (missing != "interpolate" or bad.all())) or np.isinf(values).any():
+            return None
+        out[c] = values
+    del frame
+    series = pd.DataFrame(out, index=pd.Index(t, name="time"), copy=False)
+    series.attrs["is_datetime"] = parsed.is_datetime
+    series.attrs["headers"] = headers
+    return SeriesRead(series, tcol, text, parsed.first, True)
+
+
+def _text_first(path, columns, time, start, time_unit, missing, label, max_bytes) -> SeriesRead:
+    """The text pass: every cell read as text first, so that any problem names its line."""
+    import pandas as pd
+
     df = read_csv_text(path, label, max_bytes)
     if len(set(df.columns)) != len(df.columns):
         raise DataError("has duplicate column names", label)
@@ -157,6 +257,7 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
                         f" after {quote_cell(df[tcol].iloc[i - 1])})", label,
                         "sort the rows and remove duplicates")
     out = {}
+    empty = True
     for c in columns:
         text = df[headers[c]].str.strip()
         values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float, copy=True)
@@ -169,12 +270,14 @@ def read_time_series(path, columns=None, time=None, start=None, time_unit=None, 
                             "fix the row or set missing = 'interpolate'")
         if np.isfinite(values).sum() == 0:
             raise DataError(f"column {quote_cell(c)} has no numeric values", label)
+        if bad.any():
+            empty = empty and bool((text[bad] == "").all())
         values[bad] = np.nan
         out[c] = values
     frame = pd.DataFrame(out, index=pd.Index(t, name="time"))
     frame.attrs["is_datetime"] = parsed.is_datetime
     frame.attrs["headers"] = headers
-    return frame
+    return SeriesRead(frame, tcol, df[tcol] if parsed.is_datetime else None, parsed.first, empty)
 
 
 def read_csv_text(path, label: str, max_bytes: int | None = None):
@@ -211,17 +314,23 @@ OTHER_SEPARATORS = {";": "semicolons", "\t": "tabs", "|": "vertical bars"}
 
 
 def read_capped(path, label: str, max_bytes: int | None = None) -> bytes:
-    """The bytes of a CSV file, read with a cap: what fits in memory once parsed (pandas holds
-    a CSV read as text at about 11-15 times its size on disk, measured for 1,000,000 rows,
+    """The bytes of a CSV file, read with a cap: what fits in memory once parsed as text (pandas
+    holds a CSV read as text at about 11-15 times its size on disk, measured for 1,000,000 rows,
     tests/benchmarks/bench_transient.py --large), and ``max_bytes`` when given."""
+    limit, too_large, hint = csv_byte_limit(max_bytes)
+    return read_bytes(path, label, limit, too_large, hint)
+
+
+def csv_byte_limit(max_bytes: int | None = None) -> tuple[int | None, str, str | None]:
+    """(the most bytes of a CSV file read, the end of the message refusing a larger file, its
+    hint): :func:`read_capped`'s cap, which the numbers-first parse keeps too."""
     avail = memory_available()
     limit = None if avail is None else int(0.8 * avail / 15)
     if max_bytes is not None and (limit is None or max_bytes < limit):
-        return read_bytes(path, label, max_bytes, ", the most allowed here")
-    return read_bytes(path, label, limit,
-                      f", the most that fits in memory once read ({avail / 1e9:.1f} GB of "
-                      "memory is available)" if avail is not None else "",
-                      "split the file, or use a machine with more memory")
+        return max_bytes, ", the most allowed here", None
+    return (limit, f", the most that fits in memory once read ({avail / 1e9:.1f} GB of "
+            "memory is available)" if avail is not None else "",
+            "split the file, or use a machine with more memory")
 
 
 def first_line(raw: bytes, limit: int = 65536) -> str:
@@ -329,7 +438,7 @@ def parse_times(col, name, label, start, time_unit) -> TimeParse:
         raise DataError("timestamps and start time disagree on time zones (one has an offset, "
                         "the other not)", label, "give both with or both without a UTC offset")
     seconds = (stamps - origin).total_seconds().to_numpy(dtype=float)
-    return TimeParse(seconds, True)
+    return TimeParse(seconds, True, stamps[0])
 
 
 def first_row_clock(stamps, text):

@@ -38,13 +38,20 @@ def _estimates(fit, caption="Estimates with their standard errors and 95 % inter
 def _quality(fit, id="fit-quality"):
     rmse = pd.Series(fit.rmse_by_column, dtype=float)
     auto = pd.Series(fit.autocorrelation, dtype=float).reindex(rmse.index)
+    counts = fit.value_counts().reindex(rmse.index, fill_value=0)
     frame = pd.DataFrame({"log column": rmse.index, "RMSE [K]": rmse.to_numpy(),
                           "lag-1 autocorrelation [-]": auto.to_numpy(),
-                          "measured values": [int(fit.measured[c].notna().sum())
-                                              if c in fit.measured else 0 for c in rmse.index]})
+                          "fitted values": counts["fitted"].to_numpy()})
+    note = ("RMSE and autocorrelation over the fitted values. A lag-1 autocorrelation above 0.5 "
+            "says the model is too simple for the data.")
+    if fit.holdout is not None:
+        held = pd.Series(fit.holdout_rmse_by_column, dtype=float).reindex(rmse.index)
+        frame["held-out values"] = counts["held out"].to_numpy()
+        frame["held-out RMSE [K]"] = held.to_numpy()
+        note = (f"Held out, and not fitted: {fit.holdout.describe()}; its RMSE is that of the "
+                "prediction there. " + note)
     return table_from_frame(frame, "How well the fitted model follows each measured column",
-                            id=id, note="A lag-1 autocorrelation above 0.5 says the "
-                            "model is too simple for the data.")
+                            id=id, note=note, missing={"held-out RMSE [K]": "no value"})
 
 
 def build_fit_report(fit, scenario=None, *, log_path=None, warnings=None,
@@ -66,9 +73,10 @@ def build_fit_report(fit, scenario=None, *, log_path=None, warnings=None,
     name = getattr(base, "name", "") or "scenario"
     heading = title or getattr(base, "title", "") or name
     glance = [("scenario", name), ("log", fit.log_name or "-"),
-              ("measured values", str(fit.n_points)),
+              ("measured values", _values_text(fit)),
               ("free values", str(len(fit.estimates))),
-              ("RMSE", f"{number_text(fit.rmse, 4)} K"),
+              ("RMSE", f"{number_text(fit.rmse, 4)} K (over the fitted values)"),
+              *_held_out_glance(fit),
               ("model runs", f"{fit.n_evaluations} ({fit.solver} path"
                              f"{f', {fit.n_decompositions} decompositions' if fit.n_decompositions else ''})"),
               ("wall time", f"{number_text(fit.wall_time, 3)} s")]
@@ -109,6 +117,34 @@ def build_fit_report(fit, scenario=None, *, log_path=None, warnings=None,
                        fit.to_toml())
 
 
+def _values_text(fit) -> str:
+    """The glance's count of values: those fitted, and those held out where there are."""
+    counts = fit.value_counts()
+    fitted = int(counts["fitted"].sum())
+    total = int(counts["measured"].sum())
+    if fit.holdout is None:
+        return f"{total} (all fitted)" if fitted == total else f"{total} ({fitted} fitted)"
+    return (f"{total}: {fitted} fitted, {int(counts['held out'].sum())} held out in "
+            f"{fit.holdout.describe()}")
+
+
+def _joint_values_text(joint, records) -> str:
+    """The values of several logs: those fitted (all logs together) and those held out."""
+    counts = [r.value_counts() for r in records.values()]
+    held = sum(int(c["held out"].sum()) for c in counts)
+    if not held:
+        return f"{joint.n_points} (all fitted)"
+    measured = sum(int(c["measured"].sum()) for c in counts)
+    return f"{measured}: {joint.n_points} fitted, {held} held out (see each log)"
+
+
+def _held_out_glance(fit) -> list:
+    if fit.holdout is None:
+        return []
+    return [("held-out RMSE", f"{number_text(fit.holdout_rmse, 4)} K (the prediction over the "
+                              "held-out values)")]
+
+
 def _file_sha256(path) -> str:
     with open(path, "rb") as fh:
         return hashlib.sha256(fh.read()).hexdigest()
@@ -128,10 +164,9 @@ def _fit_report(base, name, heading, title, glance, sections, warnings, extra, f
 
 def _log_facts(res) -> str:
     """One record's numbers in words: values, RMSE, held-out error, Ljung-Box test."""
-    text = f"{res.n_points} measured values fitted; RMSE {number_text(res.rmse, 4)} K"
+    text = f"{res.values_text()}; RMSE {number_text(res.rmse, 4)} K over the fitted values"
     if res.holdout is not None and np.isfinite(res.holdout_rmse):
-        text += (f"; held out: {res.holdout.describe()}, RMSE "
-                 f"{number_text(res.holdout_rmse, 4)} K")
+        text += f"; held-out RMSE {number_text(res.holdout_rmse, 4)} K"
     p = res.whiteness_p
     if np.isfinite(p):
         text += (f"; Ljung-Box test of the residuals p = {number_text(p, 3)} ("
@@ -175,7 +210,7 @@ def _build_joint_report(joint, scenario, *, log_path, warnings, title, figures) 
     heading = title or getattr(base, "title", "") or name
     logs = ", ".join(records)
     glance = [("scenario", name), ("logs", f"{len(records)}: {logs}"),
-              ("measured values", str(joint.n_points)),
+              ("measured values", _joint_values_text(joint, records)),
               ("free values", f"{len(joint.estimates)} (shared, and KEY@log for one log's own)"),
               ("RMSE", f"{number_text(joint.rmse, 4)} K"),
               ("log-likelihood", f"{number_text(joint.log_likelihood, 6)} (AIC "

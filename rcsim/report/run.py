@@ -100,8 +100,17 @@ def _limits_table(result, unit, size) -> Table | None:
         frame = frame.drop(columns=["leaves the band at"])
     return table_from_frame(frame, "Limits: hold time (first time out of the band), time out "
                                    "of the band, worst excursion, degree-hours, margin",
-                            id="res-limits", missing={f"hold time [{unit}]": "never"},
+                            id="res-limits",
+                            missing={f"hold time [{unit}]": _never_text(result, size)},
                             note="A negative margin is how far the limit was exceeded.")
+
+
+def _never_text(result, size) -> str:
+    """The hold time of a node that never left its band: more than the run ("> 24, never
+    left" in the table's unit), never an empty or infinite cell."""
+    if result.time.size < 2:
+        return "never left"
+    return f"> {number_text(float(result.time[-1] - result.time[0]) / size, 4)}, never left"
 
 
 def _energy_table(result) -> Table | None:

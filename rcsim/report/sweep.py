@@ -35,25 +35,30 @@ def _percentile_table(table, duration):
     from ..sweep import percentiles
 
     pct = percentiles(table)
+    # a percentile among runs that never left the band is more than the run's duration: say
+    # so in the cell ("> 24" in hours), never a bare infinity
+    beyond = "> the run" if not duration else f"> {number_text(duration / 3600.0, 4)}"
     rows = []
     for output, r in pct.iterrows():
         is_time = output.split(".", 1)[0] in _TIME_OUTPUTS
         scale, unit = (1 / 3600.0, "h") if is_time else (1.0, _unit(table, output) or "degC")
         row = {"output": output, "unit": unit}
         for q in [c for c in pct.columns if c.endswith("%")]:
-            row[q] = float(r[q]) * scale
+            v = float(r[q])
+            row[q] = beyond if math.isinf(v) and v > 0 else v * scale
         row["runs"], row["never left the band"] = int(r["runs"]), int(r["never"])
         rows.append(row)
     frame = pd.DataFrame(rows)
-    longer = "> the run" if not duration else f"> {number_text(duration / 3600.0, 4)} h"
     left_out = int(pct.attrs.get("open_balance", 0))
     open_note = (f" {left_out} run(s) with an open energy balance (column energy_balance above "
                  "1e-3) are left out here and from the shares and indices." if left_out else "")
+    never = int(pct["never"].max()) if len(pct) else 0
+    never_note = (f"{beyond} h: more than the run's duration; the node had not left its band "
+                  "at that percentile (the runs that never left it rank above every finite "
+                  "hold time)." if never else "")
     return table_from_frame(frame, "Percentiles of each output over the runs that did not fail "
                             "and whose energy balance closes",
-                            id="sweep-percentiles", note=f"\u221e: more than the run's duration "
-                            f"({longer}); the node had not left its band at that percentile."
-                            + open_note)
+                            id="sweep-percentiles", note=(never_note + open_note).strip())
 
 
 def _shown_outputs(table) -> list[str]:

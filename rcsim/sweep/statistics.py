@@ -27,7 +27,7 @@ from ..errors import InputError
 from .tables import (SweepTable, input_columns, open_balance_mask, output_columns, succeeded,
                      trusted)
 
-__all__ = ["percentiles", "first_order_indices"]
+__all__ = ["percentiles", "percentile_text", "first_order_indices"]
 
 
 def _frame(table) -> pd.DataFrame:
@@ -39,14 +39,17 @@ def percentiles(table: pd.DataFrame, q=(5, 50, 95)) -> pd.DataFrame:
     closes.
 
     A hold time of NaN (never left the band within the run) counts as longer than any finite one,
-    so a percentile that falls among such runs is ``inf`` ("more than the duration"). A run whose
-    energy balance is open (``energy_balance`` above 1e-3) is left out: its outputs are not to be
-    trusted.
+    so a percentile that falls among such runs is ``inf`` here: a number that sorts and compares
+    as "more than the run's duration". It is for computing with; wherever rcsim shows or writes
+    it, it is text giving the run length (:func:`percentile_text`: ``"> 24 h"``), and
+    ``attrs["inf"]`` says what it means for whoever saves the frame. A run whose energy balance
+    is open (``energy_balance`` above 1e-3) is left out: its outputs are not to be trusted.
 
     Returns a DataFrame indexed by output with one column per percentile (``"5 %"``...) and
     ``runs`` (runs used), ``never`` (runs that never left the band) and ``open_balance`` (runs
     that did not fail but were left out for an open energy balance; also
-    ``attrs["open_balance"]``).
+    ``attrs["open_balance"]``); ``attrs["duration"]`` is the run length [s] where the table
+    says it.
 
     >>> t = pd.DataFrame({"hold_time.x": [1.0, 2.0, 3.0, np.nan]})
     >>> percentiles(t, q=(50, 90))[["50 %", "90 %", "never"]].to_dict("records")
@@ -81,7 +84,29 @@ def percentiles(table: pd.DataFrame, q=(5, 50, 95)) -> pd.DataFrame:
         rows[c] = row
     out = pd.DataFrame.from_dict(rows, orient="index")
     out.attrs["open_balance"] = left_out
+    duration = table.attrs.get("duration")
+    out.attrs["duration"] = duration
+    out.attrs["inf"] = ("inf: more than the run's duration"
+                        + (f" ({float(duration):g} s)" if duration else "")
+                        + "; the node had not left its band at that percentile")
     return out
+
+
+def percentile_text(value: float, duration=None, *, unit: str = "h") -> str:
+    """A hold-time percentile as a practitioner reads it: the value [s] in ``unit``
+    (``"s"``, ``"min"``, ``"h"`` or ``"d"``), or, where it is ``inf`` (the runs never left the
+    band), ``"> <duration> <unit>"``: more than the run's length (``"> the run"`` where the
+    duration is not known). NaN (no run to count) is ``"-"``.
+
+    >>> percentile_text(5400.0), percentile_text(math.inf, 86400.0), percentile_text(math.inf)
+    ('1.5 h', '> 24 h', '> the run')
+    """
+    size = {"s": 1.0, "min": 60.0, "h": 3600.0, "d": 86400.0}[unit]
+    if math.isnan(value):
+        return "-"
+    if math.isinf(value):
+        return f"> {float(duration) / size:.4g} {unit}" if duration else "> the run"
+    return f"{value / size:.4g} {unit}"
 
 
 def _bins_of(x: np.ndarray, bins: int) -> np.ndarray:

@@ -15,6 +15,13 @@ Files: ``.csv`` (the columns only), ``.h5``/``.hdf5`` (h5py: group ``/sweep``, a
 and one per column, attributes ``columns`` (JSON list) and ``meta`` (JSON of the metadata)) and
 ``.parquet`` (pyarrow; the metadata as JSON under the frame attribute ``rcsim_sweep``). Every
 file is written to a temporary name and renamed when complete.
+
+What an empty value means is written down with it, never left to guess: an output is NaN (an
+empty cell in CSV) where the run failed (its ``error`` is not empty) and, for ``hold_time.<node>``,
+where the node never left its band within the run (a hold time of more than the run's duration).
+HDF5 gives each output dataset an attribute ``nan`` saying so, and HDF5 and Parquet keep the same
+texts in the metadata under ``missing`` (:func:`missing_values`); a CSV holds no metadata, so the
+README and this note are its key. No infinity is ever written.
 """
 
 from __future__ import annotations
@@ -35,7 +42,7 @@ from .worker import OUTPUT_ALIASES, OUTPUT_PREFIXES, canonical_output
 __all__ = ["SweepTable", "TABLE_SUFFIXES", "unit_of", "make_table", "check_table_path",
            "write_table", "read_table", "output_columns", "input_columns", "succeeded",
            "alias_columns", "add_alias_columns", "BALANCE_COLUMN", "open_balance_runs",
-           "trusted", "open_balance_mask"]
+           "trusted", "open_balance_mask", "missing_values"]
 
 TABLE_SUFFIXES = (".csv", ".h5", ".hdf5", ".parquet")
 
@@ -297,6 +304,28 @@ def _meta_json(attrs) -> str:
     return json.dumps(clean(dict(attrs)))
 
 
+def missing_values(table: pd.DataFrame) -> dict:
+    """``{output column: what NaN means in it}`` for the table's outputs.
+
+    >>> t = pd.DataFrame({"max.a": [1.0], "hold_time.a": [np.nan], "error": [""]})
+    >>> t.attrs["duration"] = 86400.0
+    >>> missing_values(t)["hold_time.a"].split("; ")[0]
+    'NaN: the node never left its band within the run (more than 86400 s)'
+    >>> missing_values(t)["max.a"]
+    'NaN: the run failed (error not empty)'
+    """
+    duration = table.attrs.get("duration")
+    longer = f" (more than {float(duration):g} s)" if duration else ""
+    out = {}
+    for c in output_columns(table) + alias_columns(table):
+        if canonical_output(c).startswith("hold_time."):
+            out[c] = (f"NaN: the node never left its band within the run{longer}; or the run "
+                      "failed (error not empty)")
+        else:
+            out[c] = "NaN: the run failed (error not empty)"
+    return out
+
+
 def write_table(table: pd.DataFrame, path) -> str:
     """Write a sweep table to .csv, .h5 (h5py, group ``/sweep``) or .parquet, atomically.
 
@@ -316,7 +345,8 @@ def write_table(table: pd.DataFrame, path) -> str:
             _write_h5(table, tmp)
         else:
             frame = table.copy()
-            frame.attrs = {"rcsim_sweep": _meta_json(table.attrs)}
+            frame.attrs = {"rcsim_sweep": _meta_json({**table.attrs,
+                                                      "missing": missing_values(table)})}
             frame.to_parquet(tmp)
     return path
 
@@ -328,6 +358,7 @@ def _write_h5(table, tmp):
 
     from ..h5files import guarded_h5
 
+    missing = missing_values(table)
     with guarded_h5(tmp) as h5:        # a full disk: one OSError after closing, not a crash
         g = h5.create_group("sweep")
         g.create_dataset("run", data=table.index.to_numpy(dtype=np.int64))
@@ -338,8 +369,10 @@ def _write_h5(table, tmp):
                                  dtype=h5py.string_dtype())
             else:
                 g.create_dataset(c, data=table[c].to_numpy(dtype=float))
+                if c in missing:
+                    g[c].attrs["nan"] = missing[c]
         g.attrs["columns"] = json.dumps(list(map(str, table.columns)))
-        g.attrs["meta"] = _meta_json(table.attrs)
+        g.attrs["meta"] = _meta_json({**table.attrs, "missing": missing})
         h5.attrs["rcsim_version"] = package_version()
 
 

@@ -1,0 +1,282 @@
+"""CSV time series read numbers first (rcsim.profiles.numeric_csv): the same result as the text
+pass, cell by cell, and the text pass's messages wherever a file has a problem."""
+
+import io
+import random
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from rcsim.errors import DataError
+from rcsim.fitting import read_log
+from rcsim.profiles import Table, numeric_csv, read_time_series, timeseries
+
+
+def write(tmp_path, text, name="s.csv", encoding="utf-8"):
+    path = tmp_path / name
+    path.write_bytes(text.encode(encoding) if isinstance(text, str) else text)
+    return path
+
+
+def outcome(read):
+    """What a read gives: ('ok', frame) or ('error', its message)."""
+    try:
+        return "ok", read()
+    except DataError as err:
+        return "error", str(err)
+
+
+def both_passes(monkeypatch, read):
+    """The outcome with the numbers-first parse, and with the text pass alone (as before)."""
+    fast = outcome(read)
+    with monkeypatch.context() as m:
+        m.setattr(numeric_csv, "ENABLED", False)
+        text = outcome(read)
+    return fast, text
+
+
+def same_frame(a, b):
+    assert list(a.columns) == list(b.columns)
+    assert a.attrs == b.attrs
+    for x, y in [(a.index.to_numpy(), b.index.to_numpy())] + \
+            [(a[c].to_numpy(), b[c].to_numpy()) for c in a.columns]:
+        assert x.dtype == y.dtype == np.float64
+        # bit for bit: the same numbers, NaN in the same places, zeros of the same sign
+        assert np.array_equal(x.view(np.int64), y.view(np.int64))
+
+
+TEN = "\n".join(f"{60 * i},{20 + 0.1 * i:.1f}" for i in range(10))
+
+# (file text, keyword arguments of read_time_series): files the numbers-first parse reads and
+# files it must leave to the text pass; each is read both ways and must give the same frame or
+# the same message (the subtle cases of the text pass: units in headers, blank cells, timestamps
+# against elapsed times, times repeated once rounded, quoted fields, BOM, trailing separators)
+CASES = {
+    "plain": ("time,T\n" + TEN + "\n", {}),
+    "units_in_headers": ("time [min], T [degF], P [kW]\n0, 68, 1.5\n1, 70.5, 2\n2, 72, 2.5\n", {}),
+    "time_unit_key": ("t,T\n0,1\n1.5,2\n3,3\n", dict(time_unit="h")),
+    "time_by_bare_name": ("hour [h],T\n0,1\n1,2\n", dict(time="hour", columns=["T"])),
+    "column_by_bare_name": ("time,T [degF]\n0,50\n1,51\n", dict(columns=["T"])),
+    "header_and_time_unit_disagree": ("time [h],T\n0,1\n1,2\n", dict(time_unit="min")),
+    "time_unit_not_time": ("time [m],T\n0,1\n1,2\n", {}),
+    "crlf": ("time,T\r\n0,1\r\n60,2\r\n", {}),
+    "bom": ("\ufefftime,T\n0,1\n60,2\n", {}),
+    "blank_lines": ("time,T\n\n0,1\n\n60,2\n\n", {}),
+    "quoted": ('"time","T"\n"0","1.5"\n"60","2.5"\n', {}),
+    "spaces": ("time , T\n 0 , 1.5 \n  60,\t2.5\n", {}),
+    "non_breaking_space": ("time,T\n0,\u00a01.5\n60,2.5\n", {}),
+    "scientific": ("time,T\n0,1e1\n6E1,-2.5E-3\n1.2e+2,.5\n", {}),
+    "many_digits": ("time,T\n0,0.1000000000000000055511151231257827\n1,20.000000000000001\n", {}),
+    "negative_zero_time": ("time,T\n-0,1\n1,2\n", {}),
+    "negative_zero_float": ("time,T\n0,-0.0\n1,2\n", {}),
+    "negative_zero_int": ("time,T\n0,-0\n1,2\n", {}),
+    "negative_zero_among_decimals": ("time,T\n0,-0.0000\n1,2.5\n2,-0\n", {}),
+    "boolean_words": ("time,T\n0,True\n1,false\n", {}),   # the C reader: 1.0 and 0.0
+    "boolean_words_mixed_case": ("time,T\n0,fAlSe\n1,TRUE\n", {}),
+    "boolean_word_among_numbers": ("time,T\n0,1\n1,True\n", {}),
+    "true_in_header_only": ("time,is_true\n0,1\n1,2\n", {}),
+    "trailing_separator_everywhere": ("time,T,\n0,1,\n60,2,\n", {}),
+    "trailing_separator_named": ("time,T,\n0,1,\n60,2,\n", dict(columns=["T"])),
+    "trailing_separator_rows_only": ("time,T\n0,1,\n60,2,\n", {}),
+    "ragged_row": ("time,T\n0,1\n60,2,3\n", {}),
+    "short_row": ("time,T,U\n0,1,2\n60,2\n", dict(columns=["T"])),
+    "empty_cell": ("time,T\n0,1\n60,\n120,3\n", {}),
+    "empty_cell_interpolate": ("time,T\n0,1\n60,\n120,3\n", dict(missing="interpolate")),
+    "na_text_interpolate": ("time,T\n0,1\n60,NA\n120,3\n", dict(missing="interpolate")),
+    "text_cell": ("time,T\n0,1\n60,warm\n120,3\n", {}),
+    "decimal_comma_quoted": ('time,T\n0,"20,5"\n60,21\n', {}),
+    "infinite_value": ("time,T\n0,1\n60,inf\n", {}),
+    "infinite_value_interpolate": ("time,T\n0,1\n60,inf\n120,2\n", dict(missing="interpolate")),
+    "all_empty": ("time,T\n0,\n60,\n", dict(missing="interpolate")),
+    "text_in_other_column": ("time,T,note\n0,1,door open\n60,2,\n", dict(columns=["T"])),
+    "repeated_time": ("time,T\n0,1\n60,2\n60,3\n", {}),
+    "decreasing_time": ("time,T\n0,1\n60,2\n30,3\n", {}),
+    "repeated_once_rounded": ("time,T\n0,1\n0.1,2\n0.10000000000000000001,3\n", {}),
+    "time_too_large": ("time [min],T\n0,1\n1e306,2\n", {}),
+    "empty_time": ("time,T\n0,1\n,2\n", {}),
+    "number_then_text_time": ("time,T\n0,1\nnoon,2\n", {}),
+    "timestamps": ("time,T\n2026-07-01T00:00,1\n2026-07-01T01:00,2\n", {}),
+    "timestamps_start": ("time,T\n2026-07-01T00:00,1\n2026-07-01T01:00,2\n",
+                         dict(start="2026-06-30T23:00")),
+    "timestamps_mixed_offsets": ("time,T\n2021-10-31T02:30+02:00,1\n2021-10-31T02:00+01:00,2\n"
+                                 "2021-10-31T01:45Z,3\n", {}),
+    "timestamps_offset_and_none": ("time,T\n2026-07-01T00:00Z,1\n2026-07-01T01:00,2\n", {}),
+    "timestamps_repeated": ("time,T\n2026-07-01T00:00,1\n2026-07-01T00:00 ,2\n", {}),
+    "timestamps_and_bad_value": ("time,T\n2026-07-01T00:00,1\n2026-07-01T01:00,x\n", {}),
+    "timestamp_then_number": ("time,T\n2026-07-01T00:00,1\n3600,2\n", {}),
+    "semicolons": ("time;T\n0;20,5\n60;21\n", {}),
+    "header_only": ("time,T\n", {}),
+    "empty_file": ("", {}),
+    "one_column": ("time\n0\n60\n", {}),
+    "duplicate_names": ("time,T,T \n0,1,2\n60,2,3\n", {}),
+    "missing_column": ("time,T\n0,1\n60,2\n", dict(columns=["U"])),
+    "missing_time_column": ("time,T\n0,1\n60,2\n", dict(time="clock")),
+    "not_utf8": (b"time,T\xe9\n0,1\n60,2\n", {}),
+    "integers_beyond_2_53": ("time,T\n0,9007199254740993\n1,12345678901234567890123\n", {}),
+}
+
+
+@pytest.mark.parametrize("name", list(CASES))
+def test_numbers_first_gives_what_the_text_pass_gives(tmp_path, monkeypatch, name):
+    text, kwargs = CASES[name]
+    path = write(tmp_path, text)
+    fast, slow = both_passes(monkeypatch, lambda: read_time_series(path, **kwargs))
+    assert fast[0] == slow[0], (fast, slow)
+    if fast[0] == "ok":
+        same_frame(fast[1], slow[1])
+    else:
+        assert fast[1] == slow[1]
+
+
+@pytest.mark.parametrize("name", ["plain", "units_in_headers", "quoted", "bom", "spaces",
+                                  "timestamps", "empty_cell_interpolate", "crlf",
+                                  "text_in_other_column", "negative_zero_among_decimals"])
+def test_a_clean_file_is_never_read_as_text(tmp_path, monkeypatch, name):
+    text, kwargs = CASES[name]
+    path = write(tmp_path, text)
+
+    def refuse(*args, **kw):
+        raise AssertionError("the text pass ran")
+
+    monkeypatch.setattr(timeseries, "read_csv_text", refuse)
+    frame = read_time_series(path, **kwargs)
+    assert frame.shape[0] >= 2
+
+
+def test_numbers_are_those_written(tmp_path):
+    # the values as written in the file, converted by Python's float() (correctly rounded,
+    # IEEE 754 round-half-even, the Python language reference), not by pandas: random cells of
+    # every form (fixed, exponent, long digit strings, integers past 2^53) over several reads
+    # of the stream's buffer
+    rng = random.Random(14)
+    cells = []
+    for _ in range(60000):
+        k = rng.random()
+        if k < 0.3:
+            cells.append(repr(rng.uniform(-1e3, 1e3)))
+        elif k < 0.5:
+            cells.append(f"{rng.uniform(-1e6, 1e6):.{rng.randint(0, 20)}f}")
+        elif k < 0.7:
+            cells.append(f"{rng.uniform(-1, 1) * 10 ** rng.randint(-300, 300):.{rng.randint(0, 25)}e}")
+        elif k < 0.85:
+            cells.append(str(rng.randint(1, 10 ** 25) * rng.choice([1, -1])))
+        else:
+            digits = "".join(rng.choice("0123456789") for _ in range(rng.randint(1, 30)))
+            cells.append(digits + "." + "".join(rng.choice("0123456789")
+                                                for _ in range(rng.randint(0, 30))))
+    body = "\n".join(f"{i},{c}" for i, c in enumerate(cells))
+    path = write(tmp_path, "time,x\n" + body + "\n")
+    frame = read_time_series(path, ["x"])
+    expected = np.array([float(c) for c in cells])
+    assert np.array_equal(frame["x"].to_numpy(), expected)
+
+
+def test_a_boolean_word_split_between_two_reads_is_found():
+    # the stream looks at each read with the end of the one before: 'tr' + 'ue' is found
+    text = b"time,x\n0,1\n1,tr" + b"ue\n"
+
+    class Trickle(io.RawIOBase):          # a file that gives at most 3 bytes per read
+        def __init__(self, data):
+            self.data = io.BytesIO(data)
+
+        def readinto(self, buffer):
+            chunk = self.data.read(min(3, len(buffer)))
+            buffer[:len(chunk)] = chunk
+            return len(chunk)
+
+    stream = numeric_csv._CappedStream(Trickle(text), None)
+    buf = bytearray(3)
+    while stream.readinto(buf):
+        pass
+    assert stream.boolean_word
+    quiet = numeric_csv._CappedStream(Trickle(b"true,x\n0,1\n"), None)   # the header only
+    while quiet.readinto(buf):
+        pass
+    assert not quiet.boolean_word
+
+
+def test_a_bad_row_in_a_long_file_is_named_by_the_text_pass(tmp_path):
+    # 300,000 rows (several reads of the stream, several chunks of the C reader), one bad cell
+    rows = [f"{60 * i},{20 + (i % 7) * 0.25}" for i in range(300_000)]
+    rows[250_001] = "15000060,warm"
+    path = write(tmp_path, "time,T\n" + "\n".join(rows) + "\n")
+    with pytest.raises(DataError) as err:
+        Table.from_csv(path, "T")
+    # the header is line 1: row 250,001 (from 0) is line 250,003
+    assert str(err.value) == ("s.csv: column 'T' line 250003 is not a finite number ('warm') "
+                              "(fix the row or set missing = 'interpolate')")
+
+
+def test_more_than_the_cap_is_refused_as_before(tmp_path):
+    path = write(tmp_path, "time,T\n" + TEN + "\n")
+    with pytest.raises(DataError, match=r"s.csv: is more than 50 bytes, the most allowed here"):
+        read_time_series(path, max_bytes=50)
+
+
+LOG = ("time [min],block,room\n0,20.0,25\n1,20.5,\n2,,25\n3,21.4,25\n4,21.8,NA\n5,22.1,25\n")
+
+
+@pytest.mark.parametrize("text", [LOG, LOG.replace("NA", "warm"), LOG.replace("NA", "inf"),
+                                  LOG.replace("time [min]", "stamp").replace("\n0,", "\nx,"),
+                                  "time,block,room\n" + "".join(
+                                      f"2026-07-01T00:0{i}+02:00,{20 + i},25\n" for i in range(6)),
+                                  "clock,room\n0,20\n1,21\n"])
+def test_fit_logs_read_the_same_both_ways(tmp_path, monkeypatch, text):
+    path = write(tmp_path, text, "log.csv")
+    fast, slow = both_passes(monkeypatch, lambda: read_log(path, ["block"], ["room"]))
+    assert fast[0] == slow[0], (fast, slow)
+    if fast[0] == "error":
+        assert fast[1] == slow[1]
+        return
+    a, b = fast[1], slow[1]
+    pd.testing.assert_frame_equal(a.values, b.values, check_exact=True)
+    assert np.array_equal(a.time, b.time) and a.start_time == b.start_time
+    assert a.first_time == b.first_time and np.array_equal(a.lines, b.lines)
+
+
+PERIODIC = """title = "periodic start under a logged day"
+[simulation]
+duration = "1 d"
+step = "1 h"
+initial = "periodic"
+[nodes.payload]
+capacity = "50 kJ/K"
+initial = "10 degC"
+[boundaries.out]
+temperature = {{ csv = {{ file = "day.csv", column = "t_out"{repeat} }} }}
+[links.wall]
+between = ["payload", "out"]
+resistance = "2 K/W"
+"""
+
+
+@pytest.mark.parametrize("repeat", ["", ', repeat = "24 h"'])
+def test_periodic_start_under_a_csv_that_does_not_repeat(tmp_path, monkeypatch, cli, repeat):
+    # the refusal is the one of before (the check needs the profile, not its rows: the file is
+    # still read when the scenario is loaded, as `rcsim check` and `rcsim steady` use it too,
+    # but by the numbers-first parse, never as text)
+    day = "\n".join(f"{3600 * h},{18 + 6 * np.sin(2 * np.pi * (h - 9) / 24):.3f}"
+                    for h in range(25))
+    write(tmp_path, "time [s],t_out\n" + day + "\n", "day.csv")
+    write(tmp_path, PERIODIC.format(repeat=repeat), "per.toml")
+
+    def refuse(*args, **kw):
+        raise AssertionError("the text pass ran")
+
+    monkeypatch.setattr(timeseries, "read_csv_text", refuse)
+    result = cli("run", tmp_path / "per.toml")
+    if not repeat:
+        assert result.exit_code == 2
+        assert result.output.strip() == (
+            "error: per.toml: boundaries.out.temperature: a periodic start needs periodic inputs, "
+            "but this profile does not repeat (add repeat = '<period>' or start from given "
+            "temperatures)")
+    else:
+        # repeated daily, the run starts in its periodic regime: the same temperature a day
+        # later (the definition of the periodic regime)
+        assert result.exit_code == 0, result.output
+        import rcsim
+        res = rcsim.load(str(tmp_path / "per.toml")).run()
+        T = res.temperatures["payload"]
+        assert T.loc[86400.0] == pytest.approx(T.loc[0.0], abs=1e-9)

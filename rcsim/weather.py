@@ -45,7 +45,8 @@ from .base import suggest
 from .clock import line_of, parse_time_zone, parse_timestamps, to_instant
 from .errors import DataError, InputError, UnitError
 from .inputfiles import cut, quote_cell
-from .profiles.timeseries import check_separator, first_line, read_capped
+from .profiles.numeric_csv import NumericCSV
+from .profiles.timeseries import check_separator, csv_byte_limit, first_line, read_capped
 from .units import KINDS, to_si
 
 __all__ = ["QUANTITIES", "FRACTION_UNITS", "WeatherRecord", "read_weather"]
@@ -197,6 +198,10 @@ def read_weather(path, columns: Mapping, *, time: str | None = None, time_unit: 
     check_name(irradiance_period, _PERIODS, "irradiance_period", f"{label}: irradiance_period")
     zone = parse_time_zone(time_zone, f"{label}: time_zone")
     gap_limit = None if max_gap is None else _positive_time(max_gap, f"{label}: max_gap")
+    fast = _numbers_first(path, label, columns, time, time_unit, zone, start, gap_limit,
+                          missing_values, irradiance_period)
+    if fast is not None:
+        return fast
     frame = _read_text(path, label)
     headers = _split_headers(list(frame.columns), label)
     tcol = _find_time_column(time, headers, label)
@@ -228,6 +233,96 @@ def read_weather(path, columns: Mapping, *, time: str | None = None, time_unit: 
 
 
 # ------------------------------------------------------------------------------------------
+class _TextNeeded(Exception):
+    """A check of the numbers-first read would quote a cell: the text pass runs instead."""
+
+
+class _Unquoted:
+    """Stands for a column's text in the numbers-first read, where a check that fails would
+    quote a cell: reading one means the text pass must run (it finds and quotes the same)."""
+
+    class _Cells:
+        def __getitem__(self, i):
+            raise _TextNeeded
+
+    iloc = _Cells()
+
+
+def _numbers_first(path, label, columns, time, time_unit, zone, start, gap_limit,
+                   missing_values, irradiance_period) -> WeatherRecord | None:
+    """The record from the numbers parsed at once (:mod:`rcsim.profiles.numeric_csv`), or None
+    where the text pass must run: a file that parse cannot vouch for, or any check that would
+    quote a cell or fails before the rows are read. The checks are the text pass's, in its
+    order, on the same values."""
+    import csv
+
+    import pandas as pd
+
+    path = os.fspath(path)
+    if os.path.isdir(path):
+        return None
+    fast = NumericCSV.open(path, csv_byte_limit()[0])
+    if fast is None:
+        return None
+    try:
+        with open(path, "rb") as fh:
+            names = _header_of(fh, label)      # as the text pass names the columns
+        headers = _split_headers(names, label)
+        tcol = _find_time_column(time, headers, label)
+        specs = _column_specs(columns, headers, tcol, label) if len(headers) > 1 else None
+    except (InputError, UnicodeDecodeError, csv.Error, StopIteration):
+        return None
+    if specs is None or len(names) != len(fast.names):
+        return None
+    at = dict(zip(names, fast.names))          # the text pass's name -> the parse's
+    first = pd.to_numeric(pd.Series([fast.first_row[names.index(tcol)]]), errors="coerce")
+    numeric_time = bool(np.isfinite(first.to_numpy(dtype=float)).all())
+    text_columns = () if numeric_time else (at[tcol],)
+    frame = fast.parse(text_columns)
+    others = tuple(at[h] for h in names if h != tcol and h not in
+                   {spec[0] for spec in specs.values()})
+    if frame is None and others:                # a column not mapped may hold text
+        frame = fast.parse(text_columns + others)
+    if frame is None:
+        return None
+    try:
+        if numeric_time:
+            times = frame[at[tcol]].to_numpy(dtype=float)
+            if not np.isfinite(times).all():
+                return None
+            seconds, stamps, origin = _read_times(pd.Series(times), headers[tcol], time_unit,
+                                                  zone, start, label, tcol)
+        else:
+            text = frame[at[tcol]].str.strip()
+            seconds, stamps, origin = _read_times(text, headers[tcol], time_unit, zone, start,
+                                                  label, tcol)
+        _check_increasing(seconds, _Unquoted(), label, tcol)
+        step = float(np.median(np.diff(seconds))) if seconds.size > 1 else 0.0
+        _check_time_gaps(seconds, step, gap_limit, _Unquoted(), label)
+        flags = _flags(missing_values, f"{label}: missing_values")
+        values, filled = {}, {}
+        for quantity, (column, (offset, factor), kind) in specs.items():
+            raw = frame[at[column]].to_numpy(dtype=float, copy=True)
+            if np.isinf(raw).any():             # not a number: the text pass names it
+                return None
+            gap = np.isnan(raw)                 # an empty cell, a gap as in the text pass
+            if flags.size:
+                raw[np.isin(raw, flags)] = np.nan
+            raw[gap] = np.nan
+            converted = offset + factor * raw
+            _check_range(converted, kind, _Unquoted(), label, column, quantity)
+            values[quantity], filled[quantity] = _fill(converted, seconds, gap_limit, label,
+                                                       column)
+    except _TextNeeded:
+        return None
+    shift = {"instant": 0.0, "ending": -0.5 * step, "beginning": 0.5 * step}[irradiance_period]
+    shifts = {q: shift for q in values if q in IRRADIANCE and shift != 0.0}
+    return WeatherRecord(seconds=seconds, timestamps=stamps, start=origin, values=values,
+                         kinds={q: spec[2] for q, spec in specs.items()},
+                         columns={q: spec[0] for q, spec in specs.items()}, shifts=shifts,
+                         step=step, source=label, filled=filled)
+
+
 def _read_text(path, label):
     import pandas as pd
 

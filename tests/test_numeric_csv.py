@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from rcsim.errors import DataError
+from rcsim.errors import DataError, InputError
 from rcsim.fitting import read_log
 from rcsim.profiles import Table, numeric_csv, read_time_series, timeseries
 
@@ -280,3 +280,95 @@ def test_periodic_start_under_a_csv_that_does_not_repeat(tmp_path, monkeypatch, 
         res = rcsim.load(str(tmp_path / "per.toml")).run()
         T = res.temperatures["payload"]
         assert T.loc[86400.0] == pytest.approx(T.loc[0.0], abs=1e-9)
+
+
+# -- weather records: the same numbers-first read (rcsim.weather) ------------------------------
+from rcsim import weather  # noqa: E402
+
+W_COLUMNS = {"air_temperature": "T_air", "wind_speed": "wind"}
+HOURS = "".join(f"2026-01-0{1 + h // 24}T{h % 24:02d}:00,{2 + 0.5 * (h % 7)},{h % 5}\n"
+                for h in range(30))
+WEATHER = {
+    "timestamps": ("time,T_air,wind\n" + HOURS, {}),
+    "timestamps_zone": ("time,T_air,wind\n" + HOURS, dict(time_zone="Europe/Zurich")),
+    "timestamps_utc": ("time,T_air,wind\n" + HOURS.replace(":00,", ":00Z,"), {}),
+    "units_in_headers": ("time,T_air [degF],wind [km/h]\n" + HOURS, {}),
+    "unit_in_mapping": ("time,T_air,wind\n" + HOURS,
+                        dict(columns={"air_temperature": {"column": "T_air", "unit": "degF"},
+                                      "wind_speed": "wind"})),
+    "units_disagree": ("time,T_air [degF],wind\n" + HOURS,
+                       dict(columns={"air_temperature": {"column": "T_air", "unit": "degC"},
+                                     "wind_speed": "wind"})),
+    "elapsed_hours": ("time [h],T_air,wind\n0,1,2\n1,2,3\n2,3,4\n", {}),
+    "elapsed_with_start": ("t,T_air,wind\n0,1,2\n1,2,3\n2,3,4\n",
+                           dict(time_unit="h", start="2026-07-01T00:00", time_zone="+02:00")),
+    "elapsed_without_unit": ("t,T_air,wind\n0,1,2\n1,2,3\n", {}),
+    "empty_cell_no_max_gap": ("time [h],T_air,wind\n0,1,2\n1,,3\n2,3,4\n", {}),
+    "empty_cell_filled": ("time [h],T_air,wind\n0,1,2\n1,,3\n2,3,4\n", dict(max_gap="3 h")),
+    "empty_cell_at_the_end": ("time [h],T_air,wind\n0,1,2\n1,2,3\n2,,4\n", dict(max_gap="3 h")),
+    "na_text": ("time [h],T_air,wind\n0,1,2\n1,NA,3\n2,3,4\n", dict(max_gap="3 h")),
+    "flag": ("time [h],T_air,wind\n0,1,2\n1,-9999,3\n2,3,4\n",
+             dict(max_gap="3 h", missing_values=[-9999])),
+    "flag_not_listed": ("time [h],T_air,wind\n0,1,2\n1,-9999,3\n2,3,4\n", {}),
+    "text_value": ("time [h],T_air,wind\n0,1,2\n1,warm,3\n2,3,4\n", {}),
+    "infinite_value": ("time [h],T_air,wind\n0,1,2\n1,inf,3\n2,3,4\n", {}),
+    "negative_wind": ("time [h],T_air,wind\n0,1,2\n1,2,-3\n2,3,4\n", {}),
+    "repeated_time": ("time [h],T_air,wind\n0,1,2\n1,2,3\n1,3,4\n", {}),
+    "step_gap": ("time [h],T_air,wind\n0,1,2\n1,2,3\n2,3,4\n9,3,4\n", {}),
+    "bom": ("\ufefftime [h],T_air,wind\n0,1,2\n1,2,3\n", {}),
+    "bom_time_named": ("\ufefftime [h],T_air,wind\n0,1,2\n1,2,3\n", dict(time="time")),
+    "duplicate_names": ("time [h],T_air,wind,wind\n0,1,2,2\n1,2,3,3\n", {}),
+    "note_column": ("time [h],T_air,note,wind\n0,1,door open,2\n1,2,,3\n", {}),
+    "one_column": ("time [h]\n0\n1\n", {}),
+    "no_such_column": ("time [h],T_air,speed\n0,1,2\n1,2,3\n", {}),
+    "semicolons": ("time [h];T_air;wind\n0;1;2\n1;2;3\n", {}),
+    "ragged": ("time [h],T_air,wind\n0,1,2\n1,2,3,4\n", {}),
+    "header_only": ("time [h],T_air,wind\n", {}),
+    "irradiance_ending": ("time,T_air,wind,GHI\n" + HOURS.replace("\n", ",100\n"),
+                          dict(columns={**W_COLUMNS, "global_horizontal": "GHI"},
+                               irradiance_period="ending")),
+}
+
+
+def record_outcome(read):
+    try:
+        return "ok", read()
+    except InputError as err:
+        return "error", f"{type(err).__name__}: {err}"
+
+
+@pytest.mark.parametrize("name", list(WEATHER))
+def test_weather_numbers_first_gives_what_the_text_pass_gives(tmp_path, monkeypatch, name):
+    text, kwargs = WEATHER[name]
+    kwargs = {"columns": W_COLUMNS, **kwargs}
+    path = write(tmp_path, text, "w.csv")
+    fast = record_outcome(lambda: weather.read_weather(path, **kwargs))
+    with monkeypatch.context() as m:
+        m.setattr(numeric_csv, "ENABLED", False)
+        slow = record_outcome(lambda: weather.read_weather(path, **kwargs))
+    assert fast[0] == slow[0], (fast, slow)
+    if fast[0] == "error":
+        assert fast[1] == slow[1]
+        return
+    a, b = fast[1], slow[1]
+    assert np.array_equal(a.seconds, b.seconds)
+    assert (a.timestamps is None and b.timestamps is None) or a.timestamps.equals(b.timestamps)
+    assert a.start == b.start and a.step == b.step and a.shifts == b.shifts
+    assert a.filled == b.filled and a.kinds == b.kinds and a.columns == b.columns
+    assert list(a.values) == list(b.values)
+    for q in a.values:
+        assert np.array_equal(a.values[q].view(np.int64), b.values[q].view(np.int64))
+
+
+@pytest.mark.parametrize("name", ["timestamps_zone", "units_in_headers", "elapsed_hours",
+                                  "empty_cell_filled", "flag", "note_column", "bom"])
+def test_a_clean_weather_record_is_never_read_as_text(tmp_path, monkeypatch, name):
+    text, kwargs = WEATHER[name]
+    path = write(tmp_path, text, "w.csv")
+
+    def refuse(*args, **kw):
+        raise AssertionError("the text pass ran")
+
+    monkeypatch.setattr(weather, "_read_text", refuse)
+    record = weather.read_weather(path, **{"columns": W_COLUMNS, **kwargs})
+    assert record.seconds.size >= 2

@@ -588,10 +588,6 @@ def _box(x, y, ha, va, w, h) -> tuple:
     return (x0 - _PAD, y0 - _PAD, x0 + w + _PAD, y0 + h + _PAD)
 
 
-def _overlap(a, b) -> float:
-    return max(0.0, min(a[2], b[2]) - max(a[0], b[0])) * max(0.0, min(a[3], b[3]) - max(a[1], b[1]))
-
-
 def _aligned(direction) -> tuple:
     """Alignment of a text set off from its anchor towards ``direction`` (a unit vector)."""
     dx, dy = direction
@@ -613,30 +609,29 @@ def _place_labels(ax, labels, boxes, lines, limits, rounds: int = 3) -> None:
     with fallback_fonts(fig):
         extents = [lab.artist.get_window_extent(renderer) for lab in labels]
     pts = np.concatenate(lines) if lines else np.zeros((0, 2))
+    fixed = np.asarray(boxes, dtype=float).reshape(-1, 4)
     (lx0, lx1), (ly0, ly1) = limits
-    options = []          # per label: (fixed cost, box) of each candidate
+    options = []          # per label: (fixed cost of each candidate, its box) as arrays
     for lab, ext in zip(labels, extents):
         w, h = ext.width / fig.dpi, ext.height / fig.dpi
-        mine = []
-        for x, y, ha, va, cost in lab.candidates:
-            b = _box(x, y, ha, va, w, h)
-            cost += _clash(b, boxes)
-            inside = ((pts[:, 0] > b[0]) & (pts[:, 0] < b[2]) & (pts[:, 1] > b[1])
-                      & (pts[:, 1] < b[3]))
-            cost += 8.0 * _STEP * np.count_nonzero(inside)      # [in] of line under the text
-            cost += 2.0 * (max(0.0, lx0 - b[0]) + max(0.0, b[2] - lx1)
-                           + max(0.0, ly0 - b[1]) + max(0.0, b[3] - ly1))
-            mine.append((cost, b))
-        options.append(mine)
-    chosen: list = [None] * len(labels)
+        b = np.array([_box(x, y, ha, va, w, h) for x, y, ha, va, _ in lab.candidates])
+        cost = np.array([c[4] for c in lab.candidates], dtype=float) + _clash(b, fixed)
+        inside = ((pts[None, :, 0] > b[:, None, 0]) & (pts[None, :, 0] < b[:, None, 2])
+                  & (pts[None, :, 1] > b[:, None, 1]) & (pts[None, :, 1] < b[:, None, 3]))
+        cost += 8.0 * _STEP * inside.sum(axis=1)             # [in] of line under the text
+        cost += 2.0 * (np.maximum(0.0, lx0 - b[:, 0]) + np.maximum(0.0, b[:, 2] - lx1)
+                       + np.maximum(0.0, ly0 - b[:, 1]) + np.maximum(0.0, b[:, 3] - ly1))
+        options.append((cost, b))
+    chosen = np.full(len(labels), -1)
     for sweep in range(rounds + 1):
         moved = False
-        for i, mine in enumerate(options):
-            others = [options[j][c][1] for j, c in enumerate(chosen) if c is not None and j != i]
-            costs = [cost + _clash(b, others) for cost, b in mine]
+        for i, (cost, b) in enumerate(options):
+            others = np.array([options[j][1][c] for j, c in enumerate(chosen)
+                               if c >= 0 and j != i]).reshape(-1, 4)
+            costs = cost + _clash(b, others)
             best = int(np.argmin(costs))
-            if chosen[i] is None or costs[best] < costs[chosen[i]] - 1e-9:
-                moved = moved or chosen[i] is not None
+            if chosen[i] < 0 or costs[best] < costs[chosen[i]] - 1e-9:
+                moved = moved or chosen[i] >= 0
                 chosen[i] = best
         if sweep and not moved:
             break
@@ -647,15 +642,16 @@ def _place_labels(ax, labels, boxes, lines, limits, rounds: int = 3) -> None:
         lab.artist.set_va(va)
 
 
-def _clash(box, placed) -> float:
-    """What overlapping the boxes ``placed`` costs: a fixed price per box touched, and more by
-    the area [in^2] covered."""
-    total = 0.0
-    for q in placed:
-        area = _overlap(box, q)
-        if area > 0:
-            total += 60.0 + 400.0 * area
-    return total
+def _clash(candidates: np.ndarray, placed: np.ndarray) -> np.ndarray:
+    """What overlapping the boxes ``placed`` (m x 4) costs each of the boxes ``candidates``
+    (k x 4): a fixed price per box touched, and more by the area [in^2] covered."""
+    if not len(placed):
+        return np.zeros(len(candidates))
+    c, q = candidates[:, None, :], placed[None, :, :]
+    area = (np.clip(np.minimum(c[..., 2], q[..., 2]) - np.maximum(c[..., 0], q[..., 0]), 0, None)
+            * np.clip(np.minimum(c[..., 3], q[..., 3]) - np.maximum(c[..., 1], q[..., 1]), 0,
+                      None))
+    return (np.where(area > 0, 60.0 + 400.0 * area, 0.0)).sum(axis=1)
 
 
 def network_svg(network, **kwargs) -> str:

@@ -79,6 +79,14 @@ def test_the_report_shows_more_than_the_run_never_infinity(box_sweep):
     assert hold[header.index("50 %")] == "> 24" and hold[header.index("95 %")] == "> 24"
     assert hold[header.index("never left the band")] == "5"
     assert "> 24 h: more than the run's duration" in fig.text_content()
+    # the runs table: each hold time as computed, "> 86400" (s) where it never left the band
+    runs = doc.get_element_by_id("sweep-runs")
+    header = [th.text_content() for th in runs.xpath(".//thead//th")]
+    cells = [tr.xpath("./td")[header.index("hold_time.inside [s]")]
+             for tr in runs.xpath(".//tbody/tr")]
+    assert [c.text_content() for c in cells[3:]] == ["> 86400"] * 5
+    np.testing.assert_array_equal([float(c.get("data-value")) for c in cells[:3]],
+                                  table["hold_time.inside"].to_numpy()[:3])
     assert "\u221e" not in html and not any(t in html.lower() for t in (">inf<", ">nan<"))
 
 

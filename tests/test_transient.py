@@ -14,7 +14,7 @@ from scipy.optimize import brentq
 import rcsim
 from conftest import make_single_node as single_node, make_slab_wall
 
-from rcsim.errors import RcsimWarning
+from rcsim.errors import NetworkError, RcsimWarning
 from rcsim.transient.registry import PATHS
 
 
@@ -371,3 +371,40 @@ def test_exact_path_input_integrals_of_a_very_slow_sine(knot):
     ref = np.array([quad(lambda s: amplitude * np.cos(w * (s - peak)), a, b, epsabs=0,
                          epsrel=1e-13)[0] for a, b in zip(t[:-1], t[1:])])
     assert np.max(np.abs(got - ref) / np.abs(ref)) < 1e-9
+
+
+@pytest.mark.parametrize("dense_start", [120, 0])   # the dense and the sparse solve of the start
+def test_unset_slices_start_on_the_steady_profile_between_given_nodes(monkeypatch, dense_start):
+    import rcsim.transient.initial as initial
+
+    monkeypatch.setattr(initial, "DENSE_START", dense_start)
+    net = rcsim.Network()
+    net.add_boundary("out", temperature=-5.0)
+    net.add_node("a", capacity=1e4, initial=20.0)
+    net.add_node("b", capacity=1e4, initial=0.0)
+    net.add_link("b", "out", resistance=0.5)
+    net.add_link("a", "b", parts=[{"conduction": {"material": "concrete-medium",
+                                                  "thickness": 0.2, "area": 1, "slices": 4}}])
+    res = net.simulate("1 h", "10 min")
+    # steady conduction through a uniform layer (Fourier's law, textbook): the temperature falls
+    # linearly with the resistance crossed; equal slices of R/4 with each node at its slice's
+    # middle sit at (i + 1/2)/4 of the way from a (20 degC) to b (0 degC)
+    start = res.temperatures.iloc[0]
+    for i in range(4):
+        assert start[f"a-b.{i + 1}"] == pytest.approx(20.0 - 20.0 * (i + 0.5) / 4, abs=1e-12)
+
+
+def test_a_group_tied_to_no_given_node_and_no_boundary_cannot_start():
+    # two massless nodes joined by a sliced layer and linked to nothing else: nothing fixes
+    # their temperatures (K_UU is singular: a Laplacian block with no tie); they used to start
+    # at 0 degC without a word beyond the floating-nodes warning
+    net = rcsim.Network()
+    net.add_boundary("out", temperature=10.0)
+    net.add_node("m", capacity=1000.0, initial=20.0)
+    net.add_link("m", "out", resistance=1.0)
+    net.add_node("a", capacity=0.0)
+    net.add_node("b", capacity=0.0)
+    net.add_link("a", "b", parts=[{"conduction": {"material": "concrete-medium",
+                                                  "thickness": 0.2, "area": 1, "slices": 3}}])
+    with pytest.raises(NetworkError, match="cannot set the initial temperature of 'a'"):
+        net.simulate("1 h", "10 min")

@@ -99,13 +99,23 @@ def _figures(table, oat, target_hold) -> list:
 def _runs_table(table, max_rows):
     columns = [c for c in table.columns if c != "error"]
     frame = table[columns].iloc[:max_rows].copy()
+    # a hold time of a run that did not fail and never left the band: more than the run's
+    # duration, said so in the cell (the table file keeps NaN there, see its "missing" note)
+    duration = table.attrs.get("duration")
+    never = f"> {number_text(float(duration), 6)}" if duration else "> the run"
+    ran = succeeded(table)[:max_rows]
+    for c in columns:
+        if c.startswith("hold_time."):
+            values = frame[c].to_numpy(dtype=float)
+            frame[c] = [never if ok and np.isnan(v) else v for v, ok in zip(values, ran)]
     frame.columns = [f"{c} [{_unit(table, c)}]" if _unit(table, c) else c for c in columns]
     if "error" in table.columns:
         frame["error"] = table["error"].iloc[:max_rows].fillna("").astype(str).to_numpy()
     note = (f"The first {max_rows} of {len(table)} runs; the table file holds them all."
             if len(table) > max_rows else "")
     return table_from_frame(frame, "The runs (inputs in SI units, degC for temperatures; hold "
-                                   "and out times in s; empty: never left the band)",
+                                   f"and out times in s; {never}: never left the band within "
+                                   "the run; empty: the run failed, see its error)",
                             id="sweep-runs", index="run", note=note,
                             missing={c: "" for c in frame.columns})
 

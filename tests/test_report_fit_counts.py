@@ -86,3 +86,22 @@ def test_without_a_held_out_span_every_value_is_fitted():
     counts = fit.value_counts()
     assert counts.loc["block"].to_dict() == {"measured": 678, "fitted": 678, "held out": 0}
     assert fit.values_text() == "678 measured values, all fitted"
+
+
+def test_a_comparison_of_candidates_says_the_same(cli):
+    # both candidates of scenarios/ fitted to the identification log with its last fifth held
+    # out: 721 logged values of 'inside', 145 of them in the last 20 % of the time (counted
+    # from the log by pandas alone)
+    log = pd.read_csv(os.path.join(SCENARIOS, "identify-case-log.csv"))
+    t = pd.to_datetime(log.iloc[:, 0])
+    s = (t - t.iloc[0]).dt.total_seconds().to_numpy()
+    has = log["inside"].notna().to_numpy()
+    held = int((has & (s >= s[-1] - 0.2 * (s[-1] - s[0]))).sum())
+    assert (int(has.sum()), held) == (721, 145)
+    r = cli("fit", os.path.join(SCENARIOS, "case-one-node.toml"),
+            os.path.join(SCENARIOS, "identify-case-log.csv"), "--candidate",
+            os.path.join(SCENARIOS, "case-two-nodes.toml"), "--holdout", "0.2")
+    assert r.exit_code == 0, r.output
+    assert "2 candidates compared (measurement noise; 576 measured values fitted, 145 held out " \
+           "each)" in r.output
+    assert "721 measured values (inside): 576 fitted, 145 held out" in r.output

@@ -122,6 +122,16 @@ def _noise_lines(res) -> list[str]:
     return ["  noise (Kristensen, Madsen & Jorgensen 2004 stochastic model): " + ", ".join(parts)]
 
 
+def _compared_values(cmp) -> str:
+    """The values each candidate was fitted to, and those held out where there are."""
+    points = int(cmp.table["points"].iloc[0])
+    fit = cmp.selected_fit
+    records = list(fit.records.values()) if hasattr(fit, "records") else [fit]
+    held = sum(int(r.value_counts()["held out"].sum()) for r in records)
+    return f"{points} measured values fitted, {held} held out" if held else \
+        f"{points} measured values"
+
+
 def _held_points(res) -> int:
     held = res.holdout_residuals
     if held is None:
@@ -215,8 +225,7 @@ def format_comparison(cmp) -> str:
              "selected" if r["selected"] else ""] for name, r in t.iterrows()]
     noise = "process noise (Kalman filter)" if (t["noise"] == "process").all() else \
         "measurement noise" if (t["noise"] == "measurement").all() else "mixed noise models"
-    lines = [f"{len(t)} candidates compared ({noise}; {t['points'].iloc[0]} measured values "
-             "each):"]
+    lines = [f"{len(t)} candidates compared ({noise}; {_compared_values(cmp)} each):"]
     lines += _table(rows, header)
     lines.append(f"selected {cmp.selected!r} by {_CRITERIA[cmp.criterion]}: {cmp.reason}")
     return "\n".join(lines)

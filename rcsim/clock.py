@@ -128,7 +128,7 @@ def parse_timestamps(text, zone: tzinfo | None, label: str, column: str):
     """
     import pandas as pd
 
-    parts = text.str.extract(_STAMP)
+    parts = split_stamps(text)
     unmatched = parts["clock"].isna().to_numpy()
     if unmatched.any():   # no time of day: a date alone, or not a timestamp at all
         dates = pd.to_datetime(text[unmatched], format="ISO8601", errors="coerce")
@@ -162,6 +162,40 @@ def parse_timestamps(text, zone: tzinfo | None, label: str, column: str):
         return index
     return _localize(index, zone, text, f"time column {quote_cell(column)}",
                      lambda i: f"{label} line {line_of(i)}")
+
+
+#: every ASCII digit to '0': a stamp's shape, which decides how :data:`_STAMP` splits it
+_SHAPE = str.maketrans("0123456789", "0000000000")
+
+
+def split_stamps(text):
+    """``text.str.extract(_STAMP)`` (columns ``clock`` and ``offset``), with the pattern matched
+    once per *shape* of stamp (digits written as 0) instead of once per row: a shape decides
+    where, and whether, the pattern splits every stamp of that shape, as the pattern only
+    tells digits from other characters. A column of a million stamps of one or two shapes is
+    split in a fraction of the time; a column of many shapes is split row by row as before."""
+    import pandas as pd
+
+    shapes = text.str.translate(_SHAPE)
+    codes, uniques = pd.factorize(shapes)
+    if (codes < 0).any() or len(uniques) > 64:
+        return text.str.extract(_STAMP)
+    cells = text.to_numpy(dtype=object)
+    out = {"clock": np.full(cells.size, np.nan, dtype=object),
+           "offset": np.full(cells.size, np.nan, dtype=object)}
+    for k, shape in enumerate(uniques):
+        match = _STAMP.search(shape)
+        if match is None:
+            continue
+        rows = np.flatnonzero(codes == k)
+        for group, column in out.items():
+            start, end = match.span(group)
+            if start == 0 and end == len(shape):
+                column[rows] = cells[rows]
+            elif start >= 0:
+                column[rows] = [cell[start:end] for cell in cells[rows]]
+    return pd.DataFrame({group: pd.Series(column, index=text.index, dtype=text.dtype)
+                         for group, column in out.items()})
 
 
 def _refuse_unparsed(stamps, text, label, column) -> None:

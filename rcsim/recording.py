@@ -28,7 +28,7 @@ from .limits import LIMIT_COLUMNS, ExcursionTracker
 __all__ = ["Chunk", "MemorySink", "H5Sink", "Recorder", "RecordingPlan", "EnergyTotals",
            "NonlinearFlows",
            "write_frame", "read_frame", "write_names", "read_names", "names_dataset",
-           "NAMES_ATTRIBUTE_BYTES"]
+           "NAMES_ATTRIBUTE_BYTES", "work_array", "work_arrays_kept", "release_work_arrays"]
 
 
 #: The limits table of a run without limits, made once (:meth:`Recorder.limits_table`).
@@ -44,7 +44,8 @@ def work_array(key: str, shape: tuple) -> np.ndarray:
     """A contiguous float scratch array of ``shape`` under the name ``key``, whatever it last
     held. Kept per thread from chunk to chunk and from run to run: touching fresh memory costs
     a page fault per 4 KiB (about 3 microseconds each on a virtual machine), more than the
-    arithmetic done in a chunk's arrays. Whoever asks for ``key`` writes it before reading."""
+    arithmetic done in a chunk's arrays. Whoever asks for ``key`` writes it before reading.
+    :func:`release_work_arrays` gives them back."""
     size = 1
     for d in shape:
         size *= int(d)
@@ -59,6 +60,29 @@ def work_array(key: str, shape: tuple) -> np.ndarray:
         else:
             store.pop(key, None)
     return flat[:size].reshape(shape)
+
+
+def work_arrays_kept() -> int:
+    """Bytes of scratch arrays this thread keeps for the next run (:func:`work_array`): up to
+    :data:`WORK_KEEP` numbers (16 MB) for each of a handful of names, so at most about 80 MB."""
+    store = getattr(_WORK, "arrays", None) or {}
+    return int(sum(a.nbytes for a in store.values()))
+
+
+def release_work_arrays() -> int:
+    """Drop the scratch arrays this thread keeps between runs and return their bytes.
+
+    A run keeps them because fresh memory costs a page fault per 4 KiB; a program that has
+    finished running (or runs rarely, in a long-lived process) can give the memory back with
+    ``rcsim.recording.release_work_arrays()``. The next run makes them again. Results never
+    refer to these arrays, so every result stays valid.
+    """
+    store = getattr(_WORK, "arrays", None)
+    if not store:
+        return 0
+    freed = work_arrays_kept()
+    store.clear()
+    return freed
 
 
 class Chunk:

@@ -372,3 +372,30 @@ def test_a_clean_weather_record_is_never_read_as_text(tmp_path, monkeypatch, nam
     monkeypatch.setattr(weather, "_read_text", refuse)
     record = weather.read_weather(path, **{"columns": W_COLUMNS, **kwargs})
     assert record.seconds.size >= 2
+
+
+# -- timestamps: split once per shape (rcsim.clock.split_stamps) --------------------------------
+STAMPS = ["2021-07-01T12:00", "2021-07-01T12:00Z", "2021-07-01 12:00:30+02:00", "2021-07-01T9:05",
+          "2021-07-01T12:00:00.123456-0530", "2021-07-01T12:00 +02", "2021-07-01", "noon",
+          "2021-07-01T12:00z", "2021-07-01T12:00+2", "2021-07-01T12", "", "12:00",
+          "2021-07-01T12:00:00,5Z", "2021-07-01T\u0661\u0662:00", "2021-07-01T12:00+02:00:00",
+          "2021-13-45T99:99", "x T1", "2021-07-01T12:00\n+02:00", "2021-07-01T12:00 "]
+
+
+@pytest.mark.parametrize("many", [False, True])
+def test_stamps_split_by_shape_as_the_pattern_splits_each_row(many):
+    # the reference: the pattern matched on every row (pandas str.extract); each stamp above
+    # repeated with other digits, in a column of few shapes and of more shapes than are grouped
+    from rcsim.clock import _STAMP, split_stamps
+
+    rng = random.Random(3)
+    cells = []
+    for _ in range(40 if not many else 10):
+        for stamp in STAMPS:
+            cells.append("".join(rng.choice("0123456789") if c.isdigit() and c.isascii() else c
+                                 for c in stamp))
+    if many:   # more than 64 shapes: the row-by-row split
+        cells += [f"2021-07-01T12:00{'0' * k}" for k in range(80)]
+    for dtype in (str, object):
+        text = pd.Series(cells, dtype=dtype)
+        pd.testing.assert_frame_equal(split_stamps(text), text.str.extract(_STAMP))

@@ -127,3 +127,44 @@ def test_rcsim_kernels_run_on_the_threads_it_is_told(monkeypatch):
         threads.current()
     with pytest.raises(rcsim.InputError, match="whole number"):
         threads.limit(-2)
+
+
+def test_scratch_arrays_kept_after_a_run_are_given_back_on_request():
+    import tracemalloc
+
+    from rcsim.recording import release_work_arrays, work_arrays_kept
+    from rcsim.transient.exact import CHUNK_ELEMENTS
+
+    hours = np.arange(0, 30 * 24 + 2) * 3600.0
+    net = rcsim.Network()
+    net.add_boundary("outdoor", temperature=rcsim.Table(hours, 8 + 6 * np.sin(hours / 86400)))
+    net.add_boundary("indoor", temperature=20.0)
+    net.add_node("inner", capacity=2000.0, initial=18.0)
+    net.add_link("indoor", "inner", resistance=0.01, name="film")
+    net.add_link("inner", "outdoor", name="wall", parts=[
+        {"conduction": {"material": "concrete-medium", "thickness": 0.2, "area": 10,
+                        "slices": 49}}])
+    release_work_arrays()
+    tracemalloc.start()
+    try:
+        res = net.simulate("30 d", "10 min")
+        kept = work_arrays_kept()
+        before = tracemalloc.get_traced_memory()[0]
+        freed = release_work_arrays()
+        after = tracemalloc.get_traced_memory()[0]
+    finally:
+        tracemalloc.stop()
+    # the sizes of the arrays themselves: n modes (every node has a capacity), I = 2 inputs;
+    # a chunk of c output intervals (CHUNK_ELEMENTS numbers over n + I rows, a multiple of 32);
+    # the forcing n x (c/16 blocks x 17), the states and inputs (n + I) x c, and two (links x c)
+    # arrays for the heat flows; 8 bytes a number
+    n, I, links = res.temperatures.shape[1], 2, res.heat_flows.shape[1]
+    c = CHUNK_ELEMENTS // (n + I)
+    c -= c % 32
+    assert n == 50 and res.time.size - 1 > c          # full chunks were run
+    expected = 8 * (n * (c // 16) * 17 + (n + I) * c + 2 * links * c)
+    assert kept == freed == expected
+    assert before - after >= 0.99 * expected            # the memory itself went back
+    assert work_arrays_kept() == 0
+    again = net.simulate("30 d", "10 min")               # made again by the next run
+    np.testing.assert_array_equal(again.temperatures.to_numpy(), res.temperatures.to_numpy())

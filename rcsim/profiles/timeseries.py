@@ -406,7 +406,11 @@ def parse_times(col, name, label, start, time_unit) -> TimeParse:
     from ..clock import parse_timestamps
 
     text = col.str.strip()
-    numeric = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
+    # the first row decides; a first row that is no number is a timestamp, and the rest of the
+    # column need not be tried as numbers
+    first = pd.to_numeric(text.iloc[:1], errors="coerce").to_numpy(dtype=float)
+    numeric = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float) \
+        if np.isfinite(first).all() else first
     if np.isfinite(numeric).all():
         unit = time_unit_of(name, time_unit, label)
         factor = to_si(f"1 {unit}", "time", "time_unit")

@@ -13,7 +13,8 @@ with the numbers-first parse (the default) and with the text pass alone
 CSV files before). Ratios are text pass / numbers first. A process that only imports rcsim and
 pandas is the memory baseline.
 
-    python tests/benchmarks/bench_csv.py                 # 6,000,000 and 1,000,000 rows
+    python tests/benchmarks/bench_csv.py                 # 6,000,000 and 1,000,000 rows, and
+                                                         # 1,000,000 rows of timestamps
     python tests/benchmarks/bench_csv.py --rows 1000000  # one size only
 """
 
@@ -62,16 +63,22 @@ resistance = "0.01 K/W"
 """
 
 
-def write_record(path: str, rows: int, days: float = 4000.0) -> None:
-    """``rows`` rows of time [s] and an invented outdoor temperature over ``days``."""
-    t = np.arange(rows) * (days * 86400.0 / rows)
+def write_record(path: str, rows: int, days: float = 4000.0, stamps: bool = False) -> None:
+    """``rows`` rows of time [s] (or ISO-8601 timestamps with a UTC offset, one a minute) and an
+    invented outdoor temperature over ``days``."""
+    t = np.arange(rows) * (days * 86400.0 / rows if not stamps else 60.0)
     temp = 12.0 + 8.0 * np.sin(2 * np.pi * t / (365.25 * 86400)) + 5.0 * np.sin(2 * np.pi * t / 86400)
+    if stamps:
+        import pandas as pd
+
+        clock = pd.Timestamp("2026-01-01T00:00") + pd.to_timedelta(t, unit="s")
+        times = list(clock.strftime("%Y-%m-%dT%H:%M:%S+01:00"))
     with open(path, "w") as fh:
         fh.write("time,t_out\n")
         for a in range(0, rows, 500_000):
             b = min(rows, a + 500_000)
-            fh.write("\n".join(f"{x:.2f},{y:.4f}" for x, y in zip(t[a:b].tolist(),
-                                                                  temp[a:b].tolist())))
+            first = times[a:b] if stamps else [f"{x:.2f}" for x in t[a:b].tolist()]
+            fh.write("\n".join(f"{x},{y:.4f}" for x, y in zip(first, temp[a:b].tolist())))
             fh.write("\n")
 
 
@@ -92,16 +99,17 @@ def best(what, path, fast, repeats) -> dict:
             "rows": ok[0]["rows"]}
 
 
-def bench(rows: int, repeats: int) -> None:
+def bench(rows: int, repeats: int, stamps: bool = False) -> None:
     folder = tempfile.mkdtemp(prefix="rcsim-bench-csv-")
     csv = os.path.join(folder, "outdoor.csv")
-    write_record(csv, rows)
+    write_record(csv, rows, stamps=stamps)
     scenario = os.path.join(folder, "long.toml")
     with open(scenario, "w") as fh:
         fh.write(SCENARIO.format(file="outdoor.csv"))
     size_mb = os.path.getsize(csv) / 1e6
     base = best("import", csv, True, 1)["peak_mb"]
-    print(f"{rows:,} rows, {size_mb:.0f} MB on disk; a process importing rcsim and pandas "
+    print(f"{rows:,} rows{' of timestamps' if stamps else ''}, {size_mb:.0f} MB on disk; "
+          f"a process importing rcsim and pandas "
           f"peaks at {base:.0f} MB (subtracted in 'above import')")
     print(f"  {'read':<10}{'pass':<15}{'wall s':>8}{'peak MB':>9}{'x file':>8}"
           f"{'above import':>14}{'x file':>8}")
@@ -134,12 +142,17 @@ def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--rows", type=int, action="append",
                     help="rows of the file (repeatable; default 6,000,000 and 1,000,000)")
+    ap.add_argument("--stamps", type=int, default=1_000_000,
+                    help="rows of a file of timestamps also read (0: none; both passes split "
+                    "timestamps the same way, rcsim.clock.split_stamps)")
     ap.add_argument("--repeats", type=int, default=3,
                     help="reads with numbers first, best kept (the text pass: one)")
     args = ap.parse_args(argv)
     print(f"load average {os.getloadavg()[0]:.2f} before")
     for rows in args.rows or [6_000_000, 1_000_000]:
         bench(rows, args.repeats)
+    if args.stamps:
+        bench(args.stamps, args.repeats, stamps=True)
     print(f"load average {os.getloadavg()[0]:.2f} after")
 
 

@@ -76,7 +76,10 @@ def format_joint_summary(sc, joint) -> str:
                  f"AIC {joint.aic:.6g}, BIC {joint.bic:.6g} ({joint.n_parameters} values "
                  "estimated)")
     for name, rec in joint.records.items():
-        text = f"  {name}: {rec.values_text()}, RMSE {rec.rmse:.3g} K"
+        counts = rec.value_counts()
+        text = f"  {name}: {rec.n_points} values, RMSE {rec.rmse:.3g} K" if rec.holdout is None \
+            else (f"  {name}: {int(counts['measured'].sum())} values ({rec.n_points} fitted, "
+                  f"{int(counts['held out'].sum())} held out), RMSE {rec.rmse:.3g} K")
         if math.isfinite(rec.holdout_rmse):
             text += f", held-out RMSE {rec.holdout_rmse:.4g} K"
         if math.isfinite(rec.whiteness_p):

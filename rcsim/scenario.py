@@ -117,6 +117,29 @@ class Scenario:
                                 err.hint) from None
             raise in_file(err, self.name) from None
 
+    def check_run(self, *, record=None, solver=None, duration=None, step=None, initial=None):
+        """Every check :meth:`run` makes before it integrates (settings, inputs over the run,
+        start, record, solver, a periodic start's inputs), without integrating; raises what
+        :meth:`run` would raise for them. ``rcsim check`` calls it."""
+        from .transient.driver import check_run
+
+        st = self.settings
+        duration = st.duration if duration is None else duration
+        step = st.step if step is None else step
+        if duration is None or step is None:
+            return
+        try:
+            check_run(self.network, duration, step,
+                      initial=st.initial if initial is None else initial,
+                      solver=st.solver if solver is None else solver,
+                      record=st.record if record is None else record,
+                      rtol=st.rtol, atol=st.atol)
+        except InputError as err:  # as in run(): name the file and the [simulation] key
+            if err.where in _SIM:
+                raise type(err)(err.message, f"{self.name}: simulation.{err.where}",
+                                err.hint) from None
+            raise in_file(err, self.name) from None
+
     def steady(self, at: float = 0.0):
         """The network's steady state (:meth:`rcsim.Network.steady`); errors name the file."""
         try:

@@ -17,6 +17,46 @@ def test_check(cli):
     assert "foam" in r.output and "R = " in r.output
 
 
+_RISING_CSV_RUN = """
+[simulation]
+duration = "48 h"
+step = "10 min"
+initial = "{initial}"
+
+[boundaries.out]
+temperature = {{ csv = {{ file = "rise.csv", column = "T", time = "t" }} }}
+
+[nodes.a]
+capacity = "100 kJ/K"
+
+[links.wall]
+between = ["out", "a"]
+resistance = "0.05 K/W"
+"""
+
+
+@pytest.mark.parametrize("initial, hours, expect", [
+    ("steady", 48, None),                                    # runs: check says ok
+    ("periodic", 48, "a periodic start needs periodic inputs"),  # a rising CSV does not repeat
+    ("steady", 24, "covers 0 s to 86400 s"),                 # the CSV ends at 24 h = 86400 s
+    ("given", 48, "no initial temperature"),                 # node a has no initial value
+])
+def test_check_refuses_what_run_refuses(cli, tmp_path, initial, hours, expect):
+    # check and run must agree: what run refuses before integrating, check refuses too
+    # (common practice for a validating command), with the same one-line message.
+    rows = "".join(f"{3600 * h},{20 + 0.1 * h}\n" for h in range(hours + 1))
+    (tmp_path / "rise.csv").write_text("t,T\n" + rows)
+    scenario = tmp_path / "rise.toml"
+    scenario.write_text(_RISING_CSV_RUN.format(initial=initial))
+    checked = cli("check", str(scenario))
+    ran = cli("run", str(scenario))
+    assert checked.exit_code == ran.exit_code == (0 if expect is None else 2), checked.output
+    if expect is not None:
+        line = checked.output.strip().splitlines()[-1]
+        assert line.startswith("error: ") and expect in line.lower(), checked.output
+        assert line in ran.output
+
+
 def test_steady_and_between(cli):
     r = cli("steady", COLD_BOX, "--between", "payload", "bay")
     assert r.exit_code == 0, r.output

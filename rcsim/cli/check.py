@@ -18,6 +18,7 @@ from .options import allow_absolute_paths_option, load_scenario, scenario_argume
 def check(scenario, allow_absolute_paths):
     """Validate SCENARIO and summarise its network."""
     sc = load_scenario(scenario, allow_absolute_paths)
+    sc.check_run()        # what a run refuses before it integrates, refused here too
     from ..run_warnings import FloatingNodesWarning, network_warnings
 
     found = network_warnings(sc.network)   # nodes with no path to a boundary

@@ -23,7 +23,7 @@ from ..runinfo import RunInfo
 from ..threads import kernels
 from .base import NotSuitable, Progress
 from .exact import CHUNK_ELEMENTS  # noqa: F401 (older imports)
-from .periodic import periodic_start
+from .periodic import _check_grounded, periodic_start
 from .problem import MAX_SAMPLES, build_problem
 from .registry import AUTO, BALANCE_LIMIT, EXACT_LIMIT, PATHS, SOLVERS, load_path
 
@@ -93,6 +93,22 @@ def simulate(network, duration, step, *, initial=None, solver="auto", record=Non
         return _simulate(caught, network, duration, step, initial=initial, solver=solver, record=record,
                          output=output, rtol=rtol, atol=atol, progress=progress,
                          start_time=start_time, scenario_text=scenario_text, times=times)
+
+
+def check_run(network, duration, step, *, initial=None, solver="auto", record=None,
+              rtol=1e-6, atol=1e-6, times=None) -> None:
+    """Every check a run makes before it integrates, without integrating: the settings, the
+    inputs' span, the start (given or steady), what to record, the solver asked for by name,
+    and for a periodic start that every input repeats with one common period and every node
+    reaches a boundary. Raises what :func:`simulate` would raise for them."""
+    with kernels():
+        problem = build_problem(network, duration, step, initial=initial, solver=solver,
+                                record=record, rtol=rtol, atol=atol, times=times)
+        choose_paths(problem, solver)
+        if problem.initial == "periodic":
+            _check_grounded(problem.asm)
+            model = problem.energy_model
+            common_period(model.profiles + model.varying_profiles, "simulation.initial")
 
 
 def _simulate(caught, network, duration, step, *, initial, solver, record, output, rtol, atol, progress,

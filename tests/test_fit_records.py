@@ -169,6 +169,59 @@ def test_records_written_out(tmp_path):
     assert "Log 1: day1.csv" in text and "Log 2: day2.csv" in text
 
 
+def with_hole(log, start_h, end_h):
+    """The log with its block and room cells empty strictly between two rows [h]."""
+    log = log.copy()
+    hole = (log["time"] > start_h * 3600) & (log["time"] < end_h * 3600)
+    log.loc[hole, ["block", "room"]] = np.nan
+    return log
+
+
+@pytest.mark.parametrize("files", [True, False], ids=["files", "tables"])
+def test_warnings_of_several_logs_name_each_log_once(tmp_path, files):
+    # a hole from the 2 h row to the 3 h row of the first log (60 min, longer than the 10 min
+    # allowed: 5 rows of 120 s) and from 4 h to 4.5 h in the second (30 min); counts by
+    # construction. Each warning names its log once, as the fit of one log does (where the
+    # log's own name leads the text)
+    logs = [with_hole(record(6.0, 2, 5, seed=1), 2, 3),
+            with_hole(record(14.0, 1, 3, seed=2), 4, 4.5)]
+    names = ["day1.csv", "day2.csv"] if files else ["record 1", "record 2"]
+    data = logs
+    if files:
+        data = [str(tmp_path / n) for n in names]
+        for path, log in zip(data, logs):
+            log.to_csv(path, index=False)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", FitWarning)
+        res = rcsim.fit(rcsim.loads(BLOCK), data, SHARED, per_record=["nodes.block.initial"],
+                        columns={"heater [W]": "heater"})
+    issued = [str(w.message) for w in caught if issubclass(w.category, FitWarning)]
+    for name, hole in zip(names, ("60 min (from 2 h", "30 min (from 4 h")):
+        for column, what in (("block", "skipped in the residuals"),
+                             ("room", "interpolated linearly across")):
+            text = (f"{name}: column {column!r} has no value for {hole} after the start, "
+                    f"line ")
+            [found] = [t for t in res.warnings if t.startswith(text)]
+            assert found.endswith(what) and found in issued
+    for text in res.warnings:
+        assert "<data>" not in text
+        for name in names:
+            assert text.count(f"{name}:") <= 1, text
+
+
+def test_the_same_warning_of_two_logs_is_given_for_each():
+    # two copies of one log: the per-log warnings (here the residuals' whiteness of a fit with
+    # the resistance held at 1 K/W, 0.67 times the 1.5 K/W that made the log) are the same
+    # text for both logs, and each log gets its own line
+    log = record(6.0, 2, 5, seed=1)
+    res = quiet_fit(rcsim.loads(BLOCK), [log, log.copy()], ["nodes.block.capacity"],
+                    per_record=["nodes.block.initial"], columns={"heater [W]": "heater"})
+    own = [t.split(": ", 1) for t in res.warnings if t.startswith("record ")]
+    by_log = {label: sorted(t for lab, t in own if lab == label)
+              for label in ("record 1", "record 2")}
+    assert by_log["record 1"] and by_log["record 1"] == by_log["record 2"]
+
+
 def test_records_with_process_noise():
     logs = [record(6.0, 2, 5, seed=1, dt=240.0, span=6 * 3600.0),
             record(14.0, 1, 3, seed=2, dt=240.0, span=6 * 3600.0)]

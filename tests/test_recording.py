@@ -154,15 +154,27 @@ def test_scratch_arrays_kept_after_a_run_are_given_back_on_request():
         after = tracemalloc.get_traced_memory()[0]
     finally:
         tracemalloc.stop()
-    # the sizes of the arrays themselves: n modes (every node has a capacity), I = 2 inputs;
-    # a chunk of c output intervals (CHUNK_ELEMENTS numbers over n + I rows, a multiple of 32);
-    # the forcing n x (c/16 blocks x 17), the states and inputs (n + I) x c, and two (links x c)
+    # the sizes of the arrays themselves: n modes (every node has a capacity, eigenvalues from
+    # scipy.linalg.eigh of (K, C)), I = 2 inputs and K = 4 input rows; a chunk of c output
+    # intervals (CHUNK_ELEMENTS numbers over n + I rows, a multiple of 32); the modes split
+    # into n_s scanned ones and fast ones folded over J taps (fast_taps, for 50 recorded
+    # temperatures plus 2 boundary segments and the stored energy); the forcing of the scanned
+    # modes n_s x (c/16 blocks x 17), the stacked rows (n_s + I + 4 J) x c, and two (links x c)
     # arrays for the heat flows; 8 bytes a number
+    import scipy.linalg
+
+    from rcsim.transient.exact_chunks import fast_taps
+
+    asm = net.assemble()
+    lam = scipy.linalg.eigh(asm.K.toarray(), np.diag(asm.capacity), eigvals_only=True)
     n, I, links = res.temperatures.shape[1], 2, res.heat_flows.shape[1]
+    J, fast = fast_taps(np.exp(-600.0 * lam), 4, n + 2 + 1)
+    n_s = n - int(fast.sum())
+    assert J >= 1 and 0 < n_s < n                       # some modes of each kind
     c = CHUNK_ELEMENTS // (n + I)
     c -= c % 32
     assert n == 50 and res.time.size - 1 > c          # full chunks were run
-    expected = 8 * (n * (c // 16) * 17 + (n + I) * c + 2 * links * c)
+    expected = 8 * (n_s * (c // 16) * 17 + (n_s + I + 4 * J) * c + 2 * links * c)
     assert kept == freed == expected
     assert before - after >= 0.99 * expected            # the memory itself went back
     assert work_arrays_kept() == 0

@@ -408,3 +408,70 @@ def test_a_group_tied_to_no_given_node_and_no_boundary_cannot_start():
                                                   "thickness": 0.2, "area": 1, "slices": 3}}])
     with pytest.raises(NetworkError, match="cannot set the initial temperature of 'a'"):
         net.simulate("1 h", "10 min")
+
+
+@pytest.mark.parametrize("scan_rows", [None, 10_000])
+@pytest.mark.parametrize("length", [1, 3, 37, None])
+def test_fast_modes_folded_into_the_outputs_keep_the_closed_form(monkeypatch, length, scan_rows):
+    """Modes that decay below 1e-20 within J output intervals are not scanned: their states are
+    their last J forcings, folded into the output products, with the start state's decay over
+    the first J samples of each chunk. Independent nodes on one ramping boundary (time constants
+    5 s to 400 s at 600 s outputs) against the closed form of a first-order lag on a ramp with a
+    power step (textbook, e.g. Ogata, Modern Control Engineering, ramp response of a first-order
+    system): T(t) = r (t - tau) + (T0 + r tau) e^(-t/tau) + R P (1 - e^(-(t - t1)/tau)) after
+    t1. The cost rule takes two taps here; with scanning made dear (``scan_rows``) it takes
+    eight, so modes with e^(-h/tau) up to 3e-3 are folded and their start state weighs in for
+    several samples. Chunks of 1 and 3 intervals (shorter than the taps), 37 and the default.
+    Stored energy against sum C (T - T0) of the closed form; a band crossed long after the
+    start (hold time 30/r + tau); a node starting at 80 degC dips below 0.7 degC for a while
+    (both crossings by brentq on the closed form, the second one between the samples where a
+    folded mode's start state still counts)."""
+    import rcsim.transient.exact_chunks as chunks
+    from rcsim.transient.exact import ExactPropagator
+
+    if length is not None:
+        monkeypatch.setattr(ExactPropagator, "chunk_length", lambda self: length)
+    if scan_rows is not None:
+        monkeypatch.setattr(chunks, "SCAN_ROWS", scan_rows)
+    tau = np.append(np.geomspace(5.0, 400.0, 24), 100.0)
+    T0 = np.append(5.0 + np.arange(24), 80.0)
+    rate, power, t1 = 1e-3, 50.0, 3600.0
+    net = rcsim.Network()
+    net.add_boundary("amb", temperature=rcsim.Table([0.0, 86400.0], [0.0, 86.4]))
+    for i, (ti, t0) in enumerate(zip(tau, T0)):
+        net.add_node(f"n{i}", capacity=float(ti), initial=float(t0))
+        net.add_link("amb", f"n{i}", resistance=1.0)
+    net.add_source("n7", power=rcsim.Steps([0.0, t1], [0.0, power]))
+    net.add_limit("n3", max=30.0)
+    net.add_limit("n8", max=30.0)
+    net.add_limit("n24", min=0.7)
+    res = net.simulate("1 d", "10 min", solver="exact")
+
+    def closed_form(t):
+        t = np.asarray(t, dtype=float)[:, None]
+        T = rate * (t - tau) + (T0 + rate * tau) * np.exp(-t / tau)
+        T[:, 7] += np.where(t[:, 0] >= t1, power * -np.expm1(-np.clip(t[:, 0] - t1, 0, None)
+                                                              / tau[7]), 0.0)
+        return T
+
+    ref = closed_form(res.time)
+    # rounding of temperatures of tens of degC: a few 1e-14 K (a fast mode's start state left
+    # out of its first samples shows as 3e-10 K with two taps)
+    assert np.abs(res.temperatures.to_numpy() - ref).max() < 1e-12
+    assert res.energy_balance < 1e-13
+    stored = (tau * (ref - T0)).sum(axis=1)                    # C = tau (R = 1 K/W)
+    scale = np.abs(stored).max()
+    assert np.abs(res.energy["stored"].to_numpy() - stored).max() < 1e-12 * scale
+    limits = res.limits.set_index("node")
+    assert limits.loc["n3", "hold_time [s]"] == pytest.approx(30.0 / rate + tau[3], abs=1e-6)
+    assert limits.loc["n8", "hold_time [s]"] == pytest.approx(30.0 / rate + tau[8], abs=1e-6)
+    dip = lambda t: closed_form([t])[0, 24] - 0.7                # noqa: E731
+    down, up = brentq(dip, 0.0, 670.0, xtol=1e-12), brentq(dip, 670.0, 1200.0, xtol=1e-12)
+    assert 600.0 < up                                           # the second interval
+    assert limits.loc["n24", "hold_time [s]"] == pytest.approx(down, abs=1e-6)
+    assert limits.loc["n24", "time_out [s]"] == pytest.approx(up - down, abs=1e-6)
+    # the run took the fast modes this test is about: two taps (eight when scanning is dear),
+    # some modes scanned
+    J, fast = chunks.fast_taps(np.exp(-600.0 / tau), 4, 2 * tau.size + 1)
+    assert J == (2 if scan_rows is None else 8) and 0 < fast.sum() < tau.size
+    assert fast[24] == (scan_rows is not None)

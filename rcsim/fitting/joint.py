@@ -10,7 +10,7 @@ import pandas as pd
 
 from ..errors import InputError
 from .diagnostics import information_criteria
-from .notes import Notes
+from .notes import Notes, labelled
 from .result import display_unit, write_text_atomic
 from .statistics import (Uncertainty, correlation_matrix, correlation_warnings, estimate_warnings,
                          estimates_table)
@@ -145,10 +145,12 @@ def joint_result(records, params, x, cov, se, results, loglik, k, n, notes: Note
     notes.extend(estimate_warnings(params, est, unc))
     notes.extend(correlation_warnings(params, corr))
     for rec, res in zip(records, results):
+        # a log's own warnings name it once; one the whole fit already gives is not repeated,
+        # and the same text about two logs is given for each
         for text, category in zip(res.warnings, res._categories):
-            if text not in notes.texts and not any(text == t.split(": ", 1)[-1]
-                                                   for t in notes.texts):
-                notes.add(f"{rec.label}: {text}", category)
+            text_of_log = labelled(rec.label, text, rec.log.name)
+            if text not in notes.texts and text_of_log not in notes.texts:
+                notes.add(text_of_log, category)
     aic, bic = information_criteria(loglik, k, n)
     squares = np.concatenate([r.residuals.to_numpy(dtype=float).ravel() for r in results])
     squares = squares[np.isfinite(squares)] ** 2

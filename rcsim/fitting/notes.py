@@ -6,7 +6,7 @@ from dataclasses import dataclass, field
 
 from ..errors import RcsimWarning
 
-__all__ = ["FitWarning", "Notes"]
+__all__ = ["FitWarning", "Notes", "labelled"]
 
 
 class FitWarning(RcsimWarning):
@@ -30,3 +30,16 @@ class Notes:
 
     def __contains__(self, text) -> bool:
         return text in self.texts
+
+
+def labelled(label: str, text: str, name: str | None = None) -> str:
+    """``text`` as a note about the log ``label`` of a fit of several logs, naming the log once.
+
+    A text that already starts with ``label: `` is kept; one that starts with the reader's own
+    name for the log (``name``: its file name, or ``<data>`` for a table) has it replaced by
+    ``label``; any other text gets ``label: `` in front.
+    """
+    for prefix in (label, name):
+        if prefix and text.startswith(f"{prefix}: "):
+            return f"{label}: {text[len(prefix) + 2:]}"
+    return f"{label}: {text}"

@@ -29,7 +29,7 @@ from .candidates import FitSpec
 from .holdout import parse_holdout
 from .joint import JointFit, joint_result
 from .logs import gap_notes
-from .notes import Notes
+from .notes import Notes, labelled
 from .parameters import ParameterSet, make_parameters
 from .problem import Problem, Run, Search, column_weights, run_least_squares, search
 from .procedure import check_noise, check_starts, model_for, read_for
@@ -110,7 +110,8 @@ def prepare_records(sc, datas, spec: FitSpec, read_settings: dict, solver: str, 
         span = parse_holdout(holdout, log.time)
         if span is not None:
             mask &= ~span.mask(log.time)[:, None]
-        notes.extend(f"{label}: {n}" for n in gap_notes(log) + params.start_from_log(log, Y))
+        notes.extend(labelled(label, n, log.name)
+                     for n in gap_notes(log) + params.start_from_log(log, Y))
         index = np.concatenate([np.arange(len(shared)),
                                 len(shared) + r * len(own) + np.arange(len(own))]).astype(int)
         records.append(Record(label, sc, log, model, params, index, Y, mask, span))

@@ -6,17 +6,27 @@ input knots fall on output times), with the n modes as rows and time along each 
 
 * the inputs' piecewise-linear parts and sines at the output times form a few rows ``X``
   (K = 2 inputs + 2 sines rows), and the modal forcing is one product ``G = M_g X`` (n x c);
-* the recurrence ``z[k+1] = exp(-lam h) z[k] + G[k]`` runs along the rows in blocks of 16
-  (:meth:`ModalRunner._scan`): the block ends from zero start come straight from the input rows
-  (one small product), are chained one level up (:func:`modes_major_recurrence`), and each
-  block's start state rides in a spare column of the forcing, so the states are one batched
-  product with ``[triangular powers; a^(j+1)]`` per mode; no Python loop over samples or modes;
-* temperatures of the output nodes are one product ``[A D] [Z; w^T]`` (nodes x c) written
-  straight into the recorder's column-major history (no transposing copy, no second pass);
+* *fast* modes, those whose decay over J intervals exp(-lam J h) is at most 1e-20
+  (:data:`FAST_DECAY`, far below the rounding of a double), need no recurrence: their state is
+  the sum of their last J forcings, ``z[k+1] = sum_j a^j (M_g X)[:, k-j]``, so they fold into
+  the output products as J shifted copies of the input rows (K J rows instead of one row per
+  mode), with their start state's decay over a chunk's first J samples added exactly
+  (:func:`fast_taps` picks J by cost; on a 50-node wall with 10-minute outputs 33 of 50 modes
+  go this way with J = 4, on a 200-node wall 182 of 200 with J = 3);
+* the recurrence ``z[k+1] = exp(-lam h) z[k] + G[k]`` of the other modes runs along the rows
+  in blocks of 16 (:meth:`ModalRunner._scan`): the block ends from zero start come straight
+  from the input rows (one small product), are chained one level up
+  (:func:`modes_major_recurrence`), and each block's start state rides in a spare column of
+  the forcing, so the states are one batched product with ``[triangular powers; a^(j+1)]`` per
+  mode; no Python loop over samples or modes;
+* temperatures of the output nodes are one product ``[A_S D A_F F_g] [Z_S; w^T; X_J]``
+  (nodes x c; Z_S the scanned modes' states, X_J the shifted input rows) written straight into
+  the recorder's column-major history (no transposing copy, no second pass);
 * the energy through the boundary links needs the time integral of the temperatures at the
   boundary segments only: it is projected first (``A_e`` times the state-integral kernels), so
   the full state integral (n x c) is never formed; with the stored energy ``q Z`` it is one
-  product of the states with ``[A_he; q]``;
+  product of the same stacked rows with ``[A_he; q]`` folded the same way; the states of
+  every mode are formed only when a limit tracker needs them between samples;
 * the forcing and the states live in work arrays kept from chunk to chunk (fresh arrays of a
   few MB per chunk cost more in page faults than the arithmetic done in them).
 
@@ -39,7 +49,8 @@ from ..recording import work_array
 from .exact import phi_functions, sine_integrals
 from .inputs import input_values, linear_parts
 
-__all__ = ["ModalChunk", "ModalRunner", "ModalEvaluator", "modes_major_recurrence"]
+__all__ = ["ModalChunk", "ModalRunner", "ModalEvaluator", "modes_major_recurrence", "fast_taps",
+           "FAST_DECAY"]
 
 _BLOCK = 16
 
@@ -89,6 +100,44 @@ def modes_major_recurrence(a: np.ndarray, G: np.ndarray, z0: np.ndarray, cache=N
     return out[:, :N] if nb * L != N else out
 
 
+#: A mode whose decay over J intervals is at most this is *fast*: its state is the sum of its
+#: last J forcings (older ones and the start state weigh at most 1e-20 of them, far below the
+#: 1.1e-16 rounding of a double), so it needs no scan and folds into the output products.
+FAST_DECAY = 1e-20
+
+#: Most taps (shifted copies of the input rows) the fast modes may take.
+MAX_TAPS = 8
+
+#: Cost of scanning one mode, counted as output rows of the products (measured: the scan of a
+#: mode over a sample costs about what 30 rows of the output product cost).
+SCAN_ROWS = 30
+
+
+def fast_taps(a: np.ndarray, K: int, rows: int) -> tuple[int, np.ndarray]:
+    """(J, fast): the number of taps J and the modes (mask) taken as fast, for decay factors
+    ``a`` = exp(-lam h) over one interval, K input rows and ``rows`` output rows.
+
+    A mode with a^J <= :data:`FAST_DECAY` costs K J numbers per output row and sample when
+    folded (shared by all fast modes), a scanned one 1 + :data:`SCAN_ROWS` / rows: J is chosen
+    for the least cost (0: every mode scanned).
+
+    >>> J, fast = fast_taps(np.array([0.9, 1e-30, 1e-30, 1e-30, 1e-30, 1e-12]), 1, 10)
+    >>> J, fast.tolist()
+    (2, [False, True, True, True, True, True])
+    """
+    a = np.asarray(a, dtype=float)
+    with np.errstate(divide="ignore"):
+        taps = np.where(a <= 0.0, 1.0,
+                        np.ceil(np.log(FAST_DECAY) / np.log(np.minimum(a, 1.0))))
+    taps = np.where(np.isfinite(taps) & (taps > 0), taps, np.inf)
+    best, best_cost = 0, a.size * (rows + SCAN_ROWS)
+    for J in range(1, MAX_TAPS + 1):
+        cost = np.count_nonzero(taps > J) * (rows + SCAN_ROWS) + K * J * rows
+        if cost < best_cost:
+            best, best_cost = J, cost
+    return best, (taps <= best) if best else np.zeros(a.size, dtype=bool)
+
+
 class ModalChunk(NamedTuple):
     """One chunk of the exact run over output intervals t[k0]..t[k1]."""
 
@@ -99,7 +148,8 @@ class ModalChunk(NamedTuple):
     int_Te: np.ndarray     # (c, boundary segments) time integral of their node temperatures
     U: np.ndarray          # (c, inputs) time integral of each input over each interval
     stored: np.ndarray     # (c,) stored energy q . z [J]
-    Z: np.ndarray          # (n, c) modal states at t[k0+1..k1] (modes as rows)
+    Z: np.ndarray | None   # (n, c) modal states at t[k0+1..k1] (modes as rows), if asked
+    z_end: np.ndarray      # (n,) modal state at t[k1]
 
 
 class ModalRunner:
@@ -120,15 +170,15 @@ class ModalRunner:
         self.q = q_store
         self.profiles = prop.profiles
         n = prop.lam.size
-        #: [A D]: temperatures are one product with the stacked [Z; w^T] of a chunk
-        self.AD_out = np.ascontiguousarray(np.hstack([self.A_out, self.D_out]))
         self._factors: dict = {}
         self._h = None
         self._irregular = None
         self._n = n
 
     def _set_step(self, h: float) -> None:
-        """Per-mode factors of one interval length: forcing and projected state-integral maps."""
+        """Per-mode factors of one interval length: forcing and projected state-integral maps,
+        the split of the modes into scanned and fast ones (:func:`fast_taps`) and the output
+        matrices over the stacked rows of a chunk."""
         if self._h == h:
             return
         prop, lam, W = self.prop, self.prop.lam, self.prop.W
@@ -142,25 +192,46 @@ class ModalRunner:
             c2 = amp * W[:, i] * ((eh - 1.0) / (1j * om) - h * e1) / den
             cols_g.append(np.column_stack([c.real, c.imag]))
             cols_h.append(np.column_stack([c2.real, c2.imag]))
-        self.M_g = np.ascontiguousarray(np.hstack(cols_g))               # (n, K)
+        M_g = np.hstack(cols_g)                                          # (n, K)
         self.M_he = self.A_e @ np.hstack(cols_h)                         # (segments, K)
         self.A_he = self.A_e * (h * e1)[None, :]                         # decay of start state
         self.he1 = h * e1
         self.a = e0
         self._h = h
         self._factors = {}
-        # block factors of the scan (see :meth:`_scan`): a^(j-i) below the diagonal and the
-        # decay a^(j+1) of the block's start state as one more row; a^(L-1-i) folded into the
-        # forcing map gives the block ends straight from the input rows
+        n, K = M_g.shape
+        I = self.D_out.shape[1]
+        proj = np.vstack([self.A_he, self.q[None, :]])                  # A_he z and q z
+        # fast modes: their state is the last J forcings (older ones and the start state
+        # have decayed below FAST_DECAY of it), so their temperatures come from the input rows
+        J, fast = fast_taps(e0, K, self.A_out.shape[0] + proj.shape[0])
+        slow = np.flatnonzero(~fast)
+        fast = np.flatnonzero(fast)
+        self._slow, self._fast, self._J = slow, fast, J
+        a_f = e0[fast]
+        #: mode-to-state rows of the fast modes over the J shifted input rows: z_F = F_g X_J
+        self._F_g = np.hstack([(a_f ** j)[:, None] * M_g[fast] for j in range(J)]) \
+            if J else np.zeros((0, 0))
+        #: a_F^(k+1), k < J: the start state's share in the first J samples
+        self._start_decay = a_f[:, None] ** np.arange(1, J + 1)[None, :]
+        A_f, proj_f = self.A_out[:, fast], proj[:, fast]
+        self._A_f, self._proj_f = A_f, proj_f
+        #: [A_S D A_F F_g]: temperatures are one product with the stacked [Z_S; w^T; X_J]
+        self.AD_out = np.ascontiguousarray(np.hstack([self.A_out[:, slow], self.D_out,
+                                                      A_f @ self._F_g]))
+        self._proj = np.ascontiguousarray(np.hstack([proj[:, slow], np.zeros((proj.shape[0], I)),
+                                                     proj_f @ self._F_g]))
+        # block factors of the scan of the slow modes (see :meth:`_scan`): a^(j-i) below the
+        # diagonal and the decay a^(j+1) of the block's start state as one more row;
+        # a^(L-1-i) folded into the forcing map gives the block ends straight from the inputs
         L = _BLOCK
-        powers, tri = _block_matrix(e0, L)
+        a_s = e0[slow]
+        self.M_g = np.ascontiguousarray(M_g[slow])
+        powers, tri = _block_matrix(a_s, L)
         self._tri_aug = np.ascontiguousarray(np.concatenate([tri, powers[:, None, 1:]], axis=1))
-        K = self.M_g.shape[1]
         self._M_end = np.ascontiguousarray(
-            (self.M_g[:, :, None] * powers[:, None, L - 1::-1]).reshape(self._n, K * L))
+            (self.M_g[:, :, None] * powers[:, None, L - 1::-1]).reshape(slow.size, K * L))
         self._a_block = np.ascontiguousarray(powers[:, L])
-        # what the energy balance reads from the states: A_he z (start of each interval) and q z
-        self._proj = np.ascontiguousarray(np.vstack([self.A_he, self.q[None, :]]))
 
     def _rows(self, tt: np.ndarray, width: int | None = None):
         """The rows X (K, width) of the forcing (zero beyond the c intervals of ``tt``), input
@@ -256,7 +327,7 @@ class ModalRunner:
         block is one product with ``[tri; a^(j+1)]`` (per mode, (L+1) x L), written straight
         into ``out``: no pass to add the start states afterwards.
         """
-        n, L = self._n, _BLOCK
+        n, L = self._slow.size, _BLOCK
         K, width = X.shape
         nb = width // L
         X3 = X.reshape(K, nb, L)
@@ -272,10 +343,12 @@ class ModalRunner:
             G[:, 1:, L] = modes_major_recurrence(self._a_block, ends[:, :-1], z0, self._factors)
         np.matmul(G, self._tri_aug, out=out.reshape(n, nb, L))
 
-    def chunk(self, tt: np.ndarray, z0: np.ndarray, k0: int, out=None) -> ModalChunk:
+    def chunk(self, tt: np.ndarray, z0: np.ndarray, k0: int, out=None,
+              states: bool = True) -> ModalChunk:
         """Advance from ``z0`` at tt[0] over the intervals of ``tt``; the temperatures go into
-        ``out`` ((c, out nodes), column-major) when given. The chunk's states (and its
-        temperatures when ``out`` is None) live in work arrays that the next chunk overwrites."""
+        ``out`` ((c, out nodes), column-major) when given. The chunk's states (only when
+        ``states``: else ``Z`` is None) and its temperatures when ``out`` is None live in work
+        arrays that the next chunk overwrites."""
         h0 = self._uniform(tt)
         if h0 is None:
             return self._general(tt, z0, k0, out)
@@ -283,22 +356,49 @@ class ModalRunner:
         n, c = self._n, tt.size - 1
         width = -(-c // _BLOCK) * _BLOCK
         X, w, U = self._rows(tt, width)                                  # X (K, width)
-        I = w.shape[1]
-        # the states and the input values stacked, [Z; w^T]: temperatures are one product
-        stacked = self._buffer("states", (n + I, width))
-        self._scan(X, z0, stacked[:n])
-        stacked[n:, :c] = w.T
-        Z = stacked[:n, :c]
+        I, K = w.shape[1], X.shape[0]
+        slow, fast, J = self._slow, self._fast, self._J
+        ns = slow.size
+        # stacked rows [Z_S; w^T; X shifted by 0..J-1 samples]: temperatures, stored energy
+        # and the boundary segments' state integrals are each one product with them
+        stacked = self._buffer("states", (ns + I + K * J, width))
+        if ns:
+            self._scan(X, z0[slow], stacked[:ns])
+        stacked[ns:ns + I, :c] = w.T
+        for j in range(J):
+            r = ns + I + K * j
+            stacked[r:r + K, :min(j, c)] = 0.0
+            if j < c:
+                stacked[r:r + K, j:c] = X[:, :c - j]
+        rows = stacked[:, :c]
         T_t = self._buffer("temperatures", (self.A_out.shape[0], c)) if out is None else out.T
-        np.matmul(self.AD_out, stacked[:, :c], out=T_t)
+        np.matmul(self.AD_out, rows, out=T_t)
+        proj = self._proj @ rows
+        z_end = np.empty(n)
+        z_end[slow] = stacked[:ns, c - 1]
+        if J:
+            # the fast modes' start state, decayed over the first J samples
+            kk = min(c, J)
+            start = self._start_decay[:, :kk] * z0[fast][:, None]        # (fast, kk)
+            T_t[:, :kk] += self._A_f @ start
+            proj[:, :kk] += self._proj_f @ start
+            z_end[fast] = self._F_g @ rows[ns + I:, c - 1]
+            if c <= J:
+                z_end[fast] += start[:, c - 1]
+        Z = None
+        if states:
+            Z = np.empty((n, c))
+            Z[slow] = stacked[:ns, :c]
+            if J:
+                Z[fast] = self._F_g @ rows[ns + I:]
+                Z[fast, :kk] += start
         # integral of the boundary segments' node temperatures over each interval, and the
-        # stored energy: one product of the states with [A_he; q]
-        proj = self._proj @ Z
+        # stored energy q z
         segs = proj.shape[0] - 1
         int_e = self.M_he @ X[:, :c] + self.D_e @ U.T
         int_e[:, 0] += self.A_he @ z0
         int_e[:, 1:] += proj[:segs, :-1]
-        return ModalChunk(k0, k0 + c, T_t.T, w, int_e.T, U, proj[segs], Z)
+        return ModalChunk(k0, k0 + c, T_t.T, w, int_e.T, U, proj[segs], Z, z_end)
 
     def _general(self, tt, z0, k0, out=None) -> ModalChunk:
         """Any grid, knots anywhere: the row-major closed form of the propagator."""
@@ -307,7 +407,7 @@ class ModalRunner:
         Z = np.ascontiguousarray(Zr.T)
         T = self._outputs(Z, w, out)
         int_e = Zint @ self.A_e.T + U @ self.D_e.T
-        return ModalChunk(k0, k0 + tt.size - 1, T, w, int_e, U, Zr @ self.q, Z)
+        return ModalChunk(k0, k0 + tt.size - 1, T, w, int_e, U, Zr @ self.q, Z, Zr[-1].copy())
 
 
 class ModalEvaluator:

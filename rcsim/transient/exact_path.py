@@ -110,7 +110,8 @@ class ExactPath(TransientPath):
         while k0 < N:
             k1 = min(N, k0 + length)
             tt = t_out[k0:k1 + 1]
-            ch = runner.chunk(tt, z, k0, recorder.output_slot(k1 - k0))
+            ch = runner.chunk(tt, z, k0, recorder.output_slot(k1 - k0),
+                              states=recorder.tracker is not None)
             w, U = ch.w, ch.U
             if nb:
                 inc = (e_g[None, :] * (U[:, e_b] - ch.int_Te)) @ to_links
@@ -127,7 +128,7 @@ class ExactPath(TransientPath):
                 if recorder.tracker is not None else None
             recorder.add(Chunk(tt[1:], ch.T, w[:, :M], w[:, M:], cum_links, cum_src,
                                ch.stored - stored0, evaluate=evaluate))
-            z = ch.Z[:, -1].copy()
+            z = ch.z_end
             k0 = k1
             progress(k1 / N)
         return RunStats(modes=int(prop.lam.size), samples=int(t_out.size))

@@ -107,8 +107,8 @@ def _flows_uncorrected():
 
     init = stiff.BalancedFlows.__init__
 
-    def off(self, model):
-        init(self, model)
+    def off(self, *args, **kwargs):
+        init(self, *args, **kwargs)
         self.active = False
 
     stiff.BalancedFlows.__init__ = off

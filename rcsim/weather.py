@@ -224,6 +224,14 @@ def read_weather(path, columns: Mapping, *, time: str | None = None, time_unit: 
         converted = offset + factor * raw   # one conversion per column, as an array
         _check_range(converted, kind, frame[column], label, column, quantity)
         values[quantity], filled[quantity] = _fill(converted, seconds, gap_limit, label, column)
+    return _record(seconds, stamps, origin, values, filled, specs, step, label,
+                   irradiance_period)
+
+
+def _record(seconds, stamps, origin, values, filled, specs, step, label,
+            irradiance_period) -> WeatherRecord:
+    """The record of the columns read (both passes end here): irradiances given per period are
+    shifted to the middle of it."""
     shift = {"instant": 0.0, "ending": -0.5 * step, "beginning": 0.5 * step}[irradiance_period]
     shifts = {q: shift for q in values if q in IRRADIANCE and shift != 0.0}
     return WeatherRecord(seconds=seconds, timestamps=stamps, start=origin, values=values,
@@ -315,12 +323,8 @@ def _numbers_first(path, label, columns, time, time_unit, zone, start, gap_limit
                                                        column)
     except _TextNeeded:
         return None
-    shift = {"instant": 0.0, "ending": -0.5 * step, "beginning": 0.5 * step}[irradiance_period]
-    shifts = {q: shift for q in values if q in IRRADIANCE and shift != 0.0}
-    return WeatherRecord(seconds=seconds, timestamps=stamps, start=origin, values=values,
-                         kinds={q: spec[2] for q, spec in specs.items()},
-                         columns={q: spec[0] for q, spec in specs.items()}, shifts=shifts,
-                         step=step, source=label, filled=filled)
+    return _record(seconds, stamps, origin, values, filled, specs, step, label,
+                   irradiance_period)
 
 
 def _read_text(path, label):

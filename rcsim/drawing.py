@@ -4,9 +4,13 @@ their resistances and part kinds, sources.
 The layout is layered by graph distance from the boundaries (networkx: a multi-source
 breadth-first search gives each point its layer, ``multipartite_layout`` places the layers):
 boundaries in the top row, then the points one link further in, and so on, so a wall or a ladder
-reads as a ladder, from the outside in. Within a layer, points are ordered by the mean place of
-their neighbours in the layer above (one sweep down and one back up), which keeps links from
-crossing where it can. A layer with ``slices`` (internal nodes ``<link>.<i>``) is one labelled block
+reads as a ladder, from the outside in. A point linked to three or more points of its own layer
+(the air inside a cabinet, linked to each of its panels, all one link from the outdoor air) is
+moved a layer further in, and the layers beyond it with it, so links run between rows rather than
+along one. Within a layer, points are ordered by the mean place of their neighbours in the
+nearest layer above that holds any (one sweep down and one back up), which keeps links from
+crossing where it can. Where more than two links per point run between two layers, the rows
+are set further apart (up to twice) to leave their labels room. A layer with ``slices`` (internal nodes ``<link>.<i>``) is one labelled block
 unless ``expand_layers=True`` asks for each slice.
 
 Labels are placed, not merely put: each name, detail and link label has a few candidate places
@@ -19,7 +23,8 @@ zig-zags; a capacitor turns away from the links at its node.
 Symbols (our own drawing): a node is a circle beside a capacitor (two plates to a ground bar); a
 massless junction is a small dot; a phase-change node has a double ring; a boundary is a shaded
 square; a linear link carries a zig-zag resistor, a temperature-dependent one (radiation, a film
-correlation) the same zig-zag crossed by an arrow; a source is an arrow into its node. Drawn with
+correlation) the same zig-zag crossed by an arrow; a source is an arrow into its node, from the
+side freest of lines. Drawn with
 matplotlib, written as SVG, PNG or PDF.
 """
 
@@ -71,8 +76,14 @@ def _si_text(value: float, unit: str) -> str:
     return f"{value:.3g} {unit}"
 
 
-def _short(text: str, width: int = 26) -> str:
-    return "\n".join(textwrap.wrap(text, width)[:3]) if text else ""
+def _short(text: str, width: int = 26, lines: int = 4) -> str:
+    """``text`` wrapped to ``width`` characters, at most ``lines`` lines; a text cut short ends
+    with an ellipsis (a profile's whole description is in the scenario)."""
+    wrapped = textwrap.wrap(text, width) if text else []
+    if len(wrapped) > lines:
+        wrapped = wrapped[:lines]
+        wrapped[-1] = wrapped[-1][:width - 1].rstrip() + "\u2026"
+    return "\n".join(wrapped)
 
 
 # -- graph ------------------------------------------------------------------------------------------
@@ -163,39 +174,88 @@ def _point(net, name):
 
 # -- layout -----------------------------------------------------------------------------------------
 def _layers(g) -> dict:
-    """Layer of each point: its link distance from the nearest boundary (networkx BFS)."""
+    """Layer of each point: its link distance from the nearest boundary, then a point linked to
+    three or more points of its own layer (a hub, such as the air inside a cabinet between its
+    panels) moved one layer further in, so its links run between layers, not along a row."""
+    floor: dict = {}
+    layer = _distances(g, floor)
+    for _ in range(len(g)):
+        hub = _row_hub(g, layer)
+        if hub is None:
+            break
+        floor[hub] = layer[hub] + 1
+        layer = _distances(g, floor)
+    return layer
+
+
+def _distances(g, floor) -> dict:
+    """Link distance of each point from the nearest boundary (a point with no boundary in its
+    part of the network counts from its first point), never less than its ``floor``: a
+    breadth-first search with lower bounds (Dijkstra's order on whole layers)."""
+    import heapq
+
     import networkx as nx
 
+    order = {p: i for i, p in enumerate(g.nodes)}
     layer: dict = {}
-    sources = [p for p, d in g.nodes(data=True) if d["kind"] == "boundary"]
     base = 0
     for comp in nx.connected_components(g):
-        starts = [p for p in sources if p in comp] or [min(comp, key=list(g.nodes).index)]
-        dist = nx.multi_source_dijkstra_path_length(g.subgraph(comp), starts, weight=None)
-        offset = 0 if any(p in comp for p in sources) else base
-        for p, d in dist.items():
-            layer[p] = int(d) + offset
+        comp = sorted(comp, key=order.get)
+        starts = [p for p in comp if g.nodes[p]["kind"] == "boundary"]
+        offset = 0 if starts else base
+        heap = [(offset, order[p], p) for p in (starts or comp[:1])]
+        heapq.heapify(heap)
+        while heap:
+            d, _, p = heapq.heappop(heap)
+            if p in layer:
+                continue
+            layer[p] = d
+            for q in g.neighbors(p):
+                if q not in layer:
+                    heapq.heappush(heap, (max(d + 1, floor.get(q, 0)), order[q], q))
         base = max(layer.values()) + 1
     return layer
 
 
+def _row_hub(g, layer):
+    """The point (no boundary) linked to most points of its own layer, when three or more (two
+    are a row of a grid, drawn as it is); the first such in the nearest layer; else None."""
+    best, best_key = None, None
+    for i, p in enumerate(g.nodes):
+        if g.nodes[p]["kind"] == "boundary":
+            continue
+        same = {q for q in g.neighbors(p) if q != p and layer[q] == layer[p]}
+        if len(same) >= 3:
+            key = (layer[p], -len(same), i)
+            if best_key is None or key < best_key:
+                best, best_key = p, key
+    return best
+
+
 def _ordered(g, layer) -> dict:
-    """Layers as ordered lists: by the mean place of neighbours in the layer above, then below."""
+    """Layers as ordered lists: by the mean place of neighbours in the layers above (the nearest
+    of them that has any; places counted from each layer's centre, as drawn), then below."""
     order = list(g.nodes)
     rows: dict[int, list] = {}
     for p in order:
         rows.setdefault(layer[p], []).append(p)
     keys = sorted(rows)
 
-    def sweep(seq, ref_of):
-        for k_prev, k in zip(seq, seq[1:]):
-            place = {p: i for i, p in enumerate(rows[k_prev])}
-            def centre(p, place=place):
-                near = [place[q] for q in g.neighbors(p) if q in place]
-                return (sum(near) / len(near)) if near else math.inf
+    def sweep(seq):
+        for n, k in enumerate(seq[1:], 1):
+            done = seq[:n][::-1]        # the layers already ordered, nearest first
+            place = [{p: i - 0.5 * (len(rows[j]) - 1) for i, p in enumerate(rows[j])}
+                     for j in done]
+
+            def centre(p):
+                for at in place:
+                    near = [at[q] for q in g.neighbors(p) if q in at]
+                    if near:
+                        return sum(near) / len(near)
+                return math.inf
             rows[k].sort(key=lambda p: (centre(p), order.index(p)))
-    sweep(keys, None)
-    sweep(keys[::-1], None)
+    sweep(keys)
+    sweep(keys[::-1])
     return {k: rows[k] for k in keys}
 
 
@@ -217,12 +277,31 @@ def network_layout(g, orientation: str = "down") -> dict:
         unit = abs(pos[rows[keys[0]][1]][1] - pos[rows[keys[0]][0]][1])
     else:
         unit = 1.0
+    # layers one step apart, more where many links run between two of them
+    steps = _layer_steps(g, rows)
+    layer_of = {q: k for k in rows for q in rows[k]}
     out = {}
     for p, (x, y) in pos.items():
-        across, along = y / unit, x / unit
+        across, along = y / unit, steps[layer_of[p]]
         out[p] = (across * _DX, -along * _DY) if orientation == "down" else (along * _DX,
                                                                             -across * _DY)
     return out
+
+
+def _layer_steps(g, rows) -> dict:
+    """Place of each layer along the picture, in steps between layers: 1 per band between two
+    layers, or half its links per point of its wider layer where that is more (room for their
+    labels: more than two links per point), at most 2."""
+    keys = list(rows)
+    layer = {q: k for k in keys for q in rows[k]}
+    spans = [tuple(sorted((layer[a], layer[b]))) for a, b in g.edges() if a != b]
+    steps, at = {keys[0]: 0.0}, 0.0
+    for k0, k1 in zip(keys, keys[1:]):
+        across = sum(1 for lo, hi in spans if lo <= k0 and hi >= k1)
+        wider = max(len(rows[k0]), len(rows[k1]))
+        at += min(2.0, max(1.0, 0.5 * across / wider))
+        steps[k1] = at
+    return steps
 
 
 # -- symbols ------------------------------------------------------------------------------------------
@@ -473,30 +552,74 @@ def _draw_edges(ax, g, pos, labels, lines, texts):
         labels.append(_Label(artist, _edge_candidates(pts, at, side)))
 
 
+#: Directions [deg] a source's arrow may come from, in the order preferred: from the upper left
+#: (the usual place), the other diagonals, the sides, then straight above or below.
+_SOURCE_TURNS = (135, 45, 225, 315, 180, 0, 90, 270)
+
+
+def _source_direction(xy, pts, others, taken) -> np.ndarray:
+    """The unit vector from a node at ``xy`` to the tail of a source's arrow: the preferred
+    direction (:data:`_SOURCE_TURNS`) whose arrow crosses fewest lines ``pts`` and whose
+    label's neighbourhood holds fewest lines and points ``others``; not one ``taken``."""
+    xy = np.asarray(xy, float)
+    best, best_cost = None, math.inf
+    for k, turn in enumerate(_SOURCE_TURNS):
+        if turn in taken:
+            continue
+        u = np.array([math.cos(math.radians(turn)), math.sin(math.radians(turn))])
+        rel = pts - xy
+        along, across = rel @ u, np.abs(rel @ np.array([-u[1], u[0]]))
+        on_arrow = np.count_nonzero((along > 0.15) & (along < 0.8) & (across < 0.1))
+        zone = xy + 1.3 * u             # about where its label goes, beyond the tail
+        near = np.count_nonzero(np.hypot(*(pts - zone).T) < 0.65)
+        crowd = np.count_nonzero(np.hypot(*(others - zone).T) < 0.6) if len(others) else 0
+        cost = 5.0 * on_arrow + near + 60.0 * crowd + 3.0 * k
+        if cost < best_cost:
+            best, best_cost = (turn, u), cost
+    return best
+
+
+def _source_candidates(tail, u) -> list:
+    """Places of a source's label at its arrow's tail (the arrow coming from ``u``): beyond the
+    tail first, then above and below it."""
+    sx, sy = tail
+    side = "right" if u[0] < -0.1 else ("left" if u[0] > 0.1 else "center")
+    dx = {"right": -0.04, "left": 0.04, "center": 0.0}[side]
+    first_v = "bottom" if u[1] > 0.1 else ("top" if u[1] < -0.1 else "center")
+    dy = {"bottom": 0.05, "top": -0.05, "center": 0.0}[first_v]
+    return [(sx + dx, sy + (0.0 if side != "center" else dy), side,
+             "center" if side != "center" else first_v, 0.0),
+            (sx, sy + 0.05, "center", "bottom", 0.4),
+            (sx, sy - 0.05, "center", "top", 0.4),
+            (sx + dx, sy + 0.05, side, "bottom", 0.5),
+            (sx + dx, sy - 0.05, side, "top", 0.5),
+            (sx - dx, sy + 0.05, {"right": "left", "left": "right"}.get(side, "center"),
+             "bottom", 0.7)]
+
+
 def _draw_sources(ax, g, pos, texts, lines, labels):
-    count: dict = {}
+    """An arrow into its node for each source (and each thermostat), from the side freest of
+    lines and other points, its label at the arrow's tail."""
+    taken: dict = {}
     kinds = [("source", s) for s in g.graph.get("sources", [])] + \
             [("thermostat", (n, node, "thermostat")) for n, node in g.graph.get("thermostats", [])]
     for what, (name, node, text) in kinds:
         p = ("node", node)
         if p not in pos:
             continue
-        k = count.get(p, 0)
-        count[p] = k + 1
         x, y = pos[p]
-        start = (x - 0.62 - 0.0 * k, y + 0.38 + 0.3 * k)
-        ax.annotate("", xy=(x - 0.13, y + 0.09), xytext=start, zorder=3,
+        pts = np.concatenate(lines) if lines else np.zeros((0, 2))
+        others = np.array([q for r, q in pos.items() if r != p]).reshape(-1, 2)
+        turn, u = _source_direction((x, y), pts, others, taken.setdefault(p, set()))
+        taken[p].add(turn)
+        tail, head = (x + 0.73 * u[0], y + 0.73 * u[1]), (x + 0.16 * u[0], y + 0.16 * u[1])
+        ax.annotate("", xy=head, xytext=tail, zorder=3,
                     arrowprops=dict(arrowstyle="-|>", color=_INK, lw=1.1, mutation_scale=9,
                                     shrinkA=0, shrinkB=0))
-        lines.append(_sampled([start, (x - 0.13, y + 0.09)]))
-        artist = ax.text(*start, f"{name}\n{text}", fontsize=_FONT - 0.5, color=_INK,
+        lines.append(_sampled([tail, head]))
+        artist = ax.text(*tail, f"{name}\n{text}", fontsize=_FONT - 0.5, color=_INK,
                          zorder=6, linespacing=1.1)
-        sx, sy = start      # at the arrow's tail: left of it, above, below, then to its right
-        labels.append(_Label(artist, [(sx - 0.04, sy, "right", "center", 0.0),
-                                      (sx, sy + 0.05, "center", "bottom", 0.4),
-                                      (sx, sy - 0.05, "right", "top", 0.5),
-                                      (sx - 0.04, sy + 0.05, "right", "bottom", 0.5),
-                                      (sx + 0.04, sy + 0.05, "left", "bottom", 0.6)]))
+        labels.append(_Label(artist, _source_candidates(tail, u)))
         texts[(what, name)] = f"{name}: {text}"
 
 

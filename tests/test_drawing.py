@@ -100,6 +100,9 @@ def test_a_thirty_node_network_keeps_its_labels_apart():
     # every point of a ladder one layer further than the one before
     ys = [picture.positions[("node", f"b{i}")][1] for i in range(10)]
     assert np.all(np.diff(ys) < 0)
+    # and each depth a row: a rung's middle point, linked to two points of its row, stays in it
+    for i in range(10):
+        assert len({picture.positions[("node", f"{s}{i}")][1] for s in "abc"}) == 1
 
 
 def test_files_in_each_format_and_bad_names(tmp_path):
@@ -189,3 +192,70 @@ def test_a_link_through_another_point_is_bowed_round_it():
     assert len(long) == 1
     # it keeps clear of b's circle (radius 0.15 in) by more than its radius
     assert np.min(np.hypot(*(long[0] - b).T)) > 0.3
+
+
+def _cabinet():
+    return rcsim.load(os.path.join(SCENARIOS, "outdoor-cabinet.toml"))
+
+
+@pytest.mark.parametrize("orientation", ["down", "right"])
+def test_a_point_linked_along_its_row_moves_one_layer_in(orientation):
+    # the bundled cabinet, layers by hand from its links: the four panels one link from the
+    # outdoor air; the air inside is one link from it too (vents), but linked to all four
+    # panels it sits a layer further in, so those links run between layers, not along a row;
+    # the battery, linked only to the air inside, one further
+    picture = drawing.draw_network(_cabinet(), orientation=orientation)
+    along = 1 if orientation == "down" else 0
+    at = {p[1]: round(xy[along], 9) for p, xy in picture.positions.items()}
+    rows = [["outdoor", "building", "sky"], ["roof", "front", "east", "west"], ["inside"],
+            ["battery"]]
+    for row in rows:
+        assert len({at[name] for name in row}) == 1, row
+    places = [at[row[0]] for row in rows]
+    sign = -1 if orientation == "down" else 1
+    # between the boundaries and the panels run 13 links: film and sky of the four panels,
+    # ground of the three walls (the flat roof sees no ground: view factor (1 - cos 0)/2 = 0),
+    # vents and back_and_floor; 13 / 4 points / 2 = 1.625 steps; then one step each
+    step = drawing._DY if orientation == "down" else drawing._DX
+    assert np.allclose(np.diff(places), sign * step * np.array([1.625, 1.0, 1.0]))
+    # no link joins two points of one row
+    g = picture.graph
+    assert [(a, b) for a, b in g.edges() if at[a[1]] == at[b[1]]] == []
+
+
+def test_source_arrows_cross_no_link_and_keep_their_whole_text():
+    # every source of the bundled scenarios: its arrow (from 0.25 to 0.7 of the way from its
+    # node's centre to its tail) keeps 0.05 in from every link drawn; its profile text is all
+    # there (the cabinet's sun sources have long ones)
+    for name in sorted(n for n in os.listdir(SCENARIOS) if n.endswith(".toml")):
+        sc = rcsim.load(os.path.join(SCENARIOS, name))
+        picture = drawing.draw_network(sc)
+        ax = picture.figure.axes[0]
+        links = np.concatenate([ln.get_xydata() for ln in ax.lines if len(ln.get_xydata()) > 10]
+                               or [np.zeros((0, 2))])
+        from matplotlib.text import Annotation
+
+        arrows = [a for a in ax.texts if isinstance(a, Annotation) and not a.get_text()]
+        for node in {s.node for s in sc.network.sources.values()}:
+            at = np.array(picture.positions[("node", node)])
+            # the arrows into this node: heads 0.16 in from its centre, tails 0.73 in
+            into = [a for a in arrows if np.isclose(np.hypot(*(np.array(a.xy) - at)), 0.16)
+                    and np.isclose(np.hypot(*(np.array(a.xyann) - at)), 0.73)]
+            assert len(into) == sum(s.node == node for s in sc.network.sources.values())
+            for arrow in into:
+                tail = np.array(arrow.xyann)
+                seg = at + np.linspace(0.25, 0.7, 30)[:, None] * (tail - at) / 0.73
+                if len(links):
+                    assert np.min(np.hypot(*(seg[:, None, :] - links[None, :, :]).T)) > 0.05, \
+                        (name, node)
+        texts = [t.get_text() for t in ax.texts]
+        for s in sc.network.sources.values():
+            [label] = [t for t in texts if t.startswith(f"{s.name}\n")]
+            assert " ".join(label.split()).replace("- ", "-").endswith(
+                " ".join((s.profile.describe() + " (W)").split())[-12:]), (name, s.name)
+
+
+def test_a_text_too_long_for_its_lines_ends_with_an_ellipsis():
+    assert drawing._short("one two three", 26) == "one two three"
+    text = drawing._short(" ".join(["word"] * 40), 22, lines=4)
+    assert text.count("\n") == 3 and text.endswith("\u2026")

@@ -336,9 +336,10 @@ class Recorder:
         How many samples the run will deliver: histories are allocated once at that size.
 
     Heat flows of the recorded links are each link's conductance times the difference of its
-    end temperatures (ends gathered from the chunk's node columns and the boundary values into
-    work arrays reused from chunk to chunk), with the histories stored column-major, so a chunk of temperatures
-    computed node by node goes to the sink without a transposing copy.
+    end temperatures, written into their history: runs of links between consecutive output
+    columns (a chain of nodes) subtract slices, the other links gather their ends from the
+    chunk's node columns and the boundary values. The histories are stored column-major, so a
+    chunk of temperatures computed node by node goes to the sink without a transposing copy.
     """
 
     def __init__(self, asm, plan: RecordingPlan, sink, samples: int | None = None):
@@ -363,13 +364,13 @@ class Recorder:
                                  dtype=np.int64)
         self._b_col = np.asarray([pos[int(p)] if p < n else m + int(p - n) for p in self._flow_b],
                                  dtype=np.int64)
-        # flows^T = g * (T[a] - T[b]) (links x samples): the end temperatures gathered into two
-        # work arrays kept from chunk to chunk (a fresh array per chunk costs more in page
-        # faults than the arithmetic); ends at a boundary read the boundary values instead
-        self._a_take = np.minimum(self._a_col, max(m - 1, 0))
-        self._b_take = np.minimum(self._b_col, max(m - 1, 0))
-        self._a_bnd = np.flatnonzero(self._a_col >= m)
-        self._b_bnd = np.flatnonzero(self._b_col >= m)
+        # flows^T = g * (T[a] - T[b]) (links x samples), written into the history: links whose
+        # ends are runs of consecutive output columns (a sliced layer: link j joins columns
+        # j and j + 1) subtract slices of the temperatures, one pass and no gather; the others
+        # gather their ends (a boundary end reads the boundary values)
+        self._runs, rest = _column_runs(self._a_col, self._b_col, m)
+        self._rest = rest
+        self._a_rest, self._b_rest = self._a_col[rest], self._b_col[rest]
         self._g_col = np.ascontiguousarray(self._flow_g[:, None])
         # links whose first segment is nonlinear: their flows come from the segment laws
         self._nl_links = np.empty(0, dtype=np.int64)
@@ -464,21 +465,40 @@ class Recorder:
         is kept). ``nonlinear``: the nonlinear segments' flows at the same samples when
         already computed (:meth:`nonlinear_flows`)."""
         L, c = self.links.size, T.shape[0]
-        first = work_array("flows.first", (L, c))
-        second = work_array("flows.second", (L, c))
+        flows_t = work_array("flows", (L, c)) if out is None else out.T
         T_t, u_t = T.T, np.asarray(u).T
         m = T_t.shape[0]
-        if m:
-            np.take(T_t, self._a_take, axis=0, out=first, mode="clip")
-            np.take(T_t, self._b_take, axis=0, out=second, mode="clip")
-        if self._a_bnd.size:
-            first[self._a_bnd] = u_t[self._a_col[self._a_bnd] - m]
-        if self._b_bnd.size:
-            second[self._b_bnd] = u_t[self._b_col[self._b_bnd] - m]
         with np.errstate(invalid="ignore"):
-            np.subtract(first, second, out=first)
-            flows_t = first if out is None else out.T
-            np.multiply(first, self._g_col, out=flows_t)
+            for j0, j1, a0, b0 in self._runs:
+                np.subtract(T_t[a0:a0 + j1 - j0], T_t[b0:b0 + j1 - j0], out=flows_t[j0:j1])
+            rest = self._rest
+            if rest.size:
+                # the other links' ends gathered: into two work arrays kept from chunk to chunk
+                # when the temperatures are one block of many samples, else row by row by fancy
+                # indexing (np.take would first copy a history's strided rows whole)
+                R = rest.size
+                a, b = self._a_rest, self._b_rest
+                if m and (c < 64 or not T_t.flags.c_contiguous):
+                    first = T_t[np.minimum(a, m - 1)]
+                    second = T_t[np.minimum(b, m - 1)]
+                else:
+                    first = work_array("flows.first", (R, c))
+                    second = work_array("flows.second", (R, c))
+                    if m:
+                        np.take(T_t, np.minimum(a, m - 1), axis=0, out=first, mode="clip")
+                        np.take(T_t, np.minimum(b, m - 1), axis=0, out=second, mode="clip")
+                bnd = np.flatnonzero(a >= m)
+                if bnd.size:
+                    first[bnd] = u_t[a[bnd] - m]
+                bnd = np.flatnonzero(b >= m)
+                if bnd.size:
+                    second[bnd] = u_t[b[bnd] - m]
+                if R == L:
+                    np.subtract(first, second, out=flows_t)
+                else:
+                    np.subtract(first, second, out=first)
+                    flows_t[rest] = first
+            np.multiply(flows_t, self._g_col, out=flows_t)
         flows = flows_t.T
         if self._nl_links.size:
             if nonlinear is None:
@@ -591,6 +611,31 @@ class Recorder:
                 _EMPTY_LIMITS.append(ExcursionTracker([], [], []).table()[LIMIT_COLUMNS])
             return _EMPTY_LIMITS[0].copy()
         return self.tracker.table()
+
+
+def _column_runs(a: np.ndarray, b: np.ndarray, m: int, shortest: int = 4):
+    """Runs of links (j0, j1, a0, b0) whose ends are consecutive columns below ``m`` (link
+    j0 + i joins columns a0 + i and b0 + i) of at least ``shortest`` links, and the links in no
+    run (an array).
+
+    >>> runs, rest = _column_runs(np.array([0, 1, 2, 3, 9, 4]), np.array([1, 2, 3, 4, 0, 5]), 6)
+    >>> runs, rest.tolist()
+    ([(0, 4, 0, 1)], [4, 5])
+    """
+    runs, rest = [], []
+    j, L = 0, a.size
+    while j < L:
+        k = j + 1
+        if a[j] < m and b[j] < m:
+            while k < L and a[k] == a[k - 1] + 1 and b[k] == b[k - 1] + 1 and a[k] < m \
+                    and b[k] < m:
+                k += 1
+        if k - j >= shortest:
+            runs.append((j, k, int(a[j]), int(b[j])))
+        else:
+            rest.extend(range(j, k))
+        j = k
+    return runs, np.asarray(rest, dtype=np.int64)
 
 
 def _columns_of(evaluate, cols: np.ndarray):

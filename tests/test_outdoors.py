@@ -125,8 +125,10 @@ def test_a_wind_film_is_a_conductance_that_follows_the_wind():
     h_c = 4 + 4 * wind.value(t)
     s, a = t_s + K0, 30.0 + K0
     h_o_area = 2.0 * (h_c + 0.9 * SIGMA * (a ** 2 + s ** 2) * (a + s))
+    # (the stiff path's flows come from temperatures corrected towards the stored-energy
+    # rates, within the run's tolerance of the recorded ones: h_o A ~ 60 W/K times ~1e-7 K)
     np.testing.assert_allclose(h_o_area * (res.sol_air["roof"].to_numpy() - t_s), q_in,
-                               rtol=1e-7, atol=1e-7)
+                               rtol=1e-7, atol=1e-5)
     assert res.run_info.declined == {}     # stiff asked for by name
     assert "exact" in exposed_panel(film={"wind": wind}).simulate(600, 60).run_info.declined
 

@@ -159,24 +159,58 @@ def test_scratch_arrays_kept_after_a_run_are_given_back_on_request():
     # intervals (CHUNK_ELEMENTS numbers over n + I rows, a multiple of 32); the modes split
     # into n_s scanned ones and fast ones folded over J taps (fast_taps, for 50 recorded
     # temperatures plus 2 boundary segments and the stored energy); the forcing of the scanned
-    # modes n_s x (c/16 blocks x 17), the stacked rows (n_s + I + 4 J) x c, and two (links x c)
-    # arrays for the heat flows; 8 bytes a number
+    # modes n_s x (c/16 blocks x 17) and the stacked rows (n_s + I + 4 J) x c; 8 bytes a number.
+    # The heat flows are written into their history, their link ends gathered from the
+    # temperature history's rows: no scratch array for them
     import scipy.linalg
 
     from rcsim.transient.exact_chunks import fast_taps
 
     asm = net.assemble()
     lam = scipy.linalg.eigh(asm.K.toarray(), np.diag(asm.capacity), eigvals_only=True)
-    n, I, links = res.temperatures.shape[1], 2, res.heat_flows.shape[1]
+    n, I = res.temperatures.shape[1], 2
     J, fast = fast_taps(np.exp(-600.0 * lam), 4, n + 2 + 1)
     n_s = n - int(fast.sum())
     assert J >= 1 and 0 < n_s < n                       # some modes of each kind
     c = CHUNK_ELEMENTS // (n + I)
     c -= c % 32
     assert n == 50 and res.time.size - 1 > c          # full chunks were run
-    expected = 8 * (n_s * (c // 16) * 17 + (n_s + I + 4 * J) * c + 2 * links * c)
+    expected = 8 * (n_s * (c // 16) * 17 + (n_s + I + 4 * J) * c)
     assert kept == freed == expected
     assert before - after >= 0.99 * expected            # the memory itself went back
     assert work_arrays_kept() == 0
     again = net.simulate("30 d", "10 min")               # made again by the next run
     np.testing.assert_array_equal(again.temperatures.to_numpy(), res.temperatures.to_numpy())
+
+
+@pytest.mark.parametrize("record", [None, ["n17", "n0", "n1", "n2", "n3", "n4", "n5", "n9"]])
+def test_heat_flows_are_conductance_times_the_recorded_end_difference(record):
+    # the heat flow of a linear link is its conductance times the difference of its end
+    # temperatures (the thermal analogue of Ohm's law, any heat transfer textbook), computed
+    # here with numpy from the recorded temperatures and boundary values. A chain n0..n19
+    # (links in runs of consecutive nodes, taken as slices), cross links, links to a boundary
+    # at either end; every node recorded (the flows' ends gathered from the strided history)
+    # or some (from one block of temperatures; only links with both ends recorded are kept)
+    rng = np.random.default_rng(2)
+    net = rcsim.Network()
+    net.add_boundary("out", temperature=rcsim.Table([0, 172800], [-5.0, 15.0]))
+    net.add_boundary("in", temperature=20.0)
+    for i in range(20):
+        net.add_node(f"n{i}", capacity=float(rng.uniform(1e4, 1e5)), initial=float(10 + i))
+    links = {}
+    pairs = [(f"n{i}", f"n{i + 1}") for i in range(19)] + [
+        ("n3", "n9"), ("n17", "n2"), ("out", "n0"), ("n19", "in"), ("n9", "out")]
+    for k, (a, b) in enumerate(pairs):
+        g = float(rng.uniform(1, 9))
+        links[net.add_link(a, b, conductance=g, name=f"link{k}")] = (a, b, g)
+    res = net.simulate("2 d", "10 min", record=record)
+    T = res.temperatures
+    ends = {**{k: T[k].to_numpy() for k in T.columns},
+            **{k: res.boundary_temperatures[k].to_numpy() for k in ("out", "in")}}
+    flows = res.heat_flows
+    expected_links = [k for k, (a, b, _) in links.items() if a in ends and b in ends]
+    assert sorted(flows.columns) == sorted(expected_links)
+    for name in expected_links:
+        a, b, g = links[name]
+        np.testing.assert_allclose(flows[name].to_numpy(), g * (ends[a] - ends[b]),
+                                   rtol=1e-14, atol=1e-12)

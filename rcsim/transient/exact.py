@@ -31,7 +31,7 @@ from ..statespace import state_space
 from .inputs import input_values, linear_parts
 
 __all__ = ["phi_functions", "linear_recurrence", "linear_recurrence_times", "scan_stretches",
-           "ExactPropagator", "CHUNK_ELEMENTS"]
+           "ExactPropagator", "CHUNK_ELEMENTS", "sine_response_factors", "one_minus_sinc"]
 
 #: Samples x (modes + inputs) per chunk of propagation: bounds memory, keeps arrays in cache.
 CHUNK_ELEMENTS = 200_000
@@ -347,19 +347,18 @@ class ExactPropagator:
 
         Over [t_k, t_k + h] the response to sin(w t + phi) is Im(exp(i(w t_k + phi)) c) with
         c = (exp(i w h) - exp(-lam h)) / (lam + i w), and its integral Im(exp(i(w t_k + phi)) c2)
-        with c2 = ((exp(i w h) - 1)/(i w) - h E1(lam h)) / (lam + i w).
+        with c2 = ((exp(i w h) - 1)/(i w) - h E1(lam h)) / (lam + i w), both in the forms of
+        :func:`sine_response_factors`.
         """
         if not self._sines:
             return [], [], []
         lam, W = self.lam, self.W
         tk = t_out[:-1]
-        decay, e1, _, _ = self.phi(h0)
+        _, e1, e2, _ = self.phi(h0)
         cols, sg, sh = [], [], []
         for i, (amp, om, ph) in self._sines:
-            den = lam + 1j * om
-            eh = np.exp(1j * om * h0)
-            c = amp * W[:, i] * (eh - decay) / den
-            c2 = amp * W[:, i] * ((eh - 1.0) / (1j * om) - h0 * e1) / den
+            c, c2 = sine_response_factors(lam * h0, e1, e2, om * h0, h0)
+            c, c2 = amp * W[:, i] * c, amp * W[:, i] * c2
             cols.append(np.column_stack([np.sin(om * tk + ph), np.cos(om * tk + ph)]))
             sg.append(np.vstack([c.real, c.imag]))
             sh.append(np.vstack([c2.real, c2.imag]))
@@ -370,13 +369,12 @@ class ExactPropagator:
         lam, W = self.lam, self.W
         tk = t_out[rows]
         hr = t_out[rows + 1] - tk
-        decay = np.exp(-hr[:, None] * lam[None, :])
-        _, e1, _, _ = phi_functions(hr[:, None] * lam[None, :])
+        x = hr[:, None] * lam[None, :]
+        _, e1, e2, _ = phi_functions(x)
         for i, (amp, om, ph) in self._sines:
-            den = lam[None, :] + 1j * om
-            eh = np.exp(1j * om * hr)[:, None]
-            c = amp * W[:, i][None, :] * (eh - decay) / den
-            c2 = amp * W[:, i][None, :] * ((eh - 1.0) / (1j * om) - hr[:, None] * e1) / den
+            c, c2 = sine_response_factors(x, e1, e2, om * hr[:, None], hr[:, None])
+            c = amp * W[:, i][None, :] * c
+            c2 = amp * W[:, i][None, :] * c2
             sn = np.sin(om * tk + ph)[:, None]
             cs = np.cos(om * tk + ph)[:, None]
             G[rows] += sn * c.real + cs * c.imag
@@ -497,3 +495,50 @@ def sine_integrals(amp: float, om: float, sin0, cos0, h) -> np.ndarray:
     :meth:`rcsim.profiles.Profile.integral`)."""
     half = np.sin(0.5 * om * h)
     return (amp / om) * (np.sin(om * h) * sin0 + (2.0 * half * half) * cos0)
+
+
+#: Taylor coefficients of 1 - sin(t)/t = t^2/3! - t^4/5! + ...: up to t^14/15!, the first term
+#: left out below |t| = 0.5 is under 1e-18 of the sum
+_SINC_COEFFS = [(-1.0) ** k / math.factorial(2 * k + 3) for k in range(7)]
+
+
+def one_minus_sinc(t):
+    """``1 - sin(t)/t`` without the cancellation near t = 0 (its Taylor series below |t| = 0.5).
+
+    >>> round(float(one_minus_sinc(1e-6)) * 6e12, 10)      # t^2/6 - t^4/120 + ...
+    1.0
+    """
+    t = np.asarray(t, dtype=float)
+    t2 = t * t
+    series = np.zeros_like(t2)
+    for c in reversed(_SINC_COEFFS):
+        series = series * t2 + c
+    series *= t2
+    with np.errstate(invalid="ignore", divide="ignore"):
+        direct = 1.0 - np.sin(t) / t
+    return np.where(np.abs(t) < 0.5, series, direct)
+
+
+def sine_response_factors(x, e1, e2, theta, h):
+    """Per-mode factors of a unit sine input over an interval of length ``h``.
+
+    For a mode ``dz/dt = -lam z + sin(w t + phi)`` with ``x = lam h``, ``theta = w h`` and
+    ``e1, e2`` = E1(x), E2(x) (:func:`phi_functions`), the state after the interval from
+    zero start is ``Im(exp(i phi) c)`` and its integral over the interval ``Im(exp(i phi) c2)``
+    with ``c = (exp(i theta) - exp(-x)) / (lam + i w)`` and
+    ``c2 = ((exp(i theta) - 1)/(i w) - h E1(x)) / (lam + i w)``. Written with
+    ``exp(i theta) - 1 = -2 sin(theta/2)^2 + i sin(theta)``, ``1 - exp(-x) = x E1`` and
+    ``sin(theta)/theta - E1 = x E2 - (1 - sin(theta)/theta)`` (:func:`one_minus_sinc`), so
+    that no two nearly equal numbers are subtracted: a period far longer than the interval
+    (theta tiny) keeps its digits. Arrays broadcast; returns (c, c2), complex.
+    """
+    theta = np.asarray(theta, dtype=float)
+    half = np.sin(0.5 * theta)
+    versine = 2.0 * half * half                                  # 1 - cos(theta)
+    # an interval of length 0 (theta = 0, x = 0): both factors are 0 (h = 0 multiplies them)
+    theta_or_1 = np.where(theta == 0.0, 1.0, theta)
+    den = x + 1j * theta
+    den = np.where(den == 0.0, 1.0, den)
+    c = h * ((x * e1 - versine) + 1j * np.sin(theta)) / den
+    c2 = (h * h) * ((x * e2 - one_minus_sinc(theta)) + 1j * (versine / theta_or_1)) / den
+    return c, c2

@@ -46,7 +46,7 @@ from typing import NamedTuple
 import numpy as np
 
 from ..recording import work_array
-from .exact import phi_functions, sine_integrals
+from .exact import phi_functions, sine_integrals, sine_response_factors
 from .inputs import input_values, linear_parts
 
 __all__ = ["ModalChunk", "ModalRunner", "ModalEvaluator", "modes_major_recurrence", "fast_taps",
@@ -186,10 +186,8 @@ class ModalRunner:
         cols_g = [W * (h * e1)[:, None], W * (h * e2)[:, None]]         # (n, I) each
         cols_h = [W * (h * h * e2)[:, None], W * (h * h * e3)[:, None]]
         for i, (amp, om, ph) in prop.sines:
-            den = lam + 1j * om
-            eh = np.exp(1j * om * h)
-            c = amp * W[:, i] * (eh - e0) / den
-            c2 = amp * W[:, i] * ((eh - 1.0) / (1j * om) - h * e1) / den
+            c, c2 = sine_response_factors(h * lam, e1, e2, om * h, h)
+            c, c2 = amp * W[:, i] * c, amp * W[:, i] * c2
             cols_g.append(np.column_stack([c.real, c.imag]))
             cols_h.append(np.column_stack([c2.real, c2.imag]))
         M_g = np.hstack(cols_g)                                          # (n, K)
@@ -458,7 +456,8 @@ class ModalEvaluator:
         t0 = tt[k]
         s = (times - t0)[:, None]
         zk = np.stack([self.state(int(i)) for i in k])
-        e0, e1, e2, _ = phi_functions(s * lam[None, :])
+        x = s * lam[None, :]
+        e0, e1, e2, _ = phi_functions(x)
         right = linear_parts(prop.profiles, t0, "right")                 # (q, I)
         left = linear_parts(prop.profiles, tt[k + 1], "left")
         h = (tt[k + 1] - t0)[:, None]
@@ -466,6 +465,6 @@ class ModalEvaluator:
         z = e0 * zk + s * (e1 * (right @ W.T) + e2 * s * (slope @ W.T))
         for i, (amp, om, ph) in prop.sines:
             rot = np.exp(1j * (om * t0 + ph))[:, None]
-            resp = amp * W[:, i][None, :] * (np.exp(1j * om * s) - e0) / (lam + 1j * om)[None, :]
+            resp = amp * W[:, i][None, :] * sine_response_factors(x, e1, e2, om * s, s)[0]
             z += (rot * resp).imag
         return z

@@ -201,3 +201,36 @@ def test_a_melting_pack_on_a_stiff_tray_beside_radiation():
     # before the correction reached networks with radiation: 0.048 W
     assert np.max(np.abs(res.heat_flows["contact"].values - q_ref)) < 1e-3
     assert res.energy_balance < 1e-9
+
+
+@pytest.mark.parametrize("varying", [False, True])
+def test_a_network_large_enough_for_sparse_matrices(varying):
+    """The plate beside a 150-slice slab between the room and the oven (radiation at its far
+    face): the model works with sparse matrices; the plate's ODE is untouched by the slab (it
+    shares only boundaries), so the reference is the same hand-written one."""
+    from rcsim.transient.energy_model import DENSE_STATES
+
+    G = C / 1e-3
+    contact = (rcsim.Sine(mean=G, amplitude=0.5 * G, period=PERIOD / 4, peak=PERIOD / 16)
+               if varying else G)
+    net = plate(contact)
+    net.add_boundary("room", temperature=20.0)
+    prev = "room"
+    for i in range(150):
+        net.add_node(f"s{i}", capacity=2000.0, initial=20.0)
+        net.add_link(prev, f"s{i}", resistance=0.01, name=f"k{i}")
+        prev = f"s{i}"
+    net.add_link(prev, "oven", parts=[{"radiation": {"emissivity": 0.9, "area": 0.2}}],
+                 name="far")
+    res = net.simulate(duration=86400, step=600, solver="stiff")
+    assert res.run_info.states > DENSE_STATES
+    t = res.heat_flows.index.values
+
+    def G_of(s):   # the sine written out, or the constant
+        return G + (0.5 * G * np.cos(4 * W * (s - PERIOD / 16)) if varying else 0.0 * s)
+
+    T = reference(t, G_of)                                 # solve_ivp on the hand-written ODE
+    swing = C * AMPLITUDE * W
+    assert np.max(np.abs(res.heat_flows["contact"].values - G_of(t) * (T - frame(t)))) \
+        < 0.01 * swing
+    assert res.energy_balance < 1e-9

@@ -23,7 +23,7 @@ from ..runinfo import RunInfo
 from ..threads import kernels
 from .base import NotSuitable, Progress
 from .exact import CHUNK_ELEMENTS  # noqa: F401 (older imports)
-from .periodic import _check_grounded, periodic_start
+from .periodic import check_grounded, periodic_start
 from .problem import MAX_SAMPLES, build_problem
 from .registry import AUTO, BALANCE_LIMIT, EXACT_LIMIT, PATHS, SOLVERS, load_path
 
@@ -106,7 +106,7 @@ def check_run(network, duration, step, *, initial=None, solver="auto", record=No
                                 record=record, rtol=rtol, atol=atol, times=times)
         choose_paths(problem, solver)
         if problem.initial == "periodic":
-            _check_grounded(problem.asm)
+            check_grounded(problem.asm)
             model = problem.energy_model
             common_period(model.profiles + model.varying_profiles, "simulation.initial")
 

@@ -21,7 +21,7 @@ from .base import NotSuitable
 from .mixing import Anderson
 from .problem import Start
 
-__all__ = ["periodic_start", "find_fixed_point"]
+__all__ = ["periodic_start", "find_fixed_point", "check_grounded"]
 
 
 def periodic_start(problem, period_map=None, max_periods: int = 200,
@@ -35,7 +35,7 @@ def periodic_start(problem, period_map=None, max_periods: int = 200,
     :class:`rcsim.errors.NetworkError` when a group of nodes has no path to a boundary (its
     level over a period is set by nothing, as its steady state is).
     """
-    _check_grounded(problem.asm)
+    check_grounded(problem.asm)
     if problem.is_linear and problem.ss.n <= DENSE_LIMIT:
         return _linear_start(problem)
     from .stiff import StiffPath
@@ -60,7 +60,7 @@ def periodic_start(problem, period_map=None, max_periods: int = 200,
     raise AssertionError("unreachable")  # pragma: no cover
 
 
-def _check_grounded(asm) -> None:
+def check_grounded(asm) -> None:
     """Refuse a periodic start when a group of nodes has no path to any boundary."""
     groups = asm.floating_groups()
     if groups:

@@ -300,7 +300,9 @@ class BalancedFlows:
     #: A sample whose correction of a stored energy exceeds this many times the solver's error
     #: bound on it (rtol |H| + atol C) keeps its state's temperatures: the rate is then the
     #: less trustworthy of the two (a step whose polynomial straddles a kink of an input or
-    #: the edge of a melting range). Measured: at most 2.1 on stiff links, 9.4 at a kink.
+    #: the edge of a melting range). Measured: at most 2.1 on stiff links, 9.4 at a kink. In a
+    #: step cut short, the distance to the solver's own state counts too (the state of the
+    #: step before, extrapolated, may be the farther one, or the solver's).
     TRUST = 4.0
 
     def __init__(self, model: EnergyModel, rtol: float = 1e-6, atol: float = 1e-6):
@@ -365,12 +367,15 @@ class BalancedFlows:
             f[:, c.node_idx] += c.power_history(t, T)
         return f
 
-    def temperatures(self, t, H, w, dH, h, left) -> np.ndarray | None:
+    def temperatures(self, t, H, w, dH, h, left, H_state=None) -> np.ndarray | None:
         """Corrected state temperatures (rows of samples), or None without a correction.
 
-        ``H``: stored energies of the states (rows); ``w``: the inputs at the samples
-        (right-hand values; those before the jump are taken where ``left``); ``dH``: the rates
-        of stored energy (NaN where none belongs to the sample); ``h``: the steps' lengths."""
+        ``H``: stored energies of the states (rows) the correction starts from; ``w``: the
+        inputs at the samples (right-hand values; those before the jump are taken where
+        ``left``); ``dH``: the rates of stored energy (NaN where none belongs to the sample);
+        ``h``: the steps' lengths; ``H_state``: the solver's own states where they differ
+        from ``H`` (a step cut short: a correction is trusted when it is small against
+        either)."""
         if not self.active:
             return None
         model = self.model
@@ -393,13 +398,15 @@ class BalancedFlows:
                       for rows in np.array_split(np.flatnonzero(pending & (keys == key)), 2 ** r)
                       if rows.size]
             rows = np.concatenate(groups)
-            done = self._iterate(groups, rows, keys, t, H, T0, w, dH, left, tol, out)
+            done = self._iterate(groups, rows, keys, t, H, T0, w, dH, left, tol, out,
+                                 H if H_state is None else H_state)
             pending[rows[done]] = False
             if not pending.any():
                 break
         return out
 
-    def _iterate(self, groups, rows, keys, t, H, T0, w, dH, left, tol, out) -> np.ndarray:
+    def _iterate(self, groups, rows, keys, t, H, T0, w, dH, left, tol, out,
+                 H_state) -> np.ndarray:
         """Chord iterations on ``rows`` (the ``groups`` one after the other, each with one
         matrix); writes the corrected temperatures of the rows that converge into ``out`` and
         returns which did."""
@@ -427,7 +434,9 @@ class BalancedFlows:
             converged = np.isfinite(T).all(axis=1)
         model = self.model
         bound = self.rtol * np.abs(H_r) + self.atol * model.C[None, :]
-        trusted = converged & (np.abs(delta) <= self.TRUST * bound).all(axis=1)
+        trusted = converged & (
+            (np.abs(delta) <= self.TRUST * bound).all(axis=1)
+            | (np.abs(H_r + delta - H_state[rows]) <= self.TRUST * bound).all(axis=1))
         out[rows[trusted]] = T[trusted]
         return converged
 
@@ -505,12 +514,13 @@ class Switching:
         return hit
 
 
-def _flow_temperatures(model, balanced, out_map, chunk, rates):
+def _flow_temperatures(model, balanced, out_map, chunk, Y, rates):
     """The output nodes' temperatures for the chunk's heat flows (:class:`BalancedFlows`), or
     None where nothing is corrected. The inputs are those :func:`.output.chunk_from_states`
     already evaluated for the chunk (``chunk.u``, ``chunk.s``), not evaluated again."""
     w = np.hstack([chunk.u, chunk.s]) if model.profiles else np.zeros((chunk.t.size, 0))
-    Tc = balanced.temperatures(chunk.t, rates.H, w, rates.dH, rates.h, rates.left)
+    Tc = balanced.temperatures(chunk.t, rates.H, w, rates.dH, rates.h, rates.left,
+                               Y[:, :model.n])
     return None if Tc is None else out_map.temperatures(Tc, w)
 
 
@@ -551,7 +561,7 @@ class StiffPath(TransientPath):
         def emit(t, Y, rates=None):
             chunk = chunk_from_states(model, t, Y, H0_sum, out_map, extras_fn)
             if rates is not None:
-                chunk.T_flow = _flow_temperatures(model, balanced, out_map, chunk, rates)
+                chunk.T_flow = _flow_temperatures(model, balanced, out_map, chunk, Y, rates)
             if pieces:             # band crossings located on the steps' polynomials
                 chunk.evaluate = StiffEvaluator(list(pieces), watched, model)
                 pieces[:] = pieces[-1:]

@@ -128,6 +128,17 @@ def parse_timestamps(text, zone: tzinfo | None, label: str, column: str):
     """
     import pandas as pd
 
+    fast = _fixed_shape_stamps(text)
+    if fast is not None:      # the same instants, read from the bytes (see the function)
+        index, offsets = fast
+        if offsets is not None:
+            if _has_rules(zone) and (offsets != offsets[0]).any():
+                _check_offsets_follow_zone(index, offsets, zone, text, label, column)
+            return index.tz_convert(zone) if zone is not None else index
+        if zone is None:
+            return index
+        return _localize(index, zone, text, f"time column {quote_cell(column)}",
+                         lambda i: f"{label} line {line_of(i)}")
     parts = split_stamps(text)
     unmatched = parts["clock"].isna().to_numpy()
     if unmatched.any():   # no time of day: a date alone, or not a timestamp at all
@@ -196,6 +207,146 @@ def split_stamps(text):
                 column[rows] = [cell[start:end] for cell in cells[rows]]
     return pd.DataFrame({group: pd.Series(column, index=text.index, dtype=text.dtype)
                          for group, column in out.items()})
+
+
+#: the shapes (digits written as 0) of stamps read from their bytes: date, T or space, the hour,
+#: then minutes, seconds and a fraction of up to 6 digits as far as given, and an offset (Z,
+#: +00:00, +0000 or +00) or none; anything else is read by :func:`split_stamps` and pandas
+_FIXED_SHAPE = re.compile(r"^0000-00-00[T ]00(?::00(?::00(?:\.(0{1,6}))?)?)?"
+                          r"(Z|[+-]00(?::?00)?)?$")
+#: at most this many shapes in one column for the byte reading (a shape costs a pass)
+_MAX_SHAPES = 8
+#: rows turned into bytes at a time (their text objects exist only for a block)
+_BLOCK = 1 << 16
+
+
+def _fixed_shape_stamps(text):
+    """The instants of a column of stamps of a few fixed shapes (:data:`_FIXED_SHAPE`), read
+    from the cells' bytes with array arithmetic: (a DatetimeIndex, in UTC when the stamps have
+    offsets, else naive; the offsets [s] east of UTC, or None), or None where anything is not
+    as those shapes say, or any value would be refused (month 13, an hour 24, an offset out of
+    range, rows with and without offsets), so that the reading by text runs and names the row.
+
+    The result is what ``pd.to_datetime(text, format="ISO8601")`` gives (with ``utc=True`` for
+    stamps with offsets), in the same unit: pandas reads one row of each shape and the two are
+    compared. A column of a million stamps then needs a few bytes per character, not a
+    Python string per piece of each stamp (tests/benchmarks/bench_csv.py).
+    """
+    import pandas as pd
+
+    n = len(text)
+    if n == 0 or text.isna().any():
+        return None
+    lengths = text.str.len().to_numpy(dtype=np.int64)
+    width = int(lengths.max())
+    if width > 40 or lengths.min() < 13:
+        return None
+    micro = np.zeros(n, dtype=np.int64)
+    offsets = np.zeros(n, dtype=np.int64)
+    with_offset = np.zeros(n, dtype=bool)
+    known = []               # (shape, its match of _FIXED_SHAPE, its first row)
+    for a in range(0, n, _BLOCK):     # a block of rows at a time: no temporary of the whole
+        block = text.iloc[a:a + _BLOCK].to_numpy(dtype=object)
+        try:
+            cells = np.array(block, dtype=f"S{width}").view(np.uint8).reshape(block.size, width)
+        except (UnicodeEncodeError, TypeError, ValueError):
+            return None      # not ASCII: no stamp of these shapes
+        if ((cells != 0).sum(axis=1) != lengths[a:a + block.size]).any():
+            return None      # a NUL in a cell
+        shapes = np.where((cells >= 48) & (cells <= 57), np.uint8(48), cells)
+        todo = np.ones(block.size, dtype=bool)
+        k = 0
+        while todo.any():
+            if k == len(known):          # a shape not met before: its first row
+                if k == _MAX_SHAPES:
+                    return None
+                i = int(np.argmax(todo))
+                match = _FIXED_SHAPE.match(bytes(shapes[i]).rstrip(b"\0").decode("ascii"))
+                if match is None:
+                    return None
+                known.append((shapes[i].copy(), match, a + i))
+            shape, match, _ = known[k]
+            same = todo & (shapes == shape).all(axis=1)
+            if same.any():
+                if not _read_fixed(cells[same], match, a + np.flatnonzero(same), micro,
+                                   offsets, with_offset):
+                    return None
+                todo &= ~same
+            k += 1
+    del lengths
+    firsts = sorted(first for _, _, first in known)
+    if with_offset.any() and not with_offset.all():
+        return None
+    utc = bool(with_offset[0])
+    try:
+        sample = pd.to_datetime(text.iloc[firsts], format="ISO8601", utc=utc)
+    except (ValueError, TypeError, OverflowError):
+        return None
+    unit = np.datetime_data(sample.dtype.base if hasattr(sample.dtype, "base") else
+                            sample.dtype)[0]
+    if unit not in ("s", "ms", "us", "ns"):
+        return None
+    if unit == "ns" and not (_NS_MIN <= micro.min() and micro.max() <= _NS_MAX):
+        return None          # outside the years a nanosecond clock holds: pandas refuses them
+    if unit in ("s", "ms") and (micro % {"s": 1_000_000, "ms": 1000}[unit]).any():
+        return None
+    if utc:
+        micro -= offsets * 1_000_000         # the instants, in place
+    instants = micro.view("datetime64[us]")
+    index = pd.DatetimeIndex(instants if unit == "us" else instants.astype(f"datetime64[{unit}]"))
+    if utc:
+        index = index.tz_localize("UTC")
+    if not index[firsts].equals(pd.DatetimeIndex(sample)):
+        return None
+    return index, (offsets if utc else None)
+
+
+#: the instants [us from 1970] a nanosecond clock holds (pandas' bounds, whole microseconds)
+_NS_MIN, _NS_MAX = -9_223_372_036_854_775, 9_223_372_036_854_775
+
+
+def _read_fixed(cells, match, rows, micro, offsets, with_offset) -> bool:
+    """Read the stamps ``cells`` (rows x width bytes) of one shape into ``micro`` (local clock
+    reading, us from 1970), ``offsets`` [s] and ``with_offset`` at ``rows``; False where a
+    value is out of range (the text reading then refuses it by name)."""
+    def number(start, count):
+        out = np.zeros(len(cells), dtype=np.int64)
+        for k in range(count):
+            out = out * 10 + (cells[:, start + k].astype(np.int64) - 48)
+        return out
+
+    clock = match.string[:match.start(2)] if match.group(2) is not None else match.string
+    year, month, day = number(0, 4), number(5, 2), number(8, 2)
+    hour = number(11, 2)
+    minute = number(14, 2) if len(clock) >= 16 else np.zeros_like(hour)
+    second = number(17, 2) if len(clock) >= 19 else np.zeros_like(hour)
+    fraction = match.group(1)
+    frac = number(20, len(fraction)) * 10 ** (6 - len(fraction)) if fraction else 0
+    if (year < 1).any() or (month < 1).any() or (month > 12).any() or (day < 1).any() or \
+            (hour > 23).any() or (minute > 59).any() or (second > 59).any():
+        return False
+    months = ((year - 1970) * 12 + month - 1).astype("datetime64[M]")
+    first = months.astype("datetime64[D]")
+    if (day > ((months + 1).astype("datetime64[D]") - first).astype(np.int64)).any():
+        return False          # 31 April, 29 February of a common year
+    days = first.astype(np.int64) + day - 1
+    micro[rows] = ((days * 24 + hour) * 60 + minute) * 60_000_000 + second * 1_000_000 + frac
+    offset = match.group(2)
+    if offset is None:
+        return True
+    at = match.start(2)
+    if offset == "Z":
+        seconds = np.zeros(len(cells), dtype=np.int64)
+    else:
+        sign = np.where(cells[:, at] == ord("-"), -1, 1)
+        minutes = number(at + len(offset) - 2, 2) if len(offset) > 3 else 0
+        seconds = sign * (number(at + 1, 2) * 3600 + minutes * 60)
+        if (np.asarray(minutes) >= 60).any() or (seconds < _MIN_OFFSET).any() or \
+                (seconds > _MAX_OFFSET).any():
+            return False
+    offsets[rows] = seconds
+    with_offset[rows] = True
+    return True
 
 
 def _refuse_unparsed(stamps, text, label, column) -> None:

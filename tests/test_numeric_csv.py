@@ -399,3 +399,96 @@ def test_stamps_split_by_shape_as_the_pattern_splits_each_row(many):
     for dtype in (str, object):
         text = pd.Series(cells, dtype=dtype)
         pd.testing.assert_frame_equal(split_stamps(text), text.str.extract(_STAMP))
+
+
+# -- timestamps read from their bytes (rcsim.clock._fixed_shape_stamps) ------------------------
+def _stamp_outcome(monkeypatch, cells, zone, fast):
+    """parse_timestamps of a column, with the byte reading or with pandas' alone (the reading
+    by text, as before: split_stamps and pandas.to_datetime with format='ISO8601')."""
+    from rcsim import clock
+
+    if not fast:
+        monkeypatch.setattr(clock, "_fixed_shape_stamps", lambda text: None)
+    try:
+        index = clock.parse_timestamps(pd.Series(cells, dtype=str), zone, "r.csv", "time")
+        return "ok", index
+    except DataError as err:
+        return "error", str(err)
+    finally:
+        monkeypatch.undo()
+
+
+def _random_stamps(rng, n, shape):
+    """``n`` increasing stamps of one ``shape`` (a strftime pattern and an offset text)."""
+    pattern, offset = shape
+    start = rng.randrange(-60_000, 90_000) * 86400 + rng.randrange(86400)   # days from 1970
+    steps = np.cumsum([rng.choice([1, 59, 60, 3600, 86399, 31 * 86400]) for _ in range(n)])
+    out = []
+    for s in start + steps:
+        t = pd.Timestamp(0, unit="s") + pd.Timedelta(seconds=int(s))
+        text = t.strftime(pattern)
+        if "%f" in pattern:
+            text = text[:len(text) - rng.choice([0, 3, 5])]
+        out.append(text + offset)
+    return out
+
+
+SHAPES = [("%Y-%m-%dT%H:%M:%S", ""), ("%Y-%m-%dT%H:%M", ""), ("%Y-%m-%d %H:%M:%S", ""),
+          ("%Y-%m-%dT%H", ""), ("%Y-%m-%dT%H:%M:%S.%f", ""), ("%Y-%m-%dT%H:%M:%S", "Z"),
+          ("%Y-%m-%dT%H:%M", "+02:00"), ("%Y-%m-%dT%H:%M:%S", "-0530"),
+          ("%Y-%m-%dT%H:%M:%S.%f", "+14"), ("%Y-%m-%d %H:%M", "Z"), ("%Y-%m-%dT%H:%M", "-12:00")]
+
+
+@pytest.mark.parametrize("shape", SHAPES)
+def test_stamps_read_from_their_bytes_are_pandas_own(monkeypatch, shape):
+    # the reference: pandas.to_datetime(format='ISO8601') on the same texts (the reading by
+    # text); random instants from the year 1805 to 2216 (so a nanosecond clock holds them too),
+    # with and without a site zone (placed by the same rule after)
+    from rcsim import clock
+
+    rng = random.Random(SHAPES.index(shape))
+    cells = _random_stamps(rng, 300, shape)
+    assert clock._fixed_shape_stamps(pd.Series(cells, dtype=str)) is not None  # the byte reading
+    for zone in (None, clock.parse_time_zone("+03:00"), clock.parse_time_zone("Europe/Madrid")):
+        fast = _stamp_outcome(monkeypatch, cells, zone, True)
+        slow = _stamp_outcome(monkeypatch, cells, zone, False)
+        assert fast[0] == slow[0]
+        if fast[0] == "ok":
+            pd.testing.assert_index_equal(fast[1], slow[1], exact=True)
+            assert fast[1].dtype == slow[1].dtype
+        else:
+            assert fast[1] == slow[1]
+
+
+BAD_OR_ODD = [
+    ["2021-07-01T12:00", "2021-13-01T12:00"], ["2021-02-29T12:00", "2021-03-01T00:00"],
+    ["2020-02-29T12:00", "2020-04-31T00:00"], ["2021-07-01T24:00"], ["2021-07-01T23:59:60"],
+    ["0000-01-01T00:00"], ["2021-07-01T12:00+15:00"], ["2021-07-01T12:00-12:30"],
+    ["2021-07-01T12:00+02:60"], ["2021-07-01T12:00Z", "2021-07-01T13:00"],
+    ["2021-07-01T12:00", "2021-07-01T13:00+01:00"], ["2021-07-01T12:00:00.1234567"],
+    ["2021-07-01T12:00:00,5"], ["2021-07-01T12:00z"], ["2021-7-01T12:00"], ["2021-07-01T12:00 +02:00"],
+    ["2021-07-01T12:00\x00"], ["2021-07-01T12:0\u0661"], ["2021-07-01T12:00", "2021-07-01"],
+    ["2021-03-28T02:30", "2021-03-28T03:30"], ["2021-10-31T02:30"],
+    ["2021-03-28T01:30+01:00", "2021-03-28T03:30+02:00", "2021-03-28T04:00+01:00"],
+    ["1600-01-01T00:00:00.1234567"], ["2021-07-01T12:00:00.000001", "2021-07-01T12:00:01"],
+    [f"2021-07-01T12:{m:02d}{'Z' if m % 2 else '+00:00'}" for m in range(20)],
+    [f"2021-07-01T12:00:{s:02d}.{'5' * (1 + s % 9)}" for s in range(20)],
+]
+
+
+@pytest.mark.parametrize("cells", BAD_OR_ODD, ids=range(len(BAD_OR_ODD)))
+def test_stamps_out_of_range_or_odd_give_the_same_outcome(monkeypatch, cells):
+    # each refused with the same message, or read to the same instants, as by text (a month
+    # 13, 29 February of a common year, an hour 24, a leap second, offsets out of range or
+    # mixed with none, a fraction of 7 digits, a decimal comma, a local time the clock skips,
+    # an offset against the zone's rules, more shapes than are read from bytes, ...)
+    from rcsim import clock
+
+    for zone in (None, clock.parse_time_zone("Europe/Madrid")):
+        fast = _stamp_outcome(monkeypatch, cells, zone, True)
+        slow = _stamp_outcome(monkeypatch, cells, zone, False)
+        assert fast[0] == slow[0], (fast, slow)
+        if fast[0] == "ok":
+            pd.testing.assert_index_equal(fast[1], slow[1], exact=True)
+        else:
+            assert fast[1] == slow[1]

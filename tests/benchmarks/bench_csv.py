@@ -13,9 +13,15 @@ with the numbers-first parse (the default) and with the text pass alone
 CSV files before). Ratios are text pass / numbers first. A process that only imports rcsim and
 pandas is the memory baseline.
 
+The file of timestamps is read numbers first twice more: its stamps read from their bytes (the
+default, ``rcsim.clock._fixed_shape_stamps``) and read as text pieces by pandas
+(``_fixed_shape_stamps`` switched off: ``rcsim.clock.split_stamps`` and
+``pandas.to_datetime(format="ISO8601")``, as before); ratios are text / bytes.
+
     python tests/benchmarks/bench_csv.py                 # 6,000,000 and 1,000,000 rows, and
                                                          # 1,000,000 rows of timestamps
     python tests/benchmarks/bench_csv.py --rows 1000000  # one size only
+    python tests/benchmarks/bench_csv.py --rows 0        # the file of timestamps alone
 """
 
 from __future__ import annotations
@@ -33,8 +39,11 @@ CHILD = r"""
 import json, sys, time
 import pandas, rcsim
 from rcsim.profiles import Table, numeric_csv
-what, path, fast = sys.argv[1], sys.argv[2], sys.argv[3] == "fast"
+what, path, fast = sys.argv[1], sys.argv[2], sys.argv[3] != "text"
 numeric_csv.ENABLED = fast
+if sys.argv[3] == "stamps-as-text":
+    import rcsim.clock
+    rcsim.clock._fixed_shape_stamps = lambda text: None
 t0 = time.perf_counter()
 if what == "api":
     n = Table.from_csv(path, "t_out").bind("temperature", "outdoor").times.size
@@ -82,8 +91,9 @@ def write_record(path: str, rows: int, days: float = 4000.0, stamps: bool = Fals
             fh.write("\n")
 
 
-def child(what: str, path: str, fast: bool) -> dict:
-    out = subprocess.run([sys.executable, "-c", CHILD, what, path, "fast" if fast else "text"],
+def child(what: str, path: str, fast) -> dict:
+    mode = fast if isinstance(fast, str) else ("fast" if fast else "text")
+    out = subprocess.run([sys.executable, "-c", CHILD, what, path, mode],
                          capture_output=True, text=True)
     if out.returncode != 0:
         return {"error": out.stderr.strip().splitlines()[-1]}
@@ -133,6 +143,26 @@ def bench(rows: int, repeats: int, stamps: bool = False) -> None:
                   f"({(s['peak_mb'] - base) / max(f['peak_mb'] - base, 1):.1f}x above import); "
                   f"numbers first peaks at {f['peak_mb'] / size_mb:.2f}x the file's size, "
                   f"{(f['peak_mb'] - base) / size_mb:.2f}x above import (target < 3x)")
+    if stamps:
+        print(f"  {'read':<10}{'stamps':<15}{'wall s':>8}{'peak MB':>9}{'x file':>8}"
+              f"{'above import':>14}{'x file':>8}")
+        for what in ("api", "scenario"):
+            results = {}
+            for mode, name in (("fast", "from bytes"), ("stamps-as-text", "as text")):
+                r = best(what, csv if what == "api" else scenario, mode, repeats)
+                results[mode] = r
+                if "error" in r:
+                    print(f"  {what:<10}{name:<15}failed: {r['error']}")
+                    continue
+                above = r["peak_mb"] - base
+                print(f"  {what:<10}{name:<15}{r['wall']:8.2f}{r['peak_mb']:9.0f}"
+                      f"{r['peak_mb'] / size_mb:8.2f}{above:14.0f}{above / size_mb:8.2f}")
+            f, s = results["fast"], results["stamps-as-text"]
+            if "error" not in f and "error" not in s:
+                print(f"  {what}: stamps as text take {s['wall'] / f['wall']:.1f}x the time and "
+                      f"{s['peak_mb'] / f['peak_mb']:.1f}x the peak memory "
+                      f"({(s['peak_mb'] - base) / max(f['peak_mb'] - base, 1):.1f}x above "
+                      "import)")
     for name in (csv, scenario):
         os.remove(name)
     os.rmdir(folder)
@@ -141,16 +171,18 @@ def bench(rows: int, repeats: int, stamps: bool = False) -> None:
 def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--rows", type=int, action="append",
-                    help="rows of the file (repeatable; default 6,000,000 and 1,000,000)")
+                    help="rows of the file (repeatable; default 6,000,000 and 1,000,000; 0: "
+                    "none)")
     ap.add_argument("--stamps", type=int, default=1_000_000,
-                    help="rows of a file of timestamps also read (0: none; both passes split "
-                    "timestamps the same way, rcsim.clock.split_stamps)")
+                    help="rows of a file of timestamps also read (0: none), its stamps also "
+                    "read as text pieces, as before")
     ap.add_argument("--repeats", type=int, default=3,
                     help="reads with numbers first, best kept (the text pass: one)")
     args = ap.parse_args(argv)
     print(f"load average {os.getloadavg()[0]:.2f} before")
-    for rows in args.rows or [6_000_000, 1_000_000]:
-        bench(rows, args.repeats)
+    for rows in args.rows if args.rows is not None else [6_000_000, 1_000_000]:
+        if rows > 0:     # --rows 0: the file of timestamps alone
+            bench(rows, args.repeats)
     if args.stamps:
         bench(args.stamps, args.repeats, stamps=True)
     print(f"load average {os.getloadavg()[0]:.2f} after")

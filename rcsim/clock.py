@@ -286,12 +286,12 @@ def _fixed_shape_stamps(text):
                             sample.dtype)[0]
     if unit not in ("s", "ms", "us", "ns"):
         return None
-    if unit == "ns" and not (_NS_MIN <= micro.min() and micro.max() <= _NS_MAX):
-        return None          # outside the years a nanosecond clock holds: pandas refuses them
     if unit in ("s", "ms") and (micro % {"s": 1_000_000, "ms": 1000}[unit]).any():
         return None
     if utc:
         micro -= offsets * 1_000_000         # the instants, in place
+    if unit == "ns" and not (_NS_MIN <= micro.min() and micro.max() <= _NS_MAX):
+        return None          # outside the years a nanosecond clock holds: pandas refuses them
     instants = micro.view("datetime64[us]")
     index = pd.DatetimeIndex(instants if unit == "us" else instants.astype(f"datetime64[{unit}]"))
     if utc:

@@ -47,6 +47,8 @@ import numpy as np
 
 from timing import best_of  # tests/benchmarks/timing.py
 
+HERE = os.path.dirname(os.path.abspath(__file__))
+
 
 def wall_network(n_concrete=30, n_insulation=18, days=365):
     """The wall, built through the API as a user would; n_concrete + n_insulation + 2 nodes."""
@@ -144,16 +146,9 @@ import json, os, resource, sys, tempfile, time
 import numpy as np
 import rcsim
 n, mode = int(sys.argv[1]), sys.argv[2]
-rng = np.random.default_rng(0)
-net = rcsim.Network()
-net.add_boundary("amb", temperature=rcsim.Sine(mean=20, amplitude=5, period=86400))
-for i in range(n):
-    net.add_node(f"n{i}", capacity=float(rng.uniform(1e3, 1e4)), initial=20.0)
-for i in range(n - 1):
-    net.add_link(f"n{i}", f"n{i+1}", resistance=float(rng.uniform(0.01, 0.1)))
-for i in range(0, n, 100):
-    net.add_link(f"n{i}", "amb", resistance=1.0, name=f"skin{i}")
-net.add_source(f"n{n // 2}", power=rcsim.Steps([0, 3600], [0.0, 200.0]))
+sys.path.insert(0, sys.argv[3])
+from bench_large import chain       # the chain network, built through the API
+net = chain(n)
 net.assemble()
 cpu0 = resource.getrusage(resource.RUSAGE_SELF).ru_utime
 t0 = time.perf_counter()
@@ -179,7 +174,7 @@ print(json.dumps({"wall": wall, "cpu": cpu, "peak_mb": peak, **out}))
 
 
 def large(n: int, mode: str) -> dict:
-    p = subprocess.run([sys.executable, "-c", CHILD, str(n), mode], capture_output=True,
+    p = subprocess.run([sys.executable, "-c", CHILD, str(n), mode, HERE], capture_output=True,
                        text=True)
     if p.returncode:
         return {"error": p.stderr.strip().splitlines()[-1] if p.stderr else "failed"}
@@ -276,17 +271,9 @@ elif work == "sweep":
     def job():
         return rcsim.sweep(sc, VARY, samples=50, seed=1, executor="serial")
 elif work == "large":
+    from bench_large import chain
     n = 10_000
-    rng = np.random.default_rng(0)
-    net = rcsim.Network()
-    net.add_boundary("amb", temperature=rcsim.Sine(mean=20, amplitude=5, period=86400))
-    for i in range(n):
-        net.add_node(f"n{i}", capacity=float(rng.uniform(1e3, 1e4)), initial=20.0)
-    for i in range(n - 1):
-        net.add_link(f"n{i}", f"n{i+1}", resistance=float(rng.uniform(0.01, 0.1)))
-    for i in range(0, n, 100):
-        net.add_link(f"n{i}", "amb", resistance=1.0, name=f"skin{i}")
-    net.add_source(f"n{n // 2}", power=rcsim.Steps([0, 3600], [0.0, 200.0]))
+    net = chain(n)
     net.assemble()
     def job():
         return net.simulate("1 d", "1 min", record=["n0", f"n{n // 2}", f"n{n - 1}"])

@@ -84,45 +84,19 @@ _registry_lock = threading.Lock()
 
 def registry():
     """The pint unit registry rcsim parses units with: pint is imported, and its definitions
-    parsed, on the first call (about 0.2 s; :func:`_import_pint` says what is left out); the
-    same object afterwards, from any thread. Also reachable as ``rcsim.units.ureg``. The units
-    people write most (:data:`COMMON_UNITS`) are converted without it."""
+    parsed, on the first call (~0.2-0.4 s); the same object afterwards, from any thread. Also
+    reachable as ``rcsim.units.ureg``. The units people write most (:data:`COMMON_UNITS`) are
+    converted without it."""
     global _registry
     if _registry is None:
         with _registry_lock:
             if _registry is None:
-                pint = _import_pint()
+                import pint
+
                 built = pint.UnitRegistry()
                 built.formatter.default_format = "~P"
                 _registry = built
     return _registry
-
-
-def _import_pint():
-    """Import pint without its optional support for dask arrays, unless dask or pint is
-    already imported.
-
-    pint imports ``dask.base`` whenever dask is installed (``pint.compat``), which costs about
-    as much again as pint itself (tests/benchmarks/bench_startup.py), and rcsim never puts a
-    dask array in a quantity. While pint is imported, ``sys.modules["dask"]`` is ``None``,
-    which is Python's documented way to make an import of a module fail (the import system's
-    reference on ``sys.modules``; ``importlib.util.find_spec`` then answers ``None``), and the
-    entry is taken away again at once, so ``import dask`` works as before afterwards. Every unit
-    and every conversion of pint stays; only quantities wrapping dask arrays lose pint's dask
-    methods in this process. A program that wants those imports dask (or pint) first: then
-    nothing is changed.
-    """
-    if "pint" in sys.modules or "dask" in sys.modules:
-        import pint
-
-        return pint
-    sys.modules["dask"] = None
-    try:
-        import pint
-    finally:
-        if "dask" in sys.modules and sys.modules["dask"] is None:
-            del sys.modules["dask"]
-    return pint
 
 
 #: The units written most in scenario files, logs and options, converted without the unit

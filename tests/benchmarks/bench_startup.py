@@ -13,12 +13,7 @@ machine against a bare interpreter and a bare ``import numpy``:
 6. one unit converted in a fresh process: a unit written most ("50 mm", from
    ``rcsim.units.COMMON_UNITS``, no pint) against one that needs pint's registry ("2 yd":
    pint imported, its definitions parsed, no disk cache), the cost a scenario pays for a
-   unit outside the common list; and "2 yd" as it cost before rcsim left out pint's dask
-   support (dask imported first, as pint itself did where dask is installed).
-7. what a user sees: ``rcsim run`` of the bundled shipper against the same file with its foam
-   thickness written in yards (the one unit outside the common list), and the parts of the
-   difference: importing pint with and without its dask import, and parsing its definitions
-   (processor time in one process, numpy already imported as in a run).
+   unit outside the common list.
 
 Run:  python tests/benchmarks/bench_startup.py [--repeats N]
 Ratios are measured in one run on the same machine; absolute times are only indicative.
@@ -54,20 +49,6 @@ def wall(command: list[str], repeats: int) -> float:
         if i:
             best = min(best, elapsed)
     return best
-
-
-def wall_pair(first: list[str], second: list[str], repeats: int) -> tuple[float, float]:
-    """Best wall times [s] of two commands run in turns, ``repeats`` times each (after one
-    untimed warm-up of each)."""
-    best = [float("inf"), float("inf")]
-    for i in range(repeats + 1):
-        for j, command in enumerate((first, second)):
-            t0 = time.perf_counter()
-            subprocess.run(command, check=True, stdout=subprocess.DEVNULL,
-                           stderr=subprocess.DEVNULL, cwd=ROOT)
-            if i:
-                best[j] = min(best[j], time.perf_counter() - t0)
-    return best[0], best[1]
 
 
 _LINE = re.compile(r"^import time:\s+(\d+)\s+\|\s+(\d+)\s+\|( *)(\S+)")
@@ -113,14 +94,6 @@ def main() -> None:
     unit = "import rcsim.units as u; u.to_si({!r}, 'length')"
     common = wall(python + ["-c", unit.format("50 mm")], n)
     registry = wall(python + ["-c", unit.format("2 yd")], n)
-    with_dask = wall(python + ["-c", "import dask.base; " + unit.format("2 yd")], n) \
-        if _has("dask") else None
-    yards = _scenario_in_yards()
-    try:       # taken in turns, so that a change in the machine's load touches both alike
-        run_bundled, run_yards = wall_pair(RCSIM + ["run", COLD_BOX], RCSIM + ["run", yards], n)
-    finally:
-        os.remove(yards)
-    parts = _pint_parts(n)
     print(f"start-up, best of {n} fresh processes ({'console script' if SCRIPT else 'python -c'})")
     print(f"  python -c pass              {bare * 1e3:8.0f} ms")
     print(f"  python -c 'import numpy'    {numpy * 1e3:8.0f} ms")
@@ -132,66 +105,10 @@ def main() -> None:
     print(f"  of which importing (-X importtime): {importing * 1e3:.0f} ms of {traced * 1e3:.0f} ms"
           f" = {100 * importing / traced:.0f} % of the run")
     print(f"  one unit, fresh process: '50 mm' {common * 1e3:.0f} ms, '2 yd' (pint's registry) "
-          f"{registry * 1e3:.0f} ms" + (f"; '2 yd' as before (with pint's dask import) "
-                                        f"{with_dask * 1e3:.0f} ms" if with_dask else ""))
-    print(f"  rcsim run cold-box.toml, foam thickness in yd: {run_yards * 1e3:.0f} ms, "
-          f"{(run_yards - run_bundled) * 1e3:+.0f} ms against the file as bundled "
-          f"({run_bundled * 1e3:.0f} ms, in turns with it)")
-    print("  pint's share, processor time in one process after numpy: import "
-          f"{parts['import'] * 1e3:.0f} ms without dask"
-          + (f" ({parts['import_dask'] * 1e3:.0f} ms with it)" if "import_dask" in parts else "")
-          + f", definitions parsed {parts['registry'] * 1e3:.0f} ms")
+          f"{registry * 1e3:.0f} ms")
     print("  heaviest packages imported by the run (self time of their modules):")
     for seconds, name in top[:10]:
         print(f"    {seconds * 1e3:7.0f} ms  {name}")
-
-
-def _has(module: str) -> bool:
-    import importlib.util
-
-    return importlib.util.find_spec(module) is not None
-
-
-def _scenario_in_yards() -> str:
-    """A copy of the bundled shipper, beside it, with the foam's 50 mm written in yards."""
-    with open(COLD_BOX, encoding="utf-8") as fh:
-        text = fh.read()
-    assert 'thickness = "50 mm"' in text
-    text = text.replace('thickness = "50 mm"', f'thickness = "{0.05 / 0.9144!r} yd"', 1)
-    path = os.path.join(os.path.dirname(COLD_BOX), f".bench-yards-{os.getpid()}.toml")
-    with open(path, "w", encoding="utf-8") as fh:
-        fh.write(text)
-    return path
-
-
-_PARTS = """
-import sys, time, numpy
-t = time.process_time()
-import rcsim.units as u
-pint = u._import_pint() if {blocked} else __import__("pint")
-imported = time.process_time() - t
-t = time.process_time()
-u.registry()
-print(imported, time.process_time() - t)
-"""
-
-
-def _pint_parts(repeats: int) -> dict:
-    """Processor time [s] of importing pint (as rcsim does, and with its dask import) and of
-    building the registry, best of ``repeats`` fresh processes each."""
-    out: dict = {}
-    for blocked in (True, False) if _has("dask") else (True,):
-        best = (float("inf"), float("inf"))
-        for _ in range(repeats):
-            done = subprocess.run([sys.executable, "-c", _PARTS.format(blocked=blocked)],
-                                  check=True, capture_output=True, text=True, cwd=ROOT)
-            pair = tuple(float(x) for x in done.stdout.split())
-            best = (min(best[0], pair[0]), min(best[1], pair[1]))
-        if blocked:
-            out["import"], out["registry"] = best
-        else:
-            out["import_dask"] = best[0]
-    return out
 
 
 if __name__ == "__main__":

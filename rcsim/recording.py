@@ -622,20 +622,23 @@ def _column_runs(a: np.ndarray, b: np.ndarray, m: int, shortest: int = 4):
     >>> runs, rest.tolist()
     ([(0, 4, 0, 1)], [4, 5])
     """
-    runs, rest = [], []
-    j, L = 0, a.size
-    while j < L:
-        k = j + 1
-        if a[j] < m and b[j] < m:
-            while k < L and a[k] == a[k - 1] + 1 and b[k] == b[k - 1] + 1 and a[k] < m \
-                    and b[k] < m:
-                k += 1
-        if k - j >= shortest:
-            runs.append((j, k, int(a[j]), int(b[j])))
-        else:
-            rest.extend(range(j, k))
-        j = k
-    return runs, np.asarray(rest, dtype=np.int64)
+    a, b = np.asarray(a, dtype=np.int64), np.asarray(b, dtype=np.int64)
+    inside = (a < m) & (b < m)
+    # a run goes on from link k - 1 to link k when both ends step by one column, inside
+    goes_on = np.zeros(a.size, dtype=bool)
+    goes_on[1:] = inside[1:] & inside[:-1] & (np.diff(a) == 1) & (np.diff(b) == 1)
+    starts = np.flatnonzero(~goes_on)
+    ends = np.append(starts[1:], a.size)
+    long = (ends - starts >= shortest) & inside[starts] if a.size else np.zeros(0, dtype=bool)
+    runs = [(int(j0), int(j1), int(a[j0]), int(b[j0]))
+            for j0, j1 in zip(starts[long], ends[long])]
+    in_run = np.zeros(a.size, dtype=bool)
+    if runs:
+        cover = np.zeros(a.size + 1, dtype=np.int64)
+        np.add.at(cover, starts[long], 1)
+        np.add.at(cover, ends[long], -1)
+        in_run = np.cumsum(cover[:-1]) > 0
+    return runs, np.flatnonzero(~in_run).astype(np.int64)
 
 
 def _columns_of(evaluate, cols: np.ndarray):

@@ -515,3 +515,33 @@ def test_fast_modes_folded_into_the_outputs_keep_the_closed_form(monkeypatch, le
     J, fast = chunks.fast_taps(np.exp(-600.0 / tau), 4, 2 * tau.size + 1)
     assert J == (2 if scan_rows is None else 8) and 0 < fast.sum() < tau.size
     assert fast[24] == (scan_rows is not None)
+
+
+def test_a_table_denser_than_the_output_keeps_chunks_bounded_and_the_answer_exact():
+    # A CSV or table sampled every 0.5 s under 60 s output: the exact path's general closed form
+    # works on every sub-interval, so a chunk must count the knots inside its intervals (each
+    # 60 s interval holds 119 of them: 120 pieces), not only its output intervals.
+    from rcsim.transient.problem import build_problem
+    from rcsim.transient.exact_chunks import ModalRunner
+
+    tau = 300.0                                    # C R of one node against the table
+    t_tab = np.arange(0.0, 3 * 3600.0 + 0.5, 0.5)
+    u = 20.0 + 5.0 * np.sin(2 * np.pi * t_tab / 3600.0)
+    net = rcsim.Network()
+    net.add_boundary("out", temperature=rcsim.Table(t_tab, u))
+    net.add_node("n", capacity=tau, initial=20.0)
+    net.add_link("out", "n", resistance=1.0)
+    problem = build_problem(net, "3 h", "1 min", initial="given")
+    prop = problem.propagator
+    runner = ModalRunner(prop, np.eye(1), np.zeros((1, 1)), np.eye(1), np.zeros((1, 1)),
+                         np.ones(1))
+    runner.plan(problem.times)
+    assert runner.chunk_end(0, 1200) == 10         # 10 intervals x 120 pieces = 1200
+    assert runner.chunk_end(0, 100) == 1           # never less than one interval
+    assert runner.chunk_end(170, 1200) == 180      # the run ends at interval 180
+    # the run itself against scipy.signal.lsim on the table's own grid (first-order hold is
+    # exact for a piecewise-linear input: independent reference)
+    res = net.simulate("3 h", "1 min", initial="given")
+    _, y, _ = sig.lsim(([-1.0 / tau], [1.0 / tau], [1.0], [0.0]), u, t_tab, X0=[20.0],
+                       interp=True)
+    assert np.abs(res.temperatures["n"].to_numpy() - y[::120]).max() < 1e-9

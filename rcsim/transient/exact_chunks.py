@@ -173,6 +173,7 @@ class ModalRunner:
         self._factors: dict = {}
         self._h = None
         self._irregular = None
+        self._pieces = None
         self._n = n
 
     def _set_step(self, h: float) -> None:
@@ -266,17 +267,35 @@ class ModalRunner:
         """Mark, once for the whole run, the output intervals that are not of the common length
         or have an input knot strictly inside (chunks then look the answer up)."""
         h = np.diff(t_out)
+        self._pieces = np.zeros(1, dtype=np.int64)
         if h.size == 0:
             return
         h0 = float(h[0])
         bad = np.abs(h - h0) > 1e-12 * h0
+        inside = np.zeros(h.size, dtype=np.int64)         # knots strictly inside each interval
         for p in self.profiles:
             kn = p.knots(float(t_out[0]), float(t_out[-1]))
             if kn.size:
                 at = np.minimum(np.searchsorted(t_out, kn), t_out.size - 1)
                 off = np.abs(t_out[at] - kn) > 1e-12 * h0
-                bad[np.maximum(at[off] - 1, 0)] = True      # the interval the knot falls in
+                where = np.maximum(at[off] - 1, 0)          # the interval the knot falls in
+                bad[where] = True
+                inside += np.bincount(where, minlength=h.size)
         self._irregular = (t_out, h0, np.concatenate([[0], np.cumsum(bad)]))
+        #: sub-intervals (output intervals plus the knots inside them) before each output time
+        self._pieces = np.concatenate([[0], np.cumsum(1 + inside)])
+
+    def chunk_end(self, k0: int, length: int) -> int:
+        """The last output index of the chunk from ``k0``: at most ``length`` intervals, and at
+        most ``length`` sub-intervals when input knots fall inside them (a table or CSV denser
+        than the output grid: the general closed form then works on every sub-interval, and
+        its arrays must stay bounded too). At least one interval."""
+        pieces = self._pieces
+        N = pieces.size - 1
+        k1 = min(N, k0 + length)
+        if pieces[k1] - pieces[k0] > length:
+            k1 = int(np.searchsorted(pieces, pieces[k0] + length, side="right")) - 1
+        return max(k1, k0 + 1)
 
     def _uniform(self, tt: np.ndarray) -> float | None:
         """The common interval length when the chunk is regular and no input knot falls

@@ -108,7 +108,7 @@ class ExactPath(TransientPath):
         length = prop.chunk_length()
         k0, z = 0, z0
         while k0 < N:
-            k1 = min(N, k0 + length)
+            k1 = runner.chunk_end(k0, length)
             tt = t_out[k0:k1 + 1]
             ch = runner.chunk(tt, z, k0, recorder.output_slot(k1 - k0),
                               states=recorder.tracker is not None)

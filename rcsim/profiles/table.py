@@ -85,10 +85,19 @@ class Table(Profile):
                                "check the value and its unit")
 
     def _pl(self, t, side):
-        return np.interp(t, self.times, self.values)
+        t = np.asarray(t, dtype=float)
+        times, values = self.times, self.values
+        if t.size and times.size > 64 and t.size < times.size:
+            # only the points around the asked span (a long table read chunk by chunk):
+            # the same numbers as over the whole table, without passing over all of it
+            lo, hi = np.searchsorted(times, [t.min(), t.max()])
+            lo, hi = max(int(lo) - 1, 0), min(int(hi) + 1, times.size)
+            times, values = times[lo:hi], values[lo:hi]
+        return np.interp(t, times, values)
 
     def knots(self, t0, t1):
-        return self.times[(self.times > t0) & (self.times < t1)]
+        times = self.times      # increasing: the points strictly inside (t0, t1)
+        return times[np.searchsorted(times, t0, side="right"):np.searchsorted(times, t1)]
 
     def span(self):
         if self.outside == "hold":
